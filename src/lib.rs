@@ -1,1 +1,17 @@
-pub fn version() -> &'static str { env!("CARGO_PKG_VERSION") }
+//! `seine`: forward-model what a sky survey of the distant solar system would detect.
+//!
+//! The library holds every stage (time, orbits, sky, population, survey, engine, analysis,
+//! I/O, report); the `seine` binary is a thin command-line layer over it.
+
+pub mod error;
+pub mod io;
+pub mod orbit;
+pub mod sky;
+pub mod time;
+
+pub use error::{Error, Result};
+
+/// The tool's version, as recorded in every output's provenance.
+pub fn version() -> &'static str {
+    env!("CARGO_PKG_VERSION")
+}

@@ -1,0 +1,38 @@
+//! Argument parsing (clap derive) and one file per subcommand. No science here.
+
+use clap::{Parser, Subcommand};
+
+use seine::Result;
+
+mod common;
+mod demo;
+mod ephemeris;
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "seine",
+    version,
+    about = "Forward-model what a sky survey of the distant solar system would detect",
+    long_about = "seine draws synthetic distant objects (or takes simulation particles), carries each \
+    one through a survey's pointing history and reports which would have been found.\n\n\
+    Tables are CSV or Parquet by extension. Errors name the file, row or key and exit with status 2."
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Astrometric positions, distances, phase angle, magnitude and rate of motion of objects at epochs.
+    Ephemeris(ephemeris::Args),
+    /// Run the whole job on a built-in invented example and write a report.
+    Demo(demo::Args),
+}
+
+pub fn run(cli: Cli) -> Result<()> {
+    match cli.command {
+        Command::Ephemeris(a) => ephemeris::run(a),
+        Command::Demo(a) => demo::run(a),
+    }
+}

@@ -1,0 +1,9 @@
+//! Tables (Parquet and CSV through polars), atomic writes, provenance metadata, and the
+//! objects table of the DESIGN contract.
+
+pub mod objects;
+pub mod provenance;
+pub mod table;
+
+pub use provenance::Provenance;
+pub use table::{read_table, write_table, Columns, Format};

@@ -1,0 +1,142 @@
+//! The objects table (DESIGN contract): `id` (optional, default row number), `a_au`, `e`
+//! (or `q_au`), `inc_deg`, `node_deg`, `argperi_deg`, `mean_anomaly_deg`, `epoch_mjd` (TDB),
+//! `h_mag`; optional `beta_mag_per_deg` (default 0.14) or `hg_g` (IAU H,G slope),
+//! `color_<band>` (band minus reference band, default 0), `weight` (default 1),
+//! `lc_amp_mag` and `lc_period_hr` (a sinusoidal light curve), and `frame`
+//! (`heliocentric` or `barycentric`). Every other column is carried through untouched.
+
+use std::collections::HashSet;
+use std::path::Path;
+
+use polars::prelude::DataFrame;
+
+use super::table::{read_table, Columns};
+use crate::error::{Error, Result};
+use crate::orbit::{Center, Elements};
+use crate::sky::photometry::{PhaseLaw, DEFAULT_BETA_MAG_PER_DEG};
+
+/// Objects with their elements and photometric properties, columns as vectors.
+#[derive(Debug, Clone)]
+pub struct ObjectTable {
+    pub ids: Vec<i64>,
+    pub elements: Vec<Elements>,
+    pub h_mag: Vec<f64>,
+    pub phase_law: Vec<PhaseLaw>,
+    /// (band, colour = band − reference band) per object.
+    pub colors: Vec<(String, Vec<f64>)>,
+    pub weight: Vec<f64>,
+    pub lc_amp_mag: Vec<f64>,
+    pub lc_period_days: Vec<f64>,
+    /// The table as read (every column, carried through to outputs).
+    pub frame: DataFrame,
+}
+
+impl ObjectTable {
+    pub fn len(&self) -> usize {
+        self.ids.len()
+    }
+    pub fn is_empty(&self) -> bool {
+        self.ids.is_empty()
+    }
+
+    /// Colour of object `i` in `band` relative to the reference band (0 if not given).
+    pub fn color(&self, band: &str, i: usize) -> f64 {
+        self.colors.iter().find(|(b, _)| b == band).map_or(0.0, |(_, v)| v[i])
+    }
+
+    pub fn read(path: &Path) -> Result<Self> {
+        let df = read_table(path)?;
+        Self::from_frame(df, path)
+    }
+
+    pub fn from_frame(df: DataFrame, path: &Path) -> Result<Self> {
+        let c = Columns::new(&df, path);
+        if c.is_empty() {
+            return Err(Error::input(format!("{}: the objects table has no rows", path.display())));
+        }
+        let n = c.len();
+        let ids = if c.has("id") { c.i64("id")? } else { (0..n as i64).collect() };
+        let mut seen = HashSet::with_capacity(n);
+        for (i, id) in ids.iter().enumerate() {
+            if !seen.insert(*id) {
+                return Err(c.bad_value(i, "id", &format!("a unique id, found {id} again")));
+            }
+        }
+        let a = c.f64("a_au")?;
+        let e = match (c.has("e"), c.has("q_au")) {
+            (true, _) => c.f64("e")?,
+            (false, true) => {
+                let q = c.f64("q_au")?;
+                for i in 0..n {
+                    if !(q[i] > 0.0 && q[i] <= a[i]) {
+                        return Err(c.bad_value(i, "q_au", &format!("0 < q_au ≤ a_au = {}, found {}", a[i], q[i])));
+                    }
+                }
+                q.iter().zip(&a).map(|(q, a)| 1.0 - q / a).collect()
+            }
+            (false, false) => return Err(Error::input(format!("{}: missing required column `e` (or `q_au`)", path.display()))),
+        };
+        let inc = c.f64("inc_deg")?;
+        let node = c.f64("node_deg")?;
+        let argperi = c.f64("argperi_deg")?;
+        let mean_anomaly = c.f64("mean_anomaly_deg")?;
+        let epoch = c.f64("epoch_mjd")?;
+        let h_mag = c.f64("h_mag")?;
+        let centers = if c.has("frame") {
+            let s = c.str("frame")?;
+            s.iter()
+                .enumerate()
+                .map(|(i, v)| Center::parse(v).ok_or_else(|| c.bad_value(i, "frame", &format!("heliocentric or barycentric, found `{v}`"))))
+                .collect::<Result<Vec<_>>>()?
+        } else {
+            vec![Center::Heliocentric; n]
+        };
+        for (name, v) in [("node_deg", &node), ("argperi_deg", &argperi), ("mean_anomaly_deg", &mean_anomaly)] {
+            if let Some(i) = v.iter().position(|x| !(-360.0..=360.0).contains(x)) {
+                return Err(c.bad_value(i, name, &format!("an angle in -360..360 deg, found {}", v[i])));
+            }
+        }
+        let mut elements = Vec::with_capacity(n);
+        for i in 0..n {
+            let el = Elements {
+                a_au: a[i],
+                e: e[i],
+                inc: inc[i].to_radians(),
+                node: node[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                argperi: argperi[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                mean_anomaly: mean_anomaly[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                epoch_mjd_tdb: epoch[i],
+                center: centers[i],
+            };
+            if let Some((col, expected)) = el.problem() {
+                let col = if col == "e" && !c.has("e") { "q_au" } else { col };
+                return Err(c.bad_value(i, col, &expected));
+            }
+            elements.push(el);
+        }
+        let phase_law = if c.has("hg_g") {
+            let g = c.f64("hg_g")?;
+            if let Some(i) = g.iter().position(|g| !(-0.5..=1.5).contains(g)) {
+                return Err(c.bad_value(i, "hg_g", &format!("a slope parameter G in -0.5..1.5, found {}", g[i])));
+            }
+            g.into_iter().map(|g| PhaseLaw::HG { g }).collect()
+        } else {
+            let beta = c.f64_or("beta_mag_per_deg", DEFAULT_BETA_MAG_PER_DEG)?;
+            if let Some(i) = beta.iter().position(|b| !(0.0..=2.0).contains(b)) {
+                return Err(c.bad_value(i, "beta_mag_per_deg", &format!("0..2 mag/deg, found {}", beta[i])));
+            }
+            beta.into_iter().map(|b| PhaseLaw::Linear { beta_mag_per_deg: b }).collect()
+        };
+        let mut colors = Vec::new();
+        for band in c.with_prefix("color_") {
+            colors.push((band.clone(), c.f64(&format!("color_{band}"))?));
+        }
+        let weight = c.f64_or("weight", 1.0)?;
+        if let Some(i) = weight.iter().position(|w| !(*w >= 0.0)) {
+            return Err(c.bad_value(i, "weight", &format!("a weight ≥ 0, found {}", weight[i])));
+        }
+        let lc_amp_mag = c.f64_or("lc_amp_mag", 0.0)?;
+        let lc_period_days: Vec<f64> = c.f64_or("lc_period_hr", 0.0)?.iter().map(|h| h / 24.0).collect();
+        Ok(ObjectTable { ids, elements, h_mag, phase_law, colors, weight, lc_amp_mag, lc_period_days, frame: df })
+    }
+}

@@ -1,0 +1,64 @@
+//! Provenance of an output table: the tool version, the command line, a content hash of
+//! every spec and table read, and the seed. Stored in Parquet key-value metadata (key
+//! `seine.provenance`, JSON) or in a CSV table's sidecar file.
+
+use std::path::Path;
+
+use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
+
+use crate::error::{io_at, Result};
+
+#[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq)]
+pub struct Provenance {
+    pub tool: String,
+    pub version: String,
+    pub command_line: Vec<String>,
+    pub inputs: Vec<InputHash>,
+    pub seed: Option<u64>,
+}
+
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub struct InputHash {
+    pub path: String,
+    pub sha256: String,
+}
+
+pub const METADATA_KEY: &str = "seine.provenance";
+
+impl Provenance {
+    /// Provenance for this process: tool, version and the command line as given.
+    pub fn current() -> Self {
+        Provenance {
+            tool: "seine".into(),
+            version: env!("CARGO_PKG_VERSION").into(),
+            command_line: std::env::args().collect(),
+            inputs: Vec::new(),
+            seed: None,
+        }
+    }
+
+    pub fn with_seed(mut self, seed: u64) -> Self {
+        self.seed = Some(seed);
+        self
+    }
+
+    /// Record a file that was read, with the SHA-256 of its bytes.
+    pub fn add_input(&mut self, path: &Path) -> Result<()> {
+        let bytes = std::fs::read(path).map_err(|e| io_at(path, e))?;
+        self.inputs.push(InputHash { path: path.display().to_string(), sha256: sha256_hex(&bytes) });
+        Ok(())
+    }
+
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(self).expect("provenance serializes")
+    }
+
+    pub fn key_values(&self) -> Vec<(String, String)> {
+        vec![(METADATA_KEY.to_string(), serde_json::to_string(self).expect("provenance serializes"))]
+    }
+}
+
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+}

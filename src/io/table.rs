@@ -1,0 +1,247 @@
+//! Reading and writing tables by extension (`.csv`, `.parquet`), with column access that
+//! names the file, the row and the column when a value is not what was expected, and
+//! writes that go to a temporary name first so that no half-written table is ever left.
+
+use std::fs::File;
+use std::path::{Path, PathBuf};
+
+use polars::prelude::*;
+
+use super::provenance::Provenance;
+use crate::error::{io_at, Error, Result};
+
+/// Table formats, chosen by the file extension.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    Csv,
+    Parquet,
+}
+
+impl Format {
+    pub fn of(path: &Path) -> Result<Format> {
+        match path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase()).as_deref() {
+            Some("csv") => Ok(Format::Csv),
+            Some("parquet") | Some("pq") => Ok(Format::Parquet),
+            _ => Err(Error::input(format!(
+                "{}: expected a table ending in .csv or .parquet",
+                path.display()
+            ))),
+        }
+    }
+    pub fn extension(self) -> &'static str {
+        match self {
+            Format::Csv => "csv",
+            Format::Parquet => "parquet",
+        }
+    }
+}
+
+/// Read a whole table; the error names the file and says what was wrong.
+pub fn read_table(path: &Path) -> Result<DataFrame> {
+    let format = Format::of(path)?;
+    if path.is_dir() {
+        return Err(Error::input(format!("{}: is a directory, expected a table file", path.display())));
+    }
+    if !path.exists() {
+        return Err(Error::input(format!("{}: no such file", path.display())));
+    }
+    let df = match format {
+        Format::Csv => CsvReadOptions::default()
+            .with_has_header(true)
+            .with_infer_schema_length(Some(10_000))
+            .try_into_reader_with_file_path(Some(path.to_path_buf()))
+            .and_then(|r| r.finish()),
+        Format::Parquet => {
+            let f = File::open(path).map_err(|e| io_at(path, e))?;
+            ParquetReader::new(f).finish()
+        }
+    };
+    df.map_err(|e| Error::input(format!("{}: not a readable {} table: {e}", path.display(), format.extension())))
+}
+
+/// Parquet key-value metadata of a file (the provenance lives there).
+pub fn read_parquet_metadata(path: &Path) -> Result<Vec<(String, String)>> {
+    let f = File::open(path).map_err(|e| io_at(path, e))?;
+    let mut reader = ParquetReader::new(f);
+    let md = reader
+        .get_metadata()
+        .map_err(|e| Error::input(format!("{}: not a readable parquet table: {e}", path.display())))?;
+    Ok(md
+        .key_value_metadata()
+        .as_ref()
+        .map(|kv| kv.iter().map(|k| (k.key.clone(), k.value.clone().unwrap_or_default())).collect())
+        .unwrap_or_default())
+}
+
+/// Write a table atomically (temporary name, then rename) with provenance: in the Parquet
+/// key-value metadata, or for CSV in a sidecar `<file>.provenance.json`.
+pub fn write_table(df: &mut DataFrame, path: &Path, provenance: &Provenance) -> Result<()> {
+    let format = Format::of(path)?;
+    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
+        std::fs::create_dir_all(parent).map_err(|e| {
+            Error::input(format!("{}: cannot create the output directory: {e}", parent.display()))
+        })?;
+    }
+    let tmp = temporary_name(path);
+    let result = (|| {
+        let mut f = File::create(&tmp)
+            .map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
+        match format {
+            Format::Csv => CsvWriter::new(&mut f).include_header(true).finish(df),
+            Format::Parquet => ParquetWriter::new(&mut f)
+                .with_key_value_metadata(Some(KeyValueMetadata::from_static(provenance.key_values())))
+                .finish(df)
+                .map(|_| ()),
+        }
+        .map_err(|e| io_at(path, e))?;
+        f.sync_all().map_err(|e| io_at(path, e))?;
+        if format == Format::Csv {
+            let side = sidecar_path(path);
+            write_atomic(&side, provenance.to_json().as_bytes())?;
+        }
+        std::fs::rename(&tmp, path).map_err(|e| io_at(path, e))
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// Write bytes atomically (temporary name in the same directory, then rename).
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
+        std::fs::create_dir_all(parent).map_err(|e| {
+            Error::input(format!("{}: cannot create the output directory: {e}", parent.display()))
+        })?;
+    }
+    let tmp = temporary_name(path);
+    std::fs::write(&tmp, bytes).map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
+    std::fs::rename(&tmp, path).map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        io_at(path, e)
+    })
+}
+
+/// The provenance sidecar of a CSV table.
+pub fn sidecar_path(path: &Path) -> PathBuf {
+    let mut s = path.as_os_str().to_owned();
+    s.push(".provenance.json");
+    PathBuf::from(s)
+}
+
+fn temporary_name(path: &Path) -> PathBuf {
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+    path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
+}
+
+/// Typed, checked access to the columns of a table read from `path`.
+pub struct Columns<'a> {
+    pub df: &'a DataFrame,
+    pub path: &'a Path,
+}
+
+impl<'a> Columns<'a> {
+    pub fn new(df: &'a DataFrame, path: &'a Path) -> Self {
+        Columns { df, path }
+    }
+
+    pub fn has(&self, name: &str) -> bool {
+        self.df.column(name).is_ok()
+    }
+
+    pub fn len(&self) -> usize {
+        self.df.height()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.df.height() == 0
+    }
+
+    fn missing(&self, name: &str) -> Error {
+        let found: Vec<String> = self.df.get_column_names().iter().map(|s| s.to_string()).collect();
+        Error::input(format!(
+            "{}: missing required column `{name}` (found: {})",
+            self.path.display(),
+            found.join(", ")
+        ))
+    }
+
+    /// A numeric column as f64; every value must be present and finite.
+    pub fn f64(&self, name: &str) -> Result<Vec<f64>> {
+        let col = self.df.column(name).map_err(|_| self.missing(name))?;
+        let s = col.as_materialized_series().cast(&DataType::Float64).map_err(|_| {
+            Error::input(format!("{}: column `{name}`: expected numbers, found {}", self.path.display(), col.dtype()))
+        })?;
+        let ca = s.f64().map_err(|e| io_at(self.path, e))?;
+        let raw = col.as_materialized_series();
+        ca.iter()
+            .enumerate()
+            .map(|(i, v)| match v {
+                Some(x) if x.is_finite() => Ok(x),
+                Some(x) => Err(self.bad_value(i, name, &format!("a finite number, found {x}"))),
+                None => {
+                    let shown = raw.get(i).map(|a| a.to_string()).unwrap_or_default();
+                    let found = if raw.null_count() > 0 && shown == "null" { "an empty value".to_string() } else { format!("`{shown}`") };
+                    Err(self.bad_value(i, name, &format!("a number, found {found}")))
+                }
+            })
+            .collect()
+    }
+
+    /// An optional numeric column, with a default where the column is absent.
+    pub fn f64_or(&self, name: &str, default: f64) -> Result<Vec<f64>> {
+        if self.has(name) { self.f64(name) } else { Ok(vec![default; self.len()]) }
+    }
+
+    /// An optional numeric column.
+    pub fn f64_opt(&self, name: &str) -> Result<Option<Vec<f64>>> {
+        if self.has(name) { self.f64(name).map(Some) } else { Ok(None) }
+    }
+
+    /// An integer column (floats with no fractional part are accepted).
+    pub fn i64(&self, name: &str) -> Result<Vec<i64>> {
+        let v = self.f64(name)?;
+        v.iter()
+            .enumerate()
+            .map(|(i, &x)| {
+                if x.fract() == 0.0 && x.abs() < 9.0e15 {
+                    Ok(x as i64)
+                } else {
+                    Err(self.bad_value(i, name, &format!("an integer, found {x}")))
+                }
+            })
+            .collect()
+    }
+
+    /// A string column; numbers are shown as text.
+    pub fn str(&self, name: &str) -> Result<Vec<String>> {
+        let col = self.df.column(name).map_err(|_| self.missing(name))?;
+        let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| io_at(self.path, e))?;
+        let ca = s.str().map_err(|e| io_at(self.path, e))?;
+        ca.iter()
+            .enumerate()
+            .map(|(i, v)| v.map(str::to_string).ok_or_else(|| self.bad_value(i, name, "a value, found an empty one")))
+            .collect()
+    }
+
+    /// The error for a bad value at a 0-based row, reported 1-based as people count rows.
+    pub fn bad_value(&self, row: usize, name: &str, expected: &str) -> Error {
+        Error::input(format!("{} row {}, column `{name}`: expected {expected}", self.path.display(), row + 1))
+    }
+
+    /// Column names that start with a prefix, with the prefix removed (e.g. `color_`).
+    pub fn with_prefix(&self, prefix: &str) -> Vec<String> {
+        self.df
+            .get_column_names()
+            .iter()
+            .filter_map(|n| n.strip_prefix(prefix).map(str::to_string))
+            .collect()
+    }
+}
+
+/// Build a DataFrame from named f64 columns (all of the same length).
+pub fn frame_f64(columns: Vec<(&str, Vec<f64>)>) -> DataFrame {
+    let height = columns.first().map_or(0, |c| c.1.len());
+    let cols = columns.into_iter().map(|(n, v)| Column::new(n.into(), v)).collect();
+    DataFrame::new(height, cols).expect("columns of one length")
+}

@@ -1,0 +1,47 @@
+//! Two-body propagation of an object, with the orbit's axes precomputed in ICRS so that a
+//! position costs one Kepler solve and a handful of multiplications.
+
+use super::elements::{perifocal_axes, plane_state, Center, Elements};
+use super::kepler::eccentric_anomaly;
+use crate::sky::frames::ecliptic_to_icrs;
+use nalgebra::Vector3;
+
+/// An object's orbit ready for fast evaluation; positions are ICRS-oriented, AU and AU/day,
+/// relative to the Sun (heliocentric) or the barycentre (barycentric elements).
+#[derive(Debug, Clone, Copy)]
+pub struct Orbit {
+    pub elements: Elements,
+    n: f64,
+    p: Vector3<f64>,
+    q: Vector3<f64>,
+}
+
+impl Orbit {
+    pub fn new(elements: Elements) -> Self {
+        let (p, q) = perifocal_axes(elements.inc, elements.node, elements.argperi);
+        Orbit {
+            n: elements.mean_motion(),
+            p: ecliptic_to_icrs(&p),
+            q: ecliptic_to_icrs(&q),
+            elements,
+        }
+    }
+
+    pub fn center(&self) -> Center {
+        self.elements.center
+    }
+
+    /// Position and velocity (ICRS axes) at a TDB MJD.
+    #[inline]
+    pub fn state(&self, tdb_mjd: f64) -> (Vector3<f64>, Vector3<f64>) {
+        let el = &self.elements;
+        let m = el.mean_anomaly + self.n * (tdb_mjd - el.epoch_mjd_tdb);
+        let big_e = eccentric_anomaly(m, el.e);
+        plane_state(el.a_au, el.e, self.n, big_e, &self.p, &self.q)
+    }
+
+    #[inline]
+    pub fn position(&self, tdb_mjd: f64) -> Vector3<f64> {
+        self.state(tdb_mjd).0
+    }
+}
