@@ -185,8 +185,17 @@ def fixture_time_scales():
         warnings.simplefilter("ignore", erfa.ErfaWarning)  # "dubious year"
         for mjd in sorted(epochs):
             (u1, u2), (a1, a2), (t1, t2) = utc_to_tt(mjd)
-            tai_m_utc = ((a1 - u1) + (a2 - u2)) * 86400.0
-            tt_m_utc = ((t1 - u1) + (t2 - u2)) * 86400.0
+            # erfa.utctai/erfa.taitt carry the offset inside a quasi-JD day
+            # fraction, so differencing them leaves ~1e-11 s of rounding.
+            # Write the exact value erfa.utctai itself uses (erfa.dat for
+            # the UTC calendar date) and check the round trip agrees.
+            iy, im, iday, fd = erfa.jd2cal(u1, u2)
+            tai_m_utc = float(erfa.dat(iy, im, iday, fd))
+            tt_m_utc = tai_m_utc + 32.184   # erfa.taitt's TT-TAI constant
+            via_jd_tai = ((a1 - u1) + (a2 - u2)) * 86400.0
+            via_jd_tt = ((t1 - u1) + (t2 - u2)) * 86400.0
+            assert abs(via_jd_tai - tai_m_utc) < 1e-9, (mjd, via_jd_tai)
+            assert abs(via_jd_tt - tt_m_utc) < 1e-9, (mjd, via_jd_tt)
             dtr = tdb_minus_tt_geocentric(t1, t2, u2)
             rows.append((mjd, tai_m_utc, tt_m_utc, dtr))
     write_csv("time_scales.csv",
