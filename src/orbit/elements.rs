@@ -4,7 +4,7 @@
 //! Dynamics*, 1999, ch. 2). State vectors here are in the same frame as the elements
 //! (ecliptic J2000), in AU and AU/day.
 
-use super::constants::{gm_total, GM_SUN, TAU};
+use super::constants::{GM_SUN, TAU, gm_total};
 use super::kepler::{eccentric_anomaly, mean_from_eccentric};
 use nalgebra::Vector3;
 use serde::{Deserialize, Serialize};
@@ -114,9 +114,11 @@ impl Elements {
         let h = r.cross(v);
         let hn = h.norm();
         let inc = (h.z / hn).clamp(-1.0, 1.0).acos();
-        let a = 1.0 / (2.0 / rn - v.norm_squared() / mu);
         let e_vec = v.cross(&h) / mu - r / rn;
         let e = e_vec.norm();
+        // a = p / (1 − e²) with p = h²/μ, and 1 − e² as (1 − e)(1 + e): near e = 1 this keeps
+        // the precision that the vis-viva form 1/a = 2/r − v²/μ loses to cancellation.
+        let a = hn * hn / mu / ((1.0 - e) * (1.0 + e));
         let h_hat = h / hn;
         // Node line; an equatorial orbit takes Ω = 0 by convention.
         let n_vec = Vector3::new(-h.y, h.x, 0.0);
@@ -135,9 +137,18 @@ impl Elements {
         };
         let q_hat = h_hat.cross(&p_hat);
         let nu = r.dot(&q_hat).atan2(r.dot(&p_hat));
-        let big_e = ((1.0 - e * e).sqrt() * nu.sin()).atan2(e + nu.cos());
+        let big_e = (((1.0 - e) * (1.0 + e)).sqrt() * nu.sin()).atan2(e + nu.cos());
         let mean_anomaly = mean_from_eccentric(big_e, e).rem_euclid(TAU);
-        Elements { a_au: a, e, inc, node, argperi, mean_anomaly, epoch_mjd_tdb, center }
+        Elements {
+            a_au: a,
+            e,
+            inc,
+            node,
+            argperi,
+            mean_anomaly,
+            epoch_mjd_tdb,
+            center,
+        }
     }
 }
 
@@ -162,7 +173,7 @@ pub fn plane_state(
     q: &Vector3<f64>,
 ) -> (Vector3<f64>, Vector3<f64>) {
     let (s, c) = big_e.sin_cos();
-    let b = a * (1.0 - e * e).sqrt();
+    let b = a * ((1.0 - e) * (1.0 + e)).sqrt(); // (1 − e)(1 + e): exact near e = 1
     let edot = n / (1.0 - e * c);
     let pos = p * (a * (c - e)) + q * (b * s);
     let vel = p * (-a * s * edot) + q * (b * c * edot);

@@ -30,6 +30,9 @@ pub fn eccentric_anomaly(mean_anomaly: f64, e: f64) -> f64 {
     for _ in 0..60 {
         let (s, c) = x.sin_cos();
         let f = x - e * s - m;
+        if f == 0.0 {
+            break;
+        }
         if f > 0.0 {
             hi = x;
         } else {
@@ -43,7 +46,7 @@ pub fn eccentric_anomaly(mean_anomaly: f64, e: f64) -> f64 {
         let d2 = -f / (f1 + 0.5 * d1 * f2);
         let d3 = -f / (f1 + 0.5 * d2 * f2 + d2 * d2 * f3 / 6.0);
         let mut next = x + d3;
-        if !(next > lo && next < hi) || !next.is_finite() {
+        if !(next >= lo && next <= hi) {
             next = 0.5 * (lo + hi);
         }
         let step = (next - x).abs();

@@ -1,6 +1,7 @@
 //! The Earth and the Sun in the barycentric ICRS frame, from VSOP87 (Bretagnon & Francou
 //! 1988, A&A 202, 309): VSOP87A for the heliocentric Earth (the Earth itself, not the
-//! Earth–Moon barycentre), VSOP87E for the Sun about the barycentre. Both are given in the
+//! Earth–Moon barycentre), the Sun about the barycentre from the VSOP87A planets and
+//! their IAU 2009 masses. Both are given in the
 //! dynamical ecliptic and equinox of J2000; they are rotated to ICRS axes with the matrix
 //! that ERFA's `epv00` uses for the same purpose (from memory; checked against `erfa.epv00`
 //! in the tests, agreement better than 1e-6 AU).
@@ -11,6 +12,7 @@
 
 use nalgebra::Vector3;
 
+use crate::orbit::constants::SUN_PLANET_MASS_RATIOS;
 use crate::time::JD_MINUS_MJD;
 
 /// Positions (AU) and velocities (AU/day), ICRS axes: the Earth relative to the Sun and the
@@ -42,7 +44,11 @@ fn vsop_to_icrs(x: f64, y: f64, z: f64) -> Vector3<f64> {
     const AM23: f64 = -0.397776982902;
     const AM32: f64 = 0.397776982902;
     const AM33: f64 = 0.917482137087;
-    Vector3::new(x + AM12 * y + AM13 * z, AM21 * x + AM22 * y + AM23 * z, AM32 * y + AM33 * z)
+    Vector3::new(
+        x + AM12 * y + AM13 * z,
+        AM21 * x + AM22 * y + AM23 * z,
+        AM32 * y + AM33 * z,
+    )
 }
 
 fn earth_helio_pos(tdb_mjd: f64) -> Vector3<f64> {
@@ -50,9 +56,32 @@ fn earth_helio_pos(tdb_mjd: f64) -> Vector3<f64> {
     vsop_to_icrs(c.x, c.y, c.z)
 }
 
+/// The Sun about the barycentre from the planets' VSOP87A heliocentric positions:
+/// x_sun = −Σ m_i x_i / (M_sun + Σ m_i), with the IAU 2009 masses. VSOP87E's own Sun is
+/// built on the older planetary masses of 1988 (its Neptune is 0.5% heavier), which puts
+/// it ~1e-5 AU from the modern barycentre; with current masses we agree with ERFA's
+/// `epv00` to better than 1e-6 AU (Pluto, neglected, moves the Sun by < 4e-7 AU).
 fn sun_bary_pos(tdb_mjd: f64) -> Vector3<f64> {
-    let c = vsop87::vsop87e::sun(tdb_mjd + JD_MINUS_MJD);
-    vsop_to_icrs(c.x, c.y, c.z)
+    use vsop87::vsop87a as v;
+    let jd = tdb_mjd + JD_MINUS_MJD;
+    let planets = [
+        v::mercury(jd),
+        v::venus(jd),
+        v::earth_moon(jd),
+        v::mars(jd),
+        v::jupiter(jd),
+        v::saturn(jd),
+        v::uranus(jd),
+        v::neptune(jd),
+    ];
+    let mut sum = Vector3::zeros();
+    let mut mass = 1.0;
+    for (c, ratio) in planets.iter().zip(SUN_PLANET_MASS_RATIOS) {
+        sum += Vector3::new(c.x, c.y, c.z) / ratio;
+        mass += 1.0 / ratio;
+    }
+    let s = -sum / mass;
+    vsop_to_icrs(s.x, s.y, s.z)
 }
 
 /// Earth and Sun from a direct VSOP87 evaluation; velocities by a central difference over
@@ -90,7 +119,12 @@ impl EphemerisGrid {
         use rayon::prelude::*;
         let earth = times.par_iter().map(|&t| earth_helio_pos(t)).collect();
         let sun = times.par_iter().map(|&t| sun_bary_pos(t)).collect();
-        EphemerisGrid { start, step, earth, sun }
+        EphemerisGrid {
+            start,
+            step,
+            earth,
+            sun,
+        }
     }
 
     pub fn contains(&self, tdb_mjd: f64) -> bool {
@@ -118,7 +152,12 @@ impl EphemerisGrid {
         };
         let (ep, ev) = interp(&self.earth);
         let (sp, sv) = interp(&self.sun);
-        EarthSun { earth_helio: ep, earth_helio_vel: ev, sun_bary: sp, sun_bary_vel: sv }
+        EarthSun {
+            earth_helio: ep,
+            earth_helio_vel: ev,
+            sun_bary: sp,
+            sun_bary_vel: sv,
+        }
     }
 }
 
@@ -146,7 +185,9 @@ pub enum EarthSource {
 impl EarthSource {
     /// Choose the cheaper source for this set of TDB epochs.
     pub fn for_epochs(tdb: &[f64]) -> Self {
-        let (lo, hi) = tdb.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
+        let (lo, hi) = tdb
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
         if tdb.is_empty() || ((hi - lo) / EphemerisGrid::STEP_DAYS) as usize > tdb.len() {
             EarthSource::Exact
         } else {
