@@ -3,11 +3,13 @@
 //! The library holds every stage (time, orbits, sky, population, survey, engine, analysis,
 //! I/O, report); the `seine` binary is a thin command-line layer over it.
 
+pub mod engine;
 pub mod error;
 pub mod io;
 pub mod orbit;
 pub mod rng;
 pub mod sky;
+pub mod survey;
 pub mod time;
 
 pub use error::{Error, Result};

@@ -34,3 +34,47 @@ pub fn parse_site(s: &str) -> Result<Site> {
     }
     Ok(site)
 }
+
+/// Parse `K/N` (K from 0 to N − 1).
+pub fn parse_shard(s: &str) -> Result<(usize, usize)> {
+    let bad = || Error::input(format!("--shard `{s}`: expected K/N with 0 ≤ K < N, e.g. 0/4"));
+    let (k, n) = s.split_once('/').ok_or_else(bad)?;
+    let (k, n): (usize, usize) = (
+        k.trim().parse().map_err(|_| bad())?,
+        n.trim().parse().map_err(|_| bad())?,
+    );
+    if n == 0 || k >= n {
+        return Err(bad());
+    }
+    Ok((k, n))
+}
+
+/// Size the worker pool; results never depend on it.
+pub fn set_threads(threads: Option<usize>) -> Result<()> {
+    if let Some(n) = threads {
+        if n == 0 {
+            return Err(Error::input("--threads: expected at least 1"));
+        }
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()
+            .map_err(|e| Error::io(e.to_string()))?;
+    }
+    Ok(())
+}
+
+/// Survey names label output columns and rows; two surveys may not share one.
+pub fn check_unique_survey_names(surveys: &[seine::engine::PreparedSurvey]) -> Result<()> {
+    let mut seen = std::collections::HashSet::new();
+    for s in surveys {
+        let key = seine::engine::run::survey_key(&s.survey.name);
+        if !seen.insert(key.clone()) {
+            return Err(Error::input(format!(
+                "{}: survey name `{}` is already used by another --survey; names must differ",
+                s.survey.spec_path.display(),
+                s.survey.name
+            )));
+        }
+    }
+    Ok(())
+}

@@ -5,5 +5,6 @@ pub mod apparent;
 pub mod earth;
 pub mod ephemeris;
 pub mod frames;
+pub mod horizon;
 pub mod observer;
 pub mod photometry;

@@ -1,0 +1,183 @@
+//! The run summary (`summary.json`): counts, detected fractions in bins of a, q, i, H and
+//! distance at discovery, per survey, and the engine's own figures (candidates evaluated
+//! per in-field event, objects per second). Also the progress bar.
+
+use serde::Serialize;
+
+use super::index::PreparedSurvey;
+use super::outcome::ObjectOutcome;
+use crate::io::objects::ObjectTable;
+
+/// Counts in bins of one quantity; `detected_fraction` is weighted by the objects' weights.
+#[derive(Debug, Clone, Serialize)]
+pub struct Binned {
+    pub quantity: String,
+    pub edges: Vec<f64>,
+    pub n: Vec<u64>,
+    pub detected: Vec<u64>,
+    pub weighted_n: Vec<f64>,
+    pub weighted_detected: Vec<f64>,
+}
+
+impl Binned {
+    fn new(quantity: &str, edges: Vec<f64>) -> Self {
+        let k = edges.len() - 1;
+        Binned {
+            quantity: quantity.into(),
+            edges,
+            n: vec![0; k],
+            detected: vec![0; k],
+            weighted_n: vec![0.0; k],
+            weighted_detected: vec![0.0; k],
+        }
+    }
+    fn add(&mut self, x: f64, detected: bool, w: f64, count_total: bool) {
+        let k = self.edges.partition_point(|&e| e <= x);
+        if k == 0 || k == self.edges.len() {
+            return;
+        }
+        if count_total {
+            self.n[k - 1] += 1;
+            self.weighted_n[k - 1] += w;
+        }
+        if detected {
+            self.detected[k - 1] += 1;
+            self.weighted_detected[k - 1] += w;
+        }
+    }
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SurveySummary {
+    pub name: String,
+    pub n_visits: usize,
+    pub discovered: u64,
+    pub tracked: u64,
+    pub in_field_events: u64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Summary {
+    pub n_objects: u64,
+    pub n_detected: u64,
+    pub n_tracked: u64,
+    pub detected_fraction: f64,
+    pub weighted_detected_fraction: f64,
+    pub surveys: Vec<SurveySummary>,
+    pub bins: Vec<Binned>,
+    /// Distance from the Sun at discovery, AU (discovered objects only).
+    pub discovery_distance: Binned,
+    pub candidates_evaluated: u64,
+    pub in_field_events: u64,
+    pub candidates_per_in_field_event: f64,
+    pub elapsed_s: f64,
+    pub objects_per_second: f64,
+    #[serde(skip)]
+    weight_total: f64,
+    #[serde(skip)]
+    weight_detected: f64,
+}
+
+fn log_edges(lo: f64, hi: f64, per_decade: usize) -> Vec<f64> {
+    let k = ((hi / lo).log10() * per_decade as f64).round() as usize;
+    (0..=k).map(|j| lo * 10f64.powf(j as f64 / per_decade as f64)).collect()
+}
+
+fn lin_edges(lo: f64, hi: f64, step: f64) -> Vec<f64> {
+    let k = ((hi - lo) / step).round() as usize;
+    (0..=k).map(|j| lo + j as f64 * step).collect()
+}
+
+impl Summary {
+    pub fn new(surveys: &[PreparedSurvey]) -> Self {
+        Summary {
+            n_objects: 0,
+            n_detected: 0,
+            n_tracked: 0,
+            detected_fraction: 0.0,
+            weighted_detected_fraction: 0.0,
+            surveys: surveys
+                .iter()
+                .map(|s| SurveySummary {
+                    name: s.survey.name.clone(),
+                    n_visits: s.len(),
+                    discovered: 0,
+                    tracked: 0,
+                    in_field_events: 0,
+                })
+                .collect(),
+            bins: vec![
+                Binned::new("a_au", log_edges(10.0, 10000.0, 8)),
+                Binned::new("q_au", log_edges(10.0, 10000.0, 8)),
+                Binned::new("inc_deg", lin_edges(0.0, 180.0, 10.0)),
+                Binned::new("h_mag", lin_edges(-10.0, 16.0, 0.5)),
+            ],
+            discovery_distance: Binned::new("discovery_r_au", log_edges(10.0, 10000.0, 8)),
+            candidates_evaluated: 0,
+            in_field_events: 0,
+            candidates_per_in_field_event: 0.0,
+            elapsed_s: 0.0,
+            objects_per_second: 0.0,
+            weight_total: 0.0,
+            weight_detected: 0.0,
+        }
+    }
+
+    pub fn add(&mut self, objects: &ObjectTable, start: usize, outs: &[ObjectOutcome], surveys: &[PreparedSurvey]) {
+        for (k, o) in outs.iter().enumerate() {
+            let i = start + k;
+            let el = &objects.elements[i];
+            let (det, w) = (o.discovered(), objects.weight[i]);
+            self.n_objects += 1;
+            self.n_detected += det as u64;
+            self.n_tracked += o.surveys.iter().any(|s| s.tracked) as u64;
+            self.weight_total += w;
+            self.weight_detected += if det { w } else { 0.0 };
+            self.candidates_evaluated += o.candidates;
+            self.in_field_events += o.events.len() as u64;
+            let values = [el.a_au, el.q_au(), el.inc.to_degrees(), objects.h_mag[i]];
+            for (b, x) in self.bins.iter_mut().zip(values) {
+                b.add(x, det, w, true);
+            }
+            if let Some((_, e)) = o.first_discovery(|e| surveys[e.survey as usize].survey.visits.mjd[e.visit as usize])
+            {
+                self.discovery_distance.add(o.events[e].r_au, true, w, true);
+            }
+            for (s, so) in self.surveys.iter_mut().zip(&o.surveys) {
+                s.discovered += so.discovered as u64;
+                s.tracked += so.tracked as u64;
+                s.in_field_events += so.n_in_field as u64;
+            }
+        }
+    }
+
+    pub fn finish(&mut self, elapsed_s: f64) {
+        self.elapsed_s = elapsed_s;
+        self.detected_fraction = self.n_detected as f64 / (self.n_objects.max(1)) as f64;
+        self.weighted_detected_fraction = if self.weight_total > 0.0 {
+            self.weight_detected / self.weight_total
+        } else {
+            0.0
+        };
+        self.candidates_per_in_field_event = self.candidates_evaluated as f64 / (self.in_field_events.max(1)) as f64;
+        self.objects_per_second = self.n_objects as f64 / elapsed_s.max(1e-9);
+    }
+
+    pub fn to_json(&self) -> String {
+        serde_json::to_string_pretty(self).expect("summary serializes")
+    }
+}
+
+/// A progress bar on standard error, only when it is a terminal and progress is wanted.
+pub fn progress_bar(len: usize, wanted: bool) -> Option<indicatif::ProgressBar> {
+    use std::io::IsTerminal;
+    if !wanted || !std::io::stderr().is_terminal() {
+        return None;
+    }
+    let bar = indicatif::ProgressBar::new(len as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} objects  {per_sec}  eta {eta}")
+            .expect("valid template"),
+    );
+    Some(bar)
+}
