@@ -101,35 +101,62 @@ pub fn earth_sun_exact(tdb_mjd: f64) -> EarthSun {
 /// Half-day samples of the Earth and Sun positions over a span, interpolated by cubics.
 #[derive(Debug, Clone)]
 pub struct EphemerisGrid {
+    earth: Samples,
+    sun: Samples,
+}
+
+/// Equally spaced samples of a vector function of time.
+#[derive(Debug, Clone)]
+struct Samples {
     start: f64,
     step: f64,
-    earth: Vec<Vector3<f64>>,
-    sun: Vec<Vector3<f64>>,
+    values: Vec<Vector3<f64>>,
+}
+
+impl Samples {
+    fn new(tdb_min: f64, tdb_max: f64, step: f64, f: impl Fn(f64) -> Vector3<f64> + Sync) -> Self {
+        use rayon::prelude::*;
+        let start = (tdb_min / step).floor() * step - 2.0 * step;
+        let n = (((tdb_max - start) / step).ceil() as usize) + 4;
+        let values = (0..n).into_par_iter().map(|i| f(start + i as f64 * step)).collect();
+        Samples { start, step, values }
+    }
+
+    fn contains(&self, t: f64) -> bool {
+        let u = (t - self.start) / self.step;
+        u >= 1.0 && u <= (self.values.len() - 3) as f64
+    }
+
+    /// Cubic interpolation of the value and its time derivative.
+    fn at(&self, t: f64) -> (Vector3<f64>, Vector3<f64>) {
+        let u = (t - self.start) / self.step;
+        let i = (u.floor() as usize).clamp(1, self.values.len() - 3);
+        let (w, dw) = lagrange4(u - i as f64); // samples at −1, 0, 1, 2 around i
+        let (mut p, mut d) = (Vector3::zeros(), Vector3::zeros());
+        for k in 0..4 {
+            p += self.values[i - 1 + k] * w[k];
+            d += self.values[i - 1 + k] * dw[k];
+        }
+        (p, d / self.step)
+    }
 }
 
 impl EphemerisGrid {
     pub const STEP_DAYS: f64 = 0.5;
+    /// The Sun's barycentric motion is slow (periods of 12 years and more) but costs eight
+    /// planetary series: samples every 4 days interpolate it to < 1e-11 AU.
+    pub const SUN_STEP_DAYS: f64 = 4.0;
 
     /// A grid covering [tdb_min, tdb_max] with two samples of margin at each end.
     pub fn covering(tdb_min: f64, tdb_max: f64) -> Self {
-        let step = Self::STEP_DAYS;
-        let start = (tdb_min / step).floor() * step - 2.0 * step;
-        let n = (((tdb_max - start) / step).ceil() as usize) + 4;
-        let times: Vec<f64> = (0..n).map(|i| start + i as f64 * step).collect();
-        use rayon::prelude::*;
-        let earth = times.par_iter().map(|&t| earth_helio_pos(t)).collect();
-        let sun = times.par_iter().map(|&t| sun_bary_pos(t)).collect();
         EphemerisGrid {
-            start,
-            step,
-            earth,
-            sun,
+            earth: Samples::new(tdb_min, tdb_max, Self::STEP_DAYS, earth_helio_pos),
+            sun: Samples::new(tdb_min, tdb_max, Self::SUN_STEP_DAYS, sun_bary_pos),
         }
     }
 
     pub fn contains(&self, tdb_mjd: f64) -> bool {
-        let u = (tdb_mjd - self.start) / self.step;
-        u >= 1.0 && u <= (self.earth.len() - 3) as f64
+        self.earth.contains(tdb_mjd) && self.sun.contains(tdb_mjd)
     }
 
     /// Interpolated state; falls back to a direct evaluation outside the grid.
@@ -137,27 +164,9 @@ impl EphemerisGrid {
         if !self.contains(tdb_mjd) {
             return earth_sun_exact(tdb_mjd);
         }
-        let u = (tdb_mjd - self.start) / self.step;
-        let i = (u.floor() as usize).clamp(1, self.earth.len() - 3);
-        let s = u - i as f64; // in [0, 1): samples at s = −1, 0, 1, 2
-        let (w, dw) = lagrange4(s);
-        let interp = |v: &[Vector3<f64>]| {
-            let mut p = Vector3::zeros();
-            let mut d = Vector3::zeros();
-            for k in 0..4 {
-                p += v[i - 1 + k] * w[k];
-                d += v[i - 1 + k] * dw[k];
-            }
-            (p, d / self.step)
-        };
-        let (ep, ev) = interp(&self.earth);
-        let (sp, sv) = interp(&self.sun);
-        EarthSun {
-            earth_helio: ep,
-            earth_helio_vel: ev,
-            sun_bary: sp,
-            sun_bary_vel: sv,
-        }
+        let (ep, ev) = self.earth.at(tdb_mjd);
+        let (sp, sv) = self.sun.at(tdb_mjd);
+        EarthSun { earth_helio: ep, earth_helio_vel: ev, sun_bary: sp, sun_bary_vel: sv }
     }
 }
 
