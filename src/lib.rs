@@ -8,6 +8,7 @@ pub mod io;
 pub mod orbit;
 pub mod rng;
 pub mod sky;
+pub mod survey;
 pub mod time;
 
 pub use error::{Error, Result};

@@ -7,6 +7,7 @@ use seine::Result;
 mod common;
 mod demo;
 mod ephemeris;
+mod plan;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -26,6 +27,8 @@ pub struct Cli {
 pub enum Command {
     /// Astrometric positions, distances, phase angle, magnitude and rate of motion of objects at epochs.
     Ephemeris(ephemeris::Args),
+    /// Cadence plan → visits table, matching survey spec and coverage report (greedy scheduler).
+    Plan(plan::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -34,5 +37,6 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Plan(a) => plan::run(a),
     }
 }
