@@ -7,15 +7,9 @@ use seine::{Error, Result};
 pub fn parse_site(s: &str) -> Result<Site> {
     let parts: Vec<&str> = s.split(',').map(str::trim).collect();
     let num = |i: usize, what: &str| -> Result<f64> {
-        parts
-            .get(i)
-            .and_then(|p| p.parse::<f64>().ok())
-            .filter(|x| x.is_finite())
-            .ok_or_else(|| {
-                Error::input(format!(
-                    "--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M] with a number for {what}"
-                ))
-            })
+        parts.get(i).and_then(|p| p.parse::<f64>().ok()).filter(|x| x.is_finite()).ok_or_else(|| {
+            Error::input(format!("--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M] with a number for {what}"))
+        })
     };
     if !(2..=3).contains(&parts.len()) {
         return Err(Error::input(format!("--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M]")));
@@ -23,11 +17,7 @@ pub fn parse_site(s: &str) -> Result<Site> {
     let site = Site {
         longitude_deg: num(0, "the longitude")?,
         latitude_deg: num(1, "the latitude")?,
-        elevation_m: if parts.len() == 3 {
-            num(2, "the elevation")?
-        } else {
-            0.0
-        },
+        elevation_m: if parts.len() == 3 { num(2, "the elevation")? } else { 0.0 },
     };
     if let Some(p) = site.problem() {
         return Err(Error::input(format!("--site: {p}")));

@@ -6,4 +6,4 @@ pub mod provenance;
 pub mod table;
 
 pub use provenance::Provenance;
-pub use table::{Columns, Format, read_table, write_table};
+pub use table::{read_table, write_table, Columns, Format};

@@ -3,8 +3,8 @@
 
 pub mod apparent;
 pub mod earth;
-pub mod ephemeris;
 pub mod frames;
-pub mod horizon;
 pub mod observer;
 pub mod photometry;
+pub mod ephemeris;
+pub mod horizon;
