@@ -8,6 +8,7 @@ mod common;
 mod demo;
 mod ephemeris;
 mod observe;
+mod plan;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -29,6 +30,8 @@ pub enum Command {
     Ephemeris(ephemeris::Args),
     /// Run objects through one or more surveys' pointing histories: who would have been found.
     Observe(observe::Args),
+    /// Cadence plan → visits table, matching survey spec and coverage report (greedy scheduler).
+    Plan(plan::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -38,5 +41,6 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
         Command::Observe(a) => observe::run(a),
+        Command::Plan(a) => plan::run(a),
     }
 }

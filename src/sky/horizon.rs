@@ -1,0 +1,187 @@
+//! The local sky of a site: the altitude of the Sun and of fields, airmass and twilight.
+//!
+//! * ICRS → mean equator and equinox of date: the IAU 1976 precession angles ζ, z, θ of
+//!   Lieske et al. (1977, A&A 58, 1), in the form of Meeus, *Astronomical Algorithms*
+//!   (2nd ed., 1998), eq. 21.2–21.4 with the starting epoch J2000. The 23 mas frame bias
+//!   and the nutation are neglected: they move an altitude by < 0.003° (Δε ≤ 9.2″) and an
+//!   hour angle by the equation of the equinoxes (≤ 1.2 s of time, < 0.005°).
+//! * Greenwich mean sidereal time: IAU 2006, GMST = ERA + the polynomial of Capitaine,
+//!   Wallace & Chapront (2003, A&A 412, 567, eq. 42), as in ERFA's `gmst06`, with UT1 = UTC.
+//! * Annual aberration to first order in v/c (Explanatory Supplement 1992, §3.252), so that
+//!   altitudes are the observed (unrefracted) ones; the Sun is topocentric (parallax 8.8″).
+//! * Altitude: sin h = sin φ sin δ + cos φ cos δ cos H, φ the geodetic latitude, no refraction.
+//! * Airmass: Kasten & Young (1989, Appl. Opt. 28, 4735),
+//!   X = 1 / (cos z + 0.50572 (96.07995° − z)^−1.6364), z in degrees; plane-parallel sec z also given.
+//!
+//! Checked against astropy's AltAz frame (pressure 0) in `tests/reference/fixtures/sun_altaz.csv`
+//! and `twilight.csv`.
+
+use nalgebra::{Matrix3, Vector3};
+
+use super::earth::EarthSun;
+use super::observer::{Site, earth_rotation_angle};
+use crate::orbit::constants::{ARCSEC, C_AU_PER_DAY, DEG};
+use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
+
+/// IAU 1976 precession matrix, ICRS (≈ mean J2000) → mean equator and equinox of date.
+/// `tt_mjd`: the epoch in TT (TDB is as good here).
+pub fn precession_matrix(tt_mjd: f64) -> Matrix3<f64> {
+    let t = (tt_mjd - MJD_J2000) / 36525.0;
+    let zeta = (2306.2181 * t + 0.30188 * t * t + 0.017998 * t * t * t) * ARCSEC;
+    let z = (2306.2181 * t + 1.09468 * t * t + 0.018203 * t * t * t) * ARCSEC;
+    let theta = (2004.3109 * t - 0.42665 * t * t - 0.041833 * t * t * t) * ARCSEC;
+    // P = R3(−z) · R2(θ) · R3(−ζ)
+    rot_z(-z) * rot_y(theta) * rot_z(-zeta)
+}
+
+/// Rotation of the coordinate axes about z by `a` (a vector's components in the turned axes).
+fn rot_z(a: f64) -> Matrix3<f64> {
+    let (s, c) = a.sin_cos();
+    Matrix3::new(c, s, 0.0, -s, c, 0.0, 0.0, 0.0, 1.0)
+}
+
+fn rot_y(a: f64) -> Matrix3<f64> {
+    let (s, c) = a.sin_cos();
+    Matrix3::new(c, 0.0, -s, 0.0, 1.0, 0.0, s, 0.0, c)
+}
+
+/// Greenwich mean sidereal time (radians), IAU 2006: ERA(UT1) + polynomial in TT centuries.
+pub fn gmst_rad(ut1_mjd: f64, tt_mjd: f64) -> f64 {
+    let t = (tt_mjd - MJD_J2000) / 36525.0;
+    let poly =
+        0.014506 + t * (4612.156534 + t * (1.3915817 + t * (-0.00000044 + t * (-0.000029956 - t * 0.0000000368))));
+    (earth_rotation_angle(ut1_mjd) + poly * ARCSEC).rem_euclid(std::f64::consts::TAU)
+}
+
+/// Kasten & Young (1989) relative airmass at a true altitude (radians); infinite below −6°.
+pub fn airmass_kasten_young(alt_rad: f64) -> f64 {
+    let z_deg = 90.0 - alt_rad / DEG;
+    if z_deg >= 96.0 {
+        return f64::INFINITY;
+    }
+    1.0 / ((z_deg * DEG).cos() + 0.50572 * (96.07995 - z_deg).powf(-1.6364))
+}
+
+/// Plane-parallel airmass sec z; infinite at or below the horizon.
+pub fn airmass_secz(alt_rad: f64) -> f64 {
+    if alt_rad <= 0.0 {
+        f64::INFINITY
+    } else {
+        1.0 / alt_rad.sin()
+    }
+}
+
+/// The sky above a site at one UTC instant: turns ICRS directions into altitudes.
+#[derive(Debug, Clone)]
+pub struct LocalSky {
+    /// ICRS → (x toward the local meridian on the equator of date, y, z toward the pole of date).
+    to_local: Matrix3<f64>,
+    sin_lat: f64,
+    cos_lat: f64,
+    /// Observer's barycentric velocity over c (for aberration).
+    beta: Vector3<f64>,
+    /// Topocentric geometric direction of the Sun, ICRS, unit vector.
+    pub sun_dir: Vector3<f64>,
+}
+
+impl LocalSky {
+    /// `earth` must be the Earth and Sun at the TDB of `utc_mjd`.
+    pub fn new(site: &Site, utc_mjd: f64, earth: &EarthSun) -> Self {
+        let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc).unwrap_or(utc_mjd);
+        let last = gmst_rad(utc_mjd, tt) + site.longitude_deg * DEG;
+        let to_local = rot_z(last) * precession_matrix(tt);
+        let lat = site.latitude_deg * DEG;
+        let (site_pos, site_vel) = site.geocentric(utc_mjd);
+        let sun = -earth.earth_helio - site_pos;
+        LocalSky {
+            to_local,
+            sin_lat: lat.sin(),
+            cos_lat: lat.cos(),
+            beta: (earth.earth_bary_vel() + site_vel) / C_AU_PER_DAY,
+            sun_dir: sun.normalize(),
+        }
+    }
+
+    /// Observed altitude (radians, no refraction) of an ICRS unit vector.
+    pub fn altitude(&self, dir: &Vector3<f64>) -> f64 {
+        let apparent = dir + self.beta - dir * dir.dot(&self.beta);
+        let v = self.to_local * apparent.normalize();
+        (self.sin_lat * v.z + self.cos_lat * v.x).clamp(-1.0, 1.0).asin()
+    }
+
+    pub fn sun_altitude(&self) -> f64 {
+        self.altitude(&self.sun_dir)
+    }
+
+    /// Angle between an ICRS direction and the Sun, radians.
+    pub fn solar_elongation(&self, dir: &Vector3<f64>) -> f64 {
+        crate::sky::frames::separation(dir, &self.sun_dir)
+    }
+}
+
+/// The Sun's altitude (radians) at a site and UTC MJD, with an exact Earth ephemeris.
+pub fn sun_altitude(site: &Site, utc_mjd: f64) -> f64 {
+    let tdb = to_tdb_mjd(utc_mjd, TimeScale::Utc).unwrap_or(utc_mjd);
+    LocalSky::new(site, utc_mjd, &super::earth::earth_sun_exact(tdb)).sun_altitude()
+}
+
+/// UTC MJD of local mean noon that starts night `night` (the DESIGN.md night numbering).
+pub fn night_start_utc(site: &Site, night: i64) -> f64 {
+    night as f64 + 0.5 - site.longitude_deg / 360.0
+}
+
+/// The dark interval of a night: (evening, morning) UTC MJDs at which the Sun crosses
+/// `sun_alt_deg`, or `None` if the Sun never gets that low (or never rises above it) that
+/// night. `sun_at` gives the Sun's altitude in radians at a UTC MJD.
+pub fn dark_interval(site: &Site, night: i64, sun_alt_deg: f64, sun_at: impl Fn(f64) -> f64) -> Option<(f64, f64)> {
+    let noon = night_start_utc(site, night);
+    let limit = sun_alt_deg * DEG;
+    let f = |t: f64| sun_at(t) - limit;
+    // The Sun's altitude has one minimum per day, near local midnight; sample to bracket it.
+    let samples: Vec<(f64, f64)> = (0..=48).map(|i| noon + i as f64 / 48.0).map(|t| (t, f(t))).collect();
+    let (tmin, fmin) = samples
+        .iter()
+        .copied()
+        .fold((noon, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
+    if fmin >= 0.0 {
+        return None;
+    }
+    if samples[0].1 <= 0.0 || samples[48].1 <= 0.0 {
+        return None; // polar night or a Sun that never rises that high: no twilight crossing
+    }
+    Some((bisect(&f, noon, tmin), bisect(&f, tmin, noon + 1.0)))
+}
+
+/// Root of f between a and b (f(a), f(b) of opposite sign), to 1e-7 day (< 0.01 s).
+fn bisect(f: &impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
+    let fa0 = f(a);
+    while b - a > 1e-7 {
+        let m = 0.5 * (a + b);
+        if (f(m) > 0.0) == (fa0 > 0.0) { a = m } else { b = m }
+    }
+    0.5 * (a + b)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn kasten_young_at_zenith_and_horizon() {
+        // Kasten & Young (1989) is built to give X = 1 at the zenith; at the horizon their formula
+        // gives 37.92 (evaluated from the formula, a self-consistency check). The astropy fixture
+        // check in tests/survey.rs is the outside reference.
+        assert!((airmass_kasten_young(90.0 * DEG) - 1.0).abs() < 1e-3);
+        assert!((airmass_kasten_young(0.0) - 37.9196).abs() < 1e-3);
+        assert!(airmass_kasten_young(-7.0 * DEG).is_infinite());
+    }
+
+    #[test]
+    fn gmst_at_j2000() {
+        // GMST at 2000-01-01 12:00 UT1 = 18h 41m 50.54841s (IAU 1982 value; the IAU 2006
+        // formula agrees to a few ms). From memory, Explanatory Supplement (1992) §2.24.
+        let g = gmst_rad(MJD_J2000, MJD_J2000) / DEG / 15.0;
+        let expect = 18.0 + 41.0 / 60.0 + 50.54841 / 3600.0;
+        assert!((g - expect).abs() * 3600.0 < 0.05, "{g}");
+    }
+}

@@ -1,0 +1,179 @@
+//! The coverage report of a pointing history: sky area covered against ecliptic latitude,
+//! visits per field, nights used and time used per night, the depth distribution, and the
+//! covered sky as an IVOA MOC.
+//!
+//! Area is counted on HEALPix cells (Górski et al. 2005, ApJ 622, 759) of order 9
+//! (0.0131 deg² each): a cell is covered when its centre lies inside a footprint (exact
+//! containment), so areas carry an edge error of about one cell width (0.11°) times the
+//! perimeter. The MOC is written in the JSON serialization of IVOA MOC 2.0 (cells of order 9,
+//! not merged into coarser cells).
+
+use std::collections::{BTreeMap, HashMap};
+
+use serde::Serialize;
+
+use super::footprint::Footprint;
+use crate::orbit::constants::DEG;
+use crate::sky::frames::{radec_to_ecliptic, unit_vector};
+
+pub const HEALPIX_ORDER: u8 = 9;
+const LAT_BIN_DEG: f64 = 5.0;
+
+/// One pointing: where and how deep.
+pub struct Pointing {
+    pub ra_deg: f64,
+    pub dec_deg: f64,
+    pub rotation_deg: f64,
+    pub depth_mag: f64,
+    pub night: i64,
+    /// The field a pointing belongs to (pointings at the same place share one).
+    pub field: i64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LatBin {
+    pub ecl_lat_min_deg: f64,
+    pub ecl_lat_max_deg: f64,
+    pub sky_area_sq_deg: f64,
+    pub covered_sq_deg: f64,
+    pub covered_fraction: f64,
+    /// Covered area seen on at least 2 and at least 5 distinct nights.
+    pub covered_2_nights_sq_deg: f64,
+    pub covered_5_nights_sq_deg: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Coverage {
+    pub n_visits: usize,
+    pub n_fields: usize,
+    pub n_nights_used: usize,
+    pub covered_sq_deg: f64,
+    pub healpix_order: u8,
+    pub by_ecliptic_latitude: Vec<LatBin>,
+    /// visits per field → number of fields
+    pub visits_per_field: BTreeMap<usize, usize>,
+    /// nights per field → number of fields
+    pub nights_per_field: BTreeMap<usize, usize>,
+    pub depth_quantiles: BTreeMap<String, f64>,
+    /// depth bin lower edge (0.25 mag bins) → number of visits
+    pub depth_histogram: BTreeMap<String, usize>,
+    #[serde(skip)]
+    pub cells: Vec<u64>,
+}
+
+fn quantile(sorted: &[f64], q: f64) -> f64 {
+    let pos = q * (sorted.len() - 1) as f64;
+    let (i, t) = (pos.floor() as usize, pos.fract());
+    sorted[i] * (1.0 - t) + sorted[(i + 1).min(sorted.len() - 1)] * t
+}
+
+/// Cells of order `HEALPIX_ORDER` whose centres lie in the footprint at one pointing.
+fn cells_of(fp: &Footprint, p: &Pointing) -> Vec<u64> {
+    let (ra, dec) = (p.ra_deg * DEG, p.dec_deg * DEG);
+    // Widen the cone by a cell so that no cell whose centre is inside is missed.
+    let r = fp.bounding_radius_rad() + 0.003;
+    cdshealpix::nested::cone_coverage_approx_flat(HEALPIX_ORDER, ra, dec, r)
+        .iter()
+        .copied()
+        .filter(|&h| {
+            let (lon, lat) = cdshealpix::nested::center(HEALPIX_ORDER, h);
+            fp.contains(ra, dec, p.rotation_deg, &unit_vector(lon, lat))
+        })
+        .collect()
+}
+
+pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
+    let cell_sq_deg = 4.0 * std::f64::consts::PI / cdshealpix::nested::n_hash(HEALPIX_ORDER) as f64 / (DEG * DEG);
+    // Cells per distinct field footprint, computed once; nights per cell.
+    let mut field_cells: HashMap<(i64, u64, u64), Vec<u64>> = HashMap::new();
+    let mut cell_nights: HashMap<u64, Vec<i64>> = HashMap::new();
+    for p in pointings {
+        let key = (p.field, p.ra_deg.to_bits(), p.rotation_deg.to_bits());
+        let cells = field_cells.entry(key).or_insert_with(|| cells_of(fp, p));
+        for &c in cells.iter() {
+            cell_nights.entry(c).or_default().push(p.night);
+        }
+    }
+    let mut bins: Vec<LatBin> = (0..(180.0 / LAT_BIN_DEG) as usize)
+        .map(|i| {
+            let (lo, hi) = (-90.0 + i as f64 * LAT_BIN_DEG, -90.0 + (i + 1) as f64 * LAT_BIN_DEG);
+            let sky = std::f64::consts::TAU * ((hi * DEG).sin() - (lo * DEG).sin()) / (DEG * DEG);
+            LatBin {
+                ecl_lat_min_deg: lo,
+                ecl_lat_max_deg: hi,
+                sky_area_sq_deg: sky,
+                covered_sq_deg: 0.0,
+                covered_fraction: 0.0,
+                covered_2_nights_sq_deg: 0.0,
+                covered_5_nights_sq_deg: 0.0,
+            }
+        })
+        .collect();
+    for (&c, nights) in cell_nights.iter_mut() {
+        nights.sort_unstable();
+        nights.dedup();
+        let (lon, lat) = cdshealpix::nested::center(HEALPIX_ORDER, c);
+        let beta = radec_to_ecliptic(lon, lat).1 / DEG;
+        let last = bins.len() - 1;
+        let b = &mut bins[(((beta + 90.0) / LAT_BIN_DEG) as usize).min(last)];
+        b.covered_sq_deg += cell_sq_deg;
+        b.covered_2_nights_sq_deg += if nights.len() >= 2 { cell_sq_deg } else { 0.0 };
+        b.covered_5_nights_sq_deg += if nights.len() >= 5 { cell_sq_deg } else { 0.0 };
+    }
+    for b in &mut bins {
+        b.covered_fraction = b.covered_sq_deg / b.sky_area_sq_deg;
+    }
+    let mut per_field: HashMap<i64, (usize, Vec<i64>)> = HashMap::new();
+    for p in pointings {
+        let e = per_field.entry(p.field).or_default();
+        e.0 += 1;
+        e.1.push(p.night);
+    }
+    let mut visits_per_field = BTreeMap::new();
+    let mut nights_per_field = BTreeMap::new();
+    for (n, nights) in per_field.values_mut() {
+        nights.sort_unstable();
+        nights.dedup();
+        *visits_per_field.entry(*n).or_insert(0) += 1;
+        *nights_per_field.entry(nights.len()).or_insert(0) += 1;
+    }
+    let mut depth: Vec<f64> = pointings.iter().map(|p| p.depth_mag).collect();
+    depth.sort_by(f64::total_cmp);
+    let mut depth_quantiles = BTreeMap::new();
+    let mut depth_histogram = BTreeMap::new();
+    if !depth.is_empty() {
+        for (name, q) in [("min", 0.0), ("p10", 0.1), ("p50", 0.5), ("p90", 0.9), ("max", 1.0)] {
+            depth_quantiles.insert(name.to_string(), quantile(&depth, q));
+        }
+        for d in &depth {
+            *depth_histogram
+                .entry(format!("{:.2}", (d * 4.0).floor() / 4.0))
+                .or_insert(0) += 1;
+        }
+    }
+    let mut nights: Vec<i64> = pointings.iter().map(|p| p.night).collect();
+    nights.sort_unstable();
+    nights.dedup();
+    let mut cells: Vec<u64> = cell_nights.keys().copied().collect();
+    cells.sort_unstable();
+    Coverage {
+        n_visits: pointings.len(),
+        n_fields: per_field.len(),
+        n_nights_used: nights.len(),
+        covered_sq_deg: cells.len() as f64 * cell_sq_deg,
+        healpix_order: HEALPIX_ORDER,
+        by_ecliptic_latitude: bins,
+        visits_per_field,
+        nights_per_field,
+        depth_quantiles,
+        depth_histogram,
+        cells,
+    }
+}
+
+impl Coverage {
+    /// The covered sky in the JSON serialization of IVOA MOC 2.0: `{"ORDER": [cells]}`.
+    pub fn moc_json(&self) -> String {
+        serde_json::json!({ HEALPIX_ORDER.to_string(): self.cells }).to_string()
+    }
+}

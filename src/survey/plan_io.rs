@@ -1,0 +1,154 @@
+//! Writing a plan's outputs: the visits table, the matching survey spec, the coverage report
+//! (JSON plus tables) and the MOC. File names derive from the visits path:
+//! `STEM.survey.toml`, `STEM.coverage.json`, `STEM.coverage_ecliptic.csv`,
+//! `STEM.coverage_nights.csv`, `STEM.moc.json`.
+
+use std::path::{Path, PathBuf};
+
+use polars::prelude::*;
+
+use super::coverage::{Coverage, Pointing, coverage};
+use super::planner::{Plan, spec_toml};
+use super::visits::night_of;
+use crate::error::{Result, io_at};
+use crate::io::Provenance;
+use crate::io::table::{write_atomic, write_table};
+
+pub struct PlanOutputs {
+    pub visits: PathBuf,
+    pub spec: PathBuf,
+    pub coverage_json: PathBuf,
+    pub coverage_ecliptic: PathBuf,
+    pub coverage_nights: PathBuf,
+    pub moc: PathBuf,
+}
+
+impl PlanOutputs {
+    pub fn for_visits(visits: &Path) -> PlanOutputs {
+        let stem = visits
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "visits".into());
+        let sib = |suffix: &str| visits.with_file_name(format!("{stem}{suffix}"));
+        PlanOutputs {
+            visits: visits.to_path_buf(),
+            spec: sib(".survey.toml"),
+            coverage_json: sib(".coverage.json"),
+            coverage_ecliptic: sib(".coverage_ecliptic.csv"),
+            coverage_nights: sib(".coverage_nights.csv"),
+            moc: sib(".moc.json"),
+        }
+    }
+}
+
+fn visits_frame(plan: &Plan) -> Result<DataFrame> {
+    let v = &plan.visits;
+    let p = &plan.file.plan;
+    let n = v.mjd.len();
+    let lon = plan.file.site.longitude_deg;
+    let cols = vec![
+        Column::new("visit_id".into(), (0..n as i64).collect::<Vec<i64>>()),
+        Column::new("mjd".into(), v.mjd.clone()),
+        Column::new("ra_deg".into(), v.ra_deg.clone()),
+        Column::new("dec_deg".into(), v.dec_deg.clone()),
+        Column::new("band".into(), vec![p.band.clone(); n]),
+        Column::new("depth_mag".into(), v.depth_mag.clone()),
+        Column::new("rotation_deg".into(), v.rotation_deg.clone()),
+        Column::new("exposure_s".into(), vec![p.exposure_s; n]),
+        Column::new("seeing_arcsec".into(), vec![p.seeing_arcsec; n]),
+        Column::new("field_id".into(), v.field_id.clone()),
+        Column::new(
+            "night".into(),
+            v.mjd.iter().map(|&t| night_of(t, lon)).collect::<Vec<i64>>(),
+        ),
+        Column::new("airmass".into(), v.airmass.clone()),
+        Column::new("sun_alt_deg".into(), v.sun_alt_deg.clone()),
+        Column::new("solar_elongation_deg".into(), v.solar_elongation_deg.clone()),
+    ];
+    DataFrame::new(n, cols).map_err(|e| crate::Error::io(format!("visits table: {e}")))
+}
+
+/// The coverage of a plan's visits.
+pub fn plan_coverage(plan: &Plan) -> Coverage {
+    let v = &plan.visits;
+    let lon = plan.file.site.longitude_deg;
+    let pointings: Vec<Pointing> = (0..v.mjd.len())
+        .map(|i| Pointing {
+            ra_deg: v.ra_deg[i],
+            dec_deg: v.dec_deg[i],
+            rotation_deg: v.rotation_deg[i],
+            depth_mag: v.depth_mag[i],
+            night: night_of(v.mjd[i], lon),
+            field: v.field_id[i],
+        })
+        .collect();
+    coverage(&plan.footprint, &pointings)
+}
+
+/// Write every output of a plan; `plan_path` is recorded in the provenance.
+pub fn write_plan(plan: &Plan, plan_path: &Path, out: &PlanOutputs) -> Result<Coverage> {
+    let mut prov = Provenance::current().with_seed(plan.file.plan.seed);
+    prov.add_input(plan_path)?;
+    let cov = plan_coverage(plan);
+    let visits_name = out
+        .visits
+        .file_name()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let mut lat = lat_frame(&cov)?;
+    let mut nights = nights_frame(plan)?;
+    let json = serde_json::json!({
+        "plan": plan.file.plan.name,
+        "n_fields_in_region": plan.fields.len(),
+        "field_area_sq_deg": plan.footprint.area_sq_deg(),
+        "coverage": cov,
+        "nights": plan.nights,
+        "moon": "not modelled: depths carry no Moon penalty",
+    });
+    write_table(&mut visits_frame(plan)?, &out.visits, &prov)?;
+    write_atomic(&out.spec, spec_toml(&plan.file, &visits_name)?.as_bytes())?;
+    write_table(&mut lat, &out.coverage_ecliptic, &prov)?;
+    write_table(&mut nights, &out.coverage_nights, &prov)?;
+    let text = serde_json::to_string_pretty(&json).map_err(|e| io_at(&out.coverage_json, e))?;
+    write_atomic(&out.coverage_json, text.as_bytes())?;
+    write_atomic(&out.moc, cov.moc_json().as_bytes())?;
+    Ok(cov)
+}
+
+fn lat_frame(cov: &Coverage) -> Result<DataFrame> {
+    let b = &cov.by_ecliptic_latitude;
+    let col = |f: fn(&super::coverage::LatBin) -> f64| b.iter().map(f).collect::<Vec<f64>>();
+    Ok(crate::io::table::frame_f64(vec![
+        ("ecl_lat_min_deg", col(|x| x.ecl_lat_min_deg)),
+        ("ecl_lat_max_deg", col(|x| x.ecl_lat_max_deg)),
+        ("sky_area_sq_deg", col(|x| x.sky_area_sq_deg)),
+        ("covered_sq_deg", col(|x| x.covered_sq_deg)),
+        ("covered_fraction", col(|x| x.covered_fraction)),
+        ("covered_2_nights_sq_deg", col(|x| x.covered_2_nights_sq_deg)),
+        ("covered_5_nights_sq_deg", col(|x| x.covered_5_nights_sq_deg)),
+    ]))
+}
+
+fn nights_frame(plan: &Plan) -> Result<DataFrame> {
+    let n = &plan.nights;
+    let cols = vec![
+        Column::new("night".into(), n.iter().map(|x| x.night).collect::<Vec<i64>>()),
+        Column::new(
+            "status".into(),
+            n.iter().map(|x| x.status.clone()).collect::<Vec<String>>(),
+        ),
+        Column::new(
+            "dark_hours".into(),
+            n.iter().map(|x| x.dark_hours).collect::<Vec<f64>>(),
+        ),
+        Column::new(
+            "used_hours".into(),
+            n.iter().map(|x| x.used_hours).collect::<Vec<f64>>(),
+        ),
+        Column::new(
+            "n_visits".into(),
+            n.iter().map(|x| x.n_visits as i64).collect::<Vec<i64>>(),
+        ),
+    ];
+    DataFrame::new(n.len(), cols).map_err(|e| crate::Error::io(format!("nights table: {e}")))
+}
