@@ -6,6 +6,7 @@
 pub mod error;
 pub mod io;
 pub mod orbit;
+pub mod population;
 pub mod rng;
 pub mod sky;
 pub mod time;

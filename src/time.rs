@@ -135,7 +135,9 @@ pub fn to_utc_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
     // TAI − UTC is constant except across a leap second: evaluate it at the guess, then again.
     let guess = tai - tai_minus_utc_s(tai).unwrap_or(f64::NAN) / SECONDS_PER_DAY;
     let d = tai_minus_utc_s(guess).ok_or_else(|| {
-        Error::input(format!("epoch MJD {mjd} is before 1972-01-01, where UTC is not defined by the leap-second table"))
+        Error::input(format!(
+            "epoch MJD {mjd} is before 1972-01-01, where UTC is not defined by the leap-second table"
+        ))
     })?;
     Ok(tai - d / SECONDS_PER_DAY)
 }

@@ -5,13 +5,13 @@
 
 use std::path::PathBuf;
 
+use seine::Result;
+use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
 use seine::io::table::{frame_f64, write_table};
-use seine::io::Provenance;
 use seine::sky::ephemeris::ephemeris_table;
 use seine::sky::observer::Site;
 use seine::time::TimeScale;
-use seine::Result;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -21,7 +21,11 @@ pub struct Args {
 }
 
 /// The fictional Cerro Seine Observatory (invented coordinates).
-pub const DEMO_SITE: Site = Site { longitude_deg: -70.45, latitude_deg: -30.35, elevation_m: 2450.0 };
+pub const DEMO_SITE: Site = Site {
+    longitude_deg: -70.45,
+    latitude_deg: -30.35,
+    elevation_m: 2450.0,
+};
 
 pub fn run(a: Args) -> Result<()> {
     let t0 = std::time::Instant::now();
@@ -45,10 +49,23 @@ pub fn run(a: Args) -> Result<()> {
     let out = a.out.join("ephemeris.csv");
     write_table(&mut df, &out, &Provenance::current())?;
     println!("seine demo — an invented example seen from the fictional Cerro Seine Observatory");
-    println!("(lon {:.2}°, lat {:.2}°, {} m)\n", DEMO_SITE.longitude_deg, DEMO_SITE.latitude_deg, DEMO_SITE.elevation_m);
-    println!("{:<8} {:>11} {:>10} {:>9} {:>9} {:>7} {:>8}", "object", "RA (deg)", "Dec (deg)", "r (AU)", "Δ (AU)", "mag", "″/hr");
+    println!(
+        "(lon {:.2}°, lat {:.2}°, {} m)\n",
+        DEMO_SITE.longitude_deg, DEMO_SITE.latitude_deg, DEMO_SITE.elevation_m
+    );
+    println!(
+        "{:<8} {:>11} {:>10} {:>9} {:>9} {:>7} {:>8}",
+        "object", "RA (deg)", "Dec (deg)", "r (AU)", "Δ (AU)", "mag", "″/hr"
+    );
     let col = |n: &str| df.column(n).unwrap().f64().unwrap().clone();
-    let (ra, dec, r, d, m, rate) = (col("ra_deg"), col("dec_deg"), col("r_au"), col("delta_au"), col("mag"), col("rate_arcsec_per_hr"));
+    let (ra, dec, r, d, m, rate) = (
+        col("ra_deg"),
+        col("dec_deg"),
+        col("r_au"),
+        col("delta_au"),
+        col("mag"),
+        col("rate_arcsec_per_hr"),
+    );
     for (i, name) in names.iter().enumerate() {
         let k = i * epochs.len();
         println!(
@@ -62,8 +79,15 @@ pub fn run(a: Args) -> Result<()> {
             rate.get(k).unwrap()
         );
     }
-    println!("\nPositions at MJD {} (UTC); {} epochs each written to {}", epochs[0], epochs.len(), out.display());
-    println!("Still to come in the demo: plan a survey, draw a population, observe it, and test clustering for survey bias.");
+    println!(
+        "\nPositions at MJD {} (UTC); {} epochs each written to {}",
+        epochs[0],
+        epochs.len(),
+        out.display()
+    );
+    println!(
+        "Still to come in the demo: plan a survey, draw a population, observe it, and test clustering for survey bias."
+    );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());
     Ok(())
 }

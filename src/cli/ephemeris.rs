@@ -2,9 +2,9 @@
 
 use std::path::PathBuf;
 
-use seine::io::objects::ObjectTable;
-use seine::io::table::{read_table, write_table, Columns};
 use seine::io::Provenance;
+use seine::io::objects::ObjectTable;
+use seine::io::table::{Columns, read_table, write_table};
 use seine::sky::ephemeris::ephemeris_table;
 use seine::time::TimeScale;
 use seine::{Error, Result};
@@ -38,13 +38,21 @@ pub fn run(a: Args) -> Result<()> {
     let epochs_df = read_table(&a.epochs)?;
     let mjd = Columns::new(&epochs_df, &a.epochs).f64("mjd")?;
     if mjd.is_empty() {
-        return Err(Error::input(format!("{}: the epochs table has no rows", a.epochs.display())));
+        return Err(Error::input(format!(
+            "{}: the epochs table has no rows",
+            a.epochs.display()
+        )));
     }
     let mut df = ephemeris_table(&objects, &mjd, scale, site.as_ref())?;
     let mut prov = Provenance::current();
     prov.add_input(&a.objects)?;
     prov.add_input(&a.epochs)?;
     write_table(&mut df, &a.out, &prov)?;
-    eprintln!("seine ephemeris: {} objects × {} epochs → {}", objects.len(), mjd.len(), a.out.display());
+    eprintln!(
+        "seine ephemeris: {} objects × {} epochs → {}",
+        objects.len(),
+        mjd.len(),
+        a.out.display()
+    );
     Ok(())
 }

@@ -6,6 +6,7 @@ use seine::Result;
 
 mod common;
 mod demo;
+mod draw;
 mod ephemeris;
 
 #[derive(Parser, Debug)]
@@ -26,6 +27,8 @@ pub struct Cli {
 pub enum Command {
     /// Astrometric positions, distances, phase angle, magnitude and rate of motion of objects at epochs.
     Ephemeris(ephemeris::Args),
+    /// Draw a synthetic population from a spec (or clone simulation particles) into an objects table.
+    Draw(draw::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -34,5 +37,6 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Draw(a) => draw::run(a),
     }
 }

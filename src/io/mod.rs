@@ -3,7 +3,8 @@
 
 pub mod objects;
 pub mod provenance;
+pub mod sink;
 pub mod table;
 
 pub use provenance::Provenance;
-pub use table::{read_table, write_table, Columns, Format};
+pub use table::{Columns, Format, read_table, write_table};

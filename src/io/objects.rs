@@ -10,10 +10,10 @@ use std::path::Path;
 
 use polars::prelude::DataFrame;
 
-use super::table::{read_table, Columns};
+use super::table::{Columns, read_table};
 use crate::error::{Error, Result};
 use crate::orbit::{Center, Elements};
-use crate::sky::photometry::{PhaseLaw, DEFAULT_BETA_MAG_PER_DEG};
+use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
 
 /// Objects with their elements and photometric properties, columns as vectors.
 #[derive(Debug, Clone)]
@@ -52,10 +52,17 @@ impl ObjectTable {
     pub fn from_frame(df: DataFrame, path: &Path) -> Result<Self> {
         let c = Columns::new(&df, path);
         if c.is_empty() {
-            return Err(Error::input(format!("{}: the objects table has no rows", path.display())));
+            return Err(Error::input(format!(
+                "{}: the objects table has no rows",
+                path.display()
+            )));
         }
         let n = c.len();
-        let ids = if c.has("id") { c.i64("id")? } else { (0..n as i64).collect() };
+        let ids = if c.has("id") {
+            c.i64("id")?
+        } else {
+            (0..n as i64).collect()
+        };
         let mut seen = HashSet::with_capacity(n);
         for (i, id) in ids.iter().enumerate() {
             if !seen.insert(*id) {
@@ -74,7 +81,12 @@ impl ObjectTable {
                 }
                 q.iter().zip(&a).map(|(q, a)| 1.0 - q / a).collect()
             }
-            (false, false) => return Err(Error::input(format!("{}: missing required column `e` (or `q_au`)", path.display()))),
+            (false, false) => {
+                return Err(Error::input(format!(
+                    "{}: missing required column `e` (or `q_au`)",
+                    path.display()
+                )));
+            }
         };
         let inc = c.f64("inc_deg")?;
         let node = c.f64("node_deg")?;
@@ -86,12 +98,19 @@ impl ObjectTable {
             let s = c.str("frame")?;
             s.iter()
                 .enumerate()
-                .map(|(i, v)| Center::parse(v).ok_or_else(|| c.bad_value(i, "frame", &format!("heliocentric or barycentric, found `{v}`"))))
+                .map(|(i, v)| {
+                    Center::parse(v)
+                        .ok_or_else(|| c.bad_value(i, "frame", &format!("heliocentric or barycentric, found `{v}`")))
+                })
                 .collect::<Result<Vec<_>>>()?
         } else {
             vec![Center::Heliocentric; n]
         };
-        for (name, v) in [("node_deg", &node), ("argperi_deg", &argperi), ("mean_anomaly_deg", &mean_anomaly)] {
+        for (name, v) in [
+            ("node_deg", &node),
+            ("argperi_deg", &argperi),
+            ("mean_anomaly_deg", &mean_anomaly),
+        ] {
             if let Some(i) = v.iter().position(|x| !(-360.0..=360.0).contains(x)) {
                 return Err(c.bad_value(i, name, &format!("an angle in -360..360 deg, found {}", v[i])));
             }
@@ -125,7 +144,9 @@ impl ObjectTable {
             if let Some(i) = beta.iter().position(|b| !(0.0..=2.0).contains(b)) {
                 return Err(c.bad_value(i, "beta_mag_per_deg", &format!("0..2 mag/deg, found {}", beta[i])));
             }
-            beta.into_iter().map(|b| PhaseLaw::Linear { beta_mag_per_deg: b }).collect()
+            beta.into_iter()
+                .map(|b| PhaseLaw::Linear { beta_mag_per_deg: b })
+                .collect()
         };
         let mut colors = Vec::new();
         for band in c.with_prefix("color_") {
@@ -137,6 +158,16 @@ impl ObjectTable {
         }
         let lc_amp_mag = c.f64_or("lc_amp_mag", 0.0)?;
         let lc_period_days: Vec<f64> = c.f64_or("lc_period_hr", 0.0)?.iter().map(|h| h / 24.0).collect();
-        Ok(ObjectTable { ids, elements, h_mag, phase_law, colors, weight, lc_amp_mag, lc_period_days, frame: df })
+        Ok(ObjectTable {
+            ids,
+            elements,
+            h_mag,
+            phase_law,
+            colors,
+            weight,
+            lc_amp_mag,
+            lc_period_days,
+            frame: df,
+        })
     }
 }

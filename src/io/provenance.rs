@@ -7,7 +7,7 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-use crate::error::{io_at, Result};
+use crate::error::{Result, io_at};
 
 #[derive(Debug, Clone, Default, Serialize, Deserialize, PartialEq)]
 pub struct Provenance {
@@ -46,7 +46,10 @@ impl Provenance {
     /// Record a file that was read, with the SHA-256 of its bytes.
     pub fn add_input(&mut self, path: &Path) -> Result<()> {
         let bytes = std::fs::read(path).map_err(|e| io_at(path, e))?;
-        self.inputs.push(InputHash { path: path.display().to_string(), sha256: sha256_hex(&bytes) });
+        self.inputs.push(InputHash {
+            path: path.display().to_string(),
+            sha256: sha256_hex(&bytes),
+        });
         Ok(())
     }
 
@@ -55,7 +58,10 @@ impl Provenance {
     }
 
     pub fn key_values(&self) -> Vec<(String, String)> {
-        vec![(METADATA_KEY.to_string(), serde_json::to_string(self).expect("provenance serializes"))]
+        vec![(
+            METADATA_KEY.to_string(),
+            serde_json::to_string(self).expect("provenance serializes"),
+        )]
     }
 }
 

@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use polars::prelude::*;
 
 use super::provenance::Provenance;
-use crate::error::{io_at, Error, Result};
+use crate::error::{Error, Result, io_at};
 
 /// Table formats, chosen by the file extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -19,7 +19,12 @@ pub enum Format {
 
 impl Format {
     pub fn of(path: &Path) -> Result<Format> {
-        match path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase()).as_deref() {
+        match path
+            .extension()
+            .and_then(|e| e.to_str())
+            .map(|e| e.to_ascii_lowercase())
+            .as_deref()
+        {
             Some("csv") => Ok(Format::Csv),
             Some("parquet") | Some("pq") => Ok(Format::Parquet),
             _ => Err(Error::input(format!(
@@ -40,7 +45,10 @@ impl Format {
 pub fn read_table(path: &Path) -> Result<DataFrame> {
     let format = Format::of(path)?;
     if path.is_dir() {
-        return Err(Error::input(format!("{}: is a directory, expected a table file", path.display())));
+        return Err(Error::input(format!(
+            "{}: is a directory, expected a table file",
+            path.display()
+        )));
     }
     if !path.exists() {
         return Err(Error::input(format!("{}: no such file", path.display())));
@@ -56,7 +64,13 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
             ParquetReader::new(f).finish()
         }
     };
-    df.map_err(|e| Error::input(format!("{}: not a readable {} table: {e}", path.display(), format.extension())))
+    df.map_err(|e| {
+        Error::input(format!(
+            "{}: not a readable {} table: {e}",
+            path.display(),
+            format.extension()
+        ))
+    })
 }
 
 /// Parquet key-value metadata of a file (the provenance lives there).
@@ -69,7 +83,11 @@ pub fn read_parquet_metadata(path: &Path) -> Result<Vec<(String, String)>> {
     Ok(md
         .key_value_metadata()
         .as_ref()
-        .map(|kv| kv.iter().map(|k| (k.key.clone(), k.value.clone().unwrap_or_default())).collect())
+        .map(|kv| {
+            kv.iter()
+                .map(|k| (k.key.clone(), k.value.clone().unwrap_or_default()))
+                .collect()
+        })
         .unwrap_or_default())
 }
 
@@ -78,14 +96,13 @@ pub fn read_parquet_metadata(path: &Path) -> Result<Vec<(String, String)>> {
 pub fn write_table(df: &mut DataFrame, path: &Path, provenance: &Provenance) -> Result<()> {
     let format = Format::of(path)?;
     if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-        std::fs::create_dir_all(parent).map_err(|e| {
-            Error::input(format!("{}: cannot create the output directory: {e}", parent.display()))
-        })?;
+        std::fs::create_dir_all(parent)
+            .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
     }
     let tmp = temporary_name(path);
     let result = (|| {
-        let mut f = File::create(&tmp)
-            .map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
+        let mut f =
+            File::create(&tmp).map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
         match format {
             Format::Csv => CsvWriter::new(&mut f).include_header(true).finish(df),
             Format::Parquet => ParquetWriter::new(&mut f)
@@ -110,9 +127,8 @@ pub fn write_table(df: &mut DataFrame, path: &Path, provenance: &Provenance) -> 
 /// Write bytes atomically (temporary name in the same directory, then rename).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
     if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-        std::fs::create_dir_all(parent).map_err(|e| {
-            Error::input(format!("{}: cannot create the output directory: {e}", parent.display()))
-        })?;
+        std::fs::create_dir_all(parent)
+            .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
     }
     let tmp = temporary_name(path);
     std::fs::write(&tmp, bytes).map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
@@ -129,8 +145,11 @@ pub fn sidecar_path(path: &Path) -> PathBuf {
     PathBuf::from(s)
 }
 
-fn temporary_name(path: &Path) -> PathBuf {
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+pub(crate) fn temporary_name(path: &Path) -> PathBuf {
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
 }
 
@@ -170,7 +189,11 @@ impl<'a> Columns<'a> {
     pub fn f64(&self, name: &str) -> Result<Vec<f64>> {
         let col = self.df.column(name).map_err(|_| self.missing(name))?;
         let s = col.as_materialized_series().cast(&DataType::Float64).map_err(|_| {
-            Error::input(format!("{}: column `{name}`: expected numbers, found {}", self.path.display(), col.dtype()))
+            Error::input(format!(
+                "{}: column `{name}`: expected numbers, found {}",
+                self.path.display(),
+                col.dtype()
+            ))
         })?;
         let ca = s.f64().map_err(|e| io_at(self.path, e))?;
         let raw = col.as_materialized_series();
@@ -181,7 +204,11 @@ impl<'a> Columns<'a> {
                 Some(x) => Err(self.bad_value(i, name, &format!("a finite number, found {x}"))),
                 None => {
                     let shown = raw.get(i).map(|a| a.to_string()).unwrap_or_default();
-                    let found = if raw.null_count() > 0 && shown == "null" { "an empty value".to_string() } else { format!("`{shown}`") };
+                    let found = if raw.null_count() > 0 && shown == "null" {
+                        "an empty value".to_string()
+                    } else {
+                        format!("`{shown}`")
+                    };
                     Err(self.bad_value(i, name, &format!("a number, found {found}")))
                 }
             })
@@ -190,12 +217,20 @@ impl<'a> Columns<'a> {
 
     /// An optional numeric column, with a default where the column is absent.
     pub fn f64_or(&self, name: &str, default: f64) -> Result<Vec<f64>> {
-        if self.has(name) { self.f64(name) } else { Ok(vec![default; self.len()]) }
+        if self.has(name) {
+            self.f64(name)
+        } else {
+            Ok(vec![default; self.len()])
+        }
     }
 
     /// An optional numeric column.
     pub fn f64_opt(&self, name: &str) -> Result<Option<Vec<f64>>> {
-        if self.has(name) { self.f64(name).map(Some) } else { Ok(None) }
+        if self.has(name) {
+            self.f64(name).map(Some)
+        } else {
+            Ok(None)
+        }
     }
 
     /// An integer column (floats with no fractional part are accepted).
@@ -216,17 +251,27 @@ impl<'a> Columns<'a> {
     /// A string column; numbers are shown as text.
     pub fn str(&self, name: &str) -> Result<Vec<String>> {
         let col = self.df.column(name).map_err(|_| self.missing(name))?;
-        let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| io_at(self.path, e))?;
+        let s = col
+            .as_materialized_series()
+            .cast(&DataType::String)
+            .map_err(|e| io_at(self.path, e))?;
         let ca = s.str().map_err(|e| io_at(self.path, e))?;
         ca.iter()
             .enumerate()
-            .map(|(i, v)| v.map(str::to_string).ok_or_else(|| self.bad_value(i, name, "a value, found an empty one")))
+            .map(|(i, v)| {
+                v.map(str::to_string)
+                    .ok_or_else(|| self.bad_value(i, name, "a value, found an empty one"))
+            })
             .collect()
     }
 
     /// The error for a bad value at a 0-based row, reported 1-based as people count rows.
     pub fn bad_value(&self, row: usize, name: &str, expected: &str) -> Error {
-        Error::input(format!("{} row {}, column `{name}`: expected {expected}", self.path.display(), row + 1))
+        Error::input(format!(
+            "{} row {}, column `{name}`: expected {expected}",
+            self.path.display(),
+            row + 1
+        ))
     }
 
     /// Column names that start with a prefix, with the prefix removed (e.g. `color_`).

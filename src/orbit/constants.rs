@@ -13,14 +13,14 @@ pub const AU_KM: f64 = 149_597_870.7;
 /// Sun / planet mass ratios of the IAU 2009 system of astronomical constants (Earth
 /// includes the Moon). From memory; checked to give GM_total/GM_sun ≈ 1.00134.
 pub const SUN_PLANET_MASS_RATIOS: [f64; 8] = [
-    6_023_657.33,   // Mercury
-    408_523.719,    // Venus
-    328_900.559_6,  // Earth + Moon
-    3_098_703.59,   // Mars
-    1_047.348_644,  // Jupiter
-    3_497.901_8,    // Saturn
-    22_902.98,      // Uranus
-    19_412.26,      // Neptune
+    6_023_657.33,  // Mercury
+    408_523.719,   // Venus
+    328_900.559_6, // Earth + Moon
+    3_098_703.59,  // Mars
+    1_047.348_644, // Jupiter
+    3_497.901_8,   // Saturn
+    22_902.98,     // Uranus
+    19_412.26,     // Neptune
 ];
 
 /// GM of the Sun plus the planets, for barycentric two-body orbits of distant objects.

@@ -4,7 +4,7 @@
 //! Dynamics*, 1999, ch. 2). State vectors here are in the same frame as the elements
 //! (ecliptic J2000), in AU and AU/day.
 
-use super::constants::{gm_total, GM_SUN, TAU};
+use super::constants::{GM_SUN, TAU, gm_total};
 use super::kepler::{eccentric_anomaly, mean_from_eccentric};
 use nalgebra::Vector3;
 use serde::{Deserialize, Serialize};
@@ -137,7 +137,16 @@ impl Elements {
         let nu = r.dot(&q_hat).atan2(r.dot(&p_hat));
         let big_e = ((1.0 - e * e).sqrt() * nu.sin()).atan2(e + nu.cos());
         let mean_anomaly = mean_from_eccentric(big_e, e).rem_euclid(TAU);
-        Elements { a_au: a, e, inc, node, argperi, mean_anomaly, epoch_mjd_tdb, center }
+        Elements {
+            a_au: a,
+            e,
+            inc,
+            node,
+            argperi,
+            mean_anomaly,
+            epoch_mjd_tdb,
+            center,
+        }
     }
 }
 

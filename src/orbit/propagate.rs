@@ -1,7 +1,7 @@
 //! Two-body propagation of an object, with the orbit's axes precomputed in ICRS so that a
 //! position costs one Kepler solve and a handful of multiplications.
 
-use super::elements::{perifocal_axes, plane_state, Center, Elements};
+use super::elements::{Center, Elements, perifocal_axes, plane_state};
 use super::kepler::eccentric_anomaly;
 use crate::sky::frames::ecliptic_to_icrs;
 use nalgebra::Vector3;

@@ -42,7 +42,11 @@ fn vsop_to_icrs(x: f64, y: f64, z: f64) -> Vector3<f64> {
     const AM23: f64 = -0.397776982902;
     const AM32: f64 = 0.397776982902;
     const AM33: f64 = 0.917482137087;
-    Vector3::new(x + AM12 * y + AM13 * z, AM21 * x + AM22 * y + AM23 * z, AM32 * y + AM33 * z)
+    Vector3::new(
+        x + AM12 * y + AM13 * z,
+        AM21 * x + AM22 * y + AM23 * z,
+        AM32 * y + AM33 * z,
+    )
 }
 
 fn earth_helio_pos(tdb_mjd: f64) -> Vector3<f64> {
@@ -90,7 +94,12 @@ impl EphemerisGrid {
         use rayon::prelude::*;
         let earth = times.par_iter().map(|&t| earth_helio_pos(t)).collect();
         let sun = times.par_iter().map(|&t| sun_bary_pos(t)).collect();
-        EphemerisGrid { start, step, earth, sun }
+        EphemerisGrid {
+            start,
+            step,
+            earth,
+            sun,
+        }
     }
 
     pub fn contains(&self, tdb_mjd: f64) -> bool {
@@ -118,7 +127,12 @@ impl EphemerisGrid {
         };
         let (ep, ev) = interp(&self.earth);
         let (sp, sv) = interp(&self.sun);
-        EarthSun { earth_helio: ep, earth_helio_vel: ev, sun_bary: sp, sun_bary_vel: sv }
+        EarthSun {
+            earth_helio: ep,
+            earth_helio_vel: ev,
+            sun_bary: sp,
+            sun_bary_vel: sv,
+        }
     }
 }
 
@@ -146,7 +160,9 @@ pub enum EarthSource {
 impl EarthSource {
     /// Choose the cheaper source for this set of TDB epochs.
     pub fn for_epochs(tdb: &[f64]) -> Self {
-        let (lo, hi) = tdb.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
+        let (lo, hi) = tdb
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
         if tdb.is_empty() || ((hi - lo) / EphemerisGrid::STEP_DAYS) as usize > tdb.len() {
             EarthSource::Exact
         } else {

@@ -11,7 +11,7 @@ use super::photometry::{apparent_mag, light_curve_offset};
 use crate::error::Result;
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::time::{to_tdb_mjd, to_utc_mjd, TimeScale};
+use crate::time::{TimeScale, to_tdb_mjd, to_utc_mjd};
 
 /// Observer states for a list of epochs given in `scale`.
 pub fn observer_states(mjd: &[f64], scale: TimeScale, site: Option<&Site>) -> Result<Vec<ObserverState>> {
@@ -58,10 +58,23 @@ pub fn ephemeris_table(objects: &ObjectTable, mjd: &[f64], scale: TimeScale, sit
         })
         .collect();
     let names = [
-        "mjd", "ra_deg", "dec_deg", "r_au", "delta_au", "phase_deg", "mag", "elong_deg", "rate_arcsec_per_hr", "rate_pa_deg",
+        "mjd",
+        "ra_deg",
+        "dec_deg",
+        "r_au",
+        "delta_au",
+        "phase_deg",
+        "mag",
+        "elong_deg",
+        "rate_arcsec_per_hr",
+        "rate_pa_deg",
     ];
     let n = objects.len() * mjd.len();
-    let ids: Vec<i64> = objects.ids.iter().flat_map(|&id| std::iter::repeat_n(id, mjd.len())).collect();
+    let ids: Vec<i64> = objects
+        .ids
+        .iter()
+        .flat_map(|&id| std::iter::repeat_n(id, mjd.len()))
+        .collect();
     let mut cols = vec![Column::new("id".into(), ids)];
     for (k, name) in names.iter().enumerate() {
         let v: Vec<f64> = rows.iter().flat_map(|r| r.iter().map(move |row| row[k])).collect();

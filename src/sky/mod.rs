@@ -3,7 +3,7 @@
 
 pub mod apparent;
 pub mod earth;
+pub mod ephemeris;
 pub mod frames;
 pub mod observer;
 pub mod photometry;
-pub mod ephemeris;

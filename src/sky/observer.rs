@@ -37,7 +37,11 @@ impl Site {
         let (sl, cl) = lat.sin_cos();
         let n = WGS84_A_KM / (1.0 - e2 * sl * sl).sqrt();
         let h = self.elevation_m / 1000.0;
-        Vector3::new((n + h) * cl * lon.cos(), (n + h) * cl * lon.sin(), (n * (1.0 - e2) + h) * sl) / AU_KM
+        Vector3::new(
+            (n + h) * cl * lon.cos(),
+            (n + h) * cl * lon.sin(),
+            (n * (1.0 - e2) + h) * sl,
+        ) / AU_KM
     }
 
     /// Geocentric position (AU) and velocity (AU/day) of the site, ICRS axes, at a UTC MJD.
@@ -57,13 +61,22 @@ impl Site {
     /// Check the values, naming the key that is out of range.
     pub fn problem(&self) -> Option<String> {
         if !(-360.0..=360.0).contains(&self.longitude_deg) {
-            return Some(format!("site.longitude_deg: expected -360..360, found {}", self.longitude_deg));
+            return Some(format!(
+                "site.longitude_deg: expected -360..360, found {}",
+                self.longitude_deg
+            ));
         }
         if !(-90.0..=90.0).contains(&self.latitude_deg) {
-            return Some(format!("site.latitude_deg: expected -90..90, found {}", self.latitude_deg));
+            return Some(format!(
+                "site.latitude_deg: expected -90..90, found {}",
+                self.latitude_deg
+            ));
         }
         if !(-500.0..=10000.0).contains(&self.elevation_m) {
-            return Some(format!("site.elevation_m: expected -500..10000 m, found {}", self.elevation_m));
+            return Some(format!(
+                "site.elevation_m: expected -500..10000 m, found {}",
+                self.elevation_m
+            ));
         }
         None
     }
@@ -114,9 +127,17 @@ mod tests {
 
     #[test]
     fn equator_site_radius() {
-        let s = Site { longitude_deg: 0.0, latitude_deg: 0.0, elevation_m: 0.0 };
+        let s = Site {
+            longitude_deg: 0.0,
+            latitude_deg: 0.0,
+            elevation_m: 0.0,
+        };
         assert!((s.terrestrial_au().norm() * AU_KM - WGS84_A_KM).abs() < 1e-6);
-        let p = Site { longitude_deg: 0.0, latitude_deg: 90.0, elevation_m: 0.0 };
+        let p = Site {
+            longitude_deg: 0.0,
+            latitude_deg: 90.0,
+            elevation_m: 0.0,
+        };
         // Polar radius b = a (1 − f) = 6356.752 km.
         assert!((p.terrestrial_au().norm() * AU_KM - 6356.752314).abs() < 1e-3);
     }

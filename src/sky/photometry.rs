@@ -22,7 +22,9 @@ pub enum PhaseLaw {
 
 impl Default for PhaseLaw {
     fn default() -> Self {
-        PhaseLaw::Linear { beta_mag_per_deg: DEFAULT_BETA_MAG_PER_DEG }
+        PhaseLaw::Linear {
+            beta_mag_per_deg: DEFAULT_BETA_MAG_PER_DEG,
+        }
     }
 }
 
