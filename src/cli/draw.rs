@@ -64,7 +64,9 @@ fn draw(a: &Args, pop: &Population, shard: Option<(u64, u64)>, prov: Provenance,
         .count
         .ok_or_else(|| Error::input("--count: expected the number of objects to draw"))?;
     let ids = shard.map_or(0..count as i64, |(k, n)| shard_range(count, k, n));
-    let pilot = pop.pilot(a.seed)?;
+    let pilot = pop
+        .pilot(a.seed)
+        .map_err(|e| Error::input(format!("{}: {e}", a.spec.display())))?;
     let mut sink = TableSink::create(&a.out, prov)?.with_metadata("seine.population_spec", text);
     let (objects, attempts) = pop.draw_into(a.seed, ids, &mut sink)?;
     sink.finish()?;

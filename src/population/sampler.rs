@@ -29,8 +29,8 @@ const PILOT_ATTEMPTS: u64 = 20_000_000;
 const MAX_ATTEMPTS: u64 = 1_000_000_000;
 
 /// The constraints every object obeys, before the spec's own: names used in messages.
-const BOUND_KEY: &str = "orbit (a bound orbit: 0 ≤ e < 1, q > 0)";
-const INC_KEY: &str = "orbit.inc_deg (0 ≤ inc_deg ≤ 180)";
+const BOUND_KEY: &str = "orbit";
+const INC_KEY: &str = "orbit.inc_deg";
 
 /// A shard K of N (K from 0): a contiguous block of the ids, so the shards are disjoint
 /// and their union is the whole.
@@ -301,16 +301,16 @@ impl Population {
         let acceptance = accepted as f64 / attempts as f64;
         if acceptance < MIN_ACCEPTANCE {
             let worst = (0..checks).max_by_key(|&i| fails[i]).unwrap_or(0);
-            let key = match worst {
-                0 => BOUND_KEY.to_string(),
-                1 => INC_KEY.to_string(),
+            let (key, rule) = match worst {
+                0 => (BOUND_KEY, "a bound orbit: 0 ≤ e < 1, q > 0".to_string()),
+                1 => (INC_KEY, "0 ≤ inc_deg ≤ 180".to_string()),
                 i => {
                     let c = &self.constraints[i - 2];
-                    format!("{} = [{}, {}]", c.key, c.lo, c.hi)
+                    (c.key, format!("[{}, {}]", c.lo, c.hi))
                 }
             };
             return Err(Error::input(format!(
-                "acceptance {accepted}/{attempts} is below {MIN_ACCEPTANCE:e}: `{key}` rejected {:.4}% of the draws; \
+                "key `{key}` ({rule}): acceptance {accepted}/{attempts} is below {MIN_ACCEPTANCE:e}; it rejected {:.4}% of the draws; \
                  widen it or change the orbit distributions",
                 100.0 * fails[worst] as f64 / attempts as f64
             )));
