@@ -7,6 +7,7 @@ pub mod engine;
 pub mod error;
 pub mod io;
 pub mod orbit;
+pub mod population;
 pub mod rng;
 pub mod sky;
 pub mod survey;

@@ -6,6 +6,7 @@ use seine::Result;
 
 mod common;
 mod demo;
+mod draw;
 mod ephemeris;
 mod observe;
 mod plan;
@@ -32,6 +33,8 @@ pub enum Command {
     Observe(observe::Args),
     /// Cadence plan → visits table, matching survey spec and coverage report (greedy scheduler).
     Plan(plan::Args),
+    /// Draw a synthetic population from a spec (or clone simulation particles) into an objects table.
+    Draw(draw::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -40,6 +43,7 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Draw(a) => draw::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
     }

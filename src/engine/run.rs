@@ -14,7 +14,8 @@ use super::summary::Summary;
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::io::provenance::Provenance;
-use crate::io::table::{Format, TableWriter, write_atomic};
+use crate::io::sink::TableSink;
+use crate::io::table::{Format, write_atomic};
 use crate::rng::{Purpose, object_stream};
 
 /// Options of one observe run.
@@ -79,8 +80,8 @@ pub fn observe(
             out_dir.display()
         ))
     })?;
-    let mut obj_w = TableWriter::new(&objects_path, provenance)?;
-    let mut det_w = TableWriter::new(&detections_path, provenance)?;
+    let mut obj_w = TableSink::create(&objects_path, provenance.clone())?;
+    let mut det_w = TableSink::create(&detections_path, provenance.clone())?;
     let (lo, hi) = shard_range(objects.len(), opts.shard);
     let mut summary = Summary::new(surveys);
     let bar = super::summary::progress_bar(hi - lo, opts.progress);
@@ -105,8 +106,13 @@ pub fn observe(
     if let Some(b) = bar {
         b.finish_and_clear();
     }
-    obj_w.finish(&objects_frame(objects, lo, &[], surveys)?)?;
-    det_w.finish(&detections_frame(objects, lo, &[], surveys)?)?;
+    if lo == hi {
+        // An empty shard still writes tables with the full schema.
+        obj_w.write(&objects_frame(objects, lo, &[], surveys)?)?;
+        det_w.write(&detections_frame(objects, lo, &[], surveys)?)?;
+    }
+    obj_w.finish()?;
+    det_w.finish()?;
     summary.finish(start.elapsed().as_secs_f64());
     write_atomic(&summary_path, summary.to_json().as_bytes())?;
     Ok(ObserveReport {

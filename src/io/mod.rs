@@ -3,6 +3,7 @@
 
 pub mod objects;
 pub mod provenance;
+pub mod sink;
 pub mod table;
 
 pub use provenance::Provenance;

@@ -145,7 +145,7 @@ pub fn sidecar_path(path: &Path) -> PathBuf {
     PathBuf::from(s)
 }
 
-fn temporary_name(path: &Path) -> PathBuf {
+pub fn temporary_name(path: &Path) -> PathBuf {
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
@@ -289,87 +289,4 @@ pub fn frame_f64(columns: Vec<(&str, Vec<f64>)>) -> DataFrame {
     let height = columns.first().map_or(0, |c| c.1.len());
     let cols = columns.into_iter().map(|(n, v)| Column::new(n.into(), v)).collect();
     DataFrame::new(height, cols).expect("columns of one length")
-}
-
-/// A table written chunk by chunk (memory bounded by one chunk), under a temporary name
-/// until `finish` renames it into place; dropped unfinished, it removes its temporary file.
-pub struct TableWriter {
-    path: PathBuf,
-    tmp: PathBuf,
-    provenance: Provenance,
-    inner: Option<ChunkSink>,
-}
-
-enum ChunkSink {
-    Parquet(polars::io::parquet::write::BatchedWriter<File>),
-    Csv(polars::io::csv::write::BatchedWriter<File>),
-}
-
-impl TableWriter {
-    pub fn new(path: &Path, provenance: &Provenance) -> Result<Self> {
-        Format::of(path)?;
-        if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-            std::fs::create_dir_all(parent)
-                .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
-        }
-        Ok(TableWriter {
-            path: path.to_path_buf(),
-            tmp: temporary_name(path),
-            provenance: provenance.clone(),
-            inner: None,
-        })
-    }
-
-    /// Append a chunk (the first chunk fixes the schema).
-    pub fn write(&mut self, df: &DataFrame) -> Result<()> {
-        if self.inner.is_none() {
-            let f = File::create(&self.tmp)
-                .map_err(|e| Error::input(format!("{}: cannot write here: {e}", self.path.display())))?;
-            let schema = df.schema();
-            let sink = match Format::of(&self.path)? {
-                Format::Parquet => ChunkSink::Parquet(
-                    ParquetWriter::new(f)
-                        .with_key_value_metadata(Some(KeyValueMetadata::from_static(self.provenance.key_values())))
-                        .batched(schema)
-                        .map_err(|e| io_at(&self.path, e))?,
-                ),
-                Format::Csv => ChunkSink::Csv(
-                    CsvWriter::new(f)
-                        .include_header(true)
-                        .batched(schema)
-                        .map_err(|e| io_at(&self.path, e))?,
-                ),
-            };
-            self.inner = Some(sink);
-        }
-        match self.inner.as_mut().expect("sink") {
-            ChunkSink::Parquet(w) => w.write_batch(df),
-            ChunkSink::Csv(w) => w.write_batch(df),
-        }
-        .map_err(|e| io_at(&self.path, e))
-    }
-
-    /// Close the table and move it into place.
-    pub fn finish(mut self, empty_schema: &DataFrame) -> Result<()> {
-        if self.inner.is_none() {
-            self.write(empty_schema)?;
-        }
-        match self.inner.take().expect("sink") {
-            ChunkSink::Parquet(w) => w.finish().map(|_| ()),
-            ChunkSink::Csv(mut w) => w.finish(),
-        }
-        .map_err(|e| io_at(&self.path, e))?;
-        if Format::of(&self.path)? == Format::Csv {
-            write_atomic(&sidecar_path(&self.path), self.provenance.to_json().as_bytes())?;
-        }
-        std::fs::rename(&self.tmp, &self.path).map_err(|e| io_at(&self.path, e))
-    }
-}
-
-impl Drop for TableWriter {
-    fn drop(&mut self) {
-        if self.inner.is_some() {
-            let _ = std::fs::remove_file(&self.tmp);
-        }
-    }
 }

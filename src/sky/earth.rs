@@ -166,7 +166,12 @@ impl EphemerisGrid {
         }
         let (ep, ev) = self.earth.at(tdb_mjd);
         let (sp, sv) = self.sun.at(tdb_mjd);
-        EarthSun { earth_helio: ep, earth_helio_vel: ev, sun_bary: sp, sun_bary_vel: sv }
+        EarthSun {
+            earth_helio: ep,
+            earth_helio_vel: ev,
+            sun_bary: sp,
+            sun_bary_vel: sv,
+        }
     }
 }
 

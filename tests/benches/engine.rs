@@ -11,10 +11,10 @@ use std::time::Instant;
 
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
-use seine::engine::{observe, ObserveOptions, PreparedSurvey};
+use seine::engine::{ObserveOptions, PreparedSurvey, observe};
+use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
 use seine::io::table::frame_f64;
-use seine::io::Provenance;
 use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::{ecliptic_to_radec, icrs_to_ecliptic, lon_lat};
 use seine::survey::Survey;
@@ -36,7 +36,12 @@ fn survey(dir: &Path, n_visits: usize) -> Survey {
             let lat = (((f / 20) as f64) * 1.7 - 10.0 + rng.random::<f64>()).to_radians();
             let (ra, dec) = ecliptic_to_radec(lon, lat);
             for rep in 0..3 {
-                csv.push_str(&format!("{id},{},{},{},r,24.5\n", t0 + 0.04 * rep as f64 + 0.001 * f as f64, ra.to_degrees(), dec.to_degrees()));
+                csv.push_str(&format!(
+                    "{id},{},{},{},r,24.5\n",
+                    t0 + 0.04 * rep as f64 + 0.001 * f as f64,
+                    ra.to_degrees(),
+                    dec.to_degrees()
+                ));
                 id += 1;
             }
         }
@@ -53,18 +58,45 @@ fn objects(n: usize) -> ObjectTable {
     for i in 0..n {
         let a = 30.0 * (1000f64 / 30.0).powf(rng.random::<f64>());
         let e = rng.random::<f64>() * (1.0 - 30.0 / a);
-        let row = [i as f64, a, e, 40.0 * rng.random::<f64>(), 360.0 * rng.random::<f64>(), 360.0 * rng.random::<f64>(), 360.0 * rng.random::<f64>(), 61000.0, 4.0 + 6.0 * rng.random::<f64>()];
+        let row = [
+            i as f64,
+            a,
+            e,
+            40.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            61000.0,
+            4.0 + 6.0 * rng.random::<f64>(),
+        ];
         for (col, v) in c.iter_mut().zip(row) {
             col.push(v);
         }
     }
-    let names = ["id", "a_au", "e", "inc_deg", "node_deg", "argperi_deg", "mean_anomaly_deg", "epoch_mjd", "h_mag"];
-    ObjectTable::from_frame(frame_f64(names.iter().zip(c).map(|(n, v)| (*n, v)).collect()), Path::new("bench")).unwrap()
+    let names = [
+        "id",
+        "a_au",
+        "e",
+        "inc_deg",
+        "node_deg",
+        "argperi_deg",
+        "mean_anomaly_deg",
+        "epoch_mjd",
+        "h_mag",
+    ];
+    ObjectTable::from_frame(
+        frame_f64(names.iter().zip(c).map(|(n, v)| (*n, v)).collect()),
+        Path::new("bench"),
+    )
+    .unwrap()
 }
 
 fn main() {
     let args: Vec<usize> = std::env::args().skip(1).filter_map(|a| a.parse().ok()).collect();
-    let (n_obj, n_vis) = (args.first().copied().unwrap_or(100_000), args.get(1).copied().unwrap_or(100_000));
+    let (n_obj, n_vis) = (
+        args.first().copied().unwrap_or(100_000),
+        args.get(1).copied().unwrap_or(100_000),
+    );
     let dir = tempfile::tempdir().unwrap();
     let t = Instant::now();
     let s = survey(dir.path(), n_vis);
@@ -75,7 +107,14 @@ fn main() {
     println!("generated the visits in {gen_s:.2} s");
     let objs = objects(n_obj);
     let t = Instant::now();
-    let report = observe(&prepared, &objs, &dir.path().join("out"), &ObserveOptions::default(), &Provenance::current()).unwrap();
+    let report = observe(
+        &prepared,
+        &objs,
+        &dir.path().join("out"),
+        &ObserveOptions::default(),
+        &Provenance::current(),
+    )
+    .unwrap();
     let run_s = t.elapsed().as_secs_f64();
     let s = &report.summary;
     println!(

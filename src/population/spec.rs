@@ -1,0 +1,536 @@
+//! The population spec (TOML): one distribution per element plus constraints, importance
+//! proposals, or an `[import]` of simulation particles to clone. Parsing gives errors with
+//! the file, line, column and key path; `resolve` checks the meaning (one parametrization,
+//! valid parameters) and names the key path of anything wrong. Keys: configuration.md.
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+
+use super::distribution::Distribution;
+use crate::error::{Error, Result};
+use crate::orbit::Center;
+
+/// The spec file as written.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SpecFile {
+    pub population: Option<PopulationSection>,
+    pub orbit: Option<OrbitSection>,
+    pub photometry: Option<PhotometrySection>,
+    #[serde(default)]
+    pub constraints: ConstraintSection,
+    #[serde(default)]
+    pub importance: ImportanceSection,
+    pub import: Option<ImportSection>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PopulationSection {
+    pub name: Option<String>,
+    /// Epoch of the elements, TDB MJD (required unless the spec imports a table).
+    pub epoch_mjd: Option<f64>,
+    #[serde(default)]
+    pub frame: Center,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OrbitSection {
+    pub a_au: Option<Distribution>,
+    pub e: Option<Distribution>,
+    pub q_au: Option<Distribution>,
+    pub inc_deg: Option<Distribution>,
+    pub node_deg: Option<Distribution>,
+    pub argperi_deg: Option<Distribution>,
+    pub varpi_deg: Option<Distribution>,
+    pub mean_anomaly_deg: Option<Distribution>,
+    pub perihelion_mjd: Option<Distribution>,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PhotometrySection {
+    pub h_mag: Option<Distribution>,
+    pub beta_mag_per_deg: Option<Distribution>,
+    pub hg_g: Option<Distribution>,
+    pub lc_amp_mag: Option<Distribution>,
+    pub lc_period_hr: Option<Distribution>,
+    /// Colour (band minus reference band) per band name, written as `color_<band>`.
+    #[serde(default)]
+    pub color: BTreeMap<String, Distribution>,
+}
+
+/// Ranges [lo, hi] kept by rejection.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ConstraintSection {
+    pub a_au: Option<[f64; 2]>,
+    pub e: Option<[f64; 2]>,
+    pub q_au: Option<[f64; 2]>,
+    #[serde(alias = "Q_au")]
+    pub aphelion_au: Option<[f64; 2]>,
+    pub inc_deg: Option<[f64; 2]>,
+}
+
+/// Proposal distributions; the objects get `weight` = target pdf / proposal pdf.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImportanceSection {
+    pub mean_anomaly_deg: Option<Distribution>,
+    pub h_mag: Option<Distribution>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ImportSection {
+    /// Objects table to clone, relative to the spec's own file.
+    pub objects: PathBuf,
+    /// Clones per particle (K ≥ 1).
+    pub clones: u64,
+    /// A fresh H for each clone from this distribution (else the particle's own).
+    pub h_mag: Option<Distribution>,
+    /// Rotate the node of each clone by a uniform random angle.
+    #[serde(default)]
+    pub rotate_node: bool,
+}
+
+/// How the orbit's size and shape are drawn.
+#[derive(Debug, Clone)]
+pub enum Shape {
+    AE(Distribution, Distribution),
+    AQ(Distribution, Distribution),
+    QE(Distribution, Distribution),
+}
+
+/// How the orientation angles are drawn (ω derived from ϖ − Ω in the second form).
+#[derive(Debug, Clone)]
+pub enum Angles {
+    NodeArgperi(Distribution, Distribution),
+    VarpiNode(Distribution, Distribution),
+}
+
+/// Where on the orbit: mean anomaly, or the time of perihelion passage (TDB MJD).
+#[derive(Debug, Clone)]
+pub enum Anomaly {
+    Mean(Distribution),
+    PerihelionTime(Distribution),
+}
+
+#[derive(Debug, Clone)]
+pub enum Phase {
+    Beta(Distribution),
+    G(Distribution),
+}
+
+/// A rejection range on one derived quantity, with the key path it came from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Constraint {
+    pub key: &'static str,
+    pub quantity: Quantity,
+    pub lo: f64,
+    pub hi: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Quantity {
+    A,
+    E,
+    Q,
+    Aphelion,
+    Inc,
+}
+
+/// A drawn population, checked and ready for the sampler.
+#[derive(Debug, Clone)]
+pub struct Population {
+    pub name: String,
+    pub epoch_mjd: f64,
+    pub center: Center,
+    pub shape: Shape,
+    pub inc: Distribution,
+    pub angles: Angles,
+    pub anomaly: Anomaly,
+    pub h: Distribution,
+    pub phase: Phase,
+    pub colors: Vec<(String, Distribution)>,
+    pub lc_amp: Distribution,
+    pub lc_period_hr: Distribution,
+    pub constraints: Vec<Constraint>,
+    pub proposal_m: Option<Distribution>,
+    pub proposal_h: Option<Distribution>,
+}
+
+/// A clone request: the particles' table (resolved against the spec's folder) and options.
+#[derive(Debug, Clone)]
+pub struct CloneSpec {
+    pub objects: PathBuf,
+    pub clones: u64,
+    pub h: Option<Distribution>,
+    pub rotate_node: bool,
+}
+
+/// What a spec asks for.
+#[derive(Debug, Clone)]
+pub enum Spec {
+    Draw(Box<Population>),
+    Clone(CloneSpec),
+}
+
+/// Default linear phase slope, mag/deg (DESIGN contract).
+const DEFAULT_BETA: f64 = 0.14;
+
+impl Spec {
+    /// Read and check a spec file.
+    pub fn read(path: &Path) -> Result<Spec> {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| Error::input(format!("{}: cannot read the population spec: {e}", path.display())))?;
+        Self::parse(&text, path)
+    }
+
+    /// Parse and check spec text; `path` names the file in messages and anchors `[import]`.
+    pub fn parse(text: &str, path: &Path) -> Result<Spec> {
+        let file: SpecFile = toml::from_str(text).map_err(|e| toml_error(path, text, e))?;
+        file.resolve(path)
+    }
+}
+
+/// One message from a toml error: file, line and column, key path, what was expected, and
+/// for an unknown key the nearest valid one.
+fn toml_error(path: &Path, text: &str, e: toml::de::Error) -> Error {
+    let mut bare = e.clone();
+    bare.set_input(None);
+    let shown = bare.to_string();
+    let mut lines = shown.lines();
+    let message = lines.next().unwrap_or("").to_string();
+    let keys = lines
+        .find_map(|l| l.strip_prefix("in `").and_then(|k| k.strip_suffix('`')))
+        .map(str::to_string);
+    let at = e
+        .span()
+        .map(|s| line_column(text, s.start))
+        .map(|(l, c)| format!(" line {l}, column {c}"))
+        .unwrap_or_default();
+    let key = keys.map(|k| format!(", key `{k}`")).unwrap_or_default();
+    let hint = nearest_key_hint(&message);
+    Error::input(format!("{}:{at}{key}: {message}{hint}", path.display()))
+}
+
+fn line_column(text: &str, offset: usize) -> (usize, usize) {
+    let before = &text[..offset.min(text.len())];
+    let line = before.matches('\n').count() + 1;
+    let column = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+    (line, column)
+}
+
+/// "unknown field `x`, expected one of `a`, `b`" → "; did you mean `a`?" when one is close.
+fn nearest_key_hint(message: &str) -> String {
+    if !(message.starts_with("unknown field") || message.starts_with("unknown variant")) {
+        return String::new();
+    }
+    let quoted: Vec<&str> = message.split('`').skip(1).step_by(2).collect();
+    let Some((found, options)) = quoted.split_first() else {
+        return String::new();
+    };
+    let best = options.iter().map(|o| (edit_distance(found, o), *o)).min();
+    match best {
+        Some((d, o)) if d <= 2.max(found.len() / 3) => format!("; did you mean `{o}`?"),
+        _ => String::new(),
+    }
+}
+
+/// Levenshtein distance (small strings only).
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut prev = row[0];
+        row[0] = i + 1;
+        for j in 0..b.len() {
+            let cur = row[j + 1];
+            row[j + 1] = (prev + (ca != b[j]) as usize).min(row[j] + 1).min(cur + 1);
+            prev = cur;
+        }
+    }
+    row[b.len()]
+}
+
+/// An error about the key `key` of the spec at `path`.
+fn key_error(path: &Path, key: &str, what: impl std::fmt::Display) -> Error {
+    Error::input(format!("{}: key `{key}`: {what}", path.display()))
+}
+
+/// A distribution checked for valid parameters, or the error naming its key path.
+fn checked(path: &Path, key: &str, d: Option<Distribution>) -> Result<Option<Distribution>> {
+    if let Some(p) = d.as_ref().and_then(Distribution::problem) {
+        return Err(key_error(path, key, p));
+    }
+    Ok(d)
+}
+
+fn required(path: &Path, key: &str, d: Option<Distribution>) -> Result<Distribution> {
+    checked(path, key, d)?.ok_or_else(|| {
+        key_error(
+            path,
+            key,
+            "missing: expected a distribution, e.g. { dist = \"uniform\", lo = 0, hi = 1 }",
+        )
+    })
+}
+
+fn uniform_angle() -> Distribution {
+    Distribution::Uniform { lo: 0.0, hi: 360.0 }
+}
+
+impl SpecFile {
+    fn resolve(self, path: &Path) -> Result<Spec> {
+        if let Some(import) = self.import {
+            if self.orbit.is_some() || self.photometry.is_some() {
+                return Err(key_error(
+                    path,
+                    "import",
+                    "a spec with [import] clones a table: remove [orbit] and [photometry]",
+                ));
+            }
+            if import.clones == 0 {
+                return Err(key_error(
+                    path,
+                    "import.clones",
+                    "0: expected at least 1 clone per particle",
+                ));
+            }
+            let h = checked(path, "import.h_mag", import.h_mag)?;
+            let base = path.parent().unwrap_or(Path::new(""));
+            return Ok(Spec::Clone(CloneSpec {
+                objects: base.join(import.objects),
+                clones: import.clones,
+                h,
+                rotate_node: import.rotate_node,
+            }));
+        }
+        let pop = self.population.ok_or_else(|| {
+            key_error(
+                path,
+                "population",
+                "missing: expected a [population] table with epoch_mjd",
+            )
+        })?;
+        let epoch_mjd = pop.epoch_mjd.filter(|x| x.is_finite()).ok_or_else(|| {
+            key_error(
+                path,
+                "population.epoch_mjd",
+                "missing: expected the epoch of the elements as a TDB MJD",
+            )
+        })?;
+        let orbit = self
+            .orbit
+            .ok_or_else(|| key_error(path, "orbit", "missing: expected an [orbit] table"))?;
+        let phot = self.photometry.unwrap_or_default();
+        let shape = resolve_shape(path, &orbit)?;
+        let inc = required(path, "orbit.inc_deg", orbit.inc_deg)?;
+        let angles = resolve_angles(path, orbit.node_deg, orbit.argperi_deg, orbit.varpi_deg)?;
+        let anomaly = match (orbit.mean_anomaly_deg, orbit.perihelion_mjd) {
+            (Some(_), Some(_)) => {
+                return Err(key_error(
+                    path,
+                    "orbit",
+                    "give mean_anomaly_deg or perihelion_mjd, not both",
+                ));
+            }
+            (None, Some(t)) => Anomaly::PerihelionTime(required(path, "orbit.perihelion_mjd", Some(t))?),
+            (m, None) => Anomaly::Mean(checked(path, "orbit.mean_anomaly_deg", m)?.unwrap_or_else(uniform_angle)),
+        };
+        let h = required(path, "photometry.h_mag", phot.h_mag)?;
+        let phase = match (phot.beta_mag_per_deg, phot.hg_g) {
+            (Some(_), Some(_)) => return Err(key_error(path, "photometry", "give beta_mag_per_deg or hg_g, not both")),
+            (None, Some(g)) => Phase::G(required(path, "photometry.hg_g", Some(g))?),
+            (b, None) => Phase::Beta(
+                checked(path, "photometry.beta_mag_per_deg", b)?.unwrap_or(Distribution::Fixed { value: DEFAULT_BETA }),
+            ),
+        };
+        let mut colors = Vec::new();
+        for (band, d) in phot.color {
+            colors.push((
+                band.clone(),
+                required(path, &format!("photometry.color.{band}"), Some(d))?,
+            ));
+        }
+        let zero = Distribution::Fixed { value: 0.0 };
+        let lc_amp = checked(path, "photometry.lc_amp_mag", phot.lc_amp_mag)?.unwrap_or(zero.clone());
+        let lc_period_hr = checked(path, "photometry.lc_period_hr", phot.lc_period_hr)?.unwrap_or(zero);
+        let constraints = resolve_constraints(path, &self.constraints)?;
+        let proposal_m = checked(path, "importance.mean_anomaly_deg", self.importance.mean_anomaly_deg)?;
+        let proposal_h = checked(path, "importance.h_mag", self.importance.h_mag)?;
+        let population = Population {
+            name: pop.name.unwrap_or_else(|| "population".into()),
+            epoch_mjd,
+            center: pop.frame,
+            shape,
+            inc,
+            angles,
+            anomaly,
+            h,
+            phase,
+            colors,
+            lc_amp,
+            lc_period_hr,
+            constraints,
+            proposal_m,
+            proposal_h,
+        };
+        check_importance(path, &population)?;
+        check_constraint_supports(path, &population)?;
+        Ok(Spec::Draw(Box::new(population)))
+    }
+}
+
+/// Exactly two of a, e, q.
+fn resolve_shape(path: &Path, o: &OrbitSection) -> Result<Shape> {
+    let a = checked(path, "orbit.a_au", o.a_au.clone())?;
+    let e = checked(path, "orbit.e", o.e.clone())?;
+    let q = checked(path, "orbit.q_au", o.q_au.clone())?;
+    match (a, e, q) {
+        (Some(a), Some(e), None) => Ok(Shape::AE(a, e)),
+        (Some(a), None, Some(q)) => Ok(Shape::AQ(a, q)),
+        (None, Some(e), Some(q)) => Ok(Shape::QE(q, e)),
+        (a, e, q) => {
+            let given: Vec<&str> = [("a_au", a.is_some()), ("e", e.is_some()), ("q_au", q.is_some())]
+                .iter()
+                .filter(|x| x.1)
+                .map(|x| x.0)
+                .collect();
+            Err(key_error(
+                path,
+                "orbit",
+                format!("expected exactly two of a_au, e, q_au; found [{}]", given.join(", ")),
+            ))
+        }
+    }
+}
+
+/// (Ω, ω) or (ϖ, Ω); missing angles are uniform on [0, 360).
+fn resolve_angles(
+    path: &Path,
+    node: Option<Distribution>,
+    argperi: Option<Distribution>,
+    varpi: Option<Distribution>,
+) -> Result<Angles> {
+    let node = checked(path, "orbit.node_deg", node)?.unwrap_or_else(uniform_angle);
+    match (argperi, varpi) {
+        (Some(_), Some(_)) => Err(key_error(
+            path,
+            "orbit",
+            "give argperi_deg or varpi_deg (ω is then ϖ − Ω), not both",
+        )),
+        (None, Some(v)) => Ok(Angles::VarpiNode(required(path, "orbit.varpi_deg", Some(v))?, node)),
+        (w, None) => Ok(Angles::NodeArgperi(
+            node,
+            checked(path, "orbit.argperi_deg", w)?.unwrap_or_else(uniform_angle),
+        )),
+    }
+}
+
+fn resolve_constraints(path: &Path, c: &ConstraintSection) -> Result<Vec<Constraint>> {
+    let all = [
+        ("constraints.a_au", Quantity::A, c.a_au),
+        ("constraints.e", Quantity::E, c.e),
+        ("constraints.q_au", Quantity::Q, c.q_au),
+        ("constraints.aphelion_au", Quantity::Aphelion, c.aphelion_au),
+        ("constraints.inc_deg", Quantity::Inc, c.inc_deg),
+    ];
+    let mut out = Vec::new();
+    for (key, quantity, range) in all {
+        let Some([lo, hi]) = range else { continue };
+        if !(lo.is_finite() && hi.is_finite() && lo <= hi) {
+            return Err(key_error(
+                path,
+                key,
+                format!("[{lo}, {hi}]: expected [lo, hi] with lo ≤ hi"),
+            ));
+        }
+        out.push(Constraint { key, quantity, lo, hi });
+    }
+    Ok(out)
+}
+
+/// A proposal must cover the target's support and the target must have a density.
+fn check_importance(path: &Path, p: &Population) -> Result<()> {
+    if let Some(prop) = &p.proposal_m {
+        let Anomaly::Mean(target) = &p.anomaly else {
+            return Err(key_error(
+                path,
+                "importance.mean_anomaly_deg",
+                "needs orbit.mean_anomaly_deg, not perihelion_mjd",
+            ));
+        };
+        covers(path, "importance.mean_anomaly_deg", prop, target)?;
+    }
+    if let Some(prop) = &p.proposal_h {
+        covers(path, "importance.h_mag", prop, &p.h)?;
+    }
+    Ok(())
+}
+
+fn covers(path: &Path, key: &str, proposal: &Distribution, target: &Distribution) -> Result<()> {
+    let (plo, phi) = proposal.support();
+    let (tlo, thi) = target.support();
+    let below = match (plo, tlo) {
+        (Some(p), Some(t)) => p <= t,
+        (Some(_), None) => false,
+        (None, _) => true,
+    };
+    let above = match (phi, thi) {
+        (Some(p), Some(t)) => p >= t,
+        (Some(_), None) => false,
+        (None, _) => true,
+    };
+    if target.pdf(tlo.unwrap_or(0.0)).is_none() || proposal.pdf(plo.unwrap_or(0.0)).is_none() {
+        return Err(key_error(
+            path,
+            key,
+            "importance sampling needs target and proposal with densities (not fixed or values)",
+        ));
+    }
+    if !(below && above) {
+        return Err(key_error(
+            path,
+            key,
+            format!("proposal support {plo:?}..{phi:?} must cover the target's {tlo:?}..{thi:?}"),
+        ));
+    }
+    Ok(())
+}
+
+/// A constraint on a directly drawn quantity that its distribution can never meet fails at once.
+fn check_constraint_supports(path: &Path, p: &Population) -> Result<()> {
+    let (a, e, q) = match &p.shape {
+        Shape::AE(a, e) => (Some(a), Some(e), None),
+        Shape::AQ(a, q) => (Some(a), None, Some(q)),
+        Shape::QE(q, e) => (None, Some(e), Some(q)),
+    };
+    for c in &p.constraints {
+        let d = match c.quantity {
+            Quantity::A => a,
+            Quantity::E => e,
+            Quantity::Q => q,
+            Quantity::Inc => Some(&p.inc),
+            Quantity::Aphelion => None,
+        };
+        let Some((lo, hi)) = d.map(Distribution::support) else {
+            continue;
+        };
+        if lo.is_some_and(|l| l > c.hi) || hi.is_some_and(|h| h < c.lo) {
+            return Err(key_error(
+                path,
+                c.key,
+                format!(
+                    "[{}, {}] lies outside the drawn range {lo:?}..{hi:?}: no object can pass",
+                    c.lo, c.hi
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
