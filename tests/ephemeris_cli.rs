@@ -171,5 +171,5 @@ fn demo_prints_positions() {
     let o = seine(&["demo", "--out", dir.path().to_str().unwrap()]);
     assert!(o.status.success(), "{}", stderr(&o));
     let text = String::from_utf8_lossy(&o.stdout);
-    assert!(text.contains("Tamesis") && text.contains("RA (deg)"), "{text}");
+    assert!(text.contains("discovered") && text.contains("Cerro Seine"), "{text}");
 }

@@ -1,17 +1,26 @@
-//! `seine demo`: the whole job on a built-in invented example.
-//!
-//! For now it runs the ephemeris stage on an invented population seen from the fictional
-//! Cerro Seine Observatory; the later stages are listed as they land.
+//! `seine demo`: the whole job on a built-in invented example — the fictional Cerro Seine
+//! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, and
+//! the engine runs it through the survey. Later stages (detectability, bias maps, the
+//! clustering test, model comparison and the HTML report) are listed as they land.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+use std::time::Instant;
 
-use seine::Result;
+use seine::engine::{ObserveOptions, PreparedSurvey, observe};
 use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
-use seine::io::table::{frame_f64, write_table};
-use seine::sky::ephemeris::ephemeris_table;
-use seine::sky::observer::Site;
-use seine::time::TimeScale;
+use seine::io::table::write_atomic;
+use seine::population::spec::Spec;
+use seine::survey::Survey;
+use seine::survey::plan_io::{PlanOutputs, write_plan};
+use seine::survey::planner::{PlanFile, make_plan};
+use seine::survey::spec::parse_toml;
+use seine::{Error, Result};
+
+const PLAN: &str = include_str!("../../survey-configs/synoptic-plan.toml");
+const POPULATION: &str = include_str!("../../survey-configs/populations/scattered-disk.toml");
+const N_OBJECTS: i64 = 20_000;
+const SEED: u64 = 2027;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -20,74 +29,100 @@ pub struct Args {
     pub out: PathBuf,
 }
 
-/// The fictional Cerro Seine Observatory (invented coordinates).
-pub const DEMO_SITE: Site = Site {
-    longitude_deg: -70.45,
-    latitude_deg: -30.35,
-    elevation_m: 2450.0,
-};
-
 pub fn run(a: Args) -> Result<()> {
-    let t0 = std::time::Instant::now();
-    // An invented handful of distant objects: a resonant-like body, two scattered ones, a
-    // detached one (q = 76 AU, Q = 936 AU), and an invented distant planet, "Tamesis".
-    let names = ["sd-1", "sd-2", "res-1", "det-1", "Tamesis"];
-    let objects = frame_f64(vec![
-        ("id", vec![1.0, 2.0, 3.0, 4.0, 5.0]),
-        ("a_au", vec![67.0, 210.0, 39.4, 506.0, 480.0]),
-        ("e", vec![0.42, 0.78, 0.22, 860.0 / 1012.0, 0.25]),
-        ("inc_deg", vec![11.0, 26.0, 8.0, 11.9, 18.0]),
-        ("node_deg", vec![140.0, 75.0, 300.0, 144.0, 100.0]),
-        ("argperi_deg", vec![150.0, 330.0, 110.0, 311.0, 150.0]),
-        ("mean_anomaly_deg", vec![20.0, 5.0, 200.0, 358.0, 180.0]),
-        ("epoch_mjd", vec![61000.0; 5]),
-        ("h_mag", vec![6.5, 7.2, 7.8, 1.8, -4.5]),
-    ]);
-    let objects = ObjectTable::from_frame(objects, &a.out.join("objects.csv"))?;
-    let epochs: Vec<f64> = (0..12).map(|k| 61000.0 + 30.0 * k as f64).collect();
-    let mut df = ephemeris_table(&objects, &epochs, TimeScale::Utc, Some(&DEMO_SITE))?;
-    let out = a.out.join("ephemeris.csv");
-    write_table(&mut df, &out, &Provenance::current())?;
-    println!("seine demo — an invented example seen from the fictional Cerro Seine Observatory");
+    let t0 = Instant::now();
+    println!("seine demo — an invented scenario: the fictional Cerro Seine Observatory\n");
+    let spec_path = plan_survey(&a.out)?;
+    let survey = Survey::load(&spec_path)?;
     println!(
-        "(lon {:.2}°, lat {:.2}°, {} m)\n",
-        DEMO_SITE.longitude_deg, DEMO_SITE.latitude_deg, DEMO_SITE.elevation_m
+        "1. plan     {} visits on {} nights: {} (greedy scheduler, Sun below −15°, airmass ≤ 1.8)",
+        survey.visits.len(),
+        {
+            let mut n = survey.visits.night.clone();
+            n.dedup();
+            n.len()
+        },
+        survey.name
+    );
+    let objects = draw_population(&a.out)?;
+    println!(
+        "2. draw     {} objects of an invented isotropic scattered disk (seed {SEED})",
+        objects.len()
+    );
+    let prepared = vec![PreparedSurvey::new(survey)];
+    let opts = ObserveOptions {
+        seed: SEED,
+        ..Default::default()
+    };
+    let report = observe(
+        &prepared,
+        &objects,
+        &a.out.join("observe"),
+        &opts,
+        &Provenance::current().with_seed(SEED),
+    )?;
+    let s = &report.summary;
+    println!(
+        "3. observe  {} discovered ({:.2}%), {} tracked; {} in-field events, {:.2} candidates per event, {:.0} objects/s",
+        s.n_detected,
+        100.0 * s.detected_fraction,
+        s.n_tracked,
+        s.in_field_events,
+        s.candidates_per_in_field_event,
+        s.objects_per_second
+    );
+    print_fraction_by_q(s);
+    println!(
+        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json).",
+        a.out.display()
     );
     println!(
-        "{:<8} {:>11} {:>10} {:>9} {:>9} {:>7} {:>8}",
-        "object", "RA (deg)", "Dec (deg)", "r (AU)", "Δ (AU)", "mag", "″/hr"
-    );
-    let col = |n: &str| df.column(n).unwrap().f64().unwrap().clone();
-    let (ra, dec, r, d, m, rate) = (
-        col("ra_deg"),
-        col("dec_deg"),
-        col("r_au"),
-        col("delta_au"),
-        col("mag"),
-        col("rate_arcsec_per_hr"),
-    );
-    for (i, name) in names.iter().enumerate() {
-        let k = i * epochs.len();
-        println!(
-            "{:<8} {:>11.5} {:>10.5} {:>9.2} {:>9.2} {:>7.2} {:>8.3}",
-            name,
-            ra.get(k).unwrap(),
-            dec.get(k).unwrap(),
-            r.get(k).unwrap(),
-            d.get(k).unwrap(),
-            m.get(k).unwrap(),
-            rate.get(k).unwrap()
-        );
-    }
-    println!(
-        "\nPositions at MJD {} (UTC); {} epochs each written to {}",
-        epochs[0],
-        epochs.len(),
-        out.display()
-    );
-    println!(
-        "Still to come in the demo: plan a survey, draw a population, observe it, and test clustering for survey bias."
+        "Still to come in the demo: detectability, bias maps, the bias-aware clustering test and model comparison, with an HTML report."
     );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());
     Ok(())
+}
+
+/// Write the embedded plan and run the planner; returns the survey spec's path.
+fn plan_survey(out: &Path) -> Result<PathBuf> {
+    let plan_path = out.join("plan.toml");
+    write_atomic(&plan_path, PLAN.as_bytes())?;
+    let file: PlanFile = parse_toml(PLAN, &plan_path)?;
+    let plan = make_plan(file).map_err(|e| Error::input(format!("built-in plan: {e}")))?;
+    let outputs = PlanOutputs::for_visits(&out.join("visits.csv"));
+    write_plan(&plan, &plan_path, &outputs)?;
+    Ok(outputs.spec)
+}
+
+/// Draw the embedded population and write it as `objects.parquet`.
+fn draw_population(out: &Path) -> Result<ObjectTable> {
+    let path = out.join("population.toml");
+    write_atomic(&path, POPULATION.as_bytes())?;
+    let Spec::Draw(pop) = Spec::parse(POPULATION, &path)? else {
+        return Err(Error::input("built-in population: expected a drawing spec"));
+    };
+    let mut df = pop.frame(pop.draw_ids(SEED, 0..N_OBJECTS)?);
+    let objects_path = out.join("objects.parquet");
+    seine::io::table::write_table(&mut df, &objects_path, &Provenance::current().with_seed(SEED))?;
+    ObjectTable::from_frame(df, &objects_path)
+}
+
+/// The discovered fraction in bins of perihelion distance, as a small text table.
+fn print_fraction_by_q(s: &seine::engine::summary::Summary) {
+    let Some(q) = s.bins.iter().find(|b| b.quantity == "q_au") else {
+        return;
+    };
+    println!("\n   q (AU)        objects  discovered  fraction");
+    for k in 0..q.n.len() {
+        if q.n[k] > 0 {
+            println!(
+                "   {:>5.0}–{:<5.0}   {:>8}  {:>10}  {:>7.2}%",
+                q.edges[k],
+                q.edges[k + 1],
+                q.n[k],
+                q.detected[k],
+                100.0 * q.detected[k] as f64 / q.n[k] as f64
+            );
+        }
+    }
 }
