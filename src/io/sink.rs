@@ -78,7 +78,10 @@ impl TableSink {
             .map_err(|e| Error::input(format!("{}: cannot write here: {e}", self.path.display())))?;
         let w = match self.format {
             Format::Csv => CsvWriter::new(f).include_header(true).batched(schema).map(Writer::Csv),
+            // LZ4 (raw): random doubles hardly compress, and zstd (the polars default)
+            // costs more time than the draw itself.
             Format::Parquet => ParquetWriter::new(f)
+                .with_compression(ParquetCompression::Lz4Raw)
                 .with_key_value_metadata(Some(KeyValueMetadata::from_static(self.key_values())))
                 .batched(schema)
                 .map(Writer::Parquet),

@@ -8,6 +8,8 @@ use std::f64::consts::{LN_10, PI, TAU};
 use rand::{Rng, RngExt};
 use rand_distr::StandardNormal;
 use serde::Deserialize;
+
+use super::prepared::Prepared;
 use statrs::function::erf::erf;
 
 /// A distribution of one quantity, tagged in TOML by `dist = "..."`.
@@ -67,9 +69,9 @@ pub enum Distribution {
 
 /// One piece of a piecewise exponential density s·exp(b (x − r)) on [x0, x1].
 #[derive(Debug, Clone, Copy)]
-struct ExpPiece {
-    x0: f64,
-    x1: f64,
+pub(super) struct ExpPiece {
+    pub(super) x0: f64,
+    pub(super) x1: f64,
     b: f64,
     r: f64,
     s: f64,
@@ -80,7 +82,7 @@ impl ExpPiece {
         self.s * (self.b * (x - self.r)).exp()
     }
     /// ∫ from x0 to min(x, x1) of the density.
-    fn mass_to(&self, x: f64) -> f64 {
+    pub(super) fn mass_to(&self, x: f64) -> f64 {
         let x = x.clamp(self.x0, self.x1);
         if self.b.abs() < 1e-12 {
             return self.s * (x - self.x0);
@@ -88,12 +90,15 @@ impl ExpPiece {
         self.s * (self.b * (self.x0 - self.r)).exp() * (self.b * (x - self.x0)).exp_m1() / self.b
     }
     /// The x at which the mass from x0 is a fraction v of the piece's mass (inverse CDF).
-    fn invert(&self, v: f64) -> f64 {
+    /// `em1` = expm1(b (x1 − x0)), precomputed by the caller.
+    pub(super) fn invert(&self, v: f64, em1: f64) -> f64 {
         if self.b.abs() < 1e-12 {
             return self.x0 + v * (self.x1 - self.x0);
         }
-        let w = self.b * (self.x1 - self.x0);
-        (self.x0 + (v * w.exp_m1()).ln_1p() / self.b).clamp(self.x0, self.x1)
+        (self.x0 + (v * em1).ln_1p() / self.b).clamp(self.x0, self.x1)
+    }
+    pub(super) fn em1(&self) -> f64 {
+        (self.b * (self.x1 - self.x0)).exp_m1()
     }
 }
 
@@ -156,7 +161,7 @@ impl Distribution {
         }
     }
 
-    fn isotropic_range(&self) -> (f64, f64) {
+    pub(super) fn isotropic_range(&self) -> (f64, f64) {
         match self {
             Distribution::Isotropic { lo, hi } => (lo.unwrap_or(0.0), hi.unwrap_or(180.0)),
             _ => unreachable!("only for isotropic"),
@@ -188,36 +193,31 @@ impl Distribution {
         }
     }
 
-    /// One draw from the distribution.
+    /// One draw from the distribution (through `Prepared`, the one sampling path; prepare
+    /// once and reuse it where many draws are made).
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        Prepared::new(self.clone()).sample(rng)
+    }
+
+    /// A draw given the first uniform `u`, for the forms that need no precomputation.
+    pub(super) fn sample_direct<R: Rng + ?Sized>(&self, rng: &mut R, u: f64) -> f64 {
         use Distribution::*;
-        let u: f64 = rng.random();
         match self {
             Fixed { value } => *value,
             Uniform { lo, hi } => lo + u * (hi - lo),
-            LogUniform { lo, hi } => power_law_inverse(-1.0, *lo, *hi, u),
-            PowerLaw { k, lo, hi } => power_law_inverse(*k, *lo, *hi, u),
+            LogUniform { .. }
+            | PowerLaw { .. }
+            | Isotropic { .. }
+            | Exponential { .. }
+            | Knee { .. }
+            | Divot { .. } => {
+                unreachable!("sampled by Prepared with its precomputed constants")
+            }
             Normal { mean, sigma } => mean + sigma * rng.sample::<f64, _>(StandardNormal),
             TruncatedNormal { mean, sigma, lo, hi } => truncated_normal(rng, *mean, *sigma, *lo, *hi),
             Rayleigh { sigma } => sigma * (-2.0 * (1.0 - u).ln()).sqrt(),
             SinGaussian { sigma } => sin_gaussian(rng, sigma.to_radians(), u).to_degrees(),
-            Isotropic { .. } => {
-                let (lo, hi) = self.isotropic_range();
-                let (c0, c1) = (lo.to_radians().cos(), hi.to_radians().cos());
-                (c0 + u * (c1 - c0)).clamp(-1.0, 1.0).acos().to_degrees().clamp(lo, hi)
-            }
             VonMises { mean, kappa } => von_mises(rng, mean.to_radians(), *kappa).to_degrees(),
-            Exponential { .. } | Knee { .. } | Divot { .. } => {
-                let p = self.pieces();
-                let total = p.iter().map(|q| q.mass_to(q.x1)).sum::<f64>();
-                let target = u * total;
-                let first = p[0].mass_to(p[0].x1);
-                if p.len() == 1 || target < first {
-                    p[0].invert(target / first)
-                } else {
-                    p[1].invert((target - first) / (total - first))
-                }
-            }
             Histogram { edges, counts } => histogram_sample(edges, counts, u, rng.random()),
             Values { values } => values[((u * values.len() as f64) as usize).min(values.len() - 1)],
         }
@@ -250,23 +250,24 @@ impl Distribution {
 
     /// The luminosity-function forms as one or two exponential pieces, continuous or with a
     /// drop by `contrast` at the break; the reference point of both pieces is the break.
-    fn pieces(&self) -> Vec<ExpPiece> {
+    /// A piece outside [lo, hi] is empty (x1 = x0, no mass); no allocation, as this runs per draw.
+    pub(super) fn pieces(&self) -> [ExpPiece; 2] {
         let [ab, af, hb, c, lo, hi] = self.lf_parameters();
         let bright = ExpPiece {
             x0: lo,
-            x1: hb.min(hi),
+            x1: hb.clamp(lo, hi),
             b: ab * LN_10,
             r: hb,
             s: 1.0,
         };
         let faint = ExpPiece {
-            x0: hb.max(lo),
+            x0: hb.clamp(lo, hi),
             x1: hi,
             b: af * LN_10,
             r: hb,
             s: 1.0 / c,
         };
-        [bright, faint].into_iter().filter(|p| p.x1 > p.x0).collect()
+        [bright, faint]
     }
 
     /// Probability density at x (per unit of x), where it exists (not for fixed or values).
@@ -303,7 +304,7 @@ impl Distribution {
             Exponential { .. } | Knee { .. } | Divot { .. } => {
                 let p = self.pieces();
                 let total = p.iter().map(|q| q.mass_to(q.x1)).sum::<f64>();
-                let piece = p.iter().rev().find(|q| x >= q.x0).unwrap_or(&p[0]);
+                let piece = p.iter().rev().find(|q| x >= q.x0 && q.x1 > q.x0).unwrap_or(&p[0]);
                 piece.density(x) / total
             }
             Histogram { edges, counts } => {
@@ -379,17 +380,6 @@ fn histogram_problem(edges: &[f64], counts: &[f64]) -> Option<String> {
         return Some("counts: expected counts ≥ 0 with a positive total".into());
     }
     None
-}
-
-/// Inverse CDF of dN/dx ∝ x^k on [lo, hi].
-fn power_law_inverse(k: f64, lo: f64, hi: f64, u: f64) -> f64 {
-    let x = if (k + 1.0).abs() < 1e-12 {
-        lo * (hi / lo).powf(u)
-    } else {
-        let p = k + 1.0;
-        (lo.powf(p) + u * (hi.powf(p) - lo.powf(p))).powf(1.0 / p)
-    };
-    x.clamp(lo, hi)
 }
 
 fn power_law_cdf(k: f64, lo: f64, hi: f64, x: f64) -> f64 {

@@ -3,6 +3,7 @@
 
 pub mod clone;
 pub mod distribution;
+pub mod prepared;
 pub mod sampler;
 pub mod spec;
 

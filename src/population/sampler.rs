@@ -10,6 +10,8 @@ use polars::prelude::{Column, DataFrame};
 use rand::Rng;
 use rayon::prelude::*;
 
+use super::distribution::Distribution;
+use super::prepared::Prepared;
 use super::spec::{Angles, Anomaly, Constraint, Phase, Population, Quantity, Shape};
 use crate::error::{Error, Result};
 use crate::io::sink::TableSink;
@@ -144,21 +146,62 @@ impl Drawn {
 }
 
 impl Population {
+    /// The distributions prepared for many draws.
+    fn compiled(&self) -> Compiled<'_> {
+        let p = |d: &Distribution| Prepared::new(d.clone());
+        let shape = match &self.shape {
+            Shape::AE(x, y) | Shape::AQ(x, y) | Shape::QE(x, y) => [p(x), p(y)],
+        };
+        let angles = match &self.angles {
+            Angles::NodeArgperi(x, y) | Angles::VarpiNode(x, y) => [p(x), p(y)],
+        };
+        let anomaly = match &self.anomaly {
+            Anomaly::Mean(d) | Anomaly::PerihelionTime(d) => p(d),
+        };
+        let phase = match &self.phase {
+            Phase::Beta(d) | Phase::G(d) => p(d),
+        };
+        Compiled {
+            pop: self,
+            shape,
+            inc: p(&self.inc),
+            angles,
+            anomaly,
+            proposal_m: self.proposal_m.as_ref().map(p),
+            h: p(&self.h),
+            proposal_h: self.proposal_h.as_ref().map(p),
+            phase,
+            colors: self.colors.iter().map(|(_, d)| p(d)).collect(),
+            lc_amp: p(&self.lc_amp),
+            lc_period: p(&self.lc_period_hr),
+        }
+    }
+}
+
+/// The spec's distributions prepared once, in the slots of the spec's parametrization.
+struct Compiled<'a> {
+    pop: &'a Population,
+    shape: [Prepared; 2],
+    inc: Prepared,
+    angles: [Prepared; 2],
+    anomaly: Prepared,
+    proposal_m: Option<Prepared>,
+    h: Prepared,
+    proposal_h: Option<Prepared>,
+    phase: Prepared,
+    colors: Vec<Prepared>,
+    lc_amp: Prepared,
+    lc_period: Prepared,
+}
+
+impl Compiled<'_> {
     /// One attempt at (a, e, q, i) from the stream.
     fn draw_orbit<R: Rng + ?Sized>(&self, rng: &mut R) -> OrbitDraw {
-        let (a, e, q) = match &self.shape {
-            Shape::AE(a, e) => {
-                let (a, e) = (a.sample(rng), e.sample(rng));
-                (a, e, a * (1.0 - e))
-            }
-            Shape::AQ(a, q) => {
-                let (a, q) = (a.sample(rng), q.sample(rng));
-                (a, 1.0 - q / a, q)
-            }
-            Shape::QE(q, e) => {
-                let (q, e) = (q.sample(rng), e.sample(rng));
-                (q / (1.0 - e), e, q)
-            }
+        let (x, y) = (self.shape[0].sample(rng), self.shape[1].sample(rng));
+        let (a, e, q) = match &self.pop.shape {
+            Shape::AE(..) => (x, y, x * (1.0 - y)),
+            Shape::AQ(..) => (x, 1.0 - y / x, y),
+            Shape::QE(..) => (x / (1.0 - y), y, x),
         };
         OrbitDraw {
             a,
@@ -169,7 +212,7 @@ impl Population {
     }
 
     fn accepted(&self, d: &OrbitDraw) -> bool {
-        d.bound() && d.inc_ok() && self.constraints.iter().all(|c| d.meets(c))
+        d.bound() && d.inc_ok() && self.pop.constraints.iter().all(|c| d.meets(c))
     }
 
     /// Draw object `id` into `out`.
@@ -189,19 +232,18 @@ impl Population {
             }
         };
         out.attempts += attempts;
-        let (node, argperi) = match &self.angles {
-            Angles::NodeArgperi(n, w) => (n.sample(&mut rng), w.sample(&mut rng)),
-            Angles::VarpiNode(v, n) => {
-                let (varpi, node) = (v.sample(&mut rng), n.sample(&mut rng));
-                (node, varpi - node)
-            }
+        let (x, y) = (self.angles[0].sample(&mut rng), self.angles[1].sample(&mut rng));
+        let (node, argperi) = match &self.pop.angles {
+            Angles::NodeArgperi(..) => (x, y),
+            // (ϖ, Ω): ω = ϖ − Ω.
+            Angles::VarpiNode(..) => (y, x - y),
         };
         let mut weight = 1.0;
-        let m = match &self.anomaly {
-            Anomaly::Mean(target) => importance(&mut rng, target, self.proposal_m.as_ref(), &mut weight),
-            Anomaly::PerihelionTime(t) => {
-                let n = (self.center.gm() / (d.a * d.a * d.a)).sqrt();
-                (n * (self.epoch_mjd - t.sample(&mut rng))).to_degrees()
+        let m = match &self.pop.anomaly {
+            Anomaly::Mean(_) => importance(&mut rng, &self.anomaly, self.proposal_m.as_ref(), &mut weight),
+            Anomaly::PerihelionTime(_) => {
+                let n = (self.pop.center.gm() / (d.a * d.a * d.a)).sqrt();
+                (n * (self.pop.epoch_mjd - self.anomaly.sample(&mut rng))).to_degrees()
             }
         };
         let h = importance(&mut rng, &self.h, self.proposal_h.as_ref(), &mut weight);
@@ -214,30 +256,29 @@ impl Population {
         out.argperi.push(argperi.rem_euclid(360.0));
         out.m.push(m.rem_euclid(360.0));
         out.h.push(h);
-        out.phase.push(match &self.phase {
-            Phase::Beta(b) | Phase::G(b) => b.sample(&mut rng),
-        });
-        for (col, (_, dist)) in out.colors.iter_mut().zip(&self.colors) {
+        out.phase.push(self.phase.sample(&mut rng));
+        for (col, dist) in out.colors.iter_mut().zip(&self.colors) {
             col.push(dist.sample(&mut rng));
         }
         out.weight.push(weight);
         out.lc_amp.push(self.lc_amp.sample(&mut rng));
-        out.lc_period.push(self.lc_period_hr.sample(&mut rng));
+        out.lc_period.push(self.lc_period.sample(&mut rng));
         Ok(())
     }
+}
 
+impl Population {
     /// Draw the objects with ids in `ids`, in parallel tasks; the result is in id order.
     pub fn draw_ids(&self, seed: u64, ids: Range<i64>) -> Result<Drawn> {
         let bands = self.colors.len();
         let starts: Vec<i64> = ids.clone().step_by(TASK).collect();
+        let c = self.compiled();
         let parts: Vec<Result<Drawn>> = starts
             .par_iter()
             .map(|&s| {
                 let end = (s + TASK as i64).min(ids.end);
                 let mut out = Drawn::with_capacity((end - s) as usize, bands);
-                (s..end)
-                    .try_for_each(|id| self.draw_one(seed, id, &mut out))
-                    .map(|_| out)
+                (s..end).try_for_each(|id| c.draw_one(seed, id, &mut out)).map(|_| out)
             })
             .collect();
         let mut all = Drawn::with_capacity((ids.end - ids.start).max(0) as usize, bands);
@@ -282,11 +323,12 @@ impl Population {
     /// object's stream). Below 1e-6 it is an error naming the constraint that rejects most.
     pub fn pilot(&self, seed: u64) -> Result<f64> {
         let mut rng = run_stream(seed, Purpose::Draw, 0);
+        let c = self.compiled();
         let checks = self.constraints.len() + 2;
         let mut fails = vec![0u64; checks];
         let (mut attempts, mut accepted) = (0u64, 0u64);
         while accepted < PILOT_ACCEPTED && attempts < PILOT_ATTEMPTS {
-            let d = self.draw_orbit(&mut rng);
+            let d = c.draw_orbit(&mut rng);
             attempts += 1;
             let results = [d.bound(), d.inc_ok()]
                 .into_iter()
@@ -337,16 +379,14 @@ impl Population {
 }
 
 /// A draw from `target`, or from `proposal` with the weight multiplied by target/proposal.
-fn importance<R: Rng + ?Sized>(
-    rng: &mut R,
-    target: &super::distribution::Distribution,
-    proposal: Option<&super::distribution::Distribution>,
-    weight: &mut f64,
-) -> f64 {
+fn importance<R: Rng + ?Sized>(rng: &mut R, target: &Prepared, proposal: Option<&Prepared>, weight: &mut f64) -> f64 {
     let Some(p) = proposal else { return target.sample(rng) };
     let x = p.sample(rng);
     // Both densities exist: checked when the spec was resolved.
-    let (t, q) = (target.pdf(x).unwrap_or(0.0), p.pdf(x).unwrap_or(f64::INFINITY));
+    let (t, q) = (
+        target.distribution().pdf(x).unwrap_or(0.0),
+        p.distribution().pdf(x).unwrap_or(f64::INFINITY),
+    );
     *weight *= if q > 0.0 { t / q } else { 0.0 };
     x
 }

@@ -1,0 +1,139 @@
+//! A distribution with the constants of its sampler computed once (powers of the bounds,
+//! the masses of the luminosity-function pieces, cosines of the inclination range), so the
+//! per-object cost is one or two transcendental functions. The sampler prepares each
+//! distribution of a spec once per chunk; `Distribution::sample` goes through here too, so
+//! there is one sampling path.
+
+use rand::{Rng, RngExt};
+
+use super::distribution::{Distribution, ExpPiece};
+
+#[derive(Debug, Clone)]
+pub struct Prepared {
+    dist: Distribution,
+    fast: Fast,
+}
+
+#[derive(Debug, Clone)]
+enum Fast {
+    /// x = (lo^p + u (hi^p − lo^p))^(1/p), p = k + 1 ≠ 0.
+    PowerLaw {
+        lo: f64,
+        hi: f64,
+        lo_p: f64,
+        span: f64,
+        inv_p: f64,
+    },
+    /// x = lo (hi/lo)^u = lo exp(u ln(hi/lo)).
+    LogUniform {
+        lo: f64,
+        hi: f64,
+        ln_ratio: f64,
+    },
+    /// i = acos(cos lo + u (cos hi − cos lo)), in degrees.
+    Isotropic {
+        lo: f64,
+        hi: f64,
+        c0: f64,
+        dc: f64,
+    },
+    /// Two exponential pieces with their masses and expm1 terms.
+    Luminosity {
+        p: [ExpPiece; 2],
+        m0: f64,
+        total: f64,
+        em1: [f64; 2],
+    },
+    Direct,
+}
+
+impl Prepared {
+    pub fn new(dist: Distribution) -> Self {
+        use Distribution::*;
+        let fast = match dist {
+            LogUniform { lo, hi } => Fast::LogUniform {
+                lo,
+                hi,
+                ln_ratio: (hi / lo).ln(),
+            },
+            PowerLaw { k, lo, hi } if (k + 1.0).abs() < 1e-12 => Fast::LogUniform {
+                lo,
+                hi,
+                ln_ratio: (hi / lo).ln(),
+            },
+            PowerLaw { k, lo, hi } => {
+                let p = k + 1.0;
+                Fast::PowerLaw {
+                    lo,
+                    hi,
+                    lo_p: lo.powf(p),
+                    span: hi.powf(p) - lo.powf(p),
+                    inv_p: 1.0 / p,
+                }
+            }
+            Isotropic { .. } => {
+                let (lo, hi) = dist.isotropic_range();
+                let c0 = lo.to_radians().cos();
+                Fast::Isotropic {
+                    lo,
+                    hi,
+                    c0,
+                    dc: hi.to_radians().cos() - c0,
+                }
+            }
+            Exponential { .. } | Knee { .. } | Divot { .. } => {
+                let p = dist.pieces();
+                let (m0, m1) = (p[0].mass_to(p[0].x1), p[1].mass_to(p[1].x1));
+                Fast::Luminosity {
+                    p,
+                    m0,
+                    total: m0 + m1,
+                    em1: [p[0].em1(), p[1].em1()],
+                }
+            }
+            _ => Fast::Direct,
+        };
+        Prepared { dist, fast }
+    }
+
+    pub fn distribution(&self) -> &Distribution {
+        &self.dist
+    }
+
+    /// One draw.
+    #[inline]
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        let u: f64 = rng.random();
+        self.sample_u(rng, u)
+    }
+
+    /// One draw given its first uniform variate `u` in [0, 1).
+    pub(super) fn sample_u<R: Rng + ?Sized>(&self, rng: &mut R, u: f64) -> f64 {
+        match &self.fast {
+            Fast::PowerLaw {
+                lo,
+                hi,
+                lo_p,
+                span,
+                inv_p,
+            } => (lo_p + u * span).powf(*inv_p).clamp(*lo, *hi),
+            Fast::LogUniform { lo, hi, ln_ratio } => (lo * (u * ln_ratio).exp()).clamp(*lo, *hi),
+            Fast::Isotropic { lo, hi, c0, dc } => (c0 + u * dc).clamp(-1.0, 1.0).acos().to_degrees().clamp(*lo, *hi),
+            Fast::Luminosity { .. } => self.luminosity(u),
+            Fast::Direct => self.dist.sample_direct(rng, u),
+        }
+    }
+
+    /// Inverse CDF of the piecewise exponential luminosity function.
+    pub(super) fn luminosity(&self, u: f64) -> f64 {
+        let Fast::Luminosity { p, m0, total, em1 } = &self.fast else {
+            unreachable!("a luminosity function")
+        };
+        let target = u * total;
+        if target < *m0 {
+            p[0].invert(target / m0, em1[0])
+        } else {
+            p[1].invert((target - m0) / (total - m0), em1[1])
+        }
+    }
+}
