@@ -16,8 +16,11 @@ pub struct Args {
     #[arg(long)]
     pub objects: PathBuf,
     /// Epochs table with a column `mjd` (UTC unless --time-scale says otherwise).
+    #[arg(long, required_unless_present = "survey", conflicts_with = "survey")]
+    pub epochs: Option<PathBuf>,
+    /// A survey spec: one row per object and visit, from the survey's site, in its time scale.
     #[arg(long)]
-    pub epochs: PathBuf,
+    pub survey: Option<PathBuf>,
     /// Output table (.csv or .parquet): id, mjd, ra_deg, dec_deg, r_au, delta_au, phase_deg, mag, ...
     #[arg(long)]
     pub out: PathBuf,
@@ -32,21 +35,33 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let scale = TimeScale::parse(&a.time_scale)
         .ok_or_else(|| Error::input(format!("--time-scale `{}`: expected utc, tai, tt or tdb", a.time_scale)))?;
-    let site = a.site.as_deref().map(super::common::parse_site).transpose()?;
+    let mut site = a.site.as_deref().map(super::common::parse_site).transpose()?;
     seine::io::table::Format::of(&a.out)?;
     let objects = ObjectTable::read(&a.objects)?;
-    let epochs_df = read_table(&a.epochs)?;
-    let mjd = Columns::new(&epochs_df, &a.epochs).f64("mjd")?;
-    if mjd.is_empty() {
-        return Err(Error::input(format!(
-            "{}: the epochs table has no rows",
-            a.epochs.display()
-        )));
-    }
-    let mut df = ephemeris_table(&objects, &mjd, scale, site.as_ref())?;
     let mut prov = Provenance::current();
     prov.add_input(&a.objects)?;
-    prov.add_input(&a.epochs)?;
+    let (mjd, scale) = match (&a.epochs, &a.survey) {
+        (Some(path), _) => {
+            let epochs_df = read_table(path)?;
+            let mjd = Columns::new(&epochs_df, path).f64("mjd")?;
+            if mjd.is_empty() {
+                return Err(Error::input(format!(
+                    "{}: the epochs table has no rows",
+                    path.display()
+                )));
+            }
+            prov.add_input(path)?;
+            (mjd, scale)
+        }
+        (None, Some(spec)) => {
+            let survey = seine::survey::Survey::load(spec)?;
+            prov.add_input(spec)?;
+            site = site.or(survey.site);
+            (survey.visits.mjd.clone(), survey.time_scale)
+        }
+        (None, None) => return Err(Error::input("ephemeris: give --epochs or --survey")),
+    };
+    let mut df = ephemeris_table(&objects, &mjd, scale, site.as_ref())?;
     write_table(&mut df, &a.out, &prov)?;
     eprintln!(
         "seine ephemeris: {} objects × {} epochs → {}",
