@@ -1,8 +1,10 @@
 //! `seine plan`: a cadence plan → visits table, matching survey spec, coverage report.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
-use seine::survey::plan_io::{PlanOutputs, write_plan};
+use seine::io::Provenance;
+use seine::survey::Survey;
+use seine::survey::plan_io::{PlanOutputs, survey_coverage, write_coverage, write_plan};
 use seine::survey::planner::{PlanFile, check_passthrough, make_plan};
 use seine::survey::spec::parse_toml;
 use seine::{Error, Result};
@@ -11,8 +13,12 @@ use seine::{Error, Result};
 pub struct Args {
     /// Cadence plan (TOML): [plan], [site], [field], [region], [revisit], [depth], and the
     /// [efficiency], [motion], [linking] tables to copy into the survey spec.
+    #[arg(long, required_unless_present = "survey", conflicts_with = "survey")]
+    pub plan: Option<PathBuf>,
+    /// Instead of planning: the coverage report of an existing survey spec and its visits.
+    /// --out then names the report, NAME.coverage.json (tables and MOC beside it).
     #[arg(long)]
-    pub plan: PathBuf,
+    pub survey: Option<PathBuf>,
     /// Visits table to write (.csv or .parquet). Beside it: STEM.survey.toml (the survey spec),
     /// STEM.coverage.json, STEM.coverage_ecliptic.csv, STEM.coverage_nights.csv, STEM.moc.json.
     #[arg(long)]
@@ -23,21 +29,54 @@ pub struct Args {
 }
 
 pub fn run(a: Args) -> Result<()> {
-    seine::io::table::Format::of(&a.out)?;
-    let text = std::fs::read_to_string(&a.plan)
-        .map_err(|e| Error::input(format!("{}: cannot read the plan: {e}", a.plan.display())))?;
-    let mut file: PlanFile = parse_toml(&text, &a.plan)?;
-    if let Some(s) = a.seed {
+    match (&a.plan, &a.survey) {
+        (Some(p), _) => run_plan(p, &a.out, a.seed),
+        (None, Some(s)) => run_survey(s, &a.out),
+        (None, None) => Err(Error::input("seine plan: give --plan PLAN or --survey SPEC")),
+    }
+}
+
+fn run_survey(spec: &Path, out: &Path) -> Result<()> {
+    if out.extension().and_then(|e| e.to_str()) != Some("json") {
+        return Err(Error::input(format!(
+            "--out {}: expected a report name ending in .json",
+            out.display()
+        )));
+    }
+    let survey = Survey::load(spec)?;
+    let (cov, nights) = survey_coverage(&survey);
+    let paths = PlanOutputs::for_report(out);
+    let mut prov = Provenance::current();
+    prov.add_input(spec)?;
+    let head = serde_json::json!({ "survey": survey.name, "field_area_sq_deg": survey.footprint.area_sq_deg() });
+    write_coverage(&cov, &nights, head, &paths, &prov)?;
+    eprintln!(
+        "seine plan --survey: {} visits, {} fields, {} nights, {:.0} deg² covered → {}",
+        cov.n_visits,
+        cov.n_fields,
+        cov.n_nights_used,
+        cov.covered_sq_deg,
+        paths.coverage_json.display()
+    );
+    Ok(())
+}
+
+fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<()> {
+    seine::io::table::Format::of(out)?;
+    let text = std::fs::read_to_string(plan_path)
+        .map_err(|e| Error::input(format!("{}: cannot read the plan: {e}", plan_path.display())))?;
+    let mut file: PlanFile = parse_toml(&text, plan_path)?;
+    if let Some(s) = seed {
         file.plan.seed = s;
     }
     let in_plan = |e: Error| match e {
-        Error::Input(m) => Error::input(format!("{}: {m}", a.plan.display())),
+        Error::Input(m) => Error::input(format!("{}: {m}", plan_path.display())),
         other => other,
     };
     check_passthrough(&file).map_err(in_plan)?;
     let plan = make_plan(file).map_err(in_plan)?;
-    let out = PlanOutputs::for_visits(&a.out);
-    let cov = write_plan(&plan, &a.plan, &out)?;
+    let out = PlanOutputs::for_visits(out);
+    let cov = write_plan(&plan, plan_path, &out)?;
     eprintln!(
         "seine plan: {} visits of {} fields on {} nights, {:.0} deg² covered → {} (spec {})",
         cov.n_visits,

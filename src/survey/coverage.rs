@@ -67,6 +67,25 @@ fn quantile(sorted: &[f64], q: f64) -> f64 {
     sorted[i] * (1.0 - t) + sorted[(i + 1).min(sorted.len() - 1)] * t
 }
 
+/// Distinct nights over several footprints' night lists, counted up to `cap`.
+fn distinct_nights_capped(fields: &[usize], nights_of: &[Vec<i64>], cap: usize) -> usize {
+    if let [one] = fields {
+        return nights_of[*one].len().min(cap);
+    }
+    let mut seen: Vec<i64> = Vec::with_capacity(cap);
+    for &f in fields {
+        for &n in &nights_of[f] {
+            if !seen.contains(&n) {
+                seen.push(n);
+                if seen.len() >= cap {
+                    return cap;
+                }
+            }
+        }
+    }
+    seen.len()
+}
+
 /// Cells of order `HEALPIX_ORDER` whose centres lie in the footprint at one pointing.
 fn cells_of(fp: &Footprint, p: &Pointing) -> Vec<u64> {
     let (ra, dec) = (p.ra_deg * DEG, p.dec_deg * DEG);
@@ -84,16 +103,35 @@ fn cells_of(fp: &Footprint, p: &Pointing) -> Vec<u64> {
 
 pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
     let cell_sq_deg = 4.0 * std::f64::consts::PI / cdshealpix::nested::n_hash(HEALPIX_ORDER) as f64 / (DEG * DEG);
-    // Cells per distinct field footprint, computed once; nights per cell.
-    let mut field_cells: HashMap<(i64, u64, u64), Vec<u64>> = HashMap::new();
-    let mut cell_nights: HashMap<u64, Vec<i64>> = HashMap::new();
+    // Distinct nights per distinct footprint first (a field is visited many times), then
+    // nights per cell as the union over the few footprints that cover it, counted up to 5.
+    let mut footprints: HashMap<(i64, u64, u64), (usize, Vec<i64>)> = HashMap::new();
+    let mut first_pointing: Vec<&Pointing> = Vec::new();
     for p in pointings {
         let key = (p.field, p.ra_deg.to_bits(), p.rotation_deg.to_bits());
-        let cells = field_cells.entry(key).or_insert_with(|| cells_of(fp, p));
-        for &c in cells.iter() {
-            cell_nights.entry(c).or_default().push(p.night);
+        let n = footprints.len();
+        let e = footprints.entry(key).or_insert_with(|| (n, Vec::new()));
+        if e.0 == first_pointing.len() {
+            first_pointing.push(p);
+        }
+        e.1.push(p.night);
+    }
+    let mut nights_of: Vec<Vec<i64>> = vec![Vec::new(); first_pointing.len()];
+    for (_, (i, mut nights)) in footprints {
+        nights.sort_unstable();
+        nights.dedup();
+        nights_of[i] = nights;
+    }
+    let mut cell_fields: HashMap<u64, Vec<usize>> = HashMap::new();
+    for (i, p) in first_pointing.iter().enumerate() {
+        for c in cells_of(fp, p) {
+            cell_fields.entry(c).or_default().push(i);
         }
     }
+    let cell_nights: HashMap<u64, usize> = cell_fields
+        .into_iter()
+        .map(|(c, fields)| (c, distinct_nights_capped(&fields, &nights_of, 5)))
+        .collect();
     let mut bins: Vec<LatBin> = (0..(180.0 / LAT_BIN_DEG) as usize)
         .map(|i| {
             let (lo, hi) = (-90.0 + i as f64 * LAT_BIN_DEG, -90.0 + (i + 1) as f64 * LAT_BIN_DEG);
@@ -109,16 +147,14 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
             }
         })
         .collect();
-    for (&c, nights) in cell_nights.iter_mut() {
-        nights.sort_unstable();
-        nights.dedup();
+    for (&c, &n_nights) in &cell_nights {
         let (lon, lat) = cdshealpix::nested::center(HEALPIX_ORDER, c);
         let beta = radec_to_ecliptic(lon, lat).1 / DEG;
         let last = bins.len() - 1;
         let b = &mut bins[(((beta + 90.0) / LAT_BIN_DEG) as usize).min(last)];
         b.covered_sq_deg += cell_sq_deg;
-        b.covered_2_nights_sq_deg += if nights.len() >= 2 { cell_sq_deg } else { 0.0 };
-        b.covered_5_nights_sq_deg += if nights.len() >= 5 { cell_sq_deg } else { 0.0 };
+        b.covered_2_nights_sq_deg += if n_nights >= 2 { cell_sq_deg } else { 0.0 };
+        b.covered_5_nights_sq_deg += if n_nights >= 5 { cell_sq_deg } else { 0.0 };
     }
     for b in &mut bins {
         b.covered_fraction = b.covered_sq_deg / b.sky_area_sq_deg;

@@ -7,12 +7,15 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
+use super::Survey;
 use super::coverage::{Coverage, Pointing, coverage};
-use super::planner::{Plan, spec_toml};
+use super::planner::{NightLog, Plan, spec_toml};
 use super::visits::night_of;
 use crate::error::{Result, io_at};
 use crate::io::Provenance;
 use crate::io::table::{write_atomic, write_table};
+use crate::sky::horizon::{dark_interval, sun_altitude};
+use std::collections::BTreeMap;
 
 pub struct PlanOutputs {
     pub visits: PathBuf,
@@ -29,6 +32,24 @@ impl PlanOutputs {
             .file_stem()
             .map(|s| s.to_string_lossy().into_owned())
             .unwrap_or_else(|| "visits".into());
+        Self::with_stem(visits, &stem)
+    }
+
+    /// For the coverage of an existing survey: `--out NAME.coverage.json` (or any NAME.json).
+    pub fn for_report(json: &Path) -> PlanOutputs {
+        let name = json
+            .file_name()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        let stem = name
+            .strip_suffix(".coverage.json")
+            .or(name.strip_suffix(".json"))
+            .unwrap_or(&name)
+            .to_string();
+        Self::with_stem(json, &stem)
+    }
+
+    fn with_stem(visits: &Path, stem: &str) -> PlanOutputs {
         let sib = |suffix: &str| visits.with_file_name(format!("{stem}{suffix}"));
         PlanOutputs {
             visits: visits.to_path_buf(),
@@ -95,24 +116,78 @@ pub fn write_plan(plan: &Plan, plan_path: &Path, out: &PlanOutputs) -> Result<Co
         .file_name()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_default();
-    let mut lat = lat_frame(&cov)?;
-    let mut nights = nights_frame(plan)?;
-    let json = serde_json::json!({
+    let head = serde_json::json!({
         "plan": plan.file.plan.name,
         "n_fields_in_region": plan.fields.len(),
         "field_area_sq_deg": plan.footprint.area_sq_deg(),
-        "coverage": cov,
-        "nights": plan.nights,
         "moon": "not modelled: depths carry no Moon penalty",
     });
     write_table(&mut visits_frame(plan)?, &out.visits, &prov)?;
     write_atomic(&out.spec, spec_toml(&plan.file, &visits_name)?.as_bytes())?;
-    write_table(&mut lat, &out.coverage_ecliptic, &prov)?;
-    write_table(&mut nights, &out.coverage_nights, &prov)?;
-    let text = serde_json::to_string_pretty(&json).map_err(|e| io_at(&out.coverage_json, e))?;
-    write_atomic(&out.coverage_json, text.as_bytes())?;
-    write_atomic(&out.moc, cov.moc_json().as_bytes())?;
+    write_coverage(&cov, &plan.nights, head, out, &prov)?;
     Ok(cov)
+}
+
+/// Write the coverage report: JSON (with `head`'s keys first), the two tables and the MOC.
+pub fn write_coverage(
+    cov: &Coverage,
+    nights: &[NightLog],
+    mut head: serde_json::Value,
+    out: &PlanOutputs,
+    prov: &Provenance,
+) -> Result<()> {
+    head["coverage"] = serde_json::to_value(cov).map_err(|e| io_at(&out.coverage_json, e))?;
+    head["nights"] = serde_json::to_value(nights).map_err(|e| io_at(&out.coverage_json, e))?;
+    write_table(&mut lat_frame(cov)?, &out.coverage_ecliptic, prov)?;
+    write_table(&mut nights_frame(nights)?, &out.coverage_nights, prov)?;
+    let text = serde_json::to_string_pretty(&head).map_err(|e| io_at(&out.coverage_json, e))?;
+    write_atomic(&out.coverage_json, text.as_bytes())?;
+    write_atomic(&out.moc, cov.moc_json().as_bytes())
+}
+
+/// The coverage of an existing survey's visits, with its nights (dark time for Sun below
+/// −18° when the spec has a site; time used = the sum of exposure times).
+pub fn survey_coverage(s: &Survey) -> (Coverage, Vec<NightLog>) {
+    let v = &s.visits;
+    let pointings: Vec<Pointing> = (0..v.len())
+        .map(|i| Pointing {
+            ra_deg: v.ra_deg[i],
+            dec_deg: v.dec_deg[i],
+            rotation_deg: v.rotation_deg[i],
+            depth_mag: v.depth_mag[i],
+            night: v.night[i],
+            field: field_key(v.ra_deg[i], v.dec_deg[i]),
+        })
+        .collect();
+    let mut by_night: BTreeMap<i64, (usize, f64)> = BTreeMap::new();
+    for i in 0..v.len() {
+        let e = by_night.entry(v.night[i]).or_default();
+        e.0 += 1;
+        e.1 += v.exposure_s[i] / 3600.0;
+    }
+    let nights = by_night
+        .into_iter()
+        .map(|(night, (n, hours))| {
+            let dark = s
+                .site
+                .as_ref()
+                .and_then(|site| dark_interval(site, night, -18.0, |t| sun_altitude(site, t)));
+            NightLog {
+                night,
+                status: "observed".into(),
+                dark_hours: dark.map_or(f64::NAN, |(a, b)| (b - a) * 24.0),
+                used_hours: hours,
+                n_visits: n,
+            }
+        })
+        .collect();
+    (coverage(&s.footprint, &pointings), nights)
+}
+
+/// Visits at the same centre (to 1″) count as one field.
+fn field_key(ra_deg: f64, dec_deg: f64) -> i64 {
+    let q = |x: f64| (x * 3600.0).round() as i64;
+    q(ra_deg) * 1_000_000_000 + q(dec_deg + 90.0)
 }
 
 fn lat_frame(cov: &Coverage) -> Result<DataFrame> {
@@ -129,8 +204,7 @@ fn lat_frame(cov: &Coverage) -> Result<DataFrame> {
     ]))
 }
 
-fn nights_frame(plan: &Plan) -> Result<DataFrame> {
-    let n = &plan.nights;
+fn nights_frame(n: &[NightLog]) -> Result<DataFrame> {
     let cols = vec![
         Column::new("night".into(), n.iter().map(|x| x.night).collect::<Vec<i64>>()),
         Column::new(
