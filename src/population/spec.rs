@@ -267,6 +267,18 @@ fn checked(path: &Path, key: &str, d: Option<Distribution>) -> Result<Option<Dis
     if let Some(p) = d.as_ref().and_then(Distribution::problem) {
         return Err(key_error(path, key, p));
     }
+    // The angular forms take and return degrees: on any other key they would be a unit error.
+    let angular = matches!(
+        d,
+        Some(Distribution::SinGaussian { .. } | Distribution::Isotropic { .. } | Distribution::VonMises { .. })
+    );
+    if angular && !key.ends_with("_deg") {
+        return Err(key_error(
+            path,
+            key,
+            "sin-gaussian, isotropic and von-mises are angles in degrees: use them on *_deg keys",
+        ));
+    }
     Ok(d)
 }
 
