@@ -44,7 +44,8 @@ pub fn run(a: Args) -> Result<()> {
     let (objects, note) = match spec {
         Spec::Draw(pop) => draw(&a, &pop, shard, prov, &text)?,
         Spec::Clone(c) => {
-            let cloner = Cloner::read(c)?;
+            let cloner = Cloner::read(c)
+                .map_err(|e| Error::input(format!("{}: key `import.objects`: {e}", a.spec.display())))?;
             prov.add_input(&cloner.spec.objects)?;
             clone(&a, &cloner, shard, prov, &text)?
         }
