@@ -276,3 +276,14 @@ fn example_specs_draw_valid_objects_tables() {
     }
     assert!(n >= 4, "expected the four example specs, found {n}");
 }
+
+/// The table does not depend on the thread count (DESIGN: randomness), byte for byte.
+#[test]
+fn thread_count_does_not_change_the_table() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = write_spec(dir.path(), "pop.toml", SPEC);
+    let (one, two) = (dir.path().join("one.csv"), dir.path().join("two.csv"));
+    ok(&draw(&spec, &one, &["--count", "50000", "--threads", "1"]));
+    ok(&draw(&spec, &two, &["--count", "50000", "--threads", "2"]));
+    assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&two).unwrap());
+}

@@ -28,6 +28,9 @@ pub struct Args {
     /// Write only shard K of N (K from 0): a contiguous block of the ids; the shards' union is the whole.
     #[arg(long)]
     pub shard: Option<String>,
+    /// Worker threads (default: all cores). The objects do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
     /// No summary on stderr.
     #[arg(long)]
     pub quiet: bool,
@@ -35,6 +38,18 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     Format::of(&a.out)?;
+    match a.threads {
+        Some(0) => return Err(Error::input("--threads 0: expected at least 1 thread")),
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| Error::input(format!("--threads {n}: {e}")))?
+            .install(|| run_in_pool(a)),
+        None => run_in_pool(a),
+    }
+}
+
+fn run_in_pool(a: Args) -> Result<()> {
     let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
     let spec = Spec::read(&a.spec)?;
     let text = std::fs::read_to_string(&a.spec).unwrap_or_default();
