@@ -248,3 +248,42 @@ fn unknown_key_suggests_the_nearest() {
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(err.contains("did you mean `q_au`") && err.contains("line "), "{err}");
 }
+
+/// Every example spec draws and gives a valid objects table (the examples must not rot).
+#[test]
+fn example_specs_draw_valid_objects_tables() {
+    let dir = tempfile::tempdir().unwrap();
+    let examples = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/populations");
+    let mut n = 0;
+    for entry in std::fs::read_dir(&examples).unwrap() {
+        let spec = entry.unwrap().path();
+        if spec.extension().is_none_or(|e| e != "toml") {
+            continue;
+        }
+        let text = std::fs::read_to_string(&spec).unwrap();
+        let out = dir
+            .path()
+            .join(format!("{}.parquet", spec.file_stem().unwrap().to_string_lossy()));
+        let count: &[&str] = if text.contains("[import]") {
+            &[]
+        } else {
+            &["--count", "2000"]
+        };
+        ok(&draw(&spec, &out, count));
+        let t = seine::io::objects::ObjectTable::read(&out).unwrap();
+        assert!(t.len() >= 100, "{}", spec.display());
+        n += 1;
+    }
+    assert!(n >= 4, "expected the four example specs, found {n}");
+}
+
+/// The table does not depend on the thread count (DESIGN: randomness), byte for byte.
+#[test]
+fn thread_count_does_not_change_the_table() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = write_spec(dir.path(), "pop.toml", SPEC);
+    let (one, two) = (dir.path().join("one.csv"), dir.path().join("two.csv"));
+    ok(&draw(&spec, &one, &["--count", "50000", "--threads", "1"]));
+    ok(&draw(&spec, &two, &["--count", "50000", "--threads", "2"]));
+    assert_eq!(std::fs::read(&one).unwrap(), std::fs::read(&two).unwrap());
+}

@@ -466,3 +466,48 @@ h_mag = { dist = "fixed", value = 7.0 }
     let n = (seine::orbit::GM_SUN / 1.0e6).sqrt();
     assert!((m - (n * 10000.0).to_degrees().rem_euclid(360.0)).abs() < 1e-9, "{m}");
 }
+
+/// Shards are contiguous, disjoint and cover 0..count for any count and number of shards.
+#[test]
+fn shard_ranges_partition_the_ids() {
+    use seine::population::sampler::shard_range;
+    for count in [0u64, 1, 2, 7, 1000, 1 << 40] {
+        for n in [1u64, 2, 3, 7, 64] {
+            let mut next = 0i64;
+            for k in 0..n {
+                let r = shard_range(count, k, n);
+                assert_eq!(r.start, next, "count {count}, shard {k}/{n}");
+                next = r.end;
+            }
+            assert_eq!(next, count as i64);
+        }
+    }
+}
+
+/// An angular form on a key that is not in degrees is a unit error naming the key.
+#[test]
+fn angular_forms_only_on_degree_keys() {
+    let bad = CLUSTERED.replace(
+        r#"h_mag = { dist = "exponential", alpha = 0.6, lo = 4.0, hi = 9.0 }"#,
+        r#"h_mag = { dist = "isotropic" }"#,
+    );
+    let e = Spec::parse(&bad, Path::new("test.toml")).unwrap_err().to_string();
+    assert!(e.contains("photometry.h_mag") && e.contains("degrees"), "{e}");
+}
+
+/// The prepared pdf (cached normalisation) equals the direct one.
+#[test]
+fn prepared_pdf_matches_direct_pdf() {
+    use seine::population::prepared::Prepared;
+    for c in [
+        r#"{ dist = "sin-gaussian", sigma = 15.0 }"#,
+        r#"{ dist = "von-mises", mean = 10.0, kappa = 3.0 }"#,
+    ] {
+        let d = dist(c);
+        let p = Prepared::new(d.clone());
+        for x in [0.0, 5.0, 30.0, 90.0, 179.0, 200.0] {
+            let (a, b) = (p.pdf(x).unwrap(), d.pdf(x).unwrap());
+            assert!((a - b).abs() <= 1e-12 * b.abs().max(1e-300), "{c} at {x}: {a} vs {b}");
+        }
+    }
+}

@@ -28,6 +28,9 @@ pub struct Args {
     /// Write only shard K of N (K from 0): a contiguous block of the ids; the shards' union is the whole.
     #[arg(long)]
     pub shard: Option<String>,
+    /// Worker threads (default: all cores). The objects do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
     /// No summary on stderr.
     #[arg(long)]
     pub quiet: bool,
@@ -35,6 +38,18 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     Format::of(&a.out)?;
+    match a.threads {
+        Some(0) => return Err(Error::input("--threads 0: expected at least 1 thread")),
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| Error::input(format!("--threads {n}: {e}")))?
+            .install(|| run_in_pool(a)),
+        None => run_in_pool(a),
+    }
+}
+
+fn run_in_pool(a: Args) -> Result<()> {
     let shard = a
         .shard
         .as_deref()
@@ -49,7 +64,8 @@ pub fn run(a: Args) -> Result<()> {
     let (objects, note) = match spec {
         Spec::Draw(pop) => draw(&a, &pop, shard, prov, &text)?,
         Spec::Clone(c) => {
-            let cloner = Cloner::read(c)?;
+            let cloner = Cloner::read(c)
+                .map_err(|e| Error::input(format!("{}: key `import.objects`: {e}", a.spec.display())))?;
             prov.add_input(&cloner.spec.objects)?;
             clone(&a, &cloner, shard, prov, &text)?
         }

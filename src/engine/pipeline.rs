@@ -13,7 +13,7 @@ use super::index::{Candidates, PreparedSurvey};
 use super::outcome::{Event, ObjectOutcome, SurveyOutcome};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::sky::apparent::{direction, observe};
+use crate::sky::apparent::{direction_from, observe_from};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};
 use crate::survey::Detection;
 
@@ -36,8 +36,9 @@ pub fn observe_object(
         ps.candidates(&orbit, mode, scratch);
         out.candidates += scratch.len() as u64;
         let first = out.events.len();
+        let mut tau = f64::NAN; // light time of the previous candidate: the next one's first guess
         for &v in scratch.iter() {
-            if let Some(ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase) {
+            if let Some(ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) {
                 out.events.push(ev);
             }
         }
@@ -60,9 +61,11 @@ fn in_field_event(
     s: usize,
     v: usize,
     lc_phase: f64,
+    tau: &mut f64,
 ) -> Option<Event> {
     let obs = &ps.observers[v];
-    let dir = direction(orbit, obs);
+    let (dir, t) = direction_from(orbit, obs, *tau);
+    *tau = t;
     let visits = &ps.survey.visits;
     if !ps
         .survey
@@ -71,7 +74,7 @@ fn in_field_event(
     {
         return None;
     }
-    let a = observe(orbit, obs);
+    let a = observe_from(orbit, obs, t);
     let band = &visits.band_names[visits.band[v] as usize];
     let color = if *band == ps.survey.reference_band {
         0.0

@@ -11,6 +11,7 @@ use polars::prelude::{Column, DataFrame, IdxCa, IdxSize};
 use rand::RngExt;
 use rayon::prelude::*;
 
+use super::prepared::Prepared;
 use super::spec::CloneSpec;
 use crate::error::{Result, io_at};
 use crate::io::objects::ObjectTable;
@@ -20,13 +21,16 @@ use crate::rng::{Purpose, object_stream};
 pub struct Cloner {
     pub table: ObjectTable,
     pub spec: CloneSpec,
+    /// The fresh-H distribution, prepared once for many draws.
+    h: Option<Prepared>,
 }
 
 impl Cloner {
     /// Read and validate the particles' table named by the spec.
     pub fn read(spec: CloneSpec) -> Result<Self> {
         let table = ObjectTable::read(&spec.objects)?;
-        Ok(Cloner { table, spec })
+        let h = spec.h.clone().map(Prepared::new);
+        Ok(Cloner { table, spec, h })
     }
 
     /// Number of clones in all (particles × K).
@@ -74,11 +78,7 @@ impl Cloner {
         let row = (id / self.spec.clones as i64) as usize;
         let mut rng = object_stream(seed, id, Purpose::Clone);
         let m = rng.random::<f64>() * 360.0;
-        let h = self
-            .spec
-            .h
-            .as_ref()
-            .map_or(self.table.h_mag[row], |d| d.sample(&mut rng));
+        let h = self.h.as_ref().map_or(self.table.h_mag[row], |d| d.sample(&mut rng));
         let node = self.table.elements[row].node.to_degrees();
         let node = if self.spec.rotate_node {
             (node + rng.random::<f64>() * 360.0).rem_euclid(360.0)

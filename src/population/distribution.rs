@@ -431,13 +431,13 @@ fn truncated_normal<R: Rng + ?Sized>(rng: &mut R, mean: f64, sigma: f64, lo: f64
 }
 
 /// sin i exp(−i²/2σ²), i and σ in radians.
-fn sin_gaussian_density(s: f64, i: f64) -> f64 {
+pub(super) fn sin_gaussian_density(s: f64, i: f64) -> f64 {
     i.sin() * (-i * i / (2.0 * s * s)).exp()
 }
 
 /// ∫_0^x sin i exp(−i²/2σ²) di by composite Simpson (the integrand is smooth; 2000 panels
 /// give ~1e-12 relative accuracy for σ ≥ 0.1°).
-fn sin_gaussian_mass(s: f64, x: f64) -> f64 {
+pub(super) fn sin_gaussian_mass(s: f64, x: f64) -> f64 {
     let n = 2000;
     let h = x / n as f64;
     let inner: f64 = (1..n)

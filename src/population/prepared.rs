@@ -6,7 +6,7 @@
 
 use rand::{Rng, RngExt};
 
-use super::distribution::{Distribution, ExpPiece};
+use super::distribution::{Distribution, ExpPiece, sin_gaussian_density, sin_gaussian_mass};
 
 #[derive(Debug, Clone)]
 pub struct Prepared {
@@ -36,6 +36,12 @@ enum Fast {
         hi: f64,
         c0: f64,
         dc: f64,
+    },
+    /// σ in radians and the normalisation Z = ∫_0^π sin i exp(−i²/2σ²) di (for the pdf only:
+    /// the sampler needs no constant).
+    SinGaussian {
+        s: f64,
+        z: f64,
     },
     /// Two exponential pieces with their masses and expm1 terms.
     Luminosity {
@@ -91,6 +97,13 @@ impl Prepared {
                     em1: [p[0].em1(), p[1].em1()],
                 }
             }
+            SinGaussian { sigma } => {
+                let s = sigma.to_radians();
+                Fast::SinGaussian {
+                    s,
+                    z: sin_gaussian_mass(s, std::f64::consts::PI),
+                }
+            }
             _ => Fast::Direct,
         };
         Prepared { dist, fast }
@@ -120,7 +133,18 @@ impl Prepared {
             Fast::LogUniform { lo, hi, ln_ratio } => (lo * (u * ln_ratio).exp()).clamp(*lo, *hi),
             Fast::Isotropic { lo, hi, c0, dc } => (c0 + u * dc).clamp(-1.0, 1.0).acos().to_degrees().clamp(*lo, *hi),
             Fast::Luminosity { .. } => self.luminosity(u),
-            Fast::Direct => self.dist.sample_direct(rng, u),
+            Fast::Direct | Fast::SinGaussian { .. } => self.dist.sample_direct(rng, u),
+        }
+    }
+
+    /// Probability density at x, as `Distribution::pdf` but with the sin i × Gaussian
+    /// normalisation computed once (importance weights call this per object).
+    pub fn pdf(&self, x: f64) -> Option<f64> {
+        match self.fast {
+            Fast::SinGaussian { s, z } if (0.0..=180.0).contains(&x) => {
+                Some(sin_gaussian_density(s, x.to_radians()) / z * std::f64::consts::PI / 180.0)
+            }
+            _ => self.dist.pdf(x),
         }
     }
 

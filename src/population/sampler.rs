@@ -383,10 +383,7 @@ fn importance<R: Rng + ?Sized>(rng: &mut R, target: &Prepared, proposal: Option<
     let Some(p) = proposal else { return target.sample(rng) };
     let x = p.sample(rng);
     // Both densities exist: checked when the spec was resolved.
-    let (t, q) = (
-        target.distribution().pdf(x).unwrap_or(0.0),
-        p.distribution().pdf(x).unwrap_or(f64::INFINITY),
-    );
+    let (t, q) = (target.pdf(x).unwrap_or(0.0), p.pdf(x).unwrap_or(f64::INFINITY));
     *weight *= if q > 0.0 { t / q } else { 0.0 };
     x
 }

@@ -267,6 +267,18 @@ fn checked(path: &Path, key: &str, d: Option<Distribution>) -> Result<Option<Dis
     if let Some(p) = d.as_ref().and_then(Distribution::problem) {
         return Err(key_error(path, key, p));
     }
+    // The angular forms take and return degrees: on any other key they would be a unit error.
+    let angular = matches!(
+        d,
+        Some(Distribution::SinGaussian { .. } | Distribution::Isotropic { .. } | Distribution::VonMises { .. })
+    );
+    if angular && !key.ends_with("_deg") {
+        return Err(key_error(
+            path,
+            key,
+            "sin-gaussian, isotropic and von-mises are angles in degrees: use them on *_deg keys",
+        ));
+    }
     Ok(d)
 }
 
@@ -288,27 +300,10 @@ impl SpecFile {
     fn resolve(self, path: &Path) -> Result<Spec> {
         if let Some(import) = self.import {
             if self.orbit.is_some() || self.photometry.is_some() {
-                return Err(key_error(
-                    path,
-                    "import",
-                    "a spec with [import] clones a table: remove [orbit] and [photometry]",
-                ));
+                let why = "a spec with [import] clones a table: remove [orbit] and [photometry]";
+                return Err(key_error(path, "import", why));
             }
-            if import.clones == 0 {
-                return Err(key_error(
-                    path,
-                    "import.clones",
-                    "0: expected at least 1 clone per particle",
-                ));
-            }
-            let h = checked(path, "import.h_mag", import.h_mag)?;
-            let base = path.parent().unwrap_or(Path::new(""));
-            return Ok(Spec::Clone(CloneSpec {
-                objects: base.join(import.objects),
-                clones: import.clones,
-                h,
-                rotate_node: import.rotate_node,
-            }));
+            return resolve_import(path, import).map(Spec::Clone);
         }
         let pop = self.population.ok_or_else(|| {
             key_error(
@@ -331,32 +326,10 @@ impl SpecFile {
         let shape = resolve_shape(path, &orbit)?;
         let inc = required(path, "orbit.inc_deg", orbit.inc_deg)?;
         let angles = resolve_angles(path, orbit.node_deg, orbit.argperi_deg, orbit.varpi_deg)?;
-        let anomaly = match (orbit.mean_anomaly_deg, orbit.perihelion_mjd) {
-            (Some(_), Some(_)) => {
-                return Err(key_error(
-                    path,
-                    "orbit",
-                    "give mean_anomaly_deg or perihelion_mjd, not both",
-                ));
-            }
-            (None, Some(t)) => Anomaly::PerihelionTime(required(path, "orbit.perihelion_mjd", Some(t))?),
-            (m, None) => Anomaly::Mean(checked(path, "orbit.mean_anomaly_deg", m)?.unwrap_or_else(uniform_angle)),
-        };
+        let anomaly = resolve_anomaly(path, orbit.mean_anomaly_deg, orbit.perihelion_mjd)?;
         let h = required(path, "photometry.h_mag", phot.h_mag)?;
-        let phase = match (phot.beta_mag_per_deg, phot.hg_g) {
-            (Some(_), Some(_)) => return Err(key_error(path, "photometry", "give beta_mag_per_deg or hg_g, not both")),
-            (None, Some(g)) => Phase::G(required(path, "photometry.hg_g", Some(g))?),
-            (b, None) => Phase::Beta(
-                checked(path, "photometry.beta_mag_per_deg", b)?.unwrap_or(Distribution::Fixed { value: DEFAULT_BETA }),
-            ),
-        };
-        let mut colors = Vec::new();
-        for (band, d) in phot.color {
-            colors.push((
-                band.clone(),
-                required(path, &format!("photometry.color.{band}"), Some(d))?,
-            ));
-        }
+        let phase = resolve_phase(path, phot.beta_mag_per_deg, phot.hg_g)?;
+        let colors = resolve_colors(path, phot.color)?;
         let zero = Distribution::Fixed { value: 0.0 };
         let lc_amp = checked(path, "photometry.lc_amp_mag", phot.lc_amp_mag)?.unwrap_or(zero.clone());
         let lc_period_hr = checked(path, "photometry.lc_period_hr", phot.lc_period_hr)?.unwrap_or(zero);
@@ -384,6 +357,67 @@ impl SpecFile {
         check_constraint_supports(path, &population)?;
         Ok(Spec::Draw(Box::new(population)))
     }
+}
+
+fn resolve_import(path: &Path, import: ImportSection) -> Result<CloneSpec> {
+    if import.clones == 0 {
+        return Err(key_error(
+            path,
+            "import.clones",
+            "0: expected at least 1 clone per particle",
+        ));
+    }
+    let h = checked(path, "import.h_mag", import.h_mag)?;
+    let base = path.parent().unwrap_or(Path::new(""));
+    Ok(CloneSpec {
+        objects: base.join(import.objects),
+        clones: import.clones,
+        h,
+        rotate_node: import.rotate_node,
+    })
+}
+
+/// M (default uniform) or the time of perihelion, not both.
+fn resolve_anomaly(path: &Path, m: Option<Distribution>, tp: Option<Distribution>) -> Result<Anomaly> {
+    match (m, tp) {
+        (Some(_), Some(_)) => Err(key_error(
+            path,
+            "orbit",
+            "give mean_anomaly_deg or perihelion_mjd, not both",
+        )),
+        (None, Some(t)) => Ok(Anomaly::PerihelionTime(required(
+            path,
+            "orbit.perihelion_mjd",
+            Some(t),
+        )?)),
+        (m, None) => Ok(Anomaly::Mean(
+            checked(path, "orbit.mean_anomaly_deg", m)?.unwrap_or_else(uniform_angle),
+        )),
+    }
+}
+
+/// β (default fixed 0.14) or G, not both.
+fn resolve_phase(path: &Path, beta: Option<Distribution>, g: Option<Distribution>) -> Result<Phase> {
+    match (beta, g) {
+        (Some(_), Some(_)) => Err(key_error(path, "photometry", "give beta_mag_per_deg or hg_g, not both")),
+        (None, Some(g)) => Ok(Phase::G(required(path, "photometry.hg_g", Some(g))?)),
+        (b, None) => Ok(Phase::Beta(
+            checked(path, "photometry.beta_mag_per_deg", b)?.unwrap_or(Distribution::Fixed { value: DEFAULT_BETA }),
+        )),
+    }
+}
+
+/// One colour per band; the band becomes part of a column name (`color_<band>`).
+fn resolve_colors(path: &Path, color: BTreeMap<String, Distribution>) -> Result<Vec<(String, Distribution)>> {
+    let mut colors = Vec::new();
+    for (band, d) in color {
+        let key = format!("photometry.color.{band}");
+        if band.is_empty() || !band.chars().all(|c| c.is_ascii_alphanumeric() || c == '_') {
+            return Err(key_error(path, &key, "expected a band name of letters, digits and _"));
+        }
+        colors.push((band, required(path, &key, Some(d))?));
+    }
+    Ok(colors)
 }
 
 /// Exactly two of a, e, q.

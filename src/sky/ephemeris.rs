@@ -4,7 +4,7 @@ use nalgebra::Vector3;
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::apparent::observe;
+use super::apparent::observe_from;
 use super::earth::EarthSource;
 use super::observer::{ObserverState, Site};
 use super::photometry::{apparent_mag, light_curve_offset};
@@ -34,11 +34,13 @@ pub fn ephemeris_table(objects: &ObjectTable, mjd: &[f64], scale: TimeScale, sit
         .into_par_iter()
         .map(|i| {
             let orbit = Orbit::new(objects.elements[i]);
+            let mut tau = f64::NAN;
             observers
                 .iter()
                 .zip(mjd)
                 .map(|(obs, &t)| {
-                    let a = observe(&orbit, obs);
+                    let a = observe_from(&orbit, obs, tau);
+                    tau = a.light_time_days;
                     let lc = light_curve_offset(objects.lc_amp_mag[i], objects.lc_period_days[i], 0.0, obs.tdb_mjd);
                     let mag = apparent_mag(objects.h_mag[i], a.r_au, a.delta_au, a.phase, &objects.phase_law[i]) + lc;
                     [
