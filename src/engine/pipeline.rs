@@ -36,7 +36,9 @@ pub fn observe_object(
         ps.candidates(&orbit, mode, scratch);
         out.candidates += scratch.len() as u64;
         let first = out.events.len();
-        let mut tau = f64::NAN; // light time of the previous candidate: the next one's first guess
+        // The light time of the previous in-field event is the next position's first guess. Only
+        // in-field events update it, so every candidate strategy computes bit-identical positions.
+        let mut tau = f64::NAN;
         for &v in scratch.iter() {
             if let Some(ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) {
                 out.events.push(ev);
@@ -65,7 +67,6 @@ fn in_field_event(
 ) -> Option<Event> {
     let obs = &ps.observers[v];
     let (dir, t) = direction_from(orbit, obs, *tau);
-    *tau = t;
     let visits = &ps.survey.visits;
     if !ps
         .survey
@@ -74,6 +75,7 @@ fn in_field_event(
     {
         return None;
     }
+    *tau = t;
     let a = observe_from(orbit, obs, t);
     let band = &visits.band_names[visits.band[v] as usize];
     let color = if *band == ps.survey.reference_band {
