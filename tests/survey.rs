@@ -328,6 +328,26 @@ fn assert_bad_survey(spec: &str, visits: &str, expect: &[&str]) {
 }
 
 #[test]
+fn mosaic_spec_loads_and_refuses_a_fill_factor() {
+    let mosaic = "shape = \"mosaic\"\nchips = [[[-0.5, -0.5], [0.5, -0.5], [0.5, 0.0], [-0.5, 0.0]], [[-0.5, 0.05], [0.5, 0.05], [0.5, 0.5]]]";
+    let spec = SPEC.replace("shape = \"circle\"\nradius_deg = 1.0", mosaic);
+    let dir = tmpdir();
+    let s = Survey::load(&write_spec(dir.path(), &spec, VISITS)).unwrap();
+    assert_eq!(s.fill_factor, 1.0);
+    assert!((s.footprint.area_sq_deg() - 0.5 - 0.225).abs() < 1e-3);
+    assert_bad_survey(
+        &format!("{spec}").replace("[efficiency]", "fill_factor = 0.9\n[efficiency]"),
+        VISITS,
+        &["field.fill_factor"],
+    );
+    assert_bad_survey(
+        &spec.replace("[0.5, 0.5]]]", "[0.5, 0.5], [0.4, 1e9]]]"),
+        VISITS,
+        &["field.chips[1]"],
+    );
+}
+
+#[test]
 fn bad_visits_tables_name_the_row() {
     let head = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag\n";
     assert_bad_survey(
@@ -364,7 +384,7 @@ fn bad_specs_name_the_key() {
     assert_bad_survey(
         &SPEC.replace("radius_deg = 1.0", "radius = 1.0"),
         v,
-        &["line 11", "unknown field `radius`"],
+        &["line 11", "unknown field `radius`", "did you mean `radius_deg`?"],
     );
     assert_bad_survey(
         &SPEC.replace("shape = \"circle\"", "shape = \"hexagon\""),

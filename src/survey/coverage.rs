@@ -208,8 +208,49 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
 }
 
 impl Coverage {
-    /// The covered sky in the JSON serialization of IVOA MOC 2.0: `{"ORDER": [cells]}`.
+    /// The covered sky in the JSON serialization of IVOA MOC 2.0, `{"ORDER": [cells], ...}`,
+    /// normalized: four complete siblings are replaced by their parent, down to order 0.
     pub fn moc_json(&self) -> String {
-        serde_json::json!({ HEALPIX_ORDER.to_string(): self.cells }).to_string()
+        let mut map = serde_json::Map::new();
+        let mut level: Vec<u64> = self.cells.clone();
+        for order in (1..=HEALPIX_ORDER).rev() {
+            let (keep, parents) = merge_siblings(&level);
+            if !keep.is_empty() {
+                map.insert(order.to_string(), serde_json::json!(keep));
+            }
+            level = parents;
+        }
+        if !level.is_empty() {
+            map.insert("0".into(), serde_json::json!(level));
+        }
+        serde_json::Value::Object(map).to_string()
+    }
+}
+
+/// Split sorted cells into those kept at this order and the parents of complete sibling quads.
+fn merge_siblings(cells: &[u64]) -> (Vec<u64>, Vec<u64>) {
+    let (mut keep, mut parents) = (Vec::new(), Vec::new());
+    let mut i = 0;
+    while i < cells.len() {
+        let quad = cells[i] & !3;
+        if cells[i] == quad && cells.get(i + 3) == Some(&(quad + 3)) {
+            parents.push(quad >> 2);
+            i += 4;
+        } else {
+            keep.push(cells[i]);
+            i += 1;
+        }
+    }
+    (keep, parents)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn moc_merges_complete_quads() {
+        let (keep, parents) = merge_siblings(&[4, 5, 6, 7, 9, 12, 13, 14]);
+        assert_eq!((keep, parents), (vec![9, 12, 13, 14], vec![1]));
     }
 }

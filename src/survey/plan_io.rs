@@ -123,7 +123,7 @@ pub fn write_plan(plan: &Plan, plan_path: &Path, out: &PlanOutputs) -> Result<Co
         "moon": "not modelled: depths carry no Moon penalty",
     });
     write_table(&mut visits_frame(plan)?, &out.visits, &prov)?;
-    write_atomic(&out.spec, spec_toml(&plan.file, &visits_name)?.as_bytes())?;
+    write_atomic(&out.spec, spec_toml(&plan.file, plan_path, &visits_name)?.as_bytes())?;
     write_coverage(&cov, &plan.nights, head, out, &prov)?;
     Ok(cov)
 }

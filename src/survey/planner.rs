@@ -571,7 +571,7 @@ fn plan_night(s: &mut Scheduler, night: i64) -> NightLog {
 }
 
 /// The survey spec that goes with a plan's visits (TOML text).
-pub fn spec_toml(file: &PlanFile, visits_file_name: &str) -> Result<String> {
+pub fn spec_toml(file: &PlanFile, plan_path: &std::path::Path, visits_file_name: &str) -> Result<String> {
     let spec = super::spec::SpecFile {
         survey: super::spec::SurveySection {
             name: file.plan.name.clone(),
@@ -586,8 +586,13 @@ pub fn spec_toml(file: &PlanFile, visits_file_name: &str) -> Result<String> {
         linking: file.linking.clone(),
     };
     let body = toml::to_string(&spec).map_err(|e| Error::io(format!("cannot write the survey spec: {e}")))?;
+    let name = plan_path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     Ok(format!(
-        "# Survey spec written by `seine plan` from plan \"{}\".\n{body}",
+        "# Survey spec written by `seine plan` from plan \"{}\" ({name}).\n\
+         # Regenerate it and its visits with: seine plan --plan {name} --out {visits_file_name}\n{body}",
         file.plan.name
     ))
 }
