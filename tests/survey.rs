@@ -296,8 +296,9 @@ fn survey_loads_sorts_and_detects() {
     assert!((s.p_detect(0, 24.5, 0.1) - 0.4).abs() < 1e-3);
     assert_eq!(s.p_detect(2, 10.0, 0.05), 0.0, "below the rate window");
     assert_eq!(s.p_detect(2, 10.0, 150.0), 0.0, "above the rate window");
-    // Trailing (Vereš & Chesley 2017 detection loss): 12″/h × 300 s = 1″ = 1 FWHM → Δm = 1.25 log10 1.42.
-    let dm = 1.25 * 1.42f64.log10();
+    // Trailing (Vereš & Chesley 2017 detection loss, a = 0.42, b = 0.003): 12″/h × 300 s = 1″
+    // = 1 FWHM → Δm = 1.25 log10(1 + 0.42/1.003).
+    let dm = 1.25 * (1.0 + 0.42 / 1.003f64).log10();
     let expect = 0.9 / (1.0 + (dm / 0.3f64).exp());
     assert!((s.p_detect(1, 23.5, 12.0) - expect).abs() < 1e-12);
 }
