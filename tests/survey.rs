@@ -478,6 +478,8 @@ every_nights = {}
 [depth]
 zenith_mag = 24.0
 extinction_mag_per_airmass = 0.15
+moon = {}
+min_moon_separation_deg = {}
 "#,
         first + 1 + (rng.random::<f64>() * 6.0) as i64,
         u(rng, -20.0, -6.0),
@@ -493,13 +495,16 @@ extinction_mag_per_airmass = 0.15
         1 + (rng.random::<f64>() * 4.0) as usize,
         u(rng, 0.0, 90.0),
         1 + (rng.random::<f64>() * 2.0) as i64,
+        k % 2 == 1,
+        if k % 4 < 2 { 0.0 } else { u(rng, 10.0, 60.0) },
     )
 }
 
 #[test]
 fn no_random_plan_breaks_its_limits() {
     // Property: over many random plans, every visit (start, middle and end of the exposure) has
-    // the Sun below the twilight limit, airmass ≤ the maximum and solar elongation ≥ the minimum,
+    // the Sun below the twilight limit, airmass ≤ the maximum and solar elongation ≥ the minimum
+    // (and, at mid-exposure, the Moon no nearer than the plan's minimum separation),
     // rechecked here independently of the scheduler, on a fresh Earth grid (VSOP87 samples,
     // interpolation error < 1e-9 AU, checked against the direct evaluation in sky::earth).
     use seine::survey::planner::{PlanFile, make_plan};
@@ -509,6 +514,7 @@ fn no_random_plan_breaks_its_limits() {
         let text = random_plan(&mut rng, k);
         let file: PlanFile = toml::from_str(&text).unwrap_or_else(|e| panic!("{e}\n{text}"));
         let p = &file.plan;
+        let moon_min = file.depth.min_moon_separation_deg;
         let (limit, xmax, emin, exp) = (
             p.sun_alt_max_deg,
             p.max_airmass,
@@ -542,6 +548,14 @@ fn no_random_plan_breaks_its_limits() {
                 );
                 assert!(el >= emin, "plan {k} visit {i}: elongation {el}° < {emin}°\n{text}");
             }
+            let sky = LocalSky::new(&site, v.mjd[i], &grid.at(to_tdb_mjd(v.mjd[i], TimeScale::Utc).unwrap()));
+            let moon = seine::sky::moon::moon_view(v.mjd[i], &sky.site_geo, &sky.sun_dir);
+            let rho = seine::sky::frames::separation(&moon.dir, &dir) / DEG;
+            assert!(
+                rho >= moon_min,
+                "plan {k} visit {i}: {rho}° from the Moon (limit {moon_min}°)"
+            );
+            assert!(v.moon_penalty_mag[i] >= 0.0 && v.moon_penalty_mag[i] < 10.0);
             let night = seine::survey::visits::night_of(v.mjd[i], site.longitude_deg);
             assert!((p.first_night..=p.last_night).contains(&night));
             let log = plan.nights.iter().find(|n| n.night == night).unwrap();

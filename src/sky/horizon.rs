@@ -82,6 +82,8 @@ pub struct LocalSky {
     beta: Vector3<f64>,
     /// Topocentric geometric direction of the Sun, ICRS, unit vector.
     pub sun_dir: Vector3<f64>,
+    /// The site's geocentric position, ICRS axes, AU.
+    pub site_geo: Vector3<f64>,
 }
 
 impl LocalSky {
@@ -99,6 +101,7 @@ impl LocalSky {
             cos_lat: lat.cos(),
             beta: (earth.earth_bary_vel() + site_vel) / C_AU_PER_DAY,
             sun_dir: sun.normalize(),
+            site_geo: site_pos,
         }
     }
 

@@ -8,3 +8,4 @@ pub mod observer;
 pub mod photometry;
 pub mod ephemeris;
 pub mod horizon;
+pub mod moon;
