@@ -296,8 +296,9 @@ fn survey_loads_sorts_and_detects() {
     assert!((s.p_detect(0, 24.5, 0.1) - 0.4).abs() < 1e-3);
     assert_eq!(s.p_detect(2, 10.0, 0.05), 0.0, "below the rate window");
     assert_eq!(s.p_detect(2, 10.0, 150.0), 0.0, "above the rate window");
-    // Trailing (Vereš & Chesley 2017 detection loss): 12″/h × 300 s = 1″ = 1 FWHM → Δm = 1.25 log10 1.42.
-    let dm = 1.25 * 1.42f64.log10();
+    // Trailing (Vereš & Chesley 2017 detection loss, a = 0.42, b = 0.003): 12″/h × 300 s = 1″
+    // = 1 FWHM → Δm = 1.25 log10(1 + 0.42/1.003).
+    let dm = 1.25 * (1.0 + 0.42 / 1.003f64).log10();
     let expect = 0.9 / (1.0 + (dm / 0.3f64).exp());
     assert!((s.p_detect(1, 23.5, 12.0) - expect).abs() < 1e-12);
 }
@@ -324,6 +325,26 @@ fn assert_bad_survey(spec: &str, visits: &str, expect: &[&str]) {
     assert!(
         !out.exists() && !dir.path().join("report.moc.json").exists(),
         "no output on error"
+    );
+}
+
+#[test]
+fn mosaic_spec_loads_and_refuses_a_fill_factor() {
+    let mosaic = "shape = \"mosaic\"\nchips = [[[-0.5, -0.5], [0.5, -0.5], [0.5, 0.0], [-0.5, 0.0]], [[-0.5, 0.05], [0.5, 0.05], [0.5, 0.5]]]";
+    let spec = SPEC.replace("shape = \"circle\"\nradius_deg = 1.0", mosaic);
+    let dir = tmpdir();
+    let s = Survey::load(&write_spec(dir.path(), &spec, VISITS)).unwrap();
+    assert_eq!(s.fill_factor, 1.0);
+    assert!((s.footprint.area_sq_deg() - 0.5 - 0.225).abs() < 1e-3);
+    assert_bad_survey(
+        &format!("{spec}").replace("[efficiency]", "fill_factor = 0.9\n[efficiency]"),
+        VISITS,
+        &["field.fill_factor"],
+    );
+    assert_bad_survey(
+        &spec.replace("[0.5, 0.5]]]", "[0.5, 0.5], [0.4, 1e9]]]"),
+        VISITS,
+        &["field.chips[1]"],
     );
 }
 
@@ -364,7 +385,7 @@ fn bad_specs_name_the_key() {
     assert_bad_survey(
         &SPEC.replace("radius_deg = 1.0", "radius = 1.0"),
         v,
-        &["line 11", "unknown field `radius`"],
+        &["line 11", "unknown field `radius`", "did you mean `radius_deg`?"],
     );
     assert_bad_survey(
         &SPEC.replace("shape = \"circle\"", "shape = \"hexagon\""),
@@ -457,6 +478,8 @@ every_nights = {}
 [depth]
 zenith_mag = 24.0
 extinction_mag_per_airmass = 0.15
+moon = {}
+min_moon_separation_deg = {}
 "#,
         first + 1 + (rng.random::<f64>() * 6.0) as i64,
         u(rng, -20.0, -6.0),
@@ -472,13 +495,16 @@ extinction_mag_per_airmass = 0.15
         1 + (rng.random::<f64>() * 4.0) as usize,
         u(rng, 0.0, 90.0),
         1 + (rng.random::<f64>() * 2.0) as i64,
+        k % 2 == 1,
+        if k % 4 < 2 { 0.0 } else { u(rng, 10.0, 60.0) },
     )
 }
 
 #[test]
 fn no_random_plan_breaks_its_limits() {
     // Property: over many random plans, every visit (start, middle and end of the exposure) has
-    // the Sun below the twilight limit, airmass ≤ the maximum and solar elongation ≥ the minimum,
+    // the Sun below the twilight limit, airmass ≤ the maximum and solar elongation ≥ the minimum
+    // (and, at mid-exposure, the Moon no nearer than the plan's minimum separation),
     // rechecked here independently of the scheduler, on a fresh Earth grid (VSOP87 samples,
     // interpolation error < 1e-9 AU, checked against the direct evaluation in sky::earth).
     use seine::survey::planner::{PlanFile, make_plan};
@@ -488,6 +514,7 @@ fn no_random_plan_breaks_its_limits() {
         let text = random_plan(&mut rng, k);
         let file: PlanFile = toml::from_str(&text).unwrap_or_else(|e| panic!("{e}\n{text}"));
         let p = &file.plan;
+        let moon_min = file.depth.min_moon_separation_deg;
         let (limit, xmax, emin, exp) = (
             p.sun_alt_max_deg,
             p.max_airmass,
@@ -521,6 +548,14 @@ fn no_random_plan_breaks_its_limits() {
                 );
                 assert!(el >= emin, "plan {k} visit {i}: elongation {el}° < {emin}°\n{text}");
             }
+            let sky = LocalSky::new(&site, v.mjd[i], &grid.at(to_tdb_mjd(v.mjd[i], TimeScale::Utc).unwrap()));
+            let moon = seine::sky::moon::moon_view(v.mjd[i], &sky.site_geo, &sky.sun_dir);
+            let rho = seine::sky::frames::separation(&moon.dir, &dir) / DEG;
+            assert!(
+                rho >= moon_min,
+                "plan {k} visit {i}: {rho}° from the Moon (limit {moon_min}°)"
+            );
+            assert!(v.moon_penalty_mag[i] >= 0.0 && v.moon_penalty_mag[i] < 10.0);
             let night = seine::survey::visits::night_of(v.mjd[i], site.longitude_deg);
             assert!((p.first_night..=p.last_night).contains(&night));
             let log = plan.nights.iter().find(|n| n.night == night).unwrap();

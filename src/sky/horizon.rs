@@ -82,6 +82,8 @@ pub struct LocalSky {
     beta: Vector3<f64>,
     /// Topocentric geometric direction of the Sun, ICRS, unit vector.
     pub sun_dir: Vector3<f64>,
+    /// The site's geocentric position, ICRS axes, AU.
+    pub site_geo: Vector3<f64>,
 }
 
 impl LocalSky {
@@ -99,6 +101,7 @@ impl LocalSky {
             cos_lat: lat.cos(),
             beta: (earth.earth_bary_vel() + site_vel) / C_AU_PER_DAY,
             sun_dir: sun.normalize(),
+            site_geo: site_pos,
         }
     }
 
@@ -131,25 +134,28 @@ pub fn night_start_utc(site: &Site, night: i64) -> f64 {
 }
 
 /// The dark interval of a night: (evening, morning) UTC MJDs at which the Sun crosses
-/// `sun_alt_deg`, or `None` if the Sun never gets that low (or never rises above it) that
-/// night. `sun_at` gives the Sun's altitude in radians at a UTC MJD.
+/// `sun_alt_deg` around its lowest point, `None` if the Sun never gets that low that night,
+/// and the noon-to-noon bounds where it stays below (polar night). `sun_at` gives the Sun's
+/// altitude in radians at a UTC MJD.
 pub fn dark_interval(site: &Site, night: i64, sun_alt_deg: f64, sun_at: impl Fn(f64) -> f64) -> Option<(f64, f64)> {
     let noon = night_start_utc(site, night);
     let limit = sun_alt_deg * DEG;
     let f = |t: f64| sun_at(t) - limit;
     // The Sun's altitude has one minimum per day, near local midnight; sample to bracket it.
     let samples: Vec<(f64, f64)> = (0..=48).map(|i| noon + i as f64 / 48.0).map(|t| (t, f(t))).collect();
-    let (tmin, fmin) = samples
-        .iter()
-        .copied()
-        .fold((noon, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a });
-    if fmin >= 0.0 {
+    let imin = (0..samples.len())
+        .min_by(|&a, &b| samples[a].1.total_cmp(&samples[b].1))
+        .unwrap_or(0);
+    if samples[imin].1 >= 0.0 {
         return None;
     }
-    if samples[0].1 <= 0.0 || samples[48].1 <= 0.0 {
-        return None; // polar night or a Sun that never rises that high: no twilight crossing
-    }
-    Some((bisect(&f, noon, tmin), bisect(&f, tmin, noon + 1.0)))
+    // Walk out from the darkest sample to the first samples above the limit; bisect there, or
+    // keep the noon-to-noon bound when the Sun stays below the limit (polar night).
+    let lo = (0..imin).rev().find(|&i| samples[i].1 >= 0.0);
+    let hi = (imin + 1..samples.len()).find(|&i| samples[i].1 >= 0.0);
+    let dusk = lo.map_or(noon, |i| bisect(&f, samples[i].0, samples[i + 1].0));
+    let dawn = hi.map_or(noon + 1.0, |i| bisect(&f, samples[i - 1].0, samples[i].0));
+    Some((dusk, dawn))
 }
 
 /// Root of f between a and b (f(a), f(b) of opposite sign), to 1e-7 day (< 0.01 s).
@@ -165,6 +171,20 @@ fn bisect(f: &impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn polar_day_and_night() {
+        // At 80° N the Sun stays up through late June and down through late December.
+        let site = Site {
+            longitude_deg: 15.0,
+            latitude_deg: 80.0,
+            elevation_m: 0.0,
+        };
+        let at = |t: f64| sun_altitude(&site, t);
+        assert_eq!(dark_interval(&site, 61577, -12.0, at), None); // 2027-06-21
+        let (a, b) = dark_interval(&site, 61760, -12.0, at).unwrap(); // 2027-12-21
+        assert!((b - a - 1.0).abs() < 1e-9);
+    }
 
     #[test]
     fn kasten_young_at_zenith_and_horizon() {

@@ -6,5 +6,6 @@ pub mod earth;
 pub mod ephemeris;
 pub mod frames;
 pub mod horizon;
+pub mod moon;
 pub mod observer;
 pub mod photometry;

@@ -208,8 +208,79 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
 }
 
 impl Coverage {
-    /// The covered sky in the JSON serialization of IVOA MOC 2.0: `{"ORDER": [cells]}`.
+    /// The covered sky in the JSON serialization of IVOA MOC 2.0, `{"ORDER": [cells], ...}`,
+    /// normalized: four complete siblings are replaced by their parent, down to order 0.
     pub fn moc_json(&self) -> String {
-        serde_json::json!({ HEALPIX_ORDER.to_string(): self.cells }).to_string()
+        let mut map = serde_json::Map::new();
+        let mut level: Vec<u64> = self.cells.clone();
+        for order in (1..=HEALPIX_ORDER).rev() {
+            let (keep, parents) = merge_siblings(&level);
+            if !keep.is_empty() {
+                map.insert(order.to_string(), serde_json::json!(keep));
+            }
+            level = parents;
+        }
+        if !level.is_empty() {
+            map.insert("0".into(), serde_json::json!(level));
+        }
+        serde_json::Value::Object(map).to_string()
+    }
+}
+
+/// Split sorted cells into those kept at this order and the parents of complete sibling quads.
+fn merge_siblings(cells: &[u64]) -> (Vec<u64>, Vec<u64>) {
+    let (mut keep, mut parents) = (Vec::new(), Vec::new());
+    let mut i = 0;
+    while i < cells.len() {
+        let quad = cells[i] & !3;
+        if cells[i] == quad && cells.get(i + 3) == Some(&(quad + 3)) {
+            parents.push(quad >> 2);
+            i += 4;
+        } else {
+            keep.push(cells[i]);
+            i += 1;
+        }
+    }
+    (keep, parents)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn one_field_covers_its_own_area() {
+        // The cell count of one 2° circle matches its cap area 2π(1 − cos r) = 12.56 deg² to the
+        // cell-edge error (perimeter 12.6° × ~0.1° cell width / 2 ≈ 0.6 deg² at most).
+        let fp = Footprint::Circle { radius_deg: 2.0 };
+        let p = |night| Pointing {
+            ra_deg: 359.5,
+            dec_deg: 10.0,
+            rotation_deg: 0.0,
+            depth_mag: 23.0,
+            night,
+            field: 7,
+        };
+        let c = coverage(&fp, &[p(1), p(1), p(2)]);
+        assert!(
+            (c.covered_sq_deg - fp.area_sq_deg()).abs() < 0.6,
+            "{}",
+            c.covered_sq_deg
+        );
+        assert_eq!((c.n_visits, c.n_fields, c.n_nights_used), (3, 1, 2));
+        assert_eq!(c.visits_per_field.get(&3), Some(&1));
+        let two: f64 = c.by_ecliptic_latitude.iter().map(|b| b.covered_2_nights_sq_deg).sum();
+        assert!(
+            (two - c.covered_sq_deg).abs() < 1e-9,
+            "every cell was seen on both nights"
+        );
+        let five: f64 = c.by_ecliptic_latitude.iter().map(|b| b.covered_5_nights_sq_deg).sum();
+        assert_eq!(five, 0.0);
+    }
+
+    #[test]
+    fn moc_merges_complete_quads() {
+        let (keep, parents) = merge_siblings(&[4, 5, 6, 7, 9, 12, 13, 14]);
+        assert_eq!((keep, parents), (vec![9, 12, 13, 14], vec![1]));
     }
 }

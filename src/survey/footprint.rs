@@ -124,6 +124,9 @@ impl Footprint {
 
 /// Even–odd ray casting in the plane (points on an edge may fall either way).
 fn point_in_polygon(poly: &[(f64, f64)], x: f64, y: f64) -> bool {
+    if poly.len() < 3 {
+        return false;
+    }
     let mut inside = false;
     let mut j = poly.len() - 1;
     for i in 0..poly.len() {

@@ -85,6 +85,7 @@ fn visits_frame(plan: &Plan) -> Result<DataFrame> {
         Column::new("airmass".into(), v.airmass.clone()),
         Column::new("sun_alt_deg".into(), v.sun_alt_deg.clone()),
         Column::new("solar_elongation_deg".into(), v.solar_elongation_deg.clone()),
+        Column::new("moon_penalty_mag".into(), v.moon_penalty_mag.clone()),
     ];
     DataFrame::new(n, cols).map_err(|e| crate::Error::io(format!("visits table: {e}")))
 }
@@ -120,10 +121,10 @@ pub fn write_plan(plan: &Plan, plan_path: &Path, out: &PlanOutputs) -> Result<Co
         "plan": plan.file.plan.name,
         "n_fields_in_region": plan.fields.len(),
         "field_area_sq_deg": plan.footprint.area_sq_deg(),
-        "moon": "not modelled: depths carry no Moon penalty",
+        "moon_penalty": plan.file.depth.moon,
     });
     write_table(&mut visits_frame(plan)?, &out.visits, &prov)?;
-    write_atomic(&out.spec, spec_toml(&plan.file, &visits_name)?.as_bytes())?;
+    write_atomic(&out.spec, spec_toml(&plan.file, plan_path, &visits_name)?.as_bytes())?;
     write_coverage(&cov, &plan.nights, head, out, &prov)?;
     Ok(cov)
 }

@@ -7,7 +7,8 @@
 //! nights observed so far, then lowest airmass. Every visit is checked at the start, middle
 //! and end of its exposure: Sun below the limit, airmass below the maximum, solar elongation
 //! above the minimum; a visit that fails is not scheduled. The depth is the zenith depth less
-//! extinction × (airmass − 1). The Moon is not modelled (no Moon penalty).
+//! extinction × (airmass − 1), less an optional Moon penalty (low-precision Moon, Krisciunas &
+//! Schaefer 1991 sky brightness; see `sky::moon`), with an optional minimum Moon separation.
 
 use std::collections::BTreeMap;
 
@@ -25,6 +26,7 @@ use crate::rng::{Purpose, run_stream};
 use crate::sky::earth::EphemerisGrid;
 use crate::sky::frames::{ecliptic_to_icrs, icrs_to_ecliptic, lon_lat, radec_to_galactic, unit_vector};
 use crate::sky::horizon::{LocalSky, airmass_kasten_young, dark_interval};
+use crate::sky::moon::{moon_sky_nl, moon_view, nl_from_mag_arcsec2};
 use crate::sky::observer::Site;
 use crate::time::{TimeScale, to_tdb_mjd};
 
@@ -140,6 +142,20 @@ pub struct DepthModel {
     pub zenith_mag: f64,
     #[serde(default)]
     pub extinction_mag_per_airmass: f64,
+    /// Lose depth to moonlight (Krisciunas & Schaefer 1991 sky brightness; see sky::moon).
+    #[serde(default)]
+    pub moon: bool,
+    /// Dark-sky brightness at the zenith, V mag/arcsec² (used with `moon`).
+    #[serde(default = "default_dark_sky")]
+    pub dark_sky_mag_arcsec2: f64,
+    /// Never point closer than this to the Moon (0: no limit).
+    #[serde(default)]
+    pub min_moon_separation_deg: f64,
+}
+
+/// 21.7 V mag/arcsec²: a dark site's zenith sky (common practice, no source).
+fn default_dark_sky() -> f64 {
+    21.7
 }
 
 /// One tile of the target region.
@@ -176,6 +192,7 @@ pub struct PlannedVisits {
     pub airmass: Vec<f64>,
     pub sun_alt_deg: Vec<f64>,
     pub solar_elongation_deg: Vec<f64>,
+    pub moon_penalty_mag: Vec<f64>,
 }
 
 pub struct Plan {
@@ -282,6 +299,14 @@ impl PlanFile {
             (
                 (0.0..=2.0).contains(&self.depth.extinction_mag_per_airmass),
                 "depth.extinction_mag_per_airmass: expected 0..2".into(),
+            ),
+            (
+                (15.0..=25.0).contains(&self.depth.dark_sky_mag_arcsec2),
+                "depth.dark_sky_mag_arcsec2: expected 15..25 V mag/arcsec²".into(),
+            ),
+            (
+                (0.0..=150.0).contains(&self.depth.min_moon_separation_deg),
+                "depth.min_moon_separation_deg: expected 0..150".into(),
             ),
             (
                 self.field.shape != "mosaic",
@@ -446,18 +471,51 @@ impl Scheduler<'_> {
             return false;
         }
         let (_, x, sun, elong) = checks[1];
+        let Some(moon_mag) = self.moon_penalty(i, start + 0.5 * exp) else {
+            return false;
+        };
         let o = &mut self.out;
         o.mjd.push(start + 0.5 * exp);
         o.ra_deg.push(f.ra / DEG);
         o.dec_deg.push(f.dec / DEG);
         o.rotation_deg.push(f.rotation_deg);
+        let d = &self.file.depth;
         o.depth_mag
-            .push(self.file.depth.zenith_mag - self.file.depth.extinction_mag_per_airmass * (x - 1.0));
+            .push(d.zenith_mag - d.extinction_mag_per_airmass * (x - 1.0) - moon_mag);
+        o.moon_penalty_mag.push(moon_mag);
         o.field_id.push(f.id as i64);
         o.airmass.push(x);
         o.sun_alt_deg.push(sun);
         o.solar_elongation_deg.push(elong);
         true
+    }
+
+    /// The Moon's depth penalty (mag) for field `i` at `t`, or `None` if the field is too near the Moon.
+    fn moon_penalty(&self, i: usize, t: f64) -> Option<f64> {
+        let d = &self.file.depth;
+        if !d.moon && d.min_moon_separation_deg <= 0.0 {
+            return Some(0.0);
+        }
+        let sky = self.sky(t);
+        let f = &self.fields[i];
+        let moon = moon_view(t, &sky.site_geo, &sky.sun_dir);
+        let rho = crate::sky::frames::separation(&moon.dir, &f.dir) / DEG;
+        if rho < d.min_moon_separation_deg {
+            return None;
+        }
+        if !d.moon {
+            return Some(0.0);
+        }
+        let z = |dir: &Vector3<f64>| 90.0 - sky.altitude(dir) / DEG;
+        let b = moon_sky_nl(
+            moon.phase_deg,
+            rho,
+            z(&moon.dir),
+            z(&f.dir),
+            d.extinction_mag_per_airmass,
+        );
+        let b0 = nl_from_mag_arcsec2(d.dark_sky_mag_arcsec2);
+        Some(1.25 * ((b0 + b) / b0).log10())
     }
 
     /// Fill one night's dark time with blocks; returns the number of visits.
@@ -571,7 +629,7 @@ fn plan_night(s: &mut Scheduler, night: i64) -> NightLog {
 }
 
 /// The survey spec that goes with a plan's visits (TOML text).
-pub fn spec_toml(file: &PlanFile, visits_file_name: &str) -> Result<String> {
+pub fn spec_toml(file: &PlanFile, plan_path: &std::path::Path, visits_file_name: &str) -> Result<String> {
     let spec = super::spec::SpecFile {
         survey: super::spec::SurveySection {
             name: file.plan.name.clone(),
@@ -586,8 +644,13 @@ pub fn spec_toml(file: &PlanFile, visits_file_name: &str) -> Result<String> {
         linking: file.linking.clone(),
     };
     let body = toml::to_string(&spec).map_err(|e| Error::io(format!("cannot write the survey spec: {e}")))?;
+    let name = plan_path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
     Ok(format!(
-        "# Survey spec written by `seine plan` from plan \"{}\".\n{body}",
+        "# Survey spec written by `seine plan` from plan \"{}\" ({name}).\n\
+         # Regenerate it and its visits with: seine plan --plan {name} --out {visits_file_name}\n{body}",
         file.plan.name
     ))
 }

@@ -124,8 +124,44 @@ pub fn parse_toml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Re
             .map(|s| line_col(text, s.start))
             .map(|(l, c)| format!("line {l}, column {c}: "))
             .unwrap_or_default();
-        Error::input(format!("{}: {at}{}", path.display(), e.message().trim()))
+        let msg = e.message().trim().replace('\n', " ");
+        Error::input(format!("{}: {at}{msg}{}", path.display(), suggestion(&msg)))
     })
+}
+
+/// For serde's "unknown field `x`, expected one of `a`, `b`": " (did you mean `a`?)" when a
+/// valid key is within two edits (or contains the unknown one).
+fn suggestion(msg: &str) -> String {
+    let Some(rest) = msg.strip_prefix("unknown field `") else {
+        return String::new();
+    };
+    let Some((bad, expected)) = rest.split_once('`') else {
+        return String::new();
+    };
+    let best = expected
+        .split('`')
+        .skip(1)
+        .step_by(2)
+        .map(|k| (edit_distance(bad, k), k))
+        .filter(|(d, k)| *d <= 2 || k.contains(bad))
+        .min();
+    best.map(|(_, k)| format!(" (did you mean `{k}`?)")).unwrap_or_default()
+}
+
+/// Levenshtein distance (small strings only).
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut prev = row[0];
+        row[0] = i + 1;
+        for j in 0..b.len() {
+            let cur = row[j + 1];
+            row[j + 1] = (prev + (ca != b[j]) as usize).min(row[j] + 1).min(cur + 1);
+            prev = cur;
+        }
+    }
+    row[b.len()]
 }
 
 fn line_col(text: &str, offset: usize) -> (usize, usize) {
