@@ -84,17 +84,28 @@ fn sun_bary_pos(tdb_mjd: f64) -> Vector3<f64> {
     vsop_to_icrs(s.x, s.y, s.z)
 }
 
+/// The Earth from a direct VSOP87 evaluation (velocity by a central difference); the Sun's
+/// fields are left at zero for the caller to fill.
+fn earth_exact(tdb_mjd: f64) -> EarthSun {
+    const H: f64 = 0.01; // see earth_sun_exact
+    let (e0, e1) = (earth_helio_pos(tdb_mjd - H), earth_helio_pos(tdb_mjd + H));
+    EarthSun {
+        earth_helio: earth_helio_pos(tdb_mjd),
+        earth_helio_vel: (e1 - e0) / (2.0 * H),
+        sun_bary: Vector3::zeros(),
+        sun_bary_vel: Vector3::zeros(),
+    }
+}
+
 /// Earth and Sun from a direct VSOP87 evaluation; velocities by a central difference over
 /// ±0.01 day (truncation error ~ h² |x'''| / 6 < 1e-11 AU/day).
 pub fn earth_sun_exact(tdb_mjd: f64) -> EarthSun {
     const H: f64 = 0.01;
-    let (e0, e1) = (earth_helio_pos(tdb_mjd - H), earth_helio_pos(tdb_mjd + H));
     let (s0, s1) = (sun_bary_pos(tdb_mjd - H), sun_bary_pos(tdb_mjd + H));
     EarthSun {
-        earth_helio: earth_helio_pos(tdb_mjd),
-        earth_helio_vel: (e1 - e0) / (2.0 * H),
         sun_bary: sun_bary_pos(tdb_mjd),
         sun_bary_vel: (s1 - s0) / (2.0 * H),
+        ..earth_exact(tdb_mjd)
     }
 }
 
@@ -107,7 +118,7 @@ pub struct EphemerisGrid {
 
 /// Equally spaced samples of a vector function of time.
 #[derive(Debug, Clone)]
-struct Samples {
+pub struct Samples {
     start: f64,
     step: f64,
     values: Vec<Vector3<f64>>,
@@ -192,7 +203,11 @@ fn lagrange4(s: f64) -> ([f64; 4], [f64; 4]) {
 /// Where Earth and Sun states come from: a direct evaluation for a few epochs, a grid for many.
 #[derive(Debug, Clone)]
 pub enum EarthSource {
-    Exact,
+    /// Few epochs over a long span: the Earth evaluated directly at each; the Sun from its
+    /// 4-day samples where those are cheaper than direct evaluations (eight planetary series).
+    Exact {
+        sun: Option<Samples>,
+    },
     Grid(EphemerisGrid),
 }
 
@@ -202,16 +217,30 @@ impl EarthSource {
         let (lo, hi) = tdb
             .iter()
             .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
-        if tdb.is_empty() || ((hi - lo) / EphemerisGrid::STEP_DAYS) as usize > tdb.len() {
-            EarthSource::Exact
-        } else {
-            EarthSource::Grid(EphemerisGrid::covering(lo, hi))
+        if tdb.is_empty() {
+            return EarthSource::Exact { sun: None };
+        }
+        if ((hi - lo) / EphemerisGrid::STEP_DAYS) as usize <= tdb.len() {
+            return EarthSource::Grid(EphemerisGrid::covering(lo, hi));
+        }
+        // A direct Sun costs three evaluations per epoch (for its velocity); samples cost one per 4 days.
+        let sun_samples = ((hi - lo) / EphemerisGrid::SUN_STEP_DAYS) as usize <= 3 * tdb.len();
+        EarthSource::Exact {
+            sun: sun_samples.then(|| Samples::new(lo, hi, EphemerisGrid::SUN_STEP_DAYS, sun_bary_pos)),
         }
     }
 
     pub fn at(&self, tdb_mjd: f64) -> EarthSun {
         match self {
-            EarthSource::Exact => earth_sun_exact(tdb_mjd),
+            EarthSource::Exact { sun: Some(sun) } if sun.contains(tdb_mjd) => {
+                let (sun_bary, sun_bary_vel) = sun.at(tdb_mjd);
+                EarthSun {
+                    sun_bary,
+                    sun_bary_vel,
+                    ..earth_exact(tdb_mjd)
+                }
+            }
+            EarthSource::Exact { .. } => earth_sun_exact(tdb_mjd),
             EarthSource::Grid(g) => g.at(tdb_mjd),
         }
     }
