@@ -1,0 +1,8 @@
+//! Selection-function analyses on top of the engine: per-object detectability with angles
+//! redrawn, bias maps over (ϖ, Ω), the bias-aware clustering test, model comparison by
+//! likelihood, and cadence yields; plus the statistics they rest on.
+
+pub mod binomial;
+pub mod circular;
+pub mod likelihood;
+pub mod two_sample;
