@@ -180,6 +180,12 @@ fn yield_and_compare_models_write_tables_and_conclusions() {
     );
     let ratio = csv_col_nan(&d.path().join("y/yield.csv"), "ratio_to_best");
     assert!(ratio.iter().filter(|r| r.is_finite()).all(|r| *r >= 0.0));
+    // Rows come in blocks of (wide, patch, any) per bin: "any" finds at least what each finds.
+    let found = csv_col(&d.path().join("y/yield.csv"), "discovered");
+    for b in found.chunks(3) {
+        assert!(b[2] >= b[0].max(b[1]), "{b:?}");
+    }
+    assert!(found.iter().sum::<f64>() > 0.0);
     // Two invented "models": the catalogue itself cloned with fresh M, and a shifted copy.
     let cat = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
     let mut m1 = String::from(cat.lines().next().unwrap());

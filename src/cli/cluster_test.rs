@@ -145,8 +145,12 @@ fn conclude(t: &ClusterTest) -> String {
     );
     if !t.unconstrained_ids.is_empty() {
         s += &format!(
-            "\n  Warning: {} objects were never discovered on their bias-map grid and were drawn uniformly: {:?}.",
-            t.unconstrained_ids.len(),
+            "\n  Warning: {} never discovered on its bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
+            if t.unconstrained_ids.len() == 1 {
+                "1 object was".to_string()
+            } else {
+                format!("{} objects were", t.unconstrained_ids.len())
+            },
             t.unconstrained_ids
         );
     }
