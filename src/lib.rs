@@ -3,6 +3,7 @@
 //! The library holds every stage (time, orbits, sky, population, survey, engine, analysis,
 //! I/O, report); the `seine` binary is a thin command-line layer over it.
 
+pub mod analysis;
 pub mod engine;
 pub mod error;
 pub mod io;

@@ -78,3 +78,150 @@ pub fn check_unique_survey_names(surveys: &[seine::engine::PreparedSurvey]) -> R
     }
     Ok(())
 }
+
+/// `--format parquet|csv`.
+pub fn parse_format(s: &str) -> Result<seine::io::table::Format> {
+    match s {
+        "parquet" => Ok(seine::io::table::Format::Parquet),
+        "csv" => Ok(seine::io::table::Format::Csv),
+        other => Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
+    }
+}
+
+/// Load and prepare every `--survey`, recording each spec in the provenance.
+pub fn load_surveys(
+    paths: &[std::path::PathBuf],
+    prov: &mut seine::io::Provenance,
+) -> Result<Vec<seine::engine::PreparedSurvey>> {
+    let mut surveys = Vec::new();
+    for path in paths {
+        let s = seine::survey::Survey::load(path)?;
+        prov.add_input(path)?;
+        surveys.push(seine::engine::PreparedSurvey::new(s));
+    }
+    check_unique_survey_names(&surveys)?;
+    Ok(surveys)
+}
+
+/// Where the analysis commands write: `DIR/<stem>.<ext>` tables and `DIR/summary.json`.
+pub struct OutDir {
+    pub dir: std::path::PathBuf,
+    pub format: seine::io::table::Format,
+    pub provenance: seine::io::Provenance,
+}
+
+impl OutDir {
+    pub fn table(&self, stem: &str) -> std::path::PathBuf {
+        self.dir.join(format!("{stem}.{}", self.format.extension()))
+    }
+
+    /// Write a table built from columns (all of one length).
+    pub fn write(&self, stem: &str, columns: Vec<polars::prelude::Column>) -> Result<std::path::PathBuf> {
+        let height = columns.first().map_or(0, |c| c.len());
+        let mut df = polars::prelude::DataFrame::new(height, columns).map_err(|e| Error::io(e.to_string()))?;
+        let path = self.table(stem);
+        seine::io::table::write_table(&mut df, &path, &self.provenance)?;
+        Ok(path)
+    }
+
+    /// Write `summary.json`: the command's numbers, its conclusion and the provenance.
+    pub fn summary(&self, mut value: serde_json::Value, conclusion: &str) -> Result<std::path::PathBuf> {
+        value["conclusion"] = conclusion.into();
+        value["provenance"] = serde_json::to_value(&self.provenance).map_err(|e| Error::io(e.to_string()))?;
+        let path = self.dir.join("summary.json");
+        let text = serde_json::to_string_pretty(&value).map_err(|e| Error::io(e.to_string()))?;
+        seine::io::table::write_atomic(&path, text.as_bytes())?;
+        Ok(path)
+    }
+}
+
+/// A column of named values.
+pub fn col<T>(name: &str, v: Vec<T>) -> polars::prelude::Column
+where
+    polars::prelude::Series: polars::prelude::NamedFrom<Vec<T>, [T]>,
+{
+    <polars::prelude::Series as polars::prelude::NamedFrom<Vec<T>, [T]>>::new(name.into(), v).into()
+}
+
+/// Comma-separated increasing bin edges for `option`.
+pub fn parse_edges(option: &str, s: &str) -> Result<Vec<f64>> {
+    let v: Vec<f64> = s
+        .split(',')
+        .map(|x| x.trim().parse::<f64>())
+        .collect::<std::result::Result<_, _>>()
+        .map_err(|_| Error::input(format!("{option} `{s}`: expected comma-separated numbers")))?;
+    if v.len() < 2 || v.windows(2).any(|w| !(w[1] > w[0])) {
+        return Err(Error::input(format!(
+            "{option} `{s}`: expected at least two increasing bin edges"
+        )));
+    }
+    Ok(v)
+}
+
+/// A percentage with sensible digits.
+pub fn pct(p: f64) -> String {
+    let x = 100.0 * p;
+    if x >= 10.0 {
+        format!("{x:.1}%")
+    } else if x >= 0.1 {
+        format!("{x:.2}%")
+    } else {
+        format!("{x:.3}%")
+    }
+}
+
+/// Options every analysis command shares.
+#[derive(clap::Args, Debug, Clone)]
+pub struct RunArgs {
+    /// Output directory: the command's tables and summary.json.
+    #[arg(long)]
+    pub out: std::path::PathBuf,
+    /// Run seed: with the object ids it fixes every random draw.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
+    /// Table format: parquet or csv.
+    #[arg(long, default_value = "parquet")]
+    pub format: String,
+    /// No conclusion or file list on stderr.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+impl RunArgs {
+    /// Size the pool and start the provenance (with the seed).
+    pub fn start(&self) -> Result<seine::io::Provenance> {
+        set_threads(self.threads)?;
+        Ok(seine::io::Provenance::current().with_seed(self.seed))
+    }
+
+    pub fn out_dir(&self, provenance: seine::io::Provenance) -> Result<OutDir> {
+        Ok(OutDir {
+            dir: self.out.clone(),
+            format: parse_format(&self.format)?,
+            provenance,
+        })
+    }
+
+    /// Print the conclusion and what was written, unless quiet.
+    pub fn report(&self, conclusion: &str, written: &[&std::path::Path]) {
+        if !self.quiet {
+            eprintln!("{conclusion}");
+            let list: Vec<String> = written.iter().map(|p| p.display().to_string()).collect();
+            eprintln!("wrote {}", list.join(", "));
+        }
+    }
+}
+
+/// The columns of a list of proportions: discovered, fraction, std_error, wilson_lo, wilson_hi.
+pub fn proportion_columns(p: &[seine::analysis::binomial::Proportion]) -> Vec<polars::prelude::Column> {
+    vec![
+        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
+        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
+        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
+        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
+        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
+    ]
+}

@@ -4,12 +4,17 @@ use clap::{Parser, Subcommand};
 
 use seine::Result;
 
+mod bias_map;
+mod cluster_test;
 mod common;
+mod compare_models;
 mod demo;
+mod detectability;
 mod draw;
 mod ephemeris;
 mod observe;
 mod plan;
+mod yields;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -35,6 +40,16 @@ pub enum Command {
     Plan(plan::Args),
     /// Draw a synthetic population from a spec (or clone simulation particles) into an objects table.
     Draw(draw::Args),
+    /// Per-object discovery probability with unobserved angles redrawn; selection function on (a, q, i, H) bins.
+    Detectability(detectability::Args),
+    /// Discovery probability of each catalogue object over a (varpi, node) grid, M redrawn (AJ 154, 65).
+    BiasMap(bias_map::Args),
+    /// Bias-aware significance of the clustering of varpi, node, poles and perihelia (AJ 157, 62), beside the naive one.
+    ClusterTest(cluster_test::Args),
+    /// Compare surveys on one population: discoveries by distance at discovery, H and a, with errors.
+    Yield(yields::Args),
+    /// Likelihood of the observed catalogue under each model's detected distribution, ratio, fit and marginal tests.
+    CompareModels(compare_models::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -43,6 +58,11 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::CompareModels(a) => compare_models::run(a),
+        Command::Yield(a) => yields::run(a),
+        Command::ClusterTest(a) => cluster_test::run(a),
+        Command::BiasMap(a) => bias_map::run(a),
+        Command::Detectability(a) => detectability::run(a),
         Command::Draw(a) => draw::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),

@@ -51,3 +51,41 @@ pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
     std::fs::write(&p, text).unwrap();
     p
 }
+
+/// Write a geocentric survey (circle fields of `radius` deg, step efficiency at `depth`)
+/// with one visit per (night, field) and load it.
+pub fn survey(
+    dir: &Path,
+    name: &str,
+    radius: f64,
+    depth: f64,
+    fields: &[(f64, f64)],
+    nights: &[f64],
+) -> seine::engine::PreparedSurvey {
+    let mut csv = String::from("mjd,ra_deg,dec_deg,band,depth_mag\n");
+    for t in nights {
+        for (k, (ra, dec)) in fields.iter().enumerate() {
+            csv.push_str(&format!("{},{ra},{dec},r,{depth}\n", t + 0.01 * k as f64));
+        }
+    }
+    std::fs::write(dir.join(format!("{name}.csv")), csv).unwrap();
+    let spec = format!(
+        "[survey]\nname = \"{name}\"\nvisits = \"{name}.csv\"\n[field]\nshape = \"circle\"\nradius_deg = {radius}\n\
+         [efficiency]\nmodel = \"step\"\n"
+    );
+    let p = dir.join(format!("{name}.toml"));
+    std::fs::write(&p, spec).unwrap();
+    seine::engine::PreparedSurvey::new(seine::survey::Survey::load(&p).unwrap_or_else(|e| panic!("{e}")))
+}
+
+/// Fields on the ecliptic at these longitudes (deg), as equatorial (RA, Dec).
+pub fn ecliptic_fields(lons: &[f64]) -> Vec<(f64, f64)> {
+    let eps = 23.439_f64.to_radians();
+    lons.iter()
+        .map(|l| {
+            let l = l.to_radians();
+            let (ra, dec) = ((l.sin() * eps.cos()).atan2(l.cos()), (eps.sin() * l.sin()).asin());
+            (ra.to_degrees().rem_euclid(360.0), dec.to_degrees())
+        })
+        .collect()
+}

@@ -1,0 +1,221 @@
+//! Bias maps: for one catalogue object, the probability that the surveys would have
+//! discovered it as a function of its longitude of perihelion ϖ (or argument of perihelion
+//! ω) and its longitude of the ascending node Ω, with a, e, i and H fixed and the mean
+//! anomaly redrawn — the method of AJ 154, 65 (2017) for the observational bias in the
+//! clustering of distant eccentric Kuiper-belt objects.
+//!
+//! Each cell of an n_x × n_node grid gets `per_cell` trials at angles drawn uniformly inside
+//! the cell, M uniform; trial k of cell c is trial number c·per_cell + k of the object, with
+//! the streams of `trials.rs`.
+
+use std::f64::consts::TAU;
+
+use rand::RngExt;
+use rand_pcg::Pcg64;
+use rayon::prelude::*;
+
+use super::trials::{TrialObject, angle_stream, trial_id};
+use crate::engine::PreparedSurvey;
+use crate::io::objects::ObjectTable;
+
+/// The angle on the map's first axis.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum MapAxes {
+    /// (ϖ, Ω): ω = ϖ − Ω.
+    VarpiNode,
+    /// (ω, Ω).
+    ArgperiNode,
+}
+
+impl MapAxes {
+    pub fn x_name(self) -> &'static str {
+        match self {
+            MapAxes::VarpiNode => "varpi",
+            MapAxes::ArgperiNode => "argperi",
+        }
+    }
+    /// ω from the first-axis angle and Ω.
+    pub fn argperi(self, x: f64, node: f64) -> f64 {
+        match self {
+            MapAxes::VarpiNode => (x - node).rem_euclid(TAU),
+            MapAxes::ArgperiNode => x,
+        }
+    }
+}
+
+/// The grid of a bias map.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MapGrid {
+    pub axes: MapAxes,
+    pub n_x: usize,
+    pub n_node: usize,
+    pub per_cell: u64,
+}
+
+/// One object's bias map: trials and discoveries per cell, row-major (x outer, Ω inner).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BiasMap {
+    pub id: i64,
+    pub grid: MapGrid,
+    pub trials: Vec<u64>,
+    pub discoveries: Vec<u64>,
+}
+
+impl BiasMap {
+    /// Discovery probability of cell c.
+    pub fn p(&self, c: usize) -> f64 {
+        if self.trials[c] == 0 {
+            0.0
+        } else {
+            self.discoveries[c] as f64 / self.trials[c] as f64
+        }
+    }
+
+    /// Mean discovery probability over the map (uniform in both angles).
+    pub fn mean_p(&self) -> f64 {
+        self.discoveries.iter().sum::<u64>() as f64 / self.trials.iter().sum::<u64>().max(1) as f64
+    }
+
+    /// (x_lo, x_hi, node_lo, node_hi) of cell c, radians.
+    pub fn cell_bounds(&self, c: usize) -> (f64, f64, f64, f64) {
+        let (ix, iy) = (c / self.grid.n_node, c % self.grid.n_node);
+        let (dx, dy) = (TAU / self.grid.n_x as f64, TAU / self.grid.n_node as f64);
+        (
+            ix as f64 * dx,
+            (ix + 1) as f64 * dx,
+            iy as f64 * dy,
+            (iy + 1) as f64 * dy,
+        )
+    }
+
+    /// A sampler of (x, Ω) with density ∝ the map: the angles of an isotropic population
+    /// conditioned on discovery. None when nothing was ever discovered.
+    pub fn sampler(&self) -> Option<MapSampler> {
+        let mut acc = 0.0;
+        let cumulative: Vec<f64> = (0..self.trials.len())
+            .map(|c| {
+                acc += self.p(c);
+                acc
+            })
+            .collect();
+        (acc > 0.0).then(|| MapSampler {
+            cumulative,
+            grid: self.grid,
+        })
+    }
+}
+
+/// Draws (x, Ω) from a bias map: a cell by its probability, then uniform inside it.
+#[derive(Debug, Clone)]
+pub struct MapSampler {
+    cumulative: Vec<f64>,
+    grid: MapGrid,
+}
+
+impl MapSampler {
+    pub fn sample(&self, rng: &mut Pcg64) -> (f64, f64) {
+        let u = rng.random::<f64>() * self.cumulative[self.cumulative.len() - 1];
+        let c = self
+            .cumulative
+            .partition_point(|x| *x <= u)
+            .min(self.cumulative.len() - 1);
+        let (ix, iy) = (c / self.grid.n_node, c % self.grid.n_node);
+        let x = (ix as f64 + rng.random::<f64>()) * TAU / self.grid.n_x as f64;
+        let node = (iy as f64 + rng.random::<f64>()) * TAU / self.grid.n_node as f64;
+        (x, node)
+    }
+}
+
+/// Bias maps of catalogue rows `rows`, objects in parallel.
+pub fn bias_maps(
+    objects: &ObjectTable,
+    rows: std::ops::Range<usize>,
+    surveys: &[PreparedSurvey],
+    grid: MapGrid,
+    seed: u64,
+) -> Vec<BiasMap> {
+    rows.into_par_iter()
+        .map_init(Vec::new, |scratch, i| one_map(objects, i, surveys, grid, seed, scratch))
+        .collect()
+}
+
+fn one_map(
+    objects: &ObjectTable,
+    i: usize,
+    surveys: &[PreparedSurvey],
+    grid: MapGrid,
+    seed: u64,
+    scratch: &mut Vec<usize>,
+) -> BiasMap {
+    let cells = grid.n_x * grid.n_node;
+    let per_object = cells as u64 * grid.per_cell;
+    let mut obj = TrialObject::new(objects, i);
+    let base = obj.elements();
+    let mut map = BiasMap {
+        id: objects.ids[i],
+        grid,
+        trials: vec![0; cells],
+        discoveries: vec![0; cells],
+    };
+    for c in 0..cells {
+        let (x0, x1, n0, n1) = map.cell_bounds(c);
+        for k in 0..grid.per_cell {
+            let tid = trial_id(objects.ids[i], c as u64 * grid.per_cell + k, per_object);
+            let mut rng = angle_stream(seed, tid);
+            let mut el = base;
+            // Fixed draw order: M, then the first-axis angle, then Ω.
+            el.mean_anomaly = rng.random::<f64>() * TAU;
+            let x = x0 + rng.random::<f64>() * (x1 - x0);
+            el.node = n0 + rng.random::<f64>() * (n1 - n0);
+            el.argperi = grid.axes.argperi(x, el.node);
+            map.trials[c] += 1;
+            map.discoveries[c] += obj.observe(el, surveys, seed, tid, scratch).discovered() as u64;
+        }
+    }
+    map
+}
+
+/// A heat map of one bias map as a small standalone SVG (x across, Ω up; grey scale from
+/// white = 0 to black = the map's maximum), with the object's own angles marked if given.
+pub fn svg(map: &BiasMap, own: Option<(f64, f64)>) -> String {
+    let (w, h, pad) = (360.0, 360.0, 40.0);
+    let (cw, ch) = (w / map.grid.n_x as f64, h / map.grid.n_node as f64);
+    let max = (0..map.trials.len()).map(|c| map.p(c)).fold(0.0, f64::max).max(1e-300);
+    let mut s = format!(
+        "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{}\" height=\"{}\" font-family=\"sans-serif\" font-size=\"11\">\n",
+        w + 2.0 * pad,
+        h + 2.0 * pad
+    );
+    s += &format!(
+        "<text x=\"{pad}\" y=\"20\">object {}: discovery probability (max {:.3})</text>\n",
+        map.id, max
+    );
+    for c in 0..map.trials.len() {
+        let (ix, iy) = (c / map.grid.n_node, c % map.grid.n_node);
+        let g = (255.0 * (1.0 - map.p(c) / max)).round() as u8;
+        s += &format!(
+            "<rect x=\"{:.2}\" y=\"{:.2}\" width=\"{:.2}\" height=\"{:.2}\" fill=\"rgb({g},{g},{g})\"/>\n",
+            pad + ix as f64 * cw,
+            pad + h - (iy + 1) as f64 * ch,
+            cw + 0.05,
+            ch + 0.05
+        );
+    }
+    if let Some((x, node)) = own {
+        let (px, py) = (pad + x / TAU * w, pad + h - node / TAU * h);
+        s += &format!(
+            "<circle cx=\"{px:.1}\" cy=\"{py:.1}\" r=\"5\" fill=\"none\" stroke=\"red\" stroke-width=\"2\"/>\n"
+        );
+    }
+    s += &format!(
+        "<rect x=\"{pad}\" y=\"{pad}\" width=\"{w}\" height=\"{h}\" fill=\"none\" stroke=\"black\"/>\n\
+         <text x=\"{}\" y=\"{}\" text-anchor=\"middle\">{} (deg, 0–360)</text>\n\
+         <text x=\"12\" y=\"{}\" transform=\"rotate(-90 12 {})\" text-anchor=\"middle\">node (deg, 0–360)</text>\n</svg>\n",
+        pad + w / 2.0,
+        h + pad + 25.0,
+        map.grid.axes.x_name(),
+        pad + h / 2.0,
+        pad + h / 2.0
+    );
+    s
+}

@@ -1,0 +1,14 @@
+//! Selection-function analyses on top of the engine: per-object detectability with angles
+//! redrawn, bias maps over (ϖ, Ω), the bias-aware clustering test, model comparison by
+//! likelihood, and cadence yields; plus the statistics they rest on.
+
+pub mod bias_map;
+pub mod binomial;
+pub mod circular;
+pub mod cluster_test;
+pub mod compare;
+pub mod detectability;
+pub mod likelihood;
+pub mod trials;
+pub mod two_sample;
+pub mod yields;

@@ -1,0 +1,137 @@
+//! Cadence yields: for each survey (and for all of them together), discoveries and tracked
+//! objects of a population in bins of distance at discovery, H and a, with binomial errors
+//! and the ratio to the best survey in each bin — the table a survey proposal quotes.
+//!
+//! Each object is run once through all surveys (its `Observe` stream, as `seine observe`);
+//! the engine gives every survey its own verdict. Fractions: per H or a bin, discoveries
+//! over the objects in that bin; per distance bin, discoveries at that distance over the
+//! whole population (the distance exists only for a discovery). Counts are unweighted.
+
+use rayon::prelude::*;
+
+use super::binomial::Proportion;
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, observe_object};
+use crate::io::objects::ObjectTable;
+use crate::rng::{Purpose, object_stream};
+
+/// The binned quantities.
+pub const QUANTITIES: [&str; 3] = ["r_discovery_au", "h_mag", "a_au"];
+
+/// What one object did in one survey (index = survey, the last = any survey).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Verdict {
+    discovered: bool,
+    tracked: bool,
+    r_au: f64,
+}
+
+/// One row of the yield table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct YieldRow {
+    pub survey: String,
+    pub quantity: &'static str,
+    pub lo: f64,
+    pub hi: f64,
+    pub n_objects: u64,
+    pub discovered: Proportion,
+    pub tracked: u64,
+    /// This survey's discovered fraction over the best single survey's in the bin.
+    pub ratio_to_best: f64,
+}
+
+/// Run the population once through the surveys and return one verdict per survey plus "any".
+fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<Vec<Verdict>> {
+    (0..objects.len())
+        .into_par_iter()
+        .map_init(Vec::new, |scratch, i| {
+            let mut rng = object_stream(seed, objects.ids[i], Purpose::Observe);
+            let out = observe_object(objects, i, surveys, Candidates::Indexed, &mut rng, scratch);
+            per_survey(&out, surveys)
+        })
+        .collect()
+}
+
+fn per_survey(out: &ObjectOutcome, surveys: &[PreparedSurvey]) -> Vec<Verdict> {
+    let mut v: Vec<Verdict> = out
+        .surveys
+        .iter()
+        .map(|s| Verdict {
+            discovered: s.discovered,
+            tracked: s.tracked,
+            r_au: s.discovery_event.map_or(f64::NAN, |e| out.events[e].r_au),
+        })
+        .collect();
+    let first = out.first_discovery(|e| surveys[e.survey as usize].survey.visits.mjd[e.visit as usize]);
+    v.push(Verdict {
+        discovered: out.discovered(),
+        tracked: out.surveys.iter().any(|s| s.tracked),
+        r_au: first.map_or(f64::NAN, |(_, e)| out.events[e].r_au),
+    });
+    v
+}
+
+/// The yield table over the given bin edges (distance at discovery, H, a).
+pub fn yields(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64, edges: &[Vec<f64>; 3]) -> Vec<YieldRow> {
+    let v = verdicts(objects, surveys, seed);
+    let mut names: Vec<String> = surveys.iter().map(|s| s.survey.name.clone()).collect();
+    names.push("any".into());
+    let mut rows = Vec::new();
+    for (q, quantity) in QUANTITIES.iter().enumerate() {
+        for b in edges[q].windows(2) {
+            let mut block: Vec<YieldRow> = (0..names.len())
+                .map(|s| bin_row(objects, &v, s, q, (b[0], b[1]), &names[s], quantity))
+                .collect();
+            let best = block[..surveys.len()]
+                .iter()
+                .map(|r| r.discovered.fraction)
+                .filter(|f| f.is_finite())
+                .fold(0.0, f64::max);
+            for r in &mut block {
+                r.ratio_to_best = if best > 0.0 {
+                    r.discovered.fraction / best
+                } else {
+                    f64::NAN
+                };
+            }
+            rows.extend(block);
+        }
+    }
+    rows
+}
+
+fn bin_row(
+    objects: &ObjectTable,
+    v: &[Vec<Verdict>],
+    s: usize,
+    q: usize,
+    (lo, hi): (f64, f64),
+    name: &str,
+    quantity: &'static str,
+) -> YieldRow {
+    let inside = |x: f64| x >= lo && x < hi;
+    let (mut n, mut k, mut tracked) = (0u64, 0u64, 0u64);
+    for (i, vi) in v.iter().enumerate() {
+        let x = match q {
+            0 => vi[s].r_au,
+            1 => objects.h_mag[i],
+            _ => objects.elements[i].a_au,
+        };
+        // Distance bins count the whole population in the denominator.
+        let counted = q == 0 || inside(x);
+        n += counted as u64;
+        if counted && vi[s].discovered && inside(x) {
+            k += 1;
+            tracked += vi[s].tracked as u64;
+        }
+    }
+    YieldRow {
+        survey: name.into(),
+        quantity,
+        lo,
+        hi,
+        n_objects: n,
+        discovered: Proportion::new(k, n),
+        tracked,
+        ratio_to_best: f64::NAN,
+    }
+}

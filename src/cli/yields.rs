@@ -1,0 +1,110 @@
+//! `seine yield`: the cadence designer's comparison of surveys on one population.
+
+use std::path::PathBuf;
+
+use seine::analysis::yields::yields;
+use seine::io::objects::ObjectTable;
+use seine::{Error, Result};
+
+use super::common::*;
+
+#[derive(clap::Args, Debug)]
+pub struct Args {
+    /// Survey spec (TOML); repeat to compare surveys (make plans into surveys with `seine plan` first).
+    #[arg(long = "survey", required = true)]
+    pub surveys: Vec<PathBuf>,
+    /// The population (objects table) to run through every survey.
+    #[arg(long)]
+    pub objects: PathBuf,
+    /// Bin edges of the heliocentric distance at discovery (AU).
+    #[arg(long, default_value = "0,30,40,50,70,100,150,250,500,1000,100000")]
+    pub r_edges: String,
+    /// Bin edges of H (mag).
+    #[arg(long, default_value = "-5,3,4,5,6,7,8,9,10,20")]
+    pub h_edges: String,
+    /// Bin edges of a (AU).
+    #[arg(long, default_value = "0,30,50,100,250,1000,100000")]
+    pub a_edges: String,
+    #[command(flatten)]
+    pub run: RunArgs,
+}
+
+pub fn run(a: Args) -> Result<()> {
+    let edges = [
+        parse_edges("--r-edges", &a.r_edges)?,
+        parse_edges("--h-edges", &a.h_edges)?,
+        parse_edges("--a-edges", &a.a_edges)?,
+    ];
+    let mut prov = a.run.start()?;
+    let surveys = load_surveys(&a.surveys, &mut prov)?;
+    let objects = ObjectTable::read(&a.objects)?;
+    prov.add_input(&a.objects)?;
+    let out = a.run.out_dir(prov)?;
+    let rows = yields(&objects, &surveys, a.run.seed, &edges);
+    let props: Vec<_> = rows.iter().map(|r| r.discovered).collect();
+    let table = out.write(
+        "yield",
+        vec![
+            col("survey", rows.iter().map(|r| r.survey.clone()).collect::<Vec<String>>()),
+            col(
+                "quantity",
+                rows.iter().map(|r| r.quantity.to_string()).collect::<Vec<String>>(),
+            ),
+            col("bin_lo", rows.iter().map(|r| r.lo).collect::<Vec<f64>>()),
+            col("bin_hi", rows.iter().map(|r| r.hi).collect::<Vec<f64>>()),
+            col("n_objects", rows.iter().map(|r| r.n_objects).collect::<Vec<u64>>()),
+            col("tracked", rows.iter().map(|r| r.tracked).collect::<Vec<u64>>()),
+            col(
+                "ratio_to_best",
+                rows.iter().map(|r| r.ratio_to_best).collect::<Vec<f64>>(),
+            ),
+        ]
+        .into_iter()
+        .chain(proportion_columns(&props))
+        .collect(),
+    )?;
+    // Totals per survey: the distance bins partition the discoveries (every discovery has a distance).
+    let mut totals = Vec::new();
+    for s in surveys.iter().map(|s| s.survey.name.clone()).chain(["any".to_string()]) {
+        let (k, t): (u64, u64) = rows
+            .iter()
+            .filter(|r| r.survey == s && r.quantity == "r_discovery_au")
+            .fold((0, 0), |acc, r| (acc.0 + r.discovered.k, acc.1 + r.tracked));
+        totals.push((s, k, t));
+    }
+    let n = objects.len() as u64;
+    if n == 0 {
+        return Err(Error::input("--objects: the population is empty"));
+    }
+    let best = totals[..surveys.len()]
+        .iter()
+        .max_by_key(|t| t.1)
+        .expect("at least one survey");
+    let list: Vec<String> = totals
+        .iter()
+        .map(|(s, k, t)| {
+            let p = seine::analysis::binomial::Proportion::new(*k, n);
+            format!(
+                "{s}: {k} discovered ({} ± {}), {t} tracked",
+                pct(p.fraction),
+                pct(p.std_error)
+            )
+        })
+        .collect();
+    let conclusion = format!(
+        "seine yield: {n} objects. {}. Most discoveries: {}.",
+        list.join("; "),
+        best.0
+    );
+    let summary = out.summary(
+        serde_json::json!({
+            "command": "yield",
+            "objects": n,
+            "totals": totals.iter().map(|(s, k, t)| serde_json::json!({"survey": s, "discovered": k, "tracked": t})).collect::<Vec<_>>(),
+            "best_survey": best.0,
+        }),
+        &conclusion,
+    )?;
+    a.run.report(&conclusion, &[&table, &summary]);
+    Ok(())
+}

@@ -1,0 +1,318 @@
+//! The analysis commands through the binary: outputs, conclusions, determinism across
+//! thread counts and shards, and bad input (exit status 2).
+
+mod common;
+
+use std::path::Path;
+
+use common::{ecliptic_fields, seine, stderr, survey};
+use seine::io::table::{Columns, read_table};
+
+/// Two invented surveys (a wide ecliptic one and a lopsided patch) and a small catalogue.
+fn setup(dir: &Path) {
+    let wide = ecliptic_fields(&(0..12).map(|k| 30.0 * k as f64).collect::<Vec<_>>());
+    let nights: Vec<f64> = (0..12).map(|k| 60400.0 + 30.4 * k as f64).collect();
+    survey(dir, "wide", 16.0, 23.0, &wide, &nights);
+    survey(
+        dir,
+        "patch",
+        10.0,
+        22.5,
+        &ecliptic_fields(&[0.0, 20.0]),
+        &[60580.0, 60590.0, 60945.0],
+    );
+    let mut csv = String::from("id,a_au,e,inc_deg,node_deg,argperi_deg,mean_anomaly_deg,epoch_mjd,h_mag\n");
+    for i in 0..12 {
+        let f = i as f64;
+        csv.push_str(&format!(
+            "{},{},{},{},{},{},{},60400,{}\n",
+            10 + i,
+            45.0 + 3.0 * f,
+            0.35 + 0.02 * ((7 * i) % 12) as f64,
+            2.0 + ((5 * i) % 12) as f64,
+            (37.0 * f) % 360.0,
+            (300.0 + 11.0 * f) % 360.0,
+            (97.0 * f) % 360.0,
+            5.0 + 0.1 * f
+        ));
+    }
+    std::fs::write(dir.join("catalog.csv"), csv).unwrap();
+}
+
+fn run_ok(args: &[&str]) -> String {
+    let o = seine(args);
+    assert!(o.status.success(), "{args:?}: {}", stderr(&o));
+    stderr(&o)
+}
+
+fn csv_col(path: &Path, name: &str) -> Vec<f64> {
+    let df = read_table(path).unwrap();
+    Columns::new(&df, path).f64(name).unwrap()
+}
+
+/// A column that may hold NaN (e.g. a ratio in a bin where no survey found anything).
+fn csv_col_nan(path: &Path, name: &str) -> Vec<f64> {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut lines = text.lines();
+    let k = lines.next().unwrap().split(',').position(|h| h == name).unwrap();
+    lines
+        .map(|l| l.split(',').nth(k).unwrap().parse::<f64>().unwrap_or(f64::NAN))
+        .collect()
+}
+
+#[test]
+fn detectability_is_deterministic_across_threads_and_shards() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    let base = [
+        "detectability",
+        "--survey",
+        &p("wide.toml"),
+        "--survey",
+        &p("patch.toml"),
+        "--objects",
+        &p("catalog.csv"),
+        "--clones",
+        "60",
+        "--format",
+        "csv",
+    ];
+    let msg = run_ok(&[&base[..], &["--out", &p("t1"), "--threads", "1"]].concat());
+    assert!(msg.contains("Median chance of discovery"), "{msg}");
+    run_ok(&[&base[..], &["--out", &p("t2"), "--threads", "2"]].concat());
+    let one = csv_col(&d.path().join("t1/detectability.csv"), "p_discover");
+    assert_eq!(one, csv_col(&d.path().join("t2/detectability.csv"), "p_discover"));
+    assert!(one.iter().any(|p| *p > 0.0), "nothing discoverable: {one:?}");
+    let mut sharded = Vec::new();
+    for k in 0..3 {
+        run_ok(
+            &[
+                &base[..],
+                &["--out", &p(&format!("s{k}")), "--shard", &format!("{k}/3")],
+            ]
+            .concat(),
+        );
+        sharded.extend(csv_col(&d.path().join(format!("s{k}/detectability.csv")), "p_discover"));
+    }
+    assert_eq!(one, sharded);
+    let grid = csv_col(&d.path().join("t1/selection_grid.csv"), "trials");
+    assert_eq!(grid.iter().sum::<f64>(), 12.0 * 60.0, "every trial lands in one bin");
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join("t1/summary.json")).unwrap()).unwrap();
+    assert!(summary["conclusion"].as_str().unwrap().contains("12 objects"));
+}
+
+#[test]
+fn bias_map_then_cluster_test_and_the_same_in_one_step() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    let grid = ["--grid", "8,6", "--per-cell", "3"];
+    let msg = run_ok(
+        &[
+            &[
+                "bias-map",
+                "--survey",
+                &p("wide.toml"),
+                "--objects",
+                &p("catalog.csv"),
+                "--out",
+                &p("bm"),
+                "--format",
+                "csv",
+            ][..],
+            &grid,
+        ]
+        .concat(),
+    );
+    assert!(msg.contains("8×6 grid"), "{msg}");
+    assert!(d.path().join("bm/maps/10.svg").exists());
+    let pcol = csv_col(&d.path().join("bm/bias_map.csv"), "p_discover");
+    assert_eq!(pcol.len(), 12 * 48);
+    let common = ["--catalog", &p("catalog.csv"), "--trials", "300", "--format", "csv"];
+    let from_table = run_ok(
+        &[
+            &["cluster-test", "--bias-map", &p("bm/bias_map.csv"), "--out", &p("ct1")][..],
+            &common,
+        ]
+        .concat(),
+    );
+    let in_one = run_ok(
+        &[
+            &["cluster-test", "--survey", &p("wide.toml"), "--out", &p("ct2")][..],
+            &common,
+            &grid,
+        ]
+        .concat(),
+    );
+    assert!(
+        from_table.contains("bias-aware chance") && from_table.contains("without bias correction"),
+        "{from_table}"
+    );
+    // The maps are the same (same seed, same streams), so are the p-values.
+    let a = csv_col(&d.path().join("ct1/cluster_test.csv"), "p_bias_aware");
+    assert_eq!(a, csv_col(&d.path().join("ct2/cluster_test.csv"), "p_bias_aware"));
+    assert_eq!(from_table.lines().nth(1), in_one.lines().nth(1));
+}
+
+#[test]
+fn yield_and_compare_models_write_tables_and_conclusions() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    let msg = run_ok(&[
+        "yield",
+        "--survey",
+        &p("wide.toml"),
+        "--survey",
+        &p("patch.toml"),
+        "--objects",
+        &p("catalog.csv"),
+        "--out",
+        &p("y"),
+        "--format",
+        "csv",
+    ]);
+    assert!(
+        msg.contains("wide:") && msg.contains("patch:") && msg.contains("Most discoveries"),
+        "{msg}"
+    );
+    let ratio = csv_col_nan(&d.path().join("y/yield.csv"), "ratio_to_best");
+    assert!(ratio.iter().filter(|r| r.is_finite()).all(|r| *r >= 0.0));
+    // Rows come in blocks of (wide, patch, any) per bin: "any" finds at least what each finds.
+    let found = csv_col(&d.path().join("y/yield.csv"), "discovered");
+    for b in found.chunks(3) {
+        assert!(b[2] >= b[0].max(b[1]), "{b:?}");
+    }
+    assert!(found.iter().sum::<f64>() > 0.0);
+    // Two invented "models": the catalogue itself cloned with fresh M, and a shifted copy.
+    let cat = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
+    let mut m1 = String::from(cat.lines().next().unwrap());
+    let mut m2 = m1.clone();
+    for k in 0..20 {
+        for line in cat.lines().skip(1) {
+            let f: Vec<&str> = line.split(',').collect();
+            let id: i64 = f[0].parse::<i64>().unwrap() * 100 + k;
+            let m = (k as f64 * 18.0 + 7.0) % 360.0;
+            let a2: f64 = f[1].parse::<f64>().unwrap() * 1.6;
+            m1.push_str(&format!(
+                "\n{id},{},{},{},{},{},{m},60400,{}",
+                f[1], f[2], f[3], f[4], f[5], f[8]
+            ));
+            m2.push_str(&format!(
+                "\n{id},{a2},{},{},{},{},{m},60400,{}",
+                f[2], f[3], f[4], f[5], f[8]
+            ));
+        }
+    }
+    std::fs::write(d.path().join("m1.csv"), m1 + "\n").unwrap();
+    std::fs::write(d.path().join("m2.csv"), m2 + "\n").unwrap();
+    for density in ["kde", "binned"] {
+        let out = p(&format!("cm_{density}"));
+        let msg = run_ok(&[
+            "compare-models",
+            "--survey",
+            &p("wide.toml"),
+            "--observed",
+            &p("catalog.csv"),
+            "--model",
+            &format!("near={}", p("m1.csv")),
+            "--model",
+            &format!("far={}", p("m2.csv")),
+            "--space",
+            "a_au,q_au,inc_deg",
+            "--density",
+            density,
+            "--synthetic",
+            "200",
+            "--out",
+            &out,
+            "--format",
+            "csv",
+        ]);
+        assert!(msg.contains("near is favoured over far"), "{density}: {msg}");
+        let ll = csv_col(&Path::new(&out).join("models.csv"), "log_likelihood");
+        assert!(ll[0] > ll[1], "{density}: {ll:?}");
+        assert_eq!(csv_col(&Path::new(&out).join("marginals.csv"), "ks_p_value").len(), 6);
+    }
+}
+
+#[test]
+fn bad_input_exits_2_with_a_clear_message() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    let cases: Vec<(Vec<String>, &str)> = vec![
+        (
+            vec![
+                "detectability".into(),
+                "--survey".into(),
+                p("wide.toml"),
+                "--objects".into(),
+                p("catalog.csv"),
+                "--out".into(),
+                p("x"),
+                "--redraw".into(),
+                "sideways".into(),
+            ],
+            "--redraw",
+        ),
+        (
+            vec![
+                "bias-map".into(),
+                "--survey".into(),
+                p("wide.toml"),
+                "--objects".into(),
+                p("catalog.csv"),
+                "--out".into(),
+                p("x"),
+                "--grid".into(),
+                "8".into(),
+            ],
+            "--grid",
+        ),
+        (
+            vec![
+                "cluster-test".into(),
+                "--catalog".into(),
+                p("catalog.csv"),
+                "--out".into(),
+                p("x"),
+            ],
+            "--bias-map",
+        ),
+        (
+            vec![
+                "compare-models".into(),
+                "--survey".into(),
+                p("wide.toml"),
+                "--observed".into(),
+                p("catalog.csv"),
+                "--model".into(),
+                "nameless".into(),
+                "--out".into(),
+                p("x"),
+            ],
+            "NAME=OBJECTS",
+        ),
+        (
+            vec![
+                "yield".into(),
+                "--survey".into(),
+                p("wide.toml"),
+                "--objects".into(),
+                p("missing.csv"),
+                "--out".into(),
+                p("x"),
+            ],
+            "missing.csv",
+        ),
+    ];
+    for (args, needle) in cases {
+        let args: Vec<&str> = args.iter().map(String::as_str).collect();
+        let o = seine(&args);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {}", stderr(&o));
+        assert!(stderr(&o).contains(needle), "{args:?}: {}", stderr(&o));
+    }
+}
