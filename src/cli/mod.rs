@@ -8,8 +8,10 @@ mod common;
 mod demo;
 mod draw;
 mod ephemeris;
+mod merge;
 mod observe;
 mod plan;
+mod provenance;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -37,6 +39,10 @@ pub enum Command {
     Draw(draw::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
+    /// Combine shard outputs (observe directories or draw tables) into what one run would write.
+    Merge(merge::Args),
+    /// Print the provenance of a table: tool version, command line, input hashes, seed.
+    Provenance(provenance::Args),
 }
 
 pub fn run(cli: Cli) -> Result<()> {
@@ -46,5 +52,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Draw(a) => draw::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
+        Command::Merge(a) => merge::run(a),
+        Command::Provenance(a) => provenance::run(a),
     }
 }

@@ -2,7 +2,6 @@
 //! everywhere, errors with the TOML line and column, and the checks of every value.
 
 use std::collections::BTreeMap;
-use std::path::Path;
 
 use serde::{Deserialize, Serialize};
 
@@ -116,24 +115,8 @@ pub struct EfficiencySpec {
     pub blocks: BTreeMap<String, EfficiencySpec>,
 }
 
-/// Parse TOML text into `T`, with the error as `file: line L, column C: message`.
-pub fn parse_toml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Result<T> {
-    toml::from_str(text).map_err(|e: toml::de::Error| {
-        let at = e
-            .span()
-            .map(|s| line_col(text, s.start))
-            .map(|(l, c)| format!("line {l}, column {c}: "))
-            .unwrap_or_default();
-        Error::input(format!("{}: {at}{}", path.display(), e.message().trim()))
-    })
-}
-
-fn line_col(text: &str, offset: usize) -> (usize, usize) {
-    let before = &text[..offset.min(text.len())];
-    let line = before.matches('\n').count() + 1;
-    let col = before.len() - before.rfind('\n').map_or(0, |i| i + 1) + 1;
-    (line, col)
-}
+/// Parse TOML text into `T`: the one spec parser of the project (file, line, column, key, hint).
+pub use crate::io::spec_text::parse_toml;
 
 impl FieldSpec {
     pub fn footprint(&self) -> Result<(Footprint, f64)> {
