@@ -299,3 +299,23 @@ fn provenance_names_version_command_inputs_and_seed() {
         .unwrap();
     assert_eq!(o.status.code(), Some(2), "a table without provenance");
 }
+
+#[test]
+fn more_shards_than_objects_merge_to_the_whole() {
+    // Two objects over three shards: shard 0 is empty but still writes tables with every column.
+    let s = scenario(2, 300);
+    s.observe("whole", &[]);
+    for k in 0..3 {
+        s.observe(&format!("shard{k}"), &["--shard", &format!("{k}/3")]);
+    }
+    assert_eq!(table(&s.path("shard0/objects.parquet")).height(), 0);
+    let o = Command::new(BIN)
+        .arg("merge")
+        .args((0..3).map(|k| s.path(&format!("shard{k}"))))
+        .arg("--out")
+        .arg(s.path("merged"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert_same_outputs(&s.path("whole"), &s.path("merged"));
+}

@@ -58,7 +58,7 @@ pub fn run(a: Args) -> Result<()> {
         surveys.push(PreparedSurvey::new(s));
     }
     super::common::check_unique_survey_names(&surveys)?;
-    let objects = ObjectTable::read(&a.objects)?;
+    let objects = ObjectTable::read_shard(&a.objects, shard)?;
     prov.add_input(&a.objects)?;
     let opts = ObserveOptions {
         seed: a.seed,

@@ -14,7 +14,7 @@ use serde::{Deserialize, Serialize};
 
 use super::summary::Summary;
 use crate::error::{Error, Result, io_at};
-use crate::io::provenance::sha256_hex;
+pub use crate::io::provenance::file_sha256;
 use crate::io::table::write_atomic;
 
 pub const MANIFEST: &str = "manifest.json";
@@ -67,11 +67,6 @@ pub struct Manifest {
 /// The part file of one chunk of one table (`objects` or `detections`).
 pub fn part_path(dir: &Path, table: &str, index: usize) -> PathBuf {
     dir.join(PARTS).join(table).join(format!("part-{index:05}.parquet"))
-}
-
-pub fn file_sha256(path: &Path) -> Result<String> {
-    let bytes = std::fs::read(path).map_err(|e| io_at(path, e))?;
-    Ok(sha256_hex(&bytes))
 }
 
 impl Manifest {

@@ -95,7 +95,13 @@ pub fn observe(
             out_dir.display()
         ))
     })?;
-    let rows = shard_range(objects.len(), opts.shard);
+    // A shard read alone (`ObjectTable::read_shard`) is all to be done; otherwise take the shard here.
+    let local = if objects.is_slice() {
+        (0, objects.len())
+    } else {
+        shard_range(objects.len(), opts.shard)
+    };
+    let rows = (objects.first_row + local.0, objects.first_row + local.1);
     let mut manifest = Manifest::new(
         run_key(surveys, objects, opts, provenance),
         rows,
@@ -157,7 +163,7 @@ fn run_key(surveys: &[PreparedSurvey], objects: &ObjectTable, opts: &ObserveOpti
         input_sha256: prov.inputs.iter().map(|i| i.sha256.clone()).collect(),
         seed: opts.seed,
         shard: opts.shard,
-        n_objects_input: objects.len(),
+        n_objects_input: objects.input_rows,
         chunk_size: opts.chunk_size,
         candidates: format!("{:?}", opts.candidates),
         surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
@@ -222,6 +228,9 @@ fn compute_chunk(
     (lo, hi): (usize, usize),
 ) -> Result<ChunkEntry> {
     let start = Instant::now();
+    // Manifest rows are rows of the input file; the table may start further in.
+    let (lo_global, hi_global) = (lo, hi);
+    let (lo, hi) = (lo - objects.first_row, hi - objects.first_row);
     let outcomes: Vec<ObjectOutcome> = (lo..hi)
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
@@ -245,7 +254,7 @@ fn compute_chunk(
     summary.elapsed_s = start.elapsed().as_secs_f64();
     Ok(ChunkEntry {
         index,
-        rows: (lo, hi),
+        rows: (lo_global, hi_global),
         objects_rows: obj.height(),
         detections_rows: det.height(),
         objects_sha256,

@@ -45,10 +45,9 @@ impl Provenance {
 
     /// Record a file that was read, with the SHA-256 of its bytes.
     pub fn add_input(&mut self, path: &Path) -> Result<()> {
-        let bytes = std::fs::read(path).map_err(|e| io_at(path, e))?;
         self.inputs.push(InputHash {
             path: path.display().to_string(),
-            sha256: sha256_hex(&bytes),
+            sha256: file_sha256(path)?,
         });
         Ok(())
     }
@@ -67,6 +66,22 @@ impl Provenance {
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
     Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// SHA-256 of a file, read in blocks: an input table may be far larger than memory.
+pub fn file_sha256(path: &Path) -> Result<String> {
+    use std::io::Read;
+    let mut f = std::fs::File::open(path).map_err(|e| io_at(path, e))?;
+    let mut hasher = Sha256::new();
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let n = f.read(&mut buf).map_err(|e| io_at(path, e))?;
+        if n == 0 {
+            break;
+        }
+        hasher.update(&buf[..n]);
+    }
+    Ok(hasher.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
 
 /// The provenance of a table written by seine: the Parquet key-value metadata, or the
