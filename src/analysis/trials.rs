@@ -43,6 +43,8 @@ impl TrialObject {
             lc_amp_mag: vec![objects.lc_amp_mag[i]],
             lc_period_days: vec![objects.lc_period_days[i]],
             frame: Default::default(),
+            first_row: 0,
+            input_rows: 1,
         };
         TrialObject { table }
     }

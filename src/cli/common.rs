@@ -49,6 +49,114 @@ pub fn parse_shard(s: &str) -> Result<(usize, usize)> {
     Ok((k, n))
 }
 
+/// `--shard K/N`, `--shards N` and the Slurm array variables: one script line serves every
+/// task of a job array. Flatten this into a subcommand's arguments and call `resolve`.
+#[derive(clap::Args, Debug, Clone, Default)]
+pub struct ShardArgs {
+    /// Take shard K of N (K from 0): a contiguous, disjoint slice of the objects. Without it,
+    /// K comes from SLURM_ARRAY_TASK_ID when that is set (see --shards).
+    #[arg(long)]
+    pub shard: Option<String>,
+    /// With SLURM_ARRAY_TASK_ID: the number of shards N (default: SLURM_ARRAY_TASK_COUNT).
+    /// Give it when resubmitting single tasks, whose array is smaller than N.
+    #[arg(long)]
+    pub shards: Option<usize>,
+}
+
+impl ShardArgs {
+    /// The shard (k, n) to take, or none for the whole input.
+    pub fn resolve(&self) -> Result<Option<(usize, usize)>> {
+        let var = |name: &str| std::env::var(name).ok().filter(|v| !v.trim().is_empty());
+        shard_from(
+            self.shard.as_deref(),
+            self.shards,
+            var("SLURM_ARRAY_TASK_ID").as_deref(),
+            var("SLURM_ARRAY_TASK_COUNT").as_deref(),
+        )
+    }
+}
+
+/// The rule of `ShardArgs::resolve`, with the environment passed in: `--shard` wins (and
+/// must agree with `--shards`); otherwise a Slurm task id gives K, and `--shards` or the
+/// task count gives N.
+pub fn shard_from(
+    shard: Option<&str>,
+    shards: Option<usize>,
+    task_id: Option<&str>,
+    task_count: Option<&str>,
+) -> Result<Option<(usize, usize)>> {
+    if shards == Some(0) {
+        return Err(Error::input("--shards: expected at least 1"));
+    }
+    if let Some(s) = shard {
+        let (k, n) = parse_shard(s)?;
+        if shards.is_some_and(|m| m != n) {
+            return Err(Error::input(format!(
+                "--shard {s} and --shards {}: the shard counts differ; give one of them",
+                shards.unwrap_or(0)
+            )));
+        }
+        return Ok(Some((k, n)));
+    }
+    let Some(id) = task_id else {
+        if shards.is_some() {
+            return Err(Error::input(
+                "--shards: needs SLURM_ARRAY_TASK_ID in the environment (or use --shard K/N)",
+            ));
+        }
+        return Ok(None);
+    };
+    let k: usize = id
+        .trim()
+        .parse()
+        .map_err(|_| Error::input(format!("SLURM_ARRAY_TASK_ID `{id}`: expected a task index 0, 1, 2, …")))?;
+    let n = match (shards, task_count) {
+        (Some(n), _) => n,
+        (None, Some(c)) => c
+            .trim()
+            .parse()
+            .map_err(|_| Error::input(format!("SLURM_ARRAY_TASK_COUNT `{c}`: expected a number of tasks")))?,
+        (None, None) => {
+            return Err(Error::input(
+                "SLURM_ARRAY_TASK_ID is set but not SLURM_ARRAY_TASK_COUNT: give --shards N",
+            ));
+        }
+    };
+    if k >= n {
+        return Err(Error::input(format!(
+            "SLURM_ARRAY_TASK_ID = {k} with {n} shards: expected an index below {n} \
+             (submit --array=0-{} and pass --shards {n})",
+            n.saturating_sub(1)
+        )));
+    }
+    Ok(Some((k, n)))
+}
+
+/// A flag raised by the first SIGINT or SIGTERM (a batch scheduler's preemption), so that a
+/// long run stops cleanly after the chunk in flight; a second signal ends the process at once.
+pub fn stop_flag() -> Result<std::sync::Arc<std::sync::atomic::AtomicBool>> {
+    use signal_hook::consts::{SIGINT, SIGTERM};
+    use signal_hook::flag;
+    let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
+    for sig in [SIGINT, SIGTERM] {
+        // Order matters: the conditional shutdown sees the flag as it was before this signal.
+        flag::register_conditional_shutdown(sig, 130, std::sync::Arc::clone(&stop))
+            .and_then(|_| flag::register(sig, std::sync::Arc::clone(&stop)))
+            .map_err(|e| Error::io(format!("cannot install the interrupt handler: {e}")))?;
+    }
+    Ok(stop)
+}
+
+/// `--format parquet|csv` of an output directory's tables.
+pub fn parse_format(s: &str) -> Result<seine::io::table::Format> {
+    use seine::io::table::Format;
+    match s {
+        "parquet" => Ok(Format::Parquet),
+        "csv" => Ok(Format::Csv),
+        other => Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
+    }
+}
+
 /// Size the worker pool; results never depend on it.
 pub fn set_threads(threads: Option<usize>) -> Result<()> {
     if let Some(n) = threads {
@@ -77,15 +185,6 @@ pub fn check_unique_survey_names(surveys: &[seine::engine::PreparedSurvey]) -> R
         }
     }
     Ok(())
-}
-
-/// `--format parquet|csv`.
-pub fn parse_format(s: &str) -> Result<seine::io::table::Format> {
-    match s {
-        "parquet" => Ok(seine::io::table::Format::Parquet),
-        "csv" => Ok(seine::io::table::Format::Csv),
-        other => Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
-    }
 }
 
 /// Load and prepare every `--survey`, recording each spec in the provenance.

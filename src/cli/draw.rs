@@ -25,9 +25,9 @@ pub struct Args {
     /// Output objects table (.parquet, or .csv with a .provenance.json sidecar).
     #[arg(long)]
     pub out: PathBuf,
-    /// Write only shard K of N (K from 0): a contiguous block of the ids; the shards' union is the whole.
-    #[arg(long)]
-    pub shard: Option<String>,
+    /// Shard K of N (K from 0): a contiguous block of the ids; the shards' union is the whole.
+    #[command(flatten)]
+    pub shard: super::common::ShardArgs,
     /// Worker threads (default: all cores). The objects do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
@@ -50,12 +50,7 @@ pub fn run(a: Args) -> Result<()> {
 }
 
 fn run_in_pool(a: Args) -> Result<()> {
-    let shard = a
-        .shard
-        .as_deref()
-        .map(super::common::parse_shard)
-        .transpose()?
-        .map(|(k, n)| (k as u64, n as u64));
+    let shard = a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64));
     let spec = Spec::read(&a.spec)?;
     let text = std::fs::read_to_string(&a.spec).unwrap_or_default();
     let mut prov = Provenance::current().with_seed(a.seed);

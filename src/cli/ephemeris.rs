@@ -56,6 +56,7 @@ pub fn run(a: Args) -> Result<()> {
         (None, Some(spec)) => {
             let survey = seine::survey::Survey::load(spec)?;
             prov.add_input(spec)?;
+            prov.add_input(&survey.visits_path)?;
             site = site.or(survey.site);
             (survey.visits.mjd.clone(), survey.time_scale)
         }

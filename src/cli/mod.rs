@@ -12,8 +12,10 @@ mod demo;
 mod detectability;
 mod draw;
 mod ephemeris;
+mod merge;
 mod observe;
 mod plan;
+mod provenance;
 mod yields;
 
 #[derive(Parser, Debug)]
@@ -52,6 +54,10 @@ pub enum Command {
     CompareModels(compare_models::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
+    /// Combine shard outputs (observe directories or draw tables) into what one run would write.
+    Merge(merge::Args),
+    /// Print the provenance of a table: tool version, command line, input hashes, seed.
+    Provenance(provenance::Args),
 }
 
 pub fn run(cli: Cli) -> Result<()> {
@@ -66,5 +72,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Draw(a) => draw::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
+        Command::Merge(a) => merge::run(a),
+        Command::Provenance(a) => provenance::run(a),
     }
 }

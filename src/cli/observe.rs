@@ -2,12 +2,11 @@
 
 use std::path::PathBuf;
 
+use seine::Result;
 use seine::engine::{Candidates, ObserveOptions, PreparedSurvey, observe};
 use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
-use seine::io::table::Format;
 use seine::survey::Survey;
-use seine::{Error, Result};
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -17,7 +16,8 @@ pub struct Args {
     /// Objects table (CSV or Parquet).
     #[arg(long)]
     pub objects: PathBuf,
-    /// Output directory: objects.parquet, detections.parquet, summary.json.
+    /// Output directory: objects.parquet, detections.parquet, summary.json, and the parts/ and
+    /// manifest.json that --resume and `seine merge` use.
     #[arg(long)]
     pub out: PathBuf,
     /// Run seed: with the object ids it fixes every random draw.
@@ -26,9 +26,14 @@ pub struct Args {
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
-    /// Take shard K of N (K from 0): a contiguous, disjoint slice of the objects.
+    #[command(flatten)]
+    pub shard: super::common::ShardArgs,
+    /// Reuse the finished chunks of an interrupted run of the same inputs in --out.
     #[arg(long)]
-    pub shard: Option<String>,
+    pub resume: bool,
+    /// Objects per chunk: the unit of memory, of part files and of the work a kill can lose.
+    #[arg(long, default_value_t = 20_000)]
+    pub chunk_size: usize,
     /// Table format of the outputs: parquet or csv.
     #[arg(long, default_value = "parquet")]
     pub format: String,
@@ -42,21 +47,18 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     super::common::set_threads(a.threads)?;
-    let format = match a.format.as_str() {
-        "parquet" => Format::Parquet,
-        "csv" => Format::Csv,
-        other => return Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
-    };
-    let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
+    let format = super::common::parse_format(&a.format)?;
+    let shard = a.shard.resolve()?;
     let mut prov = Provenance::current().with_seed(a.seed);
     let mut surveys = Vec::new();
     for path in &a.surveys {
         let s = Survey::load(path)?;
         prov.add_input(path)?;
+        prov.add_input(&s.visits_path)?;
         surveys.push(PreparedSurvey::new(s));
     }
     super::common::check_unique_survey_names(&surveys)?;
-    let objects = ObjectTable::read(&a.objects)?;
+    let objects = ObjectTable::read_shard(&a.objects, shard)?;
     prov.add_input(&a.objects)?;
     let opts = ObserveOptions {
         seed: a.seed,
@@ -68,7 +70,9 @@ pub fn run(a: Args) -> Result<()> {
             Candidates::Indexed
         },
         progress: !a.quiet,
-        ..Default::default()
+        chunk_size: a.chunk_size,
+        resume: a.resume,
+        stop: Some(super::common::stop_flag()?),
     };
     let report = observe(&surveys, &objects, &a.out, &opts, &prov)?;
     let s = &report.summary;
@@ -83,6 +87,9 @@ pub fn run(a: Args) -> Result<()> {
             s.candidates_per_in_field_event,
             s.objects_per_second
         );
+        if report.chunks_reused > 0 {
+            eprintln!("resumed: {} of {} chunks reused", report.chunks_reused, report.chunks);
+        }
         eprintln!(
             "wrote {}, {}, {}",
             report.objects_path.display(),

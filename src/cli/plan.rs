@@ -48,6 +48,7 @@ fn run_survey(spec: &Path, out: &Path) -> Result<()> {
     let paths = PlanOutputs::for_report(out);
     let mut prov = Provenance::current();
     prov.add_input(spec)?;
+    prov.add_input(&survey.visits_path)?;
     let head = serde_json::json!({ "survey": survey.name, "field_area_sq_deg": survey.footprint.area_sq_deg() });
     write_coverage(&cov, &nights, head, &paths, &prov)?;
     eprintln!(
@@ -63,8 +64,7 @@ fn run_survey(spec: &Path, out: &Path) -> Result<()> {
 
 fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<()> {
     seine::io::table::Format::of(out)?;
-    let text = std::fs::read_to_string(plan_path)
-        .map_err(|e| Error::input(format!("{}: cannot read the plan: {e}", plan_path.display())))?;
+    let text = seine::io::spec_text::read_spec_text(plan_path, "cadence plan")?;
     let mut file: PlanFile = parse_toml(&text, plan_path)?;
     if let Some(s) = seed {
         file.plan.seed = s;

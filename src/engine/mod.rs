@@ -8,7 +8,9 @@
 //! bookkeeping. `Candidates::All` is the plain brute force, kept for verification.
 
 pub mod index;
+pub mod merge;
 pub mod outcome;
+pub mod parts;
 pub mod pipeline;
 pub mod run;
 pub mod summary;

@@ -2,6 +2,8 @@
 //! stream the tables out, and summarise.
 
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Instant;
 
 use polars::prelude::*;
@@ -9,13 +11,14 @@ use rayon::prelude::*;
 
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
+use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
 use super::pipeline::observe_object;
 use super::summary::Summary;
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::io::provenance::Provenance;
 use crate::io::sink::TableSink;
-use crate::io::table::{Format, write_atomic};
+use crate::io::table::{Format, read_table, write_atomic};
 use crate::rng::{Purpose, object_stream};
 
 /// Options of one observe run.
@@ -26,8 +29,13 @@ pub struct ObserveOptions {
     pub shard: Option<(usize, usize)>,
     pub format: Format,
     pub candidates: Candidates,
+    /// Objects per chunk: the unit of memory, of part files and of what a kill can lose.
     pub chunk_size: usize,
     pub progress: bool,
+    /// Reuse the finished chunks of an earlier run of the same inputs in the output directory.
+    pub resume: bool,
+    /// Set (e.g. by a SIGINT handler) to stop cleanly after the chunk in flight.
+    pub stop: Option<Arc<AtomicBool>>,
 }
 
 impl Default for ObserveOptions {
@@ -39,6 +47,8 @@ impl Default for ObserveOptions {
             candidates: Candidates::Indexed,
             chunk_size: 20_000,
             progress: false,
+            resume: false,
+            stop: None,
         }
     }
 }
@@ -50,6 +60,9 @@ pub struct ObserveReport {
     pub objects_path: PathBuf,
     pub detections_path: PathBuf,
     pub summary_path: PathBuf,
+    /// Chunks taken from an earlier run (`resume`), and chunks in all.
+    pub chunks_reused: usize,
+    pub chunks: usize,
 }
 
 /// The rows [lo, hi) of shard k of n over `len` rows.
@@ -61,7 +74,8 @@ pub fn shard_range(len: usize, shard: Option<(usize, usize)>) -> (usize, usize) 
 }
 
 /// Run the objects through the surveys and write `DIR/objects.*`, `DIR/detections.*` and
-/// `DIR/summary.json`.
+/// `DIR/summary.json`, by way of part files and a manifest (see `parts`): chunks are
+/// computed (or, with `resume`, reused), then the final tables are streamed from the parts.
 pub fn observe(
     surveys: &[PreparedSurvey],
     objects: &ObjectTable,
@@ -69,35 +83,129 @@ pub fn observe(
     opts: &ObserveOptions,
     provenance: &Provenance,
 ) -> Result<ObserveReport> {
-    let start = Instant::now();
-    let ext = opts.format.extension();
-    let objects_path = out_dir.join(format!("objects.{ext}"));
-    let detections_path = out_dir.join(format!("detections.{ext}"));
-    let summary_path = out_dir.join("summary.json");
-    std::fs::create_dir_all(out_dir).map_err(|e| {
+    if opts.chunk_size == 0 {
+        return Err(Error::input("--chunk-size: expected at least 1 object per chunk"));
+    }
+    // Refuse bad inputs before anything is written: no partial output on an error.
+    check_bands(surveys, objects)?;
+    objects_frame(objects, 0, &[], surveys)?;
+    std::fs::create_dir_all(out_dir.join(PARTS)).map_err(|e| {
         Error::input(format!(
             "{}: cannot create the output directory: {e}",
             out_dir.display()
         ))
     })?;
-    let mut obj_w = TableSink::create(&objects_path, provenance.clone())?;
-    let mut det_w = TableSink::create(&detections_path, provenance.clone())?;
-    let (lo, hi) = shard_range(objects.len(), opts.shard);
-    let mut summary = Summary::new(surveys);
+    // A shard read alone (`ObjectTable::read_shard`) is all to be done; otherwise take the shard here.
+    let local = if objects.is_slice() {
+        (0, objects.len())
+    } else {
+        shard_range(objects.len(), opts.shard)
+    };
+    let rows = (objects.first_row + local.0, objects.first_row + local.1);
+    let mut manifest = Manifest::new(
+        run_key(surveys, objects, opts, provenance),
+        rows,
+        provenance.inputs.clone(),
+    );
+    if opts.resume {
+        if let Some(old) = Manifest::read(out_dir)? {
+            manifest.chunks = manifest.reusable(&old, out_dir);
+        }
+    }
+    let reused = manifest.chunks.len();
+    clear_stale(out_dir, reused)?;
+    manifest.write(out_dir)?;
+    compute_chunks(surveys, objects, out_dir, opts, provenance, &mut manifest)?;
+    let report = assemble(surveys, out_dir, opts, provenance, &manifest)?;
+    manifest.complete = true;
+    manifest.write(out_dir)?;
+    Ok(ObserveReport {
+        chunks_reused: reused,
+        chunks: manifest.chunks.len(),
+        ..report
+    })
+}
+
+/// An unknown band is a visit band for which the objects table gives colours for other bands
+/// but not this one (nor is it the survey's reference band): a silent colour of 0 there is
+/// almost always a misspelt band or a missing column, so it is refused. Objects without any
+/// `color_<band>` column take colour 0 in every band (the DESIGN contract's default).
+pub fn check_bands(surveys: &[PreparedSurvey], objects: &ObjectTable) -> Result<()> {
+    if objects.colors.is_empty() {
+        return Ok(());
+    }
+    let known: Vec<&str> = objects.colors.iter().map(|(b, _)| b.as_str()).collect();
+    for ps in surveys {
+        let s = &ps.survey;
+        let unknown = s
+            .visits
+            .band_names
+            .iter()
+            .find(|b| **b != s.reference_band && !known.contains(&b.as_str()));
+        if let Some(b) = unknown {
+            let hint = crate::io::spec_text::nearest(b, known.iter().copied())
+                .map_or(String::new(), |n| format!(" (did you mean `{n}`?)"));
+            return Err(Error::input(format!(
+                "{}: band `{b}`{hint} has no colour column `color_{b}` in the objects table, which gives colours \
+                 for {}; add the column (0 for no colour) or fix the band",
+                s.visits_path.display(),
+                known.join(", ")
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// The identity of this run, compared on `--resume`.
+fn run_key(surveys: &[PreparedSurvey], objects: &ObjectTable, opts: &ObserveOptions, prov: &Provenance) -> RunKey {
+    RunKey {
+        seine_version: crate::version().to_string(),
+        input_sha256: prov.inputs.iter().map(|i| i.sha256.clone()).collect(),
+        seed: opts.seed,
+        shard: opts.shard,
+        n_objects_input: objects.input_rows,
+        chunk_size: opts.chunk_size,
+        candidates: format!("{:?}", opts.candidates),
+        surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
+    }
+}
+
+/// Compute every chunk the manifest lacks, writing its parts and recording it; stop with
+/// `Error::Interrupted` after the chunk in flight when the stop flag is raised.
+fn compute_chunks(
+    surveys: &[PreparedSurvey],
+    objects: &ObjectTable,
+    out_dir: &Path,
+    opts: &ObserveOptions,
+    provenance: &Provenance,
+    manifest: &mut Manifest,
+) -> Result<()> {
+    let (lo, hi) = manifest.rows;
     let bar = super::summary::progress_bar(hi - lo, opts.progress);
-    let mut chunk_start = lo;
-    while chunk_start < hi {
+    let done = (lo + manifest.chunks.len() * opts.chunk_size).min(hi);
+    if let Some(b) = &bar {
+        b.inc((done - lo) as u64);
+    }
+    let mut chunk_start = done;
+    // An empty shard still has one (empty) chunk, so that its tables carry the full schema.
+    let mut first = manifest.chunks.is_empty();
+    while chunk_start < hi || (first && lo == hi) {
+        first = false;
+        if opts.stop.as_ref().is_some_and(|s| s.load(Ordering::SeqCst)) {
+            return Err(Error::Interrupted);
+        }
         let chunk_end = (chunk_start + opts.chunk_size).min(hi);
-        let outcomes: Vec<ObjectOutcome> = (chunk_start..chunk_end)
-            .into_par_iter()
-            .map_init(Vec::new, |scratch, i| {
-                let mut rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
-                observe_object(objects, i, surveys, opts.candidates, &mut rng, scratch)
-            })
-            .collect();
-        summary.add(objects, chunk_start, &outcomes, surveys);
-        obj_w.write(&objects_frame(objects, chunk_start, &outcomes, surveys)?)?;
-        det_w.write(&detections_frame(objects, chunk_start, &outcomes, surveys)?)?;
+        let entry = compute_chunk(
+            surveys,
+            objects,
+            out_dir,
+            opts,
+            provenance,
+            manifest.chunks.len(),
+            (chunk_start, chunk_end),
+        )?;
+        manifest.chunks.push(entry);
+        manifest.write(out_dir)?;
         if let Some(b) = &bar {
             b.inc((chunk_end - chunk_start) as u64);
         }
@@ -106,21 +214,103 @@ pub fn observe(
     if let Some(b) = bar {
         b.finish_and_clear();
     }
-    if lo == hi {
-        // An empty shard still writes tables with the full schema.
-        obj_w.write(&objects_frame(objects, lo, &[], surveys)?)?;
-        det_w.write(&detections_frame(objects, lo, &[], surveys)?)?;
+    Ok(())
+}
+
+/// One chunk: objects in parallel, then its two part files (each written atomically).
+fn compute_chunk(
+    surveys: &[PreparedSurvey],
+    objects: &ObjectTable,
+    out_dir: &Path,
+    opts: &ObserveOptions,
+    provenance: &Provenance,
+    index: usize,
+    (lo, hi): (usize, usize),
+) -> Result<ChunkEntry> {
+    let start = Instant::now();
+    // Manifest rows are rows of the input file; the table may start further in.
+    let (lo_global, hi_global) = (lo, hi);
+    let (lo, hi) = (lo - objects.first_row, hi - objects.first_row);
+    let outcomes: Vec<ObjectOutcome> = (lo..hi)
+        .into_par_iter()
+        .map_init(Vec::new, |scratch, i| {
+            let mut rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
+            observe_object(objects, i, surveys, opts.candidates, &mut rng, scratch)
+        })
+        .collect();
+    let mut summary = Summary::new(surveys);
+    summary.add(objects, lo, &outcomes, surveys);
+    let obj = objects_frame(objects, lo, &outcomes, surveys)?;
+    let det = detections_frame(objects, lo, &outcomes, surveys)?;
+    let write_part = |table: &str, df: &DataFrame| -> Result<String> {
+        let path = part_path(out_dir, table, index);
+        let mut sink = TableSink::create(&path, provenance.clone())?;
+        sink.write(df)?;
+        sink.finish()?;
+        file_sha256(&path)
+    };
+    let objects_sha256 = write_part("objects", &obj)?;
+    let detections_sha256 = write_part("detections", &det)?;
+    summary.elapsed_s = start.elapsed().as_secs_f64();
+    Ok(ChunkEntry {
+        index,
+        rows: (lo_global, hi_global),
+        objects_rows: obj.height(),
+        detections_rows: det.height(),
+        objects_sha256,
+        detections_sha256,
+        summary,
+    })
+}
+
+/// Stream the parts into the final tables (memory bounded by one chunk) and write the summary.
+fn assemble(
+    surveys: &[PreparedSurvey],
+    out_dir: &Path,
+    opts: &ObserveOptions,
+    provenance: &Provenance,
+    manifest: &Manifest,
+) -> Result<ObserveReport> {
+    let ext = opts.format.extension();
+    let objects_path = out_dir.join(format!("objects.{ext}"));
+    let detections_path = out_dir.join(format!("detections.{ext}"));
+    let summary_path = out_dir.join("summary.json");
+    let mut summary = Summary::new(surveys);
+    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+        let parts: Vec<PathBuf> = manifest
+            .chunks
+            .iter()
+            .map(|c| part_path(out_dir, table, c.index))
+            .collect();
+        concat_tables(&parts, path, provenance.clone(), opts.stop.as_deref())?;
     }
-    obj_w.finish()?;
-    det_w.finish()?;
-    summary.finish(start.elapsed().as_secs_f64());
+    for c in &manifest.chunks {
+        summary.absorb(&c.summary).map_err(Error::io)?;
+    }
+    let elapsed = summary.elapsed_s;
+    summary.finish(elapsed);
     write_atomic(&summary_path, summary.to_json().as_bytes())?;
     Ok(ObserveReport {
         summary,
         objects_path,
         detections_path,
         summary_path,
+        chunks_reused: 0,
+        chunks: 0,
     })
+}
+
+/// Stream tables (each small enough to hold) into one output table, in order; the output
+/// appears only when complete. Stops with `Error::Interrupted` when `stop` is raised.
+pub fn concat_tables(inputs: &[PathBuf], out: &Path, provenance: Provenance, stop: Option<&AtomicBool>) -> Result<()> {
+    let mut sink = TableSink::create(out, provenance)?;
+    for p in inputs {
+        if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
+            return Err(Error::Interrupted);
+        }
+        sink.write(&read_table(p)?)?;
+    }
+    sink.finish()
 }
 
 /// Column-name-safe form of a survey name.

@@ -2,14 +2,14 @@
 //! distance at discovery, per survey, and the engine's own figures (candidates evaluated
 //! per in-field event, objects per second). Also the progress bar.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::index::PreparedSurvey;
 use super::outcome::ObjectOutcome;
 use crate::io::objects::ObjectTable;
 
 /// Counts in bins of one quantity; `detected_fraction` is weighted by the objects' weights.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Binned {
     pub quantity: String,
     pub edges: Vec<f64>,
@@ -31,6 +31,17 @@ impl Binned {
             weighted_detected: vec![0.0; k],
         }
     }
+    /// Add another summary's counts of the same bins (shards or chunks of one run).
+    fn absorb(&mut self, o: &Binned) {
+        debug_assert_eq!(self.edges, o.edges);
+        let add_u = |a: &mut Vec<u64>, b: &[u64]| a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
+        let add_f = |a: &mut Vec<f64>, b: &[f64]| a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
+        add_u(&mut self.n, &o.n);
+        add_u(&mut self.detected, &o.detected);
+        add_f(&mut self.weighted_n, &o.weighted_n);
+        add_f(&mut self.weighted_detected, &o.weighted_detected);
+    }
+
     fn add(&mut self, x: f64, detected: bool, w: f64, count_total: bool) {
         let k = self.edges.partition_point(|&e| e <= x);
         if k == 0 || k == self.edges.len() {
@@ -47,7 +58,7 @@ impl Binned {
     }
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct SurveySummary {
     pub name: String,
     pub n_visits: usize,
@@ -56,7 +67,7 @@ pub struct SurveySummary {
     pub in_field_events: u64,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Summary {
     pub n_objects: u64,
     pub n_detected: u64,
@@ -72,10 +83,12 @@ pub struct Summary {
     pub candidates_per_in_field_event: f64,
     pub elapsed_s: f64,
     pub objects_per_second: f64,
-    #[serde(skip)]
-    weight_total: f64,
-    #[serde(skip)]
-    weight_detected: f64,
+    /// Sums of the objects' weights (all, and discovered): what `merge` needs to recompute
+    /// the weighted fraction.
+    #[serde(default)]
+    pub weight_total: f64,
+    #[serde(default)]
+    pub weight_detected: f64,
 }
 
 fn log_edges(lo: f64, hi: f64, per_decade: usize) -> Vec<f64> {
@@ -151,6 +164,41 @@ impl Summary {
         }
     }
 
+    /// Add the counts of another part of the same run (a chunk or a shard): counts, bins and
+    /// engine figures are summed; call `finish` afterwards to recompute the fractions.
+    /// Errors when the two were not made with the same surveys or bins.
+    pub fn absorb(&mut self, o: &Summary) -> Result<(), String> {
+        let names = |s: &Summary| s.surveys.iter().map(|x| x.name.clone()).collect::<Vec<_>>();
+        let edges = |s: &Summary| s.bins.iter().map(|b| b.edges.clone()).collect::<Vec<_>>();
+        if names(self) != names(o) || edges(self) != edges(o) {
+            return Err(format!(
+                "the summaries were made with different surveys ({:?} and {:?}) or bins",
+                names(self),
+                names(o)
+            ));
+        }
+        self.n_objects += o.n_objects;
+        self.n_detected += o.n_detected;
+        self.n_tracked += o.n_tracked;
+        self.weight_total += o.weight_total;
+        self.weight_detected += o.weight_detected;
+        self.candidates_evaluated += o.candidates_evaluated;
+        self.in_field_events += o.in_field_events;
+        self.elapsed_s += o.elapsed_s;
+        for (a, b) in self.surveys.iter_mut().zip(&o.surveys) {
+            a.discovered += b.discovered;
+            a.tracked += b.tracked;
+            a.in_field_events += b.in_field_events;
+        }
+        for (a, b) in self.bins.iter_mut().zip(&o.bins) {
+            a.absorb(b);
+        }
+        self.discovery_distance.absorb(&o.discovery_distance);
+        Ok(())
+    }
+
+    /// Recompute the fractions and rates from the counts; `elapsed_s` is the engine time
+    /// (summed over chunks, and over shards after a merge).
     pub fn finish(&mut self, elapsed_s: f64) {
         self.elapsed_s = elapsed_s;
         self.detected_fraction = self.n_detected as f64 / (self.n_objects.max(1)) as f64;

@@ -4,6 +4,7 @@
 pub mod objects;
 pub mod provenance;
 pub mod sink;
+pub mod spec_text;
 pub mod table;
 
 pub use provenance::Provenance;

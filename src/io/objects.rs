@@ -10,7 +10,7 @@ use std::path::Path;
 
 use polars::prelude::DataFrame;
 
-use super::table::{Columns, read_table};
+use super::table::{Columns, Format, read_parquet_rows, read_table};
 use crate::error::{Error, Result};
 use crate::orbit::{Center, Elements};
 use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
@@ -29,6 +29,10 @@ pub struct ObjectTable {
     pub lc_period_days: Vec<f64>,
     /// The table as read (every column, carried through to outputs).
     pub frame: DataFrame,
+    /// Row of the input file where this table starts, and the input's row count: a shard of
+    /// a Parquet table is read alone (see `read_shard`), so that memory follows the shard.
+    pub first_row: usize,
+    pub input_rows: usize,
 }
 
 impl ObjectTable {
@@ -49,8 +53,55 @@ impl ObjectTable {
         Self::from_frame(df, path)
     }
 
+    /// Shard k of n of a table: of a Parquet file only the shard's rows are read (ids are
+    /// then checked for uniqueness within the shard); a CSV file is read whole, and the
+    /// engine takes the shard.
+    pub fn read_shard(path: &Path, shard: Option<(usize, usize)>) -> Result<Self> {
+        match (Format::of(path)?, shard) {
+            (Format::Parquet, Some(s)) => {
+                let range = |n| crate::engine::run::shard_range(n, Some(s));
+                let (df, lo, total) = read_parquet_rows(path, range)?;
+                if df.height() == 0 && total > 0 {
+                    // More shards than objects: an empty shard, with the columns of the first row.
+                    let (one, _, _) = read_parquet_rows(path, |_| (0, 1))?;
+                    let mut t = Self::from_frame(one, path)?.emptied();
+                    (t.first_row, t.input_rows) = (lo, total);
+                    return Ok(t);
+                }
+                let mut t = Self::from_frame_at(df, path, lo)?;
+                (t.first_row, t.input_rows) = (lo, total);
+                Ok(t)
+            }
+            _ => Self::read(path),
+        }
+    }
+
+    /// The same columns with no rows.
+    fn emptied(mut self) -> Self {
+        self.frame = self.frame.slice(0, 0);
+        self.ids.clear();
+        self.elements.clear();
+        self.h_mag.clear();
+        self.phase_law.clear();
+        self.colors.iter_mut().for_each(|(_, v)| v.clear());
+        self.weight.clear();
+        self.lc_amp_mag.clear();
+        self.lc_period_days.clear();
+        self
+    }
+
+    /// True when this is a slice of a larger input table (a shard read alone).
+    pub fn is_slice(&self) -> bool {
+        self.len() != self.input_rows
+    }
+
     pub fn from_frame(df: DataFrame, path: &Path) -> Result<Self> {
-        let c = Columns::new(&df, path);
+        Self::from_frame_at(df, path, 0)
+    }
+
+    /// A table whose first row is row `offset` of the file `path` (for messages).
+    pub fn from_frame_at(df: DataFrame, path: &Path, offset: usize) -> Result<Self> {
+        let c = Columns::at_offset(&df, path, offset);
         if c.is_empty() {
             return Err(Error::input(format!(
                 "{}: the objects table has no rows",
@@ -168,6 +219,8 @@ impl ObjectTable {
             lc_amp_mag,
             lc_period_days,
             frame: df,
+            first_row: 0,
+            input_rows: n,
         })
     }
 }

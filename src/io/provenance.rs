@@ -45,10 +45,9 @@ impl Provenance {
 
     /// Record a file that was read, with the SHA-256 of its bytes.
     pub fn add_input(&mut self, path: &Path) -> Result<()> {
-        let bytes = std::fs::read(path).map_err(|e| io_at(path, e))?;
         self.inputs.push(InputHash {
             path: path.display().to_string(),
-            sha256: sha256_hex(&bytes),
+            sha256: file_sha256(path)?,
         });
         Ok(())
     }
@@ -67,4 +66,50 @@ impl Provenance {
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
     Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// SHA-256 of a file, read in blocks: an input table may be far larger than memory.
+pub fn file_sha256(path: &Path) -> Result<String> {
+    use std::io::Read;
+    let mut f = std::fs::File::open(path).map_err(|e| io_at(path, e))?;
+    let mut hasher = Sha256::new();
+    let mut buf = vec![0u8; 1 << 20];
+    loop {
+        let n = f.read(&mut buf).map_err(|e| io_at(path, e))?;
+        if n == 0 {
+            break;
+        }
+        hasher.update(&buf[..n]);
+    }
+    Ok(hasher.finalize().iter().map(|b| format!("{b:02x}")).collect())
+}
+
+/// The provenance of a table written by seine: the Parquet key-value metadata, or the
+/// sidecar `FILE.provenance.json` of a CSV table.
+pub fn read_provenance(path: &Path) -> Result<Provenance> {
+    use super::table::{Format, read_parquet_metadata, sidecar_path};
+    use crate::error::Error;
+    if !path.is_file() {
+        return Err(Error::input(format!("{}: no such file", path.display())));
+    }
+    let (text, from) = match Format::of(path)? {
+        Format::Parquet => {
+            let kv = read_parquet_metadata(path)?;
+            let v = kv.into_iter().find(|(k, _)| k == METADATA_KEY).map(|(_, v)| v);
+            let v = v.ok_or_else(|| {
+                Error::input(format!(
+                    "{}: no `{METADATA_KEY}` metadata; not written by seine",
+                    path.display()
+                ))
+            })?;
+            (v, path.to_path_buf())
+        }
+        Format::Csv => {
+            let side = sidecar_path(path);
+            let t = std::fs::read_to_string(&side)
+                .map_err(|e| Error::input(format!("{}: cannot read the provenance sidecar: {e}", side.display())))?;
+            (t, side)
+        }
+    };
+    serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not seine provenance: {e}", from.display())))
 }

@@ -73,6 +73,24 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
     })
 }
 
+/// Rows `[lo, hi)` of a Parquet table (only those are read), and the table's total row count.
+/// `range` maps the total to the wanted rows (e.g. a shard's slice).
+pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -> Result<(DataFrame, usize, usize)> {
+    let bad = |e: PolarsError| Error::input(format!("{}: not a readable parquet table: {e}", path.display()));
+    if path.is_dir() {
+        return Err(Error::input(format!(
+            "{}: is a directory, expected a table file",
+            path.display()
+        )));
+    }
+    let f = File::open(path).map_err(|e| Error::input(format!("{}: cannot open the table: {e}", path.display())))?;
+    let mut reader = ParquetReader::new(f);
+    let total = reader.num_rows().map_err(bad)?;
+    let (lo, hi) = range(total);
+    let df = reader.with_slice(Some((lo, hi - lo))).finish().map_err(bad)?;
+    Ok((df, lo, total))
+}
+
 /// Parquet key-value metadata of a file (the provenance lives there).
 pub fn read_parquet_metadata(path: &Path) -> Result<Vec<(String, String)>> {
     let f = File::open(path).map_err(|e| io_at(path, e))?;
@@ -157,11 +175,27 @@ pub fn temporary_name(path: &Path) -> PathBuf {
 pub struct Columns<'a> {
     pub df: &'a DataFrame,
     pub path: &'a Path,
+    /// Row of the file where `df` starts (a slice read from a larger table), so that
+    /// messages give the row of the file.
+    pub row_offset: usize,
 }
 
 impl<'a> Columns<'a> {
     pub fn new(df: &'a DataFrame, path: &'a Path) -> Self {
-        Columns { df, path }
+        Columns {
+            df,
+            path,
+            row_offset: 0,
+        }
+    }
+
+    /// The same, for a slice of the file that starts at row `offset` (0-based).
+    pub fn at_offset(df: &'a DataFrame, path: &'a Path, offset: usize) -> Self {
+        Columns {
+            df,
+            path,
+            row_offset: offset,
+        }
     }
 
     pub fn has(&self, name: &str) -> bool {
@@ -270,7 +304,7 @@ impl<'a> Columns<'a> {
         Error::input(format!(
             "{} row {}, column `{name}`: expected {expected}",
             self.path.display(),
-            row + 1
+            self.row_offset + row + 1
         ))
     }
 

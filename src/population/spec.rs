@@ -185,76 +185,15 @@ const DEFAULT_BETA: f64 = 0.14;
 impl Spec {
     /// Read and check a spec file.
     pub fn read(path: &Path) -> Result<Spec> {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| Error::input(format!("{}: cannot read the population spec: {e}", path.display())))?;
+        let text = crate::io::spec_text::read_spec_text(path, "population spec")?;
         Self::parse(&text, path)
     }
 
     /// Parse and check spec text; `path` names the file in messages and anchors `[import]`.
     pub fn parse(text: &str, path: &Path) -> Result<Spec> {
-        let file: SpecFile = toml::from_str(text).map_err(|e| toml_error(path, text, e))?;
+        let file: SpecFile = crate::io::spec_text::parse_toml(text, path)?;
         file.resolve(path)
     }
-}
-
-/// One message from a toml error: file, line and column, key path, what was expected, and
-/// for an unknown key the nearest valid one.
-fn toml_error(path: &Path, text: &str, e: toml::de::Error) -> Error {
-    let mut bare = e.clone();
-    bare.set_input(None);
-    let shown = bare.to_string();
-    let mut lines = shown.lines();
-    let message = lines.next().unwrap_or("").to_string();
-    let keys = lines
-        .find_map(|l| l.strip_prefix("in `").and_then(|k| k.strip_suffix('`')))
-        .map(str::to_string);
-    let at = e
-        .span()
-        .map(|s| line_column(text, s.start))
-        .map(|(l, c)| format!(" line {l}, column {c}"))
-        .unwrap_or_default();
-    let key = keys.map(|k| format!(", key `{k}`")).unwrap_or_default();
-    let hint = nearest_key_hint(&message);
-    Error::input(format!("{}:{at}{key}: {message}{hint}", path.display()))
-}
-
-fn line_column(text: &str, offset: usize) -> (usize, usize) {
-    let before = &text[..offset.min(text.len())];
-    let line = before.matches('\n').count() + 1;
-    let column = before.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
-    (line, column)
-}
-
-/// "unknown field `x`, expected one of `a`, `b`" → "; did you mean `a`?" when one is close.
-fn nearest_key_hint(message: &str) -> String {
-    if !(message.starts_with("unknown field") || message.starts_with("unknown variant")) {
-        return String::new();
-    }
-    let quoted: Vec<&str> = message.split('`').skip(1).step_by(2).collect();
-    let Some((found, options)) = quoted.split_first() else {
-        return String::new();
-    };
-    let best = options.iter().map(|o| (edit_distance(found, o), *o)).min();
-    match best {
-        Some((d, o)) if d <= 2.max(found.len() / 3) => format!("; did you mean `{o}`?"),
-        _ => String::new(),
-    }
-}
-
-/// Levenshtein distance (small strings only).
-fn edit_distance(a: &str, b: &str) -> usize {
-    let b: Vec<char> = b.chars().collect();
-    let mut row: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.chars().enumerate() {
-        let mut prev = row[0];
-        row[0] = i + 1;
-        for j in 0..b.len() {
-            let cur = row[j + 1];
-            row[j + 1] = (prev + (ca != b[j]) as usize).min(row[j] + 1).min(cur + 1);
-            prev = cur;
-        }
-    }
-    row[b.len()]
 }
 
 /// An error about the key `key` of the spec at `path`.

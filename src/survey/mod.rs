@@ -18,7 +18,7 @@ pub use linking::{Detection, LinkOutcome, LinkingRules};
 pub use spec::RateWindow;
 pub use visits::Visits;
 
-use crate::error::{Error, Result, io_at};
+use crate::error::{Error, Result};
 use crate::sky::observer::Site;
 use crate::time::TimeScale;
 
@@ -26,6 +26,8 @@ use crate::time::TimeScale;
 pub struct Survey {
     pub name: String,
     pub spec_path: PathBuf,
+    /// The visits table the spec names (recorded with its hash in the provenance).
+    pub visits_path: PathBuf,
     pub site: Option<Site>,
     pub time_scale: TimeScale,
     pub reference_band: String,
@@ -41,10 +43,7 @@ pub struct Survey {
 impl Survey {
     /// Read a survey spec and its visits table (the path relative to the spec file).
     pub fn load(spec_path: &Path) -> Result<Survey> {
-        let text = std::fs::read_to_string(spec_path).map_err(|e| match e.kind() {
-            std::io::ErrorKind::NotFound => Error::input(format!("{}: no such survey spec", spec_path.display())),
-            _ => io_at(spec_path, e),
-        })?;
+        let text = crate::io::spec_text::read_spec_text(spec_path, "survey spec")?;
         let spec: spec::SpecFile = spec::parse_toml(&text, spec_path)?;
         Self::from_spec(spec, spec_path)
     }
@@ -69,6 +68,7 @@ impl Survey {
         Ok(Survey {
             name: spec.survey.name,
             spec_path: spec_path.to_path_buf(),
+            visits_path: visits_path.clone(),
             site: spec.site,
             time_scale: spec.survey.time_scale,
             reference_band: spec.survey.reference_band,

@@ -2,7 +2,6 @@
 //! everywhere, errors with the TOML line and column, and the checks of every value.
 
 use std::collections::BTreeMap;
-use std::path::Path;
 
 use serde::{Deserialize, Serialize};
 
@@ -116,60 +115,8 @@ pub struct EfficiencySpec {
     pub blocks: BTreeMap<String, EfficiencySpec>,
 }
 
-/// Parse TOML text into `T`, with the error as `file: line L, column C: message`.
-pub fn parse_toml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Result<T> {
-    toml::from_str(text).map_err(|e: toml::de::Error| {
-        let at = e
-            .span()
-            .map(|s| line_col(text, s.start))
-            .map(|(l, c)| format!("line {l}, column {c}: "))
-            .unwrap_or_default();
-        let msg = e.message().trim().replace('\n', " ");
-        Error::input(format!("{}: {at}{msg}{}", path.display(), suggestion(&msg)))
-    })
-}
-
-/// For serde's "unknown field `x`, expected one of `a`, `b`": " (did you mean `a`?)" when a
-/// valid key is within two edits (or contains the unknown one).
-fn suggestion(msg: &str) -> String {
-    let Some(rest) = msg.strip_prefix("unknown field `") else {
-        return String::new();
-    };
-    let Some((bad, expected)) = rest.split_once('`') else {
-        return String::new();
-    };
-    let best = expected
-        .split('`')
-        .skip(1)
-        .step_by(2)
-        .map(|k| (edit_distance(bad, k), k))
-        .filter(|(d, k)| *d <= 2 || k.contains(bad))
-        .min();
-    best.map(|(_, k)| format!(" (did you mean `{k}`?)")).unwrap_or_default()
-}
-
-/// Levenshtein distance (small strings only).
-fn edit_distance(a: &str, b: &str) -> usize {
-    let b: Vec<char> = b.chars().collect();
-    let mut row: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.chars().enumerate() {
-        let mut prev = row[0];
-        row[0] = i + 1;
-        for j in 0..b.len() {
-            let cur = row[j + 1];
-            row[j + 1] = (prev + (ca != b[j]) as usize).min(row[j] + 1).min(cur + 1);
-            prev = cur;
-        }
-    }
-    row[b.len()]
-}
-
-fn line_col(text: &str, offset: usize) -> (usize, usize) {
-    let before = &text[..offset.min(text.len())];
-    let line = before.matches('\n').count() + 1;
-    let col = before.len() - before.rfind('\n').map_or(0, |i| i + 1) + 1;
-    (line, col)
-}
+/// Parse TOML text into `T`: the one spec parser of the project (file, line, column, key, hint).
+pub use crate::io::spec_text::parse_toml;
 
 impl FieldSpec {
     pub fn footprint(&self) -> Result<(Footprint, f64)> {

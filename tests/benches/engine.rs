@@ -9,87 +9,13 @@
 use std::path::Path;
 use std::time::Instant;
 
-use rand::{RngExt, SeedableRng};
-use rand_pcg::Pcg64;
 use seine::engine::{ObserveOptions, PreparedSurvey, observe};
 use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
-use seine::io::table::frame_f64;
-use seine::sky::ephemeris::observer_states;
-use seine::sky::frames::{ecliptic_to_radec, icrs_to_ecliptic, lon_lat};
 use seine::survey::Survey;
-use seine::time::TimeScale;
 
-fn survey(dir: &Path, n_visits: usize) -> Survey {
-    let nights = 900;
-    let per_night = (n_visits / nights / 3).max(1);
-    let mut rng = Pcg64::seed_from_u64(5);
-    let mut csv = String::from("visit_id,mjd,ra_deg,dec_deg,band,depth_mag\n");
-    let mut id = 0;
-    for k in 0..nights {
-        let t0 = 60676.1 + k as f64 * (1095.0 / nights as f64);
-        let obs = observer_states(&[t0], TimeScale::Utc, None).unwrap()[0];
-        let anti = icrs_to_ecliptic(&(obs.pos - obs.sun_pos));
-        let (lon0, _) = lon_lat(&anti);
-        for f in 0..per_night {
-            let lon = lon0 + ((f % 20) as f64 - 10.0).to_radians() * 1.7;
-            let lat = (((f / 20) as f64) * 1.7 - 10.0 + rng.random::<f64>()).to_radians();
-            let (ra, dec) = ecliptic_to_radec(lon, lat);
-            for rep in 0..3 {
-                csv.push_str(&format!(
-                    "{id},{},{},{},r,24.5\n",
-                    t0 + 0.04 * rep as f64 + 0.001 * f as f64,
-                    ra.to_degrees(),
-                    dec.to_degrees()
-                ));
-                id += 1;
-            }
-        }
-    }
-    std::fs::write(dir.join("bench.csv"), csv).unwrap();
-    let spec = "[survey]\nname = \"bench\"\nvisits = \"bench.csv\"\n[site]\nlongitude_deg = -70.45\nlatitude_deg = -30.35\nelevation_m = 2450.0\n[field]\nshape = \"circle\"\nradius_deg = 1.0\n[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n";
-    std::fs::write(dir.join("bench.toml"), spec).unwrap();
-    Survey::load(&dir.join("bench.toml")).unwrap()
-}
-
-fn objects(n: usize) -> ObjectTable {
-    let mut rng = Pcg64::seed_from_u64(6);
-    let mut c: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 9];
-    for i in 0..n {
-        let a = 30.0 * (1000f64 / 30.0).powf(rng.random::<f64>());
-        let e = rng.random::<f64>() * (1.0 - 30.0 / a);
-        let row = [
-            i as f64,
-            a,
-            e,
-            40.0 * rng.random::<f64>(),
-            360.0 * rng.random::<f64>(),
-            360.0 * rng.random::<f64>(),
-            360.0 * rng.random::<f64>(),
-            61000.0,
-            4.0 + 6.0 * rng.random::<f64>(),
-        ];
-        for (col, v) in c.iter_mut().zip(row) {
-            col.push(v);
-        }
-    }
-    let names = [
-        "id",
-        "a_au",
-        "e",
-        "inc_deg",
-        "node_deg",
-        "argperi_deg",
-        "mean_anomaly_deg",
-        "epoch_mjd",
-        "h_mag",
-    ];
-    ObjectTable::from_frame(
-        frame_f64(names.iter().zip(c).map(|(n, v)| (*n, v)).collect()),
-        Path::new("bench"),
-    )
-    .unwrap()
-}
+#[path = "../common/mod.rs"]
+mod common;
 
 fn main() {
     let args: Vec<usize> = std::env::args().skip(1).filter_map(|a| a.parse().ok()).collect();
@@ -99,13 +25,13 @@ fn main() {
     );
     let dir = tempfile::tempdir().unwrap();
     let t = Instant::now();
-    let s = survey(dir.path(), n_vis);
+    let s = Survey::load(&common::bench_survey(dir.path(), n_vis)).unwrap();
     let gen_s = t.elapsed().as_secs_f64();
     let t = Instant::now();
     let prepared = vec![PreparedSurvey::new(s)];
     let prep_s = t.elapsed().as_secs_f64();
     println!("generated the visits in {gen_s:.2} s");
-    let objs = objects(n_obj);
+    let objs = ObjectTable::from_frame(common::bench_objects(n_obj), Path::new("bench")).unwrap();
     let t = Instant::now();
     let report = observe(
         &prepared,

@@ -4,7 +4,12 @@
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
-use seine::io::table::{Columns, read_table};
+use rand::{RngExt, SeedableRng};
+use rand_pcg::Pcg64;
+use seine::io::table::{Columns, frame_f64, read_table};
+use seine::sky::ephemeris::observer_states;
+use seine::sky::frames::{ecliptic_to_radec, icrs_to_ecliptic, lon_lat};
+use seine::time::TimeScale;
 
 pub fn fixture(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -50,6 +55,90 @@ pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
     let p = dir.join(name);
     std::fs::write(&p, text).unwrap();
     p
+}
+
+/// The engine benchmark's survey (see tests/benches/engine.rs): ~`n_visits` visits over 3
+/// years of an ecliptic band around opposition, in triplets. Returns the spec's path.
+pub fn bench_survey(dir: &Path, n_visits: usize) -> PathBuf {
+    let nights = 900;
+    let per_night = (n_visits / nights / 3).max(1);
+    let mut rng = Pcg64::seed_from_u64(5);
+    let mut csv = String::from("visit_id,mjd,ra_deg,dec_deg,band,depth_mag\n");
+    let mut id = 0;
+    for k in 0..nights {
+        let t0 = 60676.1 + k as f64 * (1095.0 / nights as f64);
+        let obs = observer_states(&[t0], TimeScale::Utc, None).unwrap()[0];
+        let anti = icrs_to_ecliptic(&(obs.pos - obs.sun_pos));
+        let (lon0, _) = lon_lat(&anti);
+        for f in 0..per_night {
+            let lon = lon0 + ((f % 20) as f64 - 10.0).to_radians() * 1.7;
+            let lat = (((f / 20) as f64) * 1.7 - 10.0 + rng.random::<f64>()).to_radians();
+            let (ra, dec) = ecliptic_to_radec(lon, lat);
+            for rep in 0..3 {
+                csv.push_str(&format!(
+                    "{id},{},{},{},r,24.5\n",
+                    t0 + 0.04 * rep as f64 + 0.001 * f as f64,
+                    ra.to_degrees(),
+                    dec.to_degrees()
+                ));
+                id += 1;
+            }
+        }
+    }
+    std::fs::write(dir.join("bench.csv"), csv).unwrap();
+    let spec = "[survey]\nname = \"bench\"\nvisits = \"bench.csv\"\n[site]\nlongitude_deg = -70.45\nlatitude_deg = -30.35\nelevation_m = 2450.0\n[field]\nshape = \"circle\"\nradius_deg = 1.0\n[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n";
+    std::fs::write(dir.join("bench.toml"), spec).unwrap();
+    dir.join("bench.toml")
+}
+
+/// The engine benchmark's objects: a scattered-disk-like population (a 30–1000 AU, q ≥ 30 AU).
+pub fn bench_objects(n: usize) -> polars::prelude::DataFrame {
+    let mut rng = Pcg64::seed_from_u64(6);
+    let mut c: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 9];
+    for i in 0..n {
+        let a = 30.0 * (1000f64 / 30.0).powf(rng.random::<f64>());
+        let e = rng.random::<f64>() * (1.0 - 30.0 / a);
+        let row = [
+            i as f64,
+            a,
+            e,
+            40.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            360.0 * rng.random::<f64>(),
+            61000.0,
+            4.0 + 6.0 * rng.random::<f64>(),
+        ];
+        for (col, v) in c.iter_mut().zip(row) {
+            col.push(v);
+        }
+    }
+    let names = [
+        "id",
+        "a_au",
+        "e",
+        "inc_deg",
+        "node_deg",
+        "argperi_deg",
+        "mean_anomaly_deg",
+        "epoch_mjd",
+        "h_mag",
+    ];
+    frame_f64(names.iter().zip(c).map(|(n, v)| (*n, v)).collect())
+}
+
+/// Every file and directory below `dir`, sorted (to check that nothing was left behind).
+pub fn walk(dir: &Path) -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    for e in std::fs::read_dir(dir).unwrap().flatten() {
+        let p = e.path();
+        if p.is_dir() {
+            out.extend(walk(&p));
+        }
+        out.push(p);
+    }
+    out.sort();
+    out
 }
 
 /// Write a geocentric survey (circle fields of `radius` deg, step efficiency at `depth`)

@@ -1,0 +1,288 @@
+//! Fuzzing of the spec and table loaders (issue 8.2) as property tests: random bytes, random
+//! TOML built from the specs' own keys and random values, and random CSV tables built from
+//! the contract's columns and hostile cells. Each loader must return (Ok or a typed error),
+//! never panic, and never hang (each case has a deadline). The default run is short (a few
+//! seconds); a long run: `PROPTEST_CASES=20000 cargo test --release --test fuzz` (DEVELOPERS.md).
+//! Also property tests of the orbit maths (8.4): Kepler's equation over e in [0, 0.9999] and
+//! element ↔ state round trips.
+
+use std::path::Path;
+use std::sync::mpsc;
+use std::time::Duration;
+
+use proptest::prelude::*;
+use seine::io::objects::ObjectTable;
+use seine::orbit::kepler::{eccentric_anomaly, mean_from_eccentric};
+use seine::orbit::{Center, Elements};
+use seine::population::Spec;
+use seine::survey::Survey;
+use seine::survey::planner::PlanFile;
+use seine::survey::spec::parse_toml;
+use seine::survey::visits::Visits;
+use seine::time::TimeScale;
+
+/// Run `f` on another thread; a panic or a run longer than the deadline fails the case.
+fn within<F: FnOnce() + Send + 'static>(what: &str, f: F) {
+    let (tx, rx) = mpsc::channel();
+    std::thread::spawn(move || {
+        let ok = std::panic::catch_unwind(std::panic::AssertUnwindSafe(f)).is_ok();
+        let _ = tx.send(ok);
+    });
+    match rx.recv_timeout(Duration::from_secs(10)) {
+        Ok(true) => {}
+        Ok(false) => panic!("{what}: the loader panicked"),
+        Err(_) => panic!("{what}: the loader did not return within 10 s"),
+    }
+}
+
+fn cases() -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(400)
+}
+
+const KEYS: &[&str] = &[
+    "name",
+    "visits",
+    "time_scale",
+    "reference_band",
+    "longitude_deg",
+    "latitude_deg",
+    "elevation_m",
+    "shape",
+    "radius_deg",
+    "width_deg",
+    "height_deg",
+    "chips",
+    "fill_factor",
+    "model",
+    "peak",
+    "width_mag",
+    "w1_mag",
+    "w2_mag",
+    "dm",
+    "rates",
+    "eta",
+    "trailing",
+    "min_rate",
+    "max_rate",
+    "min_detections_per_night",
+    "min_tracklet_span_min",
+    "min_nights",
+    "window_days",
+    "epoch_mjd",
+    "frame",
+    "a_au",
+    "q_au",
+    "e",
+    "inc_deg",
+    "node_deg",
+    "argperi_deg",
+    "mean_anomaly_deg",
+    "h_mag",
+    "dist",
+    "lo",
+    "hi",
+    "k",
+    "sigma",
+    "mean",
+    "kappa",
+    "value",
+    "first_night",
+    "last_night",
+    "seed",
+    "band",
+    "objects",
+    "clones",
+    "aphelion_au",
+    "radiu_deg",
+];
+const SECTIONS: &[&str] = &[
+    "survey",
+    "site",
+    "field",
+    "efficiency",
+    "motion",
+    "linking",
+    "population",
+    "orbit",
+    "photometry",
+    "constraints",
+    "importance",
+    "import",
+    "plan",
+    "region",
+    "revisit",
+    "depth",
+    "efficiency.blocks.deep",
+];
+
+/// A TOML value: numbers at the edges, strings, arrays, inline distributions, junk.
+fn value() -> impl Strategy<Value = String> {
+    let leaf = prop_oneof![
+        any::<f64>().prop_map(|x| format!("{x:?}")),
+        any::<i64>().prop_map(|x| x.to_string()),
+        Just("nan".to_string()),
+        Just("inf".to_string()),
+        Just("-inf".to_string()),
+        Just("1e308".to_string()),
+        Just("0".to_string()),
+        Just("true".to_string()),
+        "[a-z\\-]{0,12}".prop_map(|s| format!("\"{s}\"")),
+        prop::sample::select(vec![
+            "uniform",
+            "power-law",
+            "isotropic",
+            "rayleigh",
+            "von-mises",
+            "knee",
+            "fixed"
+        ])
+        .prop_map(|d| format!("\"{d}\"")),
+    ];
+    leaf.prop_recursive(3, 16, 4, |inner| {
+        prop_oneof![
+            prop::collection::vec(inner.clone(), 0..4).prop_map(|v| format!("[{}]", v.join(", "))),
+            prop::collection::vec((prop::sample::select(KEYS), inner), 0..4).prop_map(|kv| {
+                let body: Vec<String> = kv.iter().map(|(k, v)| format!("{k} = {v}")).collect();
+                format!("{{ {} }}", body.join(", "))
+            }),
+        ]
+    })
+}
+
+/// A TOML-like document: sections and key = value lines, with some broken lines.
+fn toml_text() -> impl Strategy<Value = String> {
+    let line = prop_oneof![
+        4 => (prop::sample::select(KEYS), value()).prop_map(|(k, v)| format!("{k} = {v}")),
+        2 => prop::sample::select(SECTIONS).prop_map(|s| format!("[{s}]")),
+        1 => "[ -~]{0,30}",
+    ];
+    prop::collection::vec(line, 0..24).prop_map(|l| l.join("\n"))
+}
+
+const COLUMNS: &[&str] = &[
+    "id",
+    "a_au",
+    "e",
+    "q_au",
+    "inc_deg",
+    "node_deg",
+    "argperi_deg",
+    "mean_anomaly_deg",
+    "epoch_mjd",
+    "h_mag",
+    "beta_mag_per_deg",
+    "hg_g",
+    "color_g",
+    "weight",
+    "lc_amp_mag",
+    "lc_period_hr",
+    "frame",
+    "mjd",
+    "ra_deg",
+    "dec_deg",
+    "band",
+    "depth_mag",
+    "visit_id",
+    "rotation_deg",
+    "exposure_s",
+    "seeing_arcsec",
+    "block",
+    "junk",
+];
+
+fn cell() -> impl Strategy<Value = String> {
+    prop_oneof![
+        (-1e3f64..1e5).prop_map(|x| format!("{x}")),
+        any::<f64>().prop_map(|x| format!("{x}")),
+        any::<i64>().prop_map(|x| x.to_string()),
+        prop::sample::select(vec![
+            "",
+            "NaN",
+            "inf",
+            "-inf",
+            "r",
+            "g",
+            "heliocentric",
+            "barycentric",
+            "\"a,b\"",
+            "1e400"
+        ])
+        .prop_map(str::to_string),
+        "[ -~]{0,8}".prop_map(|s| s.replace(['\n', '\r'], "")),
+    ]
+}
+
+/// A CSV table: a header drawn from the contract's columns (plus junk), and rows of hostile cells.
+fn csv_text() -> impl Strategy<Value = String> {
+    (prop::collection::vec(prop::sample::select(COLUMNS), 1..14), 0usize..6).prop_flat_map(|(cols, rows)| {
+        let width = cols.len();
+        prop::collection::vec(prop::collection::vec(cell(), width..=width), rows..=rows).prop_map(move |body| {
+            let mut t = cols.join(",");
+            for r in body {
+                t.push('\n');
+                t.push_str(&r.join(","));
+            }
+            t
+        })
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: cases(), failure_persistence: None, ..ProptestConfig::default() })]
+
+    #[test]
+    fn spec_loaders_survive_random_toml(text in toml_text()) {
+        let dir = tempfile::tempdir().unwrap();
+        std::fs::write(dir.path().join("visits.csv"), "mjd,ra_deg,dec_deg,band,depth_mag\n61000.1,10,-5,r,24\n").unwrap();
+        let path = dir.path().join("spec.toml");
+        std::fs::write(&path, &text).unwrap();
+        within("population spec", {
+            let (t, p) = (text.clone(), path.clone());
+            move || { let _ = Spec::parse(&t, &p); }
+        });
+        within("survey spec", { let p = path.clone(); move || { let _ = Survey::load(&p); } });
+        within("cadence plan", move || { let _ = parse_toml::<PlanFile>(&text, Path::new("plan.toml")); });
+    }
+
+    #[test]
+    fn spec_loaders_survive_random_bytes(bytes in prop::collection::vec(any::<u8>(), 0..400)) {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("spec.toml");
+        std::fs::write(&path, &bytes).unwrap();
+        within("population spec (bytes)", { let p = path.clone(); move || { let _ = Spec::read(&p); } });
+        within("survey spec (bytes)", move || { let _ = Survey::load(&path); });
+    }
+
+    #[test]
+    fn table_loaders_survive_random_csv(text in csv_text()) {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("table.csv");
+        std::fs::write(&path, &text).unwrap();
+        within("objects table", { let p = path.clone(); move || { let _ = ObjectTable::read(&p); } });
+        within("visits table", move || { let _ = Visits::read(&path, TimeScale::Utc, None); });
+    }
+
+    /// Kepler's equation is solved to near machine precision over the whole range of e.
+    #[test]
+    fn kepler_solution_satisfies_the_equation(m in -20.0f64..20.0, e in 0.0f64..=0.9999) {
+        let big_e = eccentric_anomaly(m, e);
+        let back = mean_from_eccentric(big_e, e);
+        let d = (back - m).rem_euclid(std::f64::consts::TAU);
+        let d = d.min(std::f64::consts::TAU - d);
+        prop_assert!(d < 1e-12, "M = {m}, e = {e}: residual {d}");
+    }
+
+    /// Elements → state → elements → state gives back the same position and velocity.
+    #[test]
+    fn elements_state_round_trip(a in 1.0f64..5000.0, e in 0.0f64..0.999, inc in 0.0f64..3.14159,
+                                 node in 0.0f64..6.2831, argperi in 0.0f64..6.2831, m in 0.0f64..6.2831) {
+        let el = Elements { a_au: a, e, inc, node, argperi, mean_anomaly: m, epoch_mjd_tdb: 61000.0, center: Center::Heliocentric };
+        let (r, v) = el.to_state();
+        let (r2, v2) = Elements::from_state(&r, &v, 61000.0, Center::Heliocentric).to_state();
+        prop_assert!((r2 - r).norm() <= 1e-9 * r.norm(), "position: {} vs {}", r2, r);
+        prop_assert!((v2 - v).norm() <= 1e-9 * v.norm(), "velocity: {} vs {}", v2, v);
+    }
+}

@@ -1,0 +1,247 @@
+//! The catalogue of bad inputs (issue 8.1), one test each, through the binary: every case
+//! exits with status 2, prints one sentence naming the file and the row or key and what was
+//! expected, and leaves no output anywhere (the working directory is unchanged).
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+mod common;
+
+const SPEC: &str = r#"[survey]
+name = "hardening"
+visits = "visits.csv"
+[field]
+shape = "circle"
+radius_deg = 1.0
+"#;
+
+const VISITS: &str = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag
+0,61000.1,10.0,-5.0,r,24.0
+1,61000.2,10.1,-5.0,r,24.0
+";
+
+const OBJECTS: &str = "id,a_au,e,inc_deg,node_deg,argperi_deg,mean_anomaly_deg,epoch_mjd,h_mag
+0,45.0,0.1,5.0,10.0,20.0,30.0,61000.0,7.0
+1,60.0,0.3,15.0,100.0,200.0,300.0,61000.0,6.0
+";
+
+const POPULATION: &str = r#"[population]
+name = "hardening"
+epoch_mjd = 61000.0
+[orbit]
+a_au = { dist = "uniform", lo = 40.0, hi = 50.0 }
+e = { dist = "uniform", lo = 0.0, hi = 0.2 }
+inc_deg = { dist = "isotropic" }
+[photometry]
+h_mag = { dist = "uniform", lo = 5.0, hi = 8.0 }
+"#;
+
+/// A scratch directory holding a good survey, visits and objects, with some files replaced.
+struct Case {
+    dir: tempfile::TempDir,
+}
+
+impl Case {
+    fn new(replace: &[(&str, &str)]) -> Case {
+        let dir = tempfile::tempdir().unwrap();
+        for (name, text) in [("survey.toml", SPEC), ("visits.csv", VISITS), ("objects.csv", OBJECTS)] {
+            let text = replace.iter().find(|(n, _)| *n == name).map_or(text, |(_, t)| t);
+            std::fs::write(dir.path().join(name), text).unwrap();
+        }
+        Case { dir }
+    }
+    fn p(&self, name: &str) -> String {
+        self.dir.path().join(name).to_string_lossy().into_owned()
+    }
+    fn observe(&self, extra: &[&str]) -> Vec<String> {
+        let mut a = args(&["observe", "--quiet", "--survey", &self.p("survey.toml")]);
+        if !extra.contains(&"--objects") {
+            a.extend(["--objects".into(), self.p("objects.csv")]);
+        }
+        if !extra.contains(&"--out") {
+            a.extend(["--out".into(), self.p("out")]);
+        }
+        a.extend(extra.iter().map(|s| s.to_string()));
+        a
+    }
+    /// Run seine: status 2, one line containing every `expect`, and no file added anywhere.
+    fn fails(&self, args: &[String], expect: &[&str]) {
+        let before = listing(self.dir.path());
+        let o = Command::new(env!("CARGO_BIN_EXE_seine")).args(args).output().unwrap();
+        let err = common::stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert_eq!(err.trim().lines().count(), 1, "one sentence expected: {err}");
+        assert!(!err.contains("panicked"), "{err}");
+        for e in expect {
+            assert!(err.contains(e), "expected `{e}` in: {err}");
+        }
+        assert_eq!(
+            listing(self.dir.path()),
+            before,
+            "output left behind by {args:?}: {err}"
+        );
+    }
+}
+
+fn listing(dir: &Path) -> Vec<PathBuf> {
+    common::walk(dir)
+}
+
+/// Owned command-line arguments.
+fn args(a: &[&str]) -> Vec<String> {
+    a.iter().map(|s| s.to_string()).collect()
+}
+
+#[test]
+fn malformed_toml_gives_line_and_column() {
+    let c = Case::new(&[("survey.toml", "[survey\nname = \"x\"\n")]);
+    c.fails(&c.observe(&[]), &["survey.toml", "line 1, column"]);
+}
+
+#[test]
+fn unknown_key_is_refused_with_the_nearest_valid_key() {
+    let c = Case::new(&[("survey.toml", &SPEC.replace("radius_deg", "radius_dg"))]);
+    c.fails(
+        &c.observe(&[]),
+        &["survey.toml", "radius_dg", "did you mean `radius_deg`", "line 6"],
+    );
+}
+
+#[test]
+fn wrong_type_names_the_key() {
+    let c = Case::new(&[("survey.toml", &SPEC.replace("radius_deg = 1.0", "radius_deg = \"one\""))]);
+    c.fails(&c.observe(&[]), &["survey.toml", "field.radius_deg", "line 6"]);
+}
+
+#[test]
+fn missing_required_column_is_named() {
+    let c = Case::new(&[(
+        "objects.csv",
+        &OBJECTS
+            .replace(",h_mag", "")
+            .replace(",7.0\n", "\n")
+            .replace(",6.0\n", "\n"),
+    )]);
+    c.fails(&c.observe(&[]), &["objects.csv", "missing required column `h_mag`"]);
+}
+
+#[test]
+fn nan_and_infinity_are_refused_with_their_row() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("60.0,0.3", "NaN,0.3"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "a_au", "finite"]);
+    let c = Case::new(&[("visits.csv", &VISITS.replace("10.1,-5.0,r,24.0", "10.1,-5.0,r,inf"))]);
+    c.fails(&c.observe(&[]), &["visits.csv", "row 2", "depth_mag"]);
+}
+
+#[test]
+fn out_of_range_values_are_refused() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("60.0,0.3", "60.0,1.3"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "`e`"]);
+    let c = Case::new(&[("visits.csv", &VISITS.replace("10.1,-5.0", "10.1,-95.0"))]);
+    c.fails(&c.observe(&[]), &["visits.csv", "row 2", "dec_deg"]);
+}
+
+#[test]
+fn empty_tables_are_refused() {
+    let c = Case::new(&[("objects.csv", OBJECTS.lines().next().unwrap())]);
+    c.fails(&c.observe(&[]), &["objects.csv", "no rows"]);
+    let c = Case::new(&[("visits.csv", VISITS.lines().next().unwrap())]);
+    c.fails(&c.observe(&[]), &["visits.csv", "no rows"]);
+}
+
+#[test]
+fn duplicate_ids_are_refused() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("\n1,60.0", "\n0,60.0"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "id", "unique"]);
+}
+
+/// An unknown band: a visit band with no colour column while the objects give colours for
+/// other bands (a misspelt band or a missing column); see `engine::run::check_bands`.
+#[test]
+fn unknown_band_is_refused() {
+    let objects = OBJECTS
+        .replace(",h_mag\n", ",h_mag,color_g\n")
+        .replace(",7.0\n", ",7.0,0.5\n")
+        .replace(",6.0\n", ",6.0,0.6\n");
+    let visits = VISITS.replace("-5.0,r,24.0\n1", "-5.0,gg,24.0\n1");
+    let c = Case::new(&[("objects.csv", &objects), ("visits.csv", &visits)]);
+    c.fails(
+        &c.observe(&[]),
+        &["visits.csv", "band `gg`", "did you mean `g`", "color_gg"],
+    );
+}
+
+#[test]
+fn missing_visits_file_is_named() {
+    let c = Case::new(&[("survey.toml", &SPEC.replace("visits.csv", "nowhere.csv"))]);
+    c.fails(&c.observe(&[]), &["nowhere.csv", "no such file"]);
+}
+
+#[test]
+fn directory_where_a_file_is_expected() {
+    let c = Case::new(&[]);
+    std::fs::create_dir(c.dir.path().join("dir.csv")).unwrap();
+    c.fails(
+        &c.observe(&["--objects", &c.p("dir.csv")]),
+        &["dir.csv", "is a directory"],
+    );
+    let (spec, objects, out) = (c.p("dir.csv"), c.p("objects.csv"), c.p("out"));
+    let a = args(&["observe", "--survey", &spec, "--objects", &objects, "--out", &out]);
+    c.fails(&a, &["dir.csv", "is a directory", "survey spec"]);
+}
+
+#[test]
+fn population_constraint_that_rejects_everything() {
+    let c = Case::new(&[]);
+    let spec = format!("{POPULATION}[constraints]\nq_au = [100.0, 200.0]\n");
+    std::fs::write(c.dir.path().join("pop.toml"), spec).unwrap();
+    let (spec, out) = (c.p("pop.toml"), c.p("o.parquet"));
+    let a = args(&["draw", "--spec", &spec, "--count", "100", "--seed", "1", "--out", &out]);
+    c.fails(&a, &["pop.toml", "constraints.q_au"]);
+}
+
+#[test]
+fn unwritable_output_directory() {
+    // A regular file where a directory is needed: refused even for root, who ignores modes.
+    let c = Case::new(&[]);
+    c.fails(
+        &c.observe(&["--out", &format!("{}/out", c.p("objects.csv"))]),
+        &["objects.csv/out", "cannot create"],
+    );
+}
+
+#[test]
+fn objects_with_a_column_observe_writes_are_refused_before_any_output() {
+    let objects = OBJECTS
+        .replace(",h_mag\n", ",h_mag,detected\n")
+        .replace(",7.0\n", ",7.0,1\n")
+        .replace(",6.0\n", ",6.0,0\n");
+    let c = Case::new(&[("objects.csv", &objects)]);
+    c.fails(&c.observe(&[]), &["detected", "rename or drop"]);
+}
+
+#[test]
+fn inconsistent_shards_from_the_environment() {
+    let c = Case::new(&[]);
+    for (env, extra, expect) in [
+        (Some(("7", "4")), vec![], "SLURM_ARRAY_TASK_ID = 7 with 4 shards"),
+        (Some(("x", "4")), vec![], "SLURM_ARRAY_TASK_ID `x`"),
+        (None, vec!["--shard", "1/4", "--shards", "3"], "the shard counts differ"),
+        (None, vec!["--shards", "3"], "needs SLURM_ARRAY_TASK_ID"),
+        (None, vec!["--shard", "4/4"], "--shard `4/4`"),
+    ] {
+        let before = listing(c.dir.path());
+        let mut cmd = Command::new(env!("CARGO_BIN_EXE_seine"));
+        cmd.args(c.observe(&extra))
+            .env_remove("SLURM_ARRAY_TASK_ID")
+            .env_remove("SLURM_ARRAY_TASK_COUNT");
+        if let Some((id, n)) = env {
+            cmd.env("SLURM_ARRAY_TASK_ID", id).env("SLURM_ARRAY_TASK_COUNT", n);
+        }
+        let o = cmd.output().unwrap();
+        let err = common::stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{err}");
+        assert!(err.contains(expect), "expected `{expect}` in {err}");
+        assert_eq!(listing(c.dir.path()), before);
+    }
+}
