@@ -10,6 +10,7 @@ mod draw;
 mod ephemeris;
 mod observe;
 mod plan;
+mod report;
 
 #[derive(Parser, Debug)]
 #[command(
@@ -37,6 +38,8 @@ pub enum Command {
     Draw(draw::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
+    /// Rebuild the HTML report (index.html and SVG figures) of an output directory.
+    Report(report::Args),
 }
 
 pub fn run(cli: Cli) -> Result<()> {
@@ -46,5 +49,6 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Draw(a) => draw::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
+        Command::Report(a) => report::run(a),
     }
 }
