@@ -205,7 +205,7 @@ fn analysis_figures_from_synthetic_tables() {
             }),
         })
         .collect();
-    let f = rose::rose("varpi_deg", &bins, "").unwrap();
+    let f = rose::rose("varpi_deg", &bins, rose::Band::BiasAware, "").unwrap();
     check(&f, &["90°", "180°"]);
     assert!(f.caption.contains("longitude of perihelion ϖ (deg)") && f.caption.contains("null band"));
 

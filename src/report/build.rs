@@ -27,15 +27,10 @@ pub struct Section {
     pub figures: Vec<Figure>,
 }
 
-/// Every section of the report of `dir`.
+/// Every section of the report of `dir`: the comparison of plans first, when there is one,
+/// since it is the answer; then each survey and run in detail.
 pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
     let mut out = vec![overview(dir, inp)];
-    if !inp.surveys.is_empty() {
-        out.push(surveys_section(inp)?);
-    }
-    for (k, run) in inp.runs.iter().enumerate() {
-        out.push(found_section(dir, run, k, inp.runs.len())?);
-    }
     let yields = yield_rows(inp);
     if !yields.is_empty() {
         out.push(Section {
@@ -46,6 +41,12 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
             figures: vec![cadence::yield_vs_cadence(&yields)?],
             tables: vec![yield_table(&yields)],
         });
+    }
+    if !inp.surveys.is_empty() {
+        out.push(surveys_section(inp)?);
+    }
+    for (k, run) in inp.runs.iter().enumerate() {
+        out.push(found_section(dir, run, k, inp.runs.len())?);
     }
     out.push(bias_section(inp)?);
     Ok(out
@@ -285,12 +286,50 @@ fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Resul
             f.stem = format!("run{k}_{}", f.stem);
         }
     }
+    let mut tables = vec![fraction_table(&run.summary)];
+    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected)));
     Ok(Section {
         title: format!("What was found: {}", rel(dir, &run.dir)),
         intro: "Injected objects against discovered ones: where the survey's selection cuts.".into(),
-        tables: vec![fraction_table(&run.summary)],
+        tables,
         figures,
     })
+}
+
+/// The fraction of each particle's clones that were discovered: the particle's detection
+/// probability, the per-object weight of a likelihood fit (first 25 particles).
+fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
+    let mut by: std::collections::BTreeMap<i64, (u64, u64)> = Default::default();
+    for (p, d) in parent.iter().zip(detected) {
+        let e = by.entry(*p).or_default();
+        e.0 += 1;
+        e.1 += *d as u64;
+    }
+    let rows = by
+        .iter()
+        .take(25)
+        .map(|(p, &(n, k))| {
+            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+            vec![
+                p.to_string(),
+                n.to_string(),
+                k.to_string(),
+                format!("{:.3}", k as f64 / n as f64),
+                format!("{lo:.3}–{hi:.3}"),
+            ]
+        })
+        .collect();
+    Table {
+        caption: format!(
+            "Detection probability per simulation particle: the fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
+            by.len(),
+            if by.len() > 25 { ", the first 25 shown" } else { "" }
+        ),
+        header: ["parent_id", "clones", "discovered", "probability", "95% interval"]
+            .map(String::from)
+            .to_vec(),
+        rows,
+    }
 }
 
 fn fraction_table(summary: &serde_json::Value) -> Table {
@@ -392,12 +431,13 @@ fn bias_section(inp: &Inputs) -> Result<Section> {
                     .collect()
             };
             let note = "Angles of the discovered objects of the first observe run.";
-            figures.push(rose::rose("varpi_deg", &rose::bins_of(&found(&o.varpi_deg), 18), note)?);
-            figures.push(rose::rose("node_deg", &rose::bins_of(&found(&o.node_deg), 18), note)?);
+            for (q, xs) in [("varpi_deg", &o.varpi_deg), ("node_deg", &o.node_deg)] {
+                figures.push(rose::rose(q, &rose::bins_of(&found(xs), 18), rose::Band::Naive, note)?);
+            }
         }
     }
     for (q, bins) in &inp.roses {
-        figures.push(rose::rose(q, bins, "From rose.csv.")?);
+        figures.push(rose::rose(q, bins, rose::Band::BiasAware, "From rose.csv.")?);
     }
     for t in &inp.null_tests {
         figures.push(cluster::null_distribution(t)?);

@@ -38,6 +38,8 @@ pub struct Observed {
     pub detected: Vec<bool>,
     pub discovery_r_au: Vec<Option<f64>>,
     pub discovery_radec_deg: Vec<Option<(f64, f64)>>,
+    /// The simulation particle each clone came from (`seine draw` with an `[import]` spec).
+    pub parent_id: Option<Vec<i64>>,
 }
 
 pub struct Detections {
@@ -244,6 +246,11 @@ fn read_observed(path: &Path) -> Result<Observed> {
         detected: bools(&c, "detected")?,
         discovery_r_au: nullable(&t.frame, path, "discovery_r_au")?,
         discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
+        parent_id: if c.has("parent_id") {
+            Some(c.i64("parent_id")?)
+        } else {
+            None
+        },
     })
 }
 

@@ -50,6 +50,16 @@ where
     Ok(())
 }
 
+/// Ticks of a logarithmic axis at 1, 2 and 5 times the powers of ten inside [lo, hi]
+/// (plotters labels only the powers of ten, too few over one or two decades).
+pub fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    let (a, b) = (lo.log10().floor() as i32, hi.log10().ceil() as i32);
+    (a..=b)
+        .flat_map(|p| [1.0, 2.0, 5.0].map(|m| m * 10f64.powi(p)))
+        .filter(|&t| t >= lo && t <= hi)
+        .collect()
+}
+
 /// A tick label: no trailing zeros ("100", "0.25"), thousands without decimals.
 pub fn tick(v: f64) -> String {
     if v.abs() >= 1000.0 || v == v.round() {

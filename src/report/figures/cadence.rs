@@ -1,6 +1,7 @@
 //! Yield against cadence: what each plan discovered of each population, against the plan's
 //! revisit interval, with binomial (Wilson 95%) error bars.
 
+use plotters::coord::combinators::BindKeyPoints;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
@@ -37,19 +38,28 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
             if rows.is_empty() {
                 return empty_note(&area, "no plans to compare");
             }
-            let xmax = rows.iter().map(|r| r.cadence_days).fold(1.0, f64::max) * 1.25;
+            // Revisit intervals run from hours-apart nights to a year: a logarithmic axis.
+            let xs = rows.iter().map(|r| r.cadence_days.max(0.1));
+            let (x0, x1) = xs.fold((f64::MAX, f64::MIN), |(a, b), x| (a.min(x), b.max(x)));
+            let (x0, x1) = (x0 / 2.0, x1 * 2.0);
             let ymax = rows
                 .iter()
                 .map(|r| wilson(r.n_discovered, r.n_objects, 1.96).1)
                 .fold(1e-4, f64::max)
                 * 1.25;
-            let mut chart = axes::chart(&area, 0.0..xmax, 0.0..ymax)?;
+            let x = (x0..x1).log_scale().with_key_points(axes::log_ticks(x0, x1));
+            let mut chart = axes::chart(&area, x, 0.0..ymax)?;
             axes::mesh(
                 &mut chart,
                 "revisit interval (days)",
                 "discovered fraction (dimensionless)",
             )?;
-            let lab = style::text(style::LABEL_PX - 1.0).pos(Pos::new(HPos::Left, VPos::Bottom));
+            let mid = (x0 * x1).sqrt();
+            // Labels point inwards so that they stay inside the plot.
+            let lab = |x: f64| {
+                let h = if x > mid { HPos::Right } else { HPos::Left };
+                style::text(style::LABEL_PX - 1.0).pos(Pos::new(h, VPos::Bottom))
+            };
             for (k, pop) in pops.iter().enumerate() {
                 let c = style::series(k);
                 let mine: Vec<&YieldRow> = rows.iter().filter(|r| r.population == *pop).collect();
@@ -66,9 +76,9 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
                     .legend(move |(x, y)| Circle::new((x + 11, y), 5, c.filled()));
                 chart.draw_series(mine.iter().map(|r| {
                     Text::new(
-                        format!(" {} ({}/{})", r.plan, r.n_discovered, r.n_objects),
+                        format!("  {} ({}/{})  ", r.plan, r.n_discovered, r.n_objects),
                         (r.cadence_days, frac(r)),
-                        lab.clone(),
+                        lab(r.cadence_days),
                     )
                 }))?;
             }

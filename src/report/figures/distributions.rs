@@ -1,6 +1,7 @@
 //! Injected versus discovered distributions of one quantity, and the discovered fraction in
 //! bins of a quantity with binomial (Wilson 95%) error bars.
 
+use plotters::coord::combinators::BindKeyPoints;
 use plotters::coord::ranged1d::{AsRangedCoord, Ranged, ValueFormatter};
 use plotters::prelude::*;
 
@@ -11,15 +12,16 @@ use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges,
 use crate::report::style;
 use crate::report::tables::FractionBin;
 
-/// Quantities spanning decades get a logarithmic axis.
-pub fn is_log(quantity: &str) -> bool {
-    matches!(quantity, "a_au" | "q_au" | "r_au")
+/// Distances get a logarithmic axis when they span more than a factor of five (below that a
+/// logarithmic axis has no round ticks to label).
+pub fn is_log(quantity: &str, lo: f64, hi: f64) -> bool {
+    matches!(quantity, "a_au" | "q_au" | "r_au") && lo > 0.0 && hi / lo > 5.0
 }
 
 /// Edges covering every value: 40 bins, logarithmic where `is_log`.
 fn edges_for(quantity: &str, xs: &[f64]) -> Option<Vec<f64>> {
     let (lo, hi) = finite_range(xs)?;
-    if is_log(quantity) && lo > 0.0 {
+    if is_log(quantity, lo, hi) {
         let (lo, hi) = (lo * 0.98, hi * 1.02);
         return Some(log_edges(lo, hi.max(lo * 1.1), 40));
     }
@@ -46,10 +48,18 @@ pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f6
             return empty_note(&area, "no objects");
         };
         let hists = [histogram(injected, &edges), histogram(discovered, &edges)];
-        let top = hists[0].iter().chain(&hists[1]).copied().max().unwrap_or(1).max(1) as f64 * 2.0;
+        // Headroom of a factor 5 keeps the legend clear of the curves.
+        let top = hists[0].iter().chain(&hists[1]).copied().max().unwrap_or(1).max(1) as f64 * 5.0;
         let (lo, hi) = (edges[0], edges[edges.len() - 1]);
-        if is_log(quantity) {
-            draw_hists(&area, (lo..hi).log_scale(), &edges, &hists, top, quantity)
+        if is_log(quantity, lo, hi) {
+            draw_hists(
+                &area,
+                (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi)),
+                &edges,
+                &hists,
+                top,
+                quantity,
+            )
         } else {
             draw_hists(&area, lo..hi, &edges, &hists, top, quantity)
         }
@@ -97,8 +107,17 @@ pub fn discovered_fraction(quantity: &str, bins: &[FractionBin]) -> Result<Figur
             return empty_note(&area, "no objects in any bin");
         };
         let top = nice_top(axis_top(&used));
-        if is_log(quantity) && first.lo > 0.0 {
-            draw_fraction(&area, (first.lo..last.hi).log_scale(), &used, top, quantity, true)
+        if is_log(quantity, first.lo, last.hi) {
+            draw_fraction(
+                &area,
+                (first.lo..last.hi)
+                    .log_scale()
+                    .with_key_points(axes::log_ticks(first.lo, last.hi)),
+                &used,
+                top,
+                quantity,
+                true,
+            )
         } else {
             draw_fraction(&area, first.lo..last.hi, &used, top, quantity, false)
         }

@@ -9,7 +9,7 @@ use crate::error::Result;
 use crate::report::figure::{DrawResult, Figure, empty_note, render, titled};
 use crate::report::stats::{label, symbol};
 use crate::report::style;
-use crate::report::tables::RoseBin;
+use crate::report::tables::{NullBand, RoseBin};
 
 type Polar<'a, 'b> = ChartContext<
     'a,
@@ -23,23 +23,47 @@ fn radius(count: f64) -> f64 {
     count.max(0.0).sqrt()
 }
 
+/// What the grey band of a rose is: the bias-aware null of the cluster test, or the naive
+/// one of uniform angles (no survey bias), which is all an observe run alone can give.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Band {
+    BiasAware,
+    Naive,
+}
+
+impl Band {
+    fn describe(self) -> &'static str {
+        match self {
+            Band::BiasAware => {
+                "Grey: the null band, the central 90% of counts per bin that isotropic angles seen \
+                 through the same surveys give (the bias-aware null); dark line: its median. Wedges \
+                 outside the band are what the surveys' bias does not explain."
+            }
+            Band::Naive => {
+                "Grey: the naive band, the central 90% of counts per bin for the same number of \
+                 uniformly distributed angles, with no survey bias; dark line: its median. The \
+                 bias-aware band comes from the cluster test."
+            }
+        }
+    }
+}
+
 /// The rose of `quantity` (an angle in degrees, 0° to the right, increasing counter-clockwise).
-pub fn rose(quantity: &str, bins: &[RoseBin], note: &str) -> Result<Figure> {
+pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<Figure> {
     let sym = symbol(quantity);
     let title = format!("Rose diagram of {sym}");
     let total: f64 = bins.iter().map(|b| b.observed).sum();
     let has_null = bins.iter().any(|b| b.null.is_some());
     let caption = format!(
         "Number of objects per bin of {} ({total:.0} objects), as wedges from the centre; 0° to \
-         the right, angles increasing counter-clockwise as seen from the north ecliptic pole; radius ∝ √count so that wedge areas are \
-         proportional to counts; rings at the counts marked. {} {note}",
+         the right, angles increasing counter-clockwise as seen from the north ecliptic pole; \
+         radius ∝ √count so that wedge areas are proportional to counts; rings at the counts \
+         marked. {} {note}",
         label(quantity),
         if has_null {
-            "Grey: the null band, the central 90% of counts per bin that isotropic angles seen \
-             through the same surveys give; dark line: its median. Wedges outside the band are \
-             what the survey's bias does not explain."
+            band.describe()
         } else {
-            "No null band: this directory holds no cluster-test output."
+            "No null band given."
         }
     );
     render(
@@ -62,9 +86,10 @@ pub fn rose(quantity: &str, bins: &[RoseBin], note: &str) -> Result<Figure> {
             let mut chart = ChartBuilder::on(&area)
                 .margin(10)
                 .build_cartesian_2d(-r * aspect..r * aspect, -r..r)?;
-            draw_rings(&mut chart, top, r)?;
+            // Band, then wedges, then the rings and their labels on top so that they stay legible.
             draw_band(&mut chart, bins)?;
-            draw_wedges(&mut chart, bins)
+            draw_wedges(&mut chart, bins)?;
+            draw_rings(&mut chart, top, r)
         },
     )
 }
@@ -151,15 +176,17 @@ fn draw_wedges(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
     Ok(())
 }
 
-/// Observed counts of angles (deg) in `n` equal bins from 0° to 360°, without a null band.
+/// Observed counts of angles (deg) in `n` equal bins from 0° to 360°, with the naive band:
+/// the 5th, 50th and 95th percentiles of a Binomial(N, 1/n) count.
 pub fn bins_of(angles_deg: &[f64], n: usize) -> Vec<RoseBin> {
+    let null = naive_band(angles_deg.len() as u64, 1.0 / n as f64);
     let w = 360.0 / n as f64;
     let mut bins: Vec<RoseBin> = (0..n)
         .map(|k| RoseBin {
             min_deg: k as f64 * w,
             max_deg: (k + 1) as f64 * w,
             observed: 0.0,
-            null: None,
+            null,
         })
         .collect();
     for a in angles_deg {
@@ -167,6 +194,18 @@ pub fn bins_of(angles_deg: &[f64], n: usize) -> Vec<RoseBin> {
         bins[k].observed += 1.0;
     }
     bins
+}
+
+/// Percentiles of Binomial(n, p) by walking its CDF (n is a catalog size, small).
+fn naive_band(n: u64, p: f64) -> Option<NullBand> {
+    use statrs::distribution::{Binomial, DiscreteCDF};
+    let b = Binomial::new(p, n).ok()?;
+    let q = |x: f64| (0..=n).find(|&k| b.cdf(k) >= x).unwrap_or(n) as f64;
+    (n > 0).then(|| NullBand {
+        lo: q(0.05),
+        median: q(0.5),
+        hi: q(0.95),
+    })
 }
 
 #[cfg(test)]

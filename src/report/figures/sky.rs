@@ -126,10 +126,17 @@ fn draw_map(area: &Area, cells: &[(u64, u64)], edges: &[u64], discoveries: &[(f6
             .filter_map(|&(h, n)| cell_polygon(h).map(|pts| Polygon::new(pts, class_colour(edges, n).filled()))),
     )?;
     draw_graticule(&mut chart)?;
-    chart.draw_series(discoveries.iter().map(|&(ra, dec)| {
+    // A white ring keeps the dots visible on the darkest cells.
+    let at = |&(ra, dec): &(f64, f64)| {
         let (lon, lat) = radec_to_ecliptic(ra * DEG, dec * DEG);
-        Circle::new(hammer(lon, lat), 3, style::series(1).filled())
-    }))?;
+        hammer(lon, lat)
+    };
+    chart.draw_series(discoveries.iter().map(|p| Circle::new(at(p), 5, style::PAPER.filled())))?;
+    chart.draw_series(
+        discoveries
+            .iter()
+            .map(|p| Circle::new(at(p), 3, style::series(1).filled())),
+    )?;
     Ok(())
 }
 
@@ -179,10 +186,11 @@ fn draw_graticule(chart: &mut MapChart) -> DrawResult {
         outline(),
         style::MUTED.stroke_width(1),
     )))?;
-    let lon_style = style::text(style::LABEL_PX - 1.0).pos(Pos::new(HPos::Center, VPos::Bottom));
+    // Longitudes are labelled at β = −45°, away from the ecliptic band most surveys cover.
+    let lon_style = style::muted_text(style::LABEL_PX - 1.0).pos(Pos::new(HPos::Center, VPos::Center));
     for k in 0..6 {
         let lon = k as f64 * 60.0;
-        let (x, y) = hammer(lon * DEG, 2.0 * DEG);
+        let (x, y) = hammer(lon * DEG + 1e-9, -45.0 * DEG);
         chart.draw_series(std::iter::once(Text::new(
             format!("{lon:.0}°"),
             (x, y),
