@@ -16,8 +16,13 @@ use crate::report::tables::YieldRow;
 /// labelled by plan and coloured by population.
 pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
     let title = "Yield against cadence";
-    let mut pops: Vec<&str> = rows.iter().map(|r| r.population.as_str()).collect();
-    pops.dedup();
+    // Populations in order of first appearance, each once.
+    let mut pops: Vec<&str> = Vec::new();
+    for r in rows {
+        if !pops.contains(&r.population.as_str()) {
+            pops.push(&r.population);
+        }
+    }
     let caption = format!(
         "Discovered fraction of each population for each plan ({} plans), against the plan's \
          revisit interval: the median time between successive nights on which a field was \

@@ -58,9 +58,15 @@ pub fn null_distribution(test: &NullTest) -> Result<Figure> {
             vec![(test.observed, 0.0), (test.observed, top * 0.92)],
             c.stroke_width(3),
         )))?;
-        let s = style::text(style::LABEL_PX).pos(Pos::new(HPos::Center, VPos::Bottom));
+        // The label leans inwards so that it stays inside the plot at either end.
+        let h = if test.observed > 0.5 * (edges[0] + edges[40]) {
+            HPos::Right
+        } else {
+            HPos::Left
+        };
+        let s = style::text(style::LABEL_PX).pos(Pos::new(h, VPos::Bottom));
         chart.draw_series(std::iter::once(Text::new(
-            format!("observed, p = {}", p_text(test.p_value)),
+            format!(" observed, p = {} ", p_text(test.p_value)),
             (test.observed, top * 0.93),
             s,
         )))?;

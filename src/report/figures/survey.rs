@@ -114,6 +114,6 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
                 .label(format!("{} detected fraction", c.survey))
                 .legend(move |(x, y)| Circle::new((x + 11, y), 3, col.filled()));
         }
-        axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
+        axes::legend(&mut chart, SeriesLabelPosition::MiddleRight)
     })
 }
