@@ -9,6 +9,7 @@ pub mod error;
 pub mod io;
 pub mod orbit;
 pub mod population;
+pub mod report;
 pub mod rng;
 pub mod sky;
 pub mod survey;

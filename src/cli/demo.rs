@@ -1,7 +1,7 @@
 //! `seine demo`: the whole job on a built-in invented example — the fictional Cerro Seine
-//! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, and
-//! the engine runs it through the survey. Later stages (detectability, bias maps, the
-//! clustering test, model comparison and the HTML report) are listed as they land.
+//! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, the
+//! engine runs it through the survey, and the report (`DIR/index.html`) is written. Later
+//! stages (detectability, bias maps, the clustering test, model comparison) are listed as they land.
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -50,17 +50,14 @@ pub fn run(a: Args) -> Result<()> {
         objects.len()
     );
     let prepared = vec![PreparedSurvey::new(survey)];
+    // The survey spec in the provenance lets the report find the survey again.
+    let mut provenance = Provenance::current().with_seed(SEED);
+    provenance.add_input(&spec_path)?;
     let opts = ObserveOptions {
         seed: SEED,
         ..Default::default()
     };
-    let report = observe(
-        &prepared,
-        &objects,
-        &a.out.join("observe"),
-        &opts,
-        &Provenance::current().with_seed(SEED),
-    )?;
+    let report = observe(&prepared, &objects, &a.out.join("observe"), &opts, &provenance)?;
     let s = &report.summary;
     println!(
         "3. observe  {} discovered ({:.2}%), {} tracked; {} in-field events, {:.2} candidates per event, {:.0} objects/s",
@@ -72,12 +69,18 @@ pub fn run(a: Args) -> Result<()> {
         s.objects_per_second
     );
     print_fraction_by_q(s);
+    let written = seine::report::report(&a.out)?;
     println!(
-        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json).",
+        "4. report   {} figures; open {}",
+        written.figures.len(),
+        written.index.display()
+    );
+    println!(
+        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), index.html, figures/.",
         a.out.display()
     );
     println!(
-        "Still to come in the demo: detectability, bias maps, the bias-aware clustering test and model comparison, with an HTML report."
+        "Still to come in the demo: detectability, bias maps, the bias-aware clustering test and model comparison."
     );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());
     Ok(())

@@ -16,6 +16,7 @@ mod merge;
 mod observe;
 mod plan;
 mod provenance;
+mod report;
 mod yields;
 
 #[derive(Parser, Debug)]
@@ -58,6 +59,8 @@ pub enum Command {
     Merge(merge::Args),
     /// Print the provenance of a table: tool version, command line, input hashes, seed.
     Provenance(provenance::Args),
+    /// Rebuild the HTML report (index.html and SVG figures) of an output directory.
+    Report(report::Args),
 }
 
 pub fn run(cli: Cli) -> Result<()> {
@@ -74,5 +77,6 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Plan(a) => plan::run(a),
         Command::Merge(a) => merge::run(a),
         Command::Provenance(a) => provenance::run(a),
+        Command::Report(a) => report::run(a),
     }
 }

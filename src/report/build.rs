@@ -1,0 +1,453 @@
+//! From what a directory holds to the report's sections: which figures and small tables to
+//! make, in the order a reader needs them (what was run, the survey, what was found, cadence,
+//! bias and clustering).
+
+use std::path::{Path, PathBuf};
+
+use super::figure::Figure;
+use super::figures::{bias, cadence, cluster, distributions, rose, sky, survey as survey_fig};
+use super::inputs::{self, Inputs, ObserveRun, median_revisit_days, summary_bins};
+use super::tables::{EfficiencyCurve, FractionBin, YieldRow};
+use crate::error::Result;
+use crate::survey::Survey;
+
+/// A small table for the page.
+#[derive(Debug, Clone, Default)]
+pub struct Table {
+    pub caption: String,
+    pub header: Vec<String>,
+    pub rows: Vec<Vec<String>>,
+}
+
+#[derive(Debug, Clone, Default)]
+pub struct Section {
+    pub title: String,
+    pub intro: String,
+    pub tables: Vec<Table>,
+    pub figures: Vec<Figure>,
+}
+
+/// Every section of the report of `dir`: the comparison of plans first, when there is one,
+/// since it is the answer; then each survey and run in detail.
+pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
+    let mut out = vec![overview(dir, inp)];
+    let yields = yield_rows(inp);
+    if !yields.is_empty() {
+        out.push(Section {
+            title: "Yield against cadence".into(),
+            intro: "What each plan finds of the same population: the comparison a cadence \
+                    design rests on."
+                .into(),
+            figures: vec![cadence::yield_vs_cadence(&yields)?],
+            tables: vec![yield_table(&yields)],
+        });
+    }
+    if !inp.surveys.is_empty() {
+        out.push(surveys_section(inp)?);
+    }
+    for (k, run) in inp.runs.iter().enumerate() {
+        out.push(found_section(dir, run, k, inp.runs.len())?);
+    }
+    out.push(bias_section(inp)?);
+    Ok(out
+        .into_iter()
+        .filter(|s| !s.figures.is_empty() || !s.tables.is_empty())
+        .collect())
+}
+
+fn rel(dir: &Path, p: &Path) -> String {
+    let r = p.strip_prefix(dir).unwrap_or(p).display().to_string();
+    if r.is_empty() { ".".into() } else { r }
+}
+
+fn pct(k: u64, n: u64) -> String {
+    format!("{:.2}%", 100.0 * k as f64 / n.max(1) as f64)
+}
+
+fn overview(dir: &Path, inp: &Inputs) -> Section {
+    let mut runs = Table {
+        caption: "Observe runs: objects carried through the surveys and what was found.".into(),
+        header: ["run", "objects", "discovered", "fraction", "tracked", "surveys"]
+            .map(String::from)
+            .to_vec(),
+        rows: Vec::new(),
+    };
+    for r in &inp.runs {
+        let s = &r.summary;
+        let n = s["n_objects"].as_u64().unwrap_or(0);
+        let k = s["n_detected"].as_u64().unwrap_or(0);
+        let names: Vec<&str> = s["surveys"]
+            .as_array()
+            .map(|a| a.iter().filter_map(|x| x["name"].as_str()).collect())
+            .unwrap_or_default();
+        runs.rows.push(vec![
+            rel(dir, &r.dir),
+            n.to_string(),
+            k.to_string(),
+            pct(k, n),
+            s["n_tracked"].as_u64().unwrap_or(0).to_string(),
+            names.join(", "),
+        ]);
+    }
+    let mut surveys = Table {
+        caption: "Surveys: their pointing histories.".into(),
+        header: [
+            "survey",
+            "visits",
+            "nights",
+            "first night (MJD)",
+            "last night (MJD)",
+            "field (deg²)",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: Vec::new(),
+    };
+    for s in &inp.surveys {
+        let (first, last) = (s.visits.night.iter().min(), s.visits.night.iter().max());
+        let mut nights = s.visits.night.clone();
+        nights.sort_unstable();
+        nights.dedup();
+        surveys.rows.push(vec![
+            s.name.clone(),
+            s.visits.len().to_string(),
+            nights.len().to_string(),
+            first.map_or("–".into(), |x| x.to_string()),
+            last.map_or("–".into(), |x| x.to_string()),
+            format!("{:.2}", s.footprint.area_sq_deg()),
+        ]);
+    }
+    Section {
+        title: "What was run".into(),
+        intro: format!("Report of {}.", dir.display()),
+        tables: [runs, surveys].into_iter().filter(|t| !t.rows.is_empty()).collect(),
+        figures: Vec::new(),
+    }
+}
+
+/// Depth, efficiency and one sky map per survey, with the coverage by ecliptic latitude.
+fn surveys_section(inp: &Inputs) -> Result<Section> {
+    let mut figures = Vec::new();
+    for (k, s) in inp.surveys.iter().enumerate() {
+        let mut f = sky::coverage_map(&s.name, &sky::visit_cells(s), &discoveries_of(inp, s))?;
+        if inp.surveys.len() > 1 {
+            f.stem = format!("{}_{k}", f.stem);
+        }
+        figures.push(f);
+    }
+    let depths: Vec<(String, Vec<f64>)> = inp
+        .surveys
+        .iter()
+        .map(|s| (s.name.clone(), s.visits.depth_mag.clone()))
+        .collect();
+    figures.push(survey_fig::depth_distribution(&depths)?);
+    let curves: Vec<EfficiencyCurve> = inp.surveys.iter().map(|s| efficiency_curve(inp, s)).collect();
+    figures.push(survey_fig::efficiency(&curves)?);
+    Ok(Section {
+        title: "The surveys".into(),
+        intro: "Where and how deep the surveys looked, and how likely a source was to be detected \
+                in one visit."
+            .into(),
+        tables: inp.coverage.iter().map(latitude_table).collect(),
+        figures,
+    })
+}
+
+fn same_file(a: &Path, b: &Path) -> bool {
+    a.canonicalize()
+        .ok()
+        .zip(b.canonicalize().ok())
+        .is_some_and(|(x, y)| x == y)
+}
+
+/// Discovery positions from the runs that observed with this survey alone.
+fn discoveries_of(inp: &Inputs, s: &Survey) -> Vec<(f64, f64)> {
+    inp.runs
+        .iter()
+        .filter(|r| r.survey_specs.len() == 1 && same_file(&r.survey_specs[0], &s.spec_path))
+        .flat_map(|r| r.objects.discovery_radec_deg.iter().flatten().copied())
+        .collect()
+}
+
+/// The survey's efficiency model, and the detected fraction of its in-field events in bins of
+/// magnitude minus depth from any run that observed with it.
+fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
+    let eff = &s.efficiency.default;
+    let model = (0..=400)
+        .map(|j| -2.0 + j as f64 * 0.01)
+        .map(|dm| (dm, eff.eta(20.0 + dm, 20.0, 1.0)))
+        .collect();
+    let depth: std::collections::HashMap<i64, f64> = s
+        .visits
+        .visit_id
+        .iter()
+        .copied()
+        .zip(s.visits.depth_mag.iter().copied())
+        .collect();
+    let edges: Vec<f64> = (0..=40).map(|j| -2.0 + 0.1 * j as f64).collect();
+    let mut measured: Vec<FractionBin> = edges
+        .windows(2)
+        .map(|w| FractionBin {
+            lo: w[0],
+            hi: w[1],
+            n: 0,
+            k: 0,
+        })
+        .collect();
+    for det in inp.runs.iter().filter_map(|r| r.detections.as_ref()) {
+        for i in 0..det.mag.len() {
+            let Some(d) = (det.survey[i] == s.name).then(|| depth.get(&det.visit_id[i])).flatten() else {
+                continue;
+            };
+            let k = edges.partition_point(|&e| e <= det.mag[i] - d);
+            if k > 0 && k < edges.len() {
+                measured[k - 1].n += 1;
+                measured[k - 1].k += det.detected[i] as u64;
+            }
+        }
+    }
+    EfficiencyCurve {
+        survey: s.name.clone(),
+        model,
+        measured,
+    }
+}
+
+fn latitude_table(c: &inputs::PlanCoverage) -> Table {
+    use crate::io::table::Columns;
+    let path = PathBuf::from(&c.stem);
+    let cols = Columns::new(&c.by_latitude, &path);
+    let get = |n: &str| cols.f64(n).unwrap_or_default();
+    let (lo, hi, cov, frac, five) = (
+        get("ecl_lat_min_deg"),
+        get("ecl_lat_max_deg"),
+        get("covered_sq_deg"),
+        get("covered_fraction"),
+        get("covered_5_nights_sq_deg"),
+    );
+    let cv = &c.json["coverage"];
+    let rows = (0..lo.len().min(cov.len()).min(frac.len()).min(five.len()).min(hi.len()))
+        .filter(|&i| cov[i] > 0.0)
+        .map(|i| {
+            vec![
+                format!("{:+.0}° to {:+.0}°", lo[i], hi[i]),
+                format!("{:.0}", cov[i]),
+                format!("{:.1}%", 100.0 * frac[i]),
+                format!("{:.0}", five[i]),
+            ]
+        })
+        .collect();
+    Table {
+        caption: format!(
+            "Coverage of plan {} by ecliptic latitude β (from {}.coverage.json): {} visits, {} fields, {} nights used, {:.0} deg² covered.",
+            c.json["plan"].as_str().unwrap_or(&c.stem),
+            c.stem,
+            cv["n_visits"],
+            cv["n_fields"],
+            cv["n_nights_used"],
+            cv["covered_sq_deg"].as_f64().unwrap_or(0.0)
+        ),
+        header: ["β band", "covered (deg²)", "of the band", "seen on ≥ 5 nights (deg²)"]
+            .map(String::from)
+            .to_vec(),
+        rows,
+    }
+}
+
+/// Injected versus discovered in a, q, i, H and distance, and the discovered fraction
+/// against a and H.
+fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Result<Section> {
+    let o = &run.objects;
+    let pick = |xs: &[f64]| -> Vec<f64> {
+        xs.iter()
+            .zip(&o.detected)
+            .filter(|(_, d)| **d)
+            .map(|(x, _)| *x)
+            .collect()
+    };
+    let found_r: Vec<f64> = o.discovery_r_au.iter().flatten().copied().collect();
+    let mut figures = vec![
+        distributions::injected_vs_discovered("a_au", &o.a_au, &pick(&o.a_au), "")?,
+        distributions::injected_vs_discovered("q_au", &o.q_au, &pick(&o.q_au), "")?,
+        distributions::injected_vs_discovered("inc_deg", &o.inc_deg, &pick(&o.inc_deg), "")?,
+        distributions::injected_vs_discovered("h_mag", &o.h_mag, &pick(&o.h_mag), "")?,
+        distributions::injected_vs_discovered(
+            "r_au",
+            &o.r_au,
+            &found_r,
+            "Injected: distance from the Sun at the element epoch; discovered: distance at discovery.",
+        )?,
+    ];
+    for q in ["a_au", "h_mag"] {
+        figures.push(distributions::discovered_fraction(q, &summary_bins(&run.summary, q))?);
+    }
+    if n_runs > 1 {
+        for f in &mut figures {
+            f.stem = format!("run{k}_{}", f.stem);
+        }
+    }
+    let mut tables = vec![fraction_table(&run.summary)];
+    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected)));
+    Ok(Section {
+        title: format!("What was found: {}", rel(dir, &run.dir)),
+        intro: "Injected objects against discovered ones: where the survey's selection cuts.".into(),
+        tables,
+        figures,
+    })
+}
+
+/// The fraction of each particle's clones that were discovered: the particle's detection
+/// probability, the per-object weight of a likelihood fit (first 25 particles).
+fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
+    let mut by: std::collections::BTreeMap<i64, (u64, u64)> = Default::default();
+    for (p, d) in parent.iter().zip(detected) {
+        let e = by.entry(*p).or_default();
+        e.0 += 1;
+        e.1 += *d as u64;
+    }
+    let rows = by
+        .iter()
+        .take(25)
+        .map(|(p, &(n, k))| {
+            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+            vec![
+                p.to_string(),
+                n.to_string(),
+                k.to_string(),
+                format!("{:.3}", k as f64 / n as f64),
+                format!("{lo:.3}–{hi:.3}"),
+            ]
+        })
+        .collect();
+    Table {
+        caption: format!(
+            "Detection probability per simulation particle: the fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
+            by.len(),
+            if by.len() > 25 { ", the first 25 shown" } else { "" }
+        ),
+        header: ["parent_id", "clones", "discovered", "probability", "95% interval"]
+            .map(String::from)
+            .to_vec(),
+        rows,
+    }
+}
+
+fn fraction_table(summary: &serde_json::Value) -> Table {
+    let rows = summary_bins(summary, "q_au")
+        .iter()
+        .filter(|b| b.n > 0)
+        .map(|b| {
+            let (lo, hi) = super::stats::wilson(b.k, b.n, 1.96);
+            vec![
+                format!("{:.0}–{:.0}", b.lo, b.hi),
+                b.n.to_string(),
+                b.k.to_string(),
+                pct(b.k, b.n),
+                format!("{:.3}%–{:.3}%", 100.0 * lo, 100.0 * hi),
+            ]
+        })
+        .collect();
+    Table {
+        caption: "Discovered fraction by perihelion distance q (from summary.json), with 95% Wilson intervals.".into(),
+        header: ["q (AU)", "objects", "discovered", "fraction", "95% interval"]
+            .map(String::from)
+            .to_vec(),
+        rows,
+    }
+}
+
+/// Rows from `yield_cadence.csv`, or else from several runs that each used one known survey.
+fn yield_rows(inp: &Inputs) -> Vec<YieldRow> {
+    if !inp.yields.is_empty() {
+        return inp.yields.clone();
+    }
+    let rows: Vec<YieldRow> = inp
+        .runs
+        .iter()
+        .filter_map(|r| {
+            let [spec] = r.survey_specs.as_slice() else { return None };
+            let s = inp.surveys.iter().find(|s| same_file(&s.spec_path, spec))?;
+            Some(YieldRow {
+                plan: s.name.clone(),
+                population: "injected population".into(),
+                cadence_days: median_revisit_days(s)?,
+                n_objects: r.summary["n_objects"].as_u64()?,
+                n_discovered: r.summary["n_detected"].as_u64()?,
+            })
+        })
+        .collect();
+    if rows.len() >= 2 { rows } else { Vec::new() }
+}
+
+fn yield_table(rows: &[YieldRow]) -> Table {
+    Table {
+        caption: "Yield per plan, with 95% Wilson intervals on the discovered fraction.".into(),
+        header: [
+            "plan",
+            "population",
+            "revisit (days)",
+            "objects",
+            "discovered",
+            "fraction",
+            "95% interval",
+        ]
+        .map(String::from)
+        .to_vec(),
+        rows: rows
+            .iter()
+            .map(|r| {
+                let (lo, hi) = super::stats::wilson(r.n_discovered, r.n_objects, 1.96);
+                vec![
+                    r.plan.clone(),
+                    r.population.clone(),
+                    format!("{:.1}", r.cadence_days),
+                    r.n_objects.to_string(),
+                    r.n_discovered.to_string(),
+                    pct(r.n_discovered, r.n_objects),
+                    format!("{:.2}%–{:.2}%", 100.0 * lo, 100.0 * hi),
+                ]
+            })
+            .collect(),
+    }
+}
+
+/// Bias maps, rose diagrams (with the null band when the cluster test wrote one) and the
+/// cluster test's null distributions.
+fn bias_section(inp: &Inputs) -> Result<Section> {
+    let mut figures: Vec<Figure> = inp
+        .bias_maps
+        .iter()
+        .take(6)
+        .map(bias::bias_map)
+        .collect::<Result<_>>()?;
+    if inp.roses.is_empty() {
+        if let Some(run) = inp.runs.first() {
+            let o = &run.objects;
+            let found = |xs: &[f64]| -> Vec<f64> {
+                xs.iter()
+                    .zip(&o.detected)
+                    .filter(|(_, d)| **d)
+                    .map(|(x, _)| *x)
+                    .collect()
+            };
+            let note = "Angles of the discovered objects of the first observe run.";
+            for (q, xs) in [("varpi_deg", &o.varpi_deg), ("node_deg", &o.node_deg)] {
+                figures.push(rose::rose(q, &rose::bins_of(&found(xs), 18), rose::Band::Naive, note)?);
+            }
+        }
+    }
+    for (q, bins) in &inp.roses {
+        figures.push(rose::rose(q, bins, rose::Band::BiasAware, "From rose.csv.")?);
+    }
+    for t in &inp.null_tests {
+        figures.push(cluster::null_distribution(t)?);
+    }
+    Ok(Section {
+        title: "Bias and clustering".into(),
+        intro: "Before reading meaning into aligned orbits: what the surveys' own footprint and \
+                cadence produce from angles that are not clustered at all."
+            .into(),
+        tables: Vec::new(),
+        figures,
+    })
+}

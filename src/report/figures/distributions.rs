@@ -1,0 +1,168 @@
+//! Injected versus discovered distributions of one quantity, and the discovered fraction in
+//! bins of a quantity with binomial (Wilson 95%) error bars.
+
+use plotters::coord::combinators::BindKeyPoints;
+use plotters::coord::ranged1d::{AsRangedCoord, Ranged, ValueFormatter};
+use plotters::prelude::*;
+
+use super::axes;
+use crate::error::Result;
+use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
+use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol, wilson};
+use crate::report::style;
+use crate::report::tables::FractionBin;
+
+/// Distances get a logarithmic axis when they span more than a factor of five (below that a
+/// logarithmic axis has no round ticks to label).
+pub fn is_log(quantity: &str, lo: f64, hi: f64) -> bool {
+    matches!(quantity, "a_au" | "q_au" | "r_au") && lo > 0.0 && hi / lo > 5.0
+}
+
+/// Edges covering every value: 40 bins, logarithmic where `is_log`.
+fn edges_for(quantity: &str, xs: &[f64]) -> Option<Vec<f64>> {
+    let (lo, hi) = finite_range(xs)?;
+    if is_log(quantity, lo, hi) {
+        let (lo, hi) = (lo * 0.98, hi * 1.02);
+        return Some(log_edges(lo, hi.max(lo * 1.1), 40));
+    }
+    let pad = ((hi - lo) * 0.02).max(0.5);
+    Some(lin_edges(lo - pad, hi + pad, 40))
+}
+
+/// Step histograms of the injected and the discovered values of `quantity` (counts on a
+/// logarithmic axis so that a few discoveries stay visible beside many injected objects).
+pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f64], note: &str) -> Result<Figure> {
+    let sym = symbol(quantity);
+    let title = format!("Injected and discovered objects in {sym}");
+    let caption = format!(
+        "Number of objects per bin of {} — injected (blue, {} objects) and discovered (orange, {}). \
+         Counts on a logarithmic axis. {note}",
+        label(quantity),
+        injected.len(),
+        discovered.len()
+    );
+    let stem = format!("distribution_{quantity}");
+    render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
+        let area = titled(root, &title)?;
+        let Some(edges) = edges_for(quantity, injected) else {
+            return empty_note(&area, "no objects");
+        };
+        let hists = [histogram(injected, &edges), histogram(discovered, &edges)];
+        // Headroom of a factor 5 keeps the legend clear of the curves.
+        let top = hists[0].iter().chain(&hists[1]).copied().max().unwrap_or(1).max(1) as f64 * 5.0;
+        let (lo, hi) = (edges[0], edges[edges.len() - 1]);
+        if is_log(quantity, lo, hi) {
+            draw_hists(
+                &area,
+                (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi)),
+                &edges,
+                &hists,
+                top,
+                quantity,
+            )
+        } else {
+            draw_hists(&area, lo..hi, &edges, &hists, top, quantity)
+        }
+    })
+}
+
+const FLOOR: f64 = 0.6;
+
+fn draw_hists<X>(area: &Area, x: X, edges: &[f64], hists: &[Vec<u64>; 2], top: f64, quantity: &str) -> DrawResult
+where
+    X: AsRangedCoord<Value = f64>,
+    X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
+    let mut chart = axes::chart(area, x, (FLOOR..top).log_scale())?;
+    axes::mesh(&mut chart, &label(quantity), "objects per bin")?;
+    for (k, (h, name)) in hists.iter().zip(["injected", "discovered"]).enumerate() {
+        let heights: Vec<f64> = h.iter().map(|&c| (c as f64).max(FLOOR)).collect();
+        let c = style::series(k);
+        chart
+            .draw_series(LineSeries::new(axes::steps(edges, &heights), c.stroke_width(2)))?
+            .label(name)
+            .legend(axes::swatch(c, 2));
+    }
+    axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
+}
+
+/// The discovered fraction k/n per bin with Wilson 95% intervals; bins with no objects are
+/// left out rather than drawn as zero.
+pub fn discovered_fraction(quantity: &str, bins: &[FractionBin]) -> Result<Figure> {
+    let sym = symbol(quantity);
+    let title = format!("Discovered fraction against {sym}");
+    let (n, k): (u64, u64) = bins.iter().fold((0, 0), |(n, k), b| (n + b.n, k + b.k));
+    let caption = format!(
+        "Fraction of injected objects that were discovered, in bins of {} ({k} of {n} objects). \
+         Points at the bin centres; bars are 95% Wilson score intervals (Wilson 1927); horizontal \
+         bars show the bin widths. Empty bins are omitted; bars that leave the plot are cut at \
+         its top and marked with a triangle.",
+        label(quantity)
+    );
+    let stem = format!("fraction_{quantity}");
+    let used: Vec<&FractionBin> = bins.iter().filter(|b| b.n > 0).collect();
+    render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
+        let area = titled(root, &title)?;
+        let (Some(first), Some(last)) = (used.first(), used.last()) else {
+            return empty_note(&area, "no objects in any bin");
+        };
+        let top = nice_top(axis_top(&used));
+        if is_log(quantity, first.lo, last.hi) {
+            draw_fraction(
+                &area,
+                (first.lo..last.hi)
+                    .log_scale()
+                    .with_key_points(axes::log_ticks(first.lo, last.hi)),
+                &used,
+                top,
+                quantity,
+                true,
+            )
+        } else {
+            draw_fraction(&area, first.lo..last.hi, &used, top, quantity, false)
+        }
+    })
+}
+
+/// The axis reaches the upper interval limits of the well-filled bins (20 or more objects)
+/// and every point estimate, so that a few nearly empty bins cannot flatten the rest.
+fn axis_top(bins: &[&FractionBin]) -> f64 {
+    let full = bins.iter().filter(|b| b.n >= 20).map(|b| wilson(b.k, b.n, 1.96).1);
+    let points = bins.iter().map(|b| b.k as f64 / b.n as f64);
+    full.chain(points).fold(0.0, f64::max)
+}
+
+/// A round upper limit for a fraction axis: small fractions get a zoomed axis.
+fn nice_top(x: f64) -> f64 {
+    [0.001, 0.002, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5, 1.0]
+        .into_iter()
+        .find(|&t| t >= x * 1.05)
+        .unwrap_or(1.0)
+}
+
+fn draw_fraction<X>(area: &Area, x: X, bins: &[&FractionBin], top: f64, quantity: &str, log: bool) -> DrawResult
+where
+    X: AsRangedCoord<Value = f64>,
+    X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
+    let mut chart = axes::chart(area, x, 0.0..top)?;
+    axes::mesh(&mut chart, &label(quantity), "discovered fraction (dimensionless)")?;
+    let c = style::series(1);
+    let centre = |b: &FractionBin| if log { (b.lo * b.hi).sqrt() } else { 0.5 * (b.lo + b.hi) };
+    chart.draw_series(bins.iter().map(|b| {
+        let (lo, hi) = wilson(b.k, b.n, 1.96);
+        let f = b.k as f64 / b.n as f64;
+        ErrorBar::new_vertical(centre(b), lo, f, hi.min(top), c.stroke_width(2), 8)
+    }))?;
+    let cut = bins.iter().filter(|b| wilson(b.k, b.n, 1.96).1 > top);
+    chart.draw_series(cut.map(|b| TriangleMarker::new((centre(b), top), 7, c.filled())))?;
+    chart.draw_series(bins.iter().map(|b| {
+        let f = b.k as f64 / b.n as f64;
+        PathElement::new(vec![(b.lo, f), (b.hi, f)], c.mix(0.5).stroke_width(1))
+    }))?;
+    chart.draw_series(
+        bins.iter()
+            .map(|b| Circle::new((centre(b), b.k as f64 / b.n as f64), 4, c.filled())),
+    )?;
+    Ok(())
+}

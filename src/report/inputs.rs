@@ -1,0 +1,509 @@
+//! Finding and reading what a directory holds: observe runs, survey specs (with their visits),
+//! plan coverage reports and the analysis tables, by the file names documented in `mod.rs`.
+//! Everything is read into the tidy tables of `tables.rs`.
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+use polars::prelude::*;
+
+use super::tables::{FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin, YieldRow};
+use crate::error::{Error, Result, io_at};
+use crate::io::objects::ObjectTable;
+use crate::io::provenance::{METADATA_KEY, Provenance};
+use crate::io::table::{Columns, read_parquet_metadata, read_table, sidecar_path};
+use crate::survey::Survey;
+
+/// One `observe` output directory.
+pub struct ObserveRun {
+    pub dir: PathBuf,
+    pub summary: serde_json::Value,
+    pub objects: Observed,
+    /// The detections table, when present: (survey, visit_id, mag, detected) per event.
+    pub detections: Option<Detections>,
+    /// Survey specs named in the run's provenance that still exist.
+    pub survey_specs: Vec<PathBuf>,
+}
+
+/// The per-object columns the figures use.
+pub struct Observed {
+    pub a_au: Vec<f64>,
+    pub q_au: Vec<f64>,
+    pub inc_deg: Vec<f64>,
+    pub h_mag: Vec<f64>,
+    /// Heliocentric distance at the element epoch, AU.
+    pub r_au: Vec<f64>,
+    pub varpi_deg: Vec<f64>,
+    pub node_deg: Vec<f64>,
+    pub detected: Vec<bool>,
+    pub discovery_r_au: Vec<Option<f64>>,
+    pub discovery_radec_deg: Vec<Option<(f64, f64)>>,
+    /// The simulation particle each clone came from (`seine draw` with an `[import]` spec).
+    pub parent_id: Option<Vec<i64>>,
+}
+
+pub struct Detections {
+    pub survey: Vec<String>,
+    pub visit_id: Vec<i64>,
+    pub mag: Vec<f64>,
+    pub detected: Vec<bool>,
+}
+
+/// A plan's coverage report (`STEM.coverage.json` and `STEM.coverage_ecliptic.csv`).
+pub struct PlanCoverage {
+    pub stem: String,
+    pub json: serde_json::Value,
+    pub by_latitude: DataFrame,
+}
+
+/// Everything found.
+#[derive(Default)]
+pub struct Inputs {
+    pub runs: Vec<ObserveRun>,
+    pub surveys: Vec<Survey>,
+    pub coverage: Vec<PlanCoverage>,
+    pub bias_maps: Vec<HeatMap>,
+    pub roses: Vec<(String, Vec<RoseBin>)>,
+    pub null_tests: Vec<NullTest>,
+    pub yields: Vec<YieldRow>,
+}
+
+impl Inputs {
+    pub fn is_empty(&self) -> bool {
+        self.runs.is_empty()
+            && self.surveys.is_empty()
+            && self.bias_maps.is_empty()
+            && self.roses.is_empty()
+            && self.null_tests.is_empty()
+            && self.yields.is_empty()
+    }
+}
+
+/// DIR and its immediate subdirectories, sorted, DIR first.
+fn search_dirs(dir: &Path) -> Result<Vec<PathBuf>> {
+    let mut subs: Vec<PathBuf> = std::fs::read_dir(dir)
+        .map_err(|e| io_at(dir, e))?
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.is_dir())
+        .collect();
+    subs.sort();
+    subs.insert(0, dir.to_path_buf());
+    Ok(subs)
+}
+
+fn files_in(dir: &Path) -> Vec<PathBuf> {
+    let mut v: Vec<PathBuf> = std::fs::read_dir(dir)
+        .map(|rd| {
+            rd.filter_map(|e| e.ok().map(|e| e.path()))
+                .filter(|p| p.is_file())
+                .collect()
+        })
+        .unwrap_or_default();
+    v.sort();
+    v
+}
+
+fn name_of(p: &Path) -> String {
+    p.file_name()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default()
+}
+
+/// Read everything the report can show from `dir`; an unreadable or empty directory is one
+/// clear input error.
+pub fn scan(dir: &Path) -> Result<Inputs> {
+    if !dir.is_dir() {
+        return Err(Error::input(format!("{}: no such directory", dir.display())));
+    }
+    let mut inputs = Inputs::default();
+    let mut specs: Vec<PathBuf> = Vec::new();
+    for d in search_dirs(dir)? {
+        for f in files_in(&d) {
+            read_file(&f, &mut inputs, &mut specs)?;
+        }
+        if let Some(run) = read_run(&d)? {
+            specs.extend(run.survey_specs.iter().cloned());
+            inputs.runs.push(run);
+        }
+    }
+    load_surveys(&mut inputs, specs)?;
+    if inputs.is_empty() {
+        return Err(Error::input(format!(
+            "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
+             or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*.csv, \
+             rose.csv, cluster_null.csv, yield_cadence.csv), here or one directory down",
+            dir.display()
+        )));
+    }
+    Ok(inputs)
+}
+
+fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<()> {
+    let name = name_of(f);
+    if name.ends_with(".survey.toml") {
+        specs.push(f.to_path_buf());
+    } else if let Some(stem) = name.strip_suffix(".coverage.json") {
+        inputs.coverage.push(read_coverage(f, stem)?);
+    } else if name.starts_with("bias_map") && name.ends_with(".csv") {
+        inputs.bias_maps.extend(read_bias_maps(f)?);
+    } else if name == "rose.csv" {
+        inputs.roses.extend(read_roses(f)?);
+    } else if name == "cluster_null.csv" {
+        inputs.null_tests.extend(read_null_tests(f)?);
+    } else if name == "yield_cadence.csv" {
+        inputs.yields.extend(read_yields(f)?);
+    }
+    Ok(())
+}
+
+/// Load each distinct survey spec once.
+fn load_surveys(inputs: &mut Inputs, specs: Vec<PathBuf>) -> Result<()> {
+    let mut seen = Vec::new();
+    for s in specs {
+        let key = s.canonicalize().unwrap_or(s.clone());
+        if !seen.contains(&key) {
+            seen.push(key);
+            inputs.surveys.push(Survey::load(&s)?);
+        }
+    }
+    Ok(())
+}
+
+fn read_json(path: &Path) -> Result<serde_json::Value> {
+    let text = std::fs::read_to_string(path).map_err(|e| io_at(path, e))?;
+    serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not valid JSON: {e}", path.display())))
+}
+
+fn read_coverage(json: &Path, stem: &str) -> Result<PlanCoverage> {
+    let lat = json.with_file_name(format!("{stem}.coverage_ecliptic.csv"));
+    Ok(PlanCoverage {
+        stem: stem.to_string(),
+        json: read_json(json)?,
+        by_latitude: if lat.exists() {
+            read_table(&lat)?
+        } else {
+            DataFrame::empty()
+        },
+    })
+}
+
+/// An observe run in `d`: `summary.json` beside `objects.parquet` (or `.csv`).
+fn read_run(d: &Path) -> Result<Option<ObserveRun>> {
+    let summary_path = d.join("summary.json");
+    let Some(objects_path) = ["objects.parquet", "objects.csv"]
+        .iter()
+        .map(|n| d.join(n))
+        .find(|p| p.exists())
+    else {
+        return Ok(None);
+    };
+    if !summary_path.exists() {
+        return Ok(None);
+    }
+    let detections = ["detections.parquet", "detections.csv"]
+        .iter()
+        .map(|n| d.join(n))
+        .find(|p| p.exists());
+    Ok(Some(ObserveRun {
+        dir: d.to_path_buf(),
+        summary: read_json(&summary_path)?,
+        objects: read_observed(&objects_path)?,
+        detections: detections.map(|p| read_detections(&p)).transpose()?,
+        survey_specs: provenance_specs(&objects_path, d),
+    }))
+}
+
+fn bools(c: &Columns, name: &str) -> Result<Vec<bool>> {
+    Ok(c.f64(name)?.into_iter().map(|x| x != 0.0).collect())
+}
+
+/// A column that is empty where an object was not discovered.
+fn nullable(df: &DataFrame, path: &Path, name: &str) -> Result<Vec<Option<f64>>> {
+    let col = df
+        .column(name)
+        .map_err(|_| Error::input(format!("{}: missing column `{name}`", path.display())))?;
+    let s = col
+        .as_materialized_series()
+        .cast(&DataType::Float64)
+        .map_err(|e| io_at(path, e))?;
+    Ok(s.f64().map_err(|e| io_at(path, e))?.iter().collect())
+}
+
+fn read_observed(path: &Path) -> Result<Observed> {
+    let t = ObjectTable::read(path)?;
+    let c = Columns::new(&t.frame, path);
+    let el = &t.elements;
+    let ra = nullable(&t.frame, path, "discovery_ra_deg")?;
+    let dec = nullable(&t.frame, path, "discovery_dec_deg")?;
+    Ok(Observed {
+        a_au: el.iter().map(|e| e.a_au).collect(),
+        q_au: el.iter().map(|e| e.q_au()).collect(),
+        inc_deg: el.iter().map(|e| e.inc.to_degrees()).collect(),
+        h_mag: t.h_mag.clone(),
+        r_au: el.iter().map(|e| e.to_state().0.norm()).collect(),
+        varpi_deg: el.iter().map(|e| e.varpi().to_degrees()).collect(),
+        node_deg: el.iter().map(|e| e.node.to_degrees().rem_euclid(360.0)).collect(),
+        detected: bools(&c, "detected")?,
+        discovery_r_au: nullable(&t.frame, path, "discovery_r_au")?,
+        discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
+        parent_id: if c.has("parent_id") {
+            Some(c.i64("parent_id")?)
+        } else {
+            None
+        },
+    })
+}
+
+fn read_detections(path: &Path) -> Result<Detections> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    Ok(Detections {
+        survey: c.str("survey")?,
+        visit_id: c.i64("visit_id")?,
+        mag: c.f64("mag")?,
+        detected: bools(&c, "detected")?,
+    })
+}
+
+/// Survey specs (`.toml` inputs) recorded in a table's provenance, where they still exist
+/// (as recorded, or relative to the run directory).
+fn provenance_specs(table: &Path, run_dir: &Path) -> Vec<PathBuf> {
+    let json = if name_of(table).ends_with(".parquet") {
+        read_parquet_metadata(table)
+            .ok()
+            .and_then(|kv| kv.into_iter().find(|(k, _)| k == METADATA_KEY).map(|(_, v)| v))
+    } else {
+        std::fs::read_to_string(sidecar_path(table)).ok()
+    };
+    let Some(prov) = json.and_then(|j| serde_json::from_str::<Provenance>(&j).ok()) else {
+        return Vec::new();
+    };
+    prov.inputs
+        .iter()
+        .filter(|i| i.path.ends_with(".toml"))
+        .filter_map(|i| {
+            let p = PathBuf::from(&i.path);
+            [p.clone(), run_dir.join(&p)]
+                .into_iter()
+                .find(|c| c.is_file() && is_survey_spec(c))
+        })
+        .collect()
+}
+
+fn is_survey_spec(p: &Path) -> bool {
+    std::fs::read_to_string(p).is_ok_and(|t| t.contains("[survey]"))
+}
+
+/// The discovered-fraction bins of one quantity from `summary.json` (`bins[].quantity`).
+pub fn summary_bins(summary: &serde_json::Value, quantity: &str) -> Vec<FractionBin> {
+    let Some(b) = summary["bins"]
+        .as_array()
+        .and_then(|a| a.iter().find(|b| b["quantity"] == quantity))
+    else {
+        return Vec::new();
+    };
+    let nums = |k: &str| -> Vec<f64> {
+        b[k].as_array()
+            .map(|a| a.iter().filter_map(|x| x.as_f64()).collect())
+            .unwrap_or_default()
+    };
+    let (edges, n, k) = (nums("edges"), nums("n"), nums("detected"));
+    (0..n.len().min(k.len()).min(edges.len().saturating_sub(1)))
+        .map(|j| FractionBin {
+            lo: edges[j],
+            hi: edges[j + 1],
+            n: n[j] as u64,
+            k: k[j] as u64,
+        })
+        .collect()
+}
+
+/// `bias_map*.csv`: columns `X_min, X_max, Y_min, Y_max` for two quantities and a value
+/// column (`fraction`, or `probability`); optional `id` splits it into one map per object.
+fn read_bias_maps(path: &Path) -> Result<Vec<HeatMap>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let names: Vec<String> = df.get_column_names().iter().map(|s| s.to_string()).collect();
+    let axes: Vec<String> = names
+        .iter()
+        .filter_map(|n| n.strip_suffix("_min").map(str::to_string))
+        .filter(|stem| names.contains(&format!("{stem}_max")))
+        .collect();
+    let [x, y] = axes.as_slice() else {
+        return Err(Error::input(format!(
+            "{}: expected bin columns for two quantities (X_min, X_max, Y_min, Y_max), found {}",
+            path.display(),
+            names.join(", ")
+        )));
+    };
+    let value = ["fraction", "probability"]
+        .into_iter()
+        .find(|v| c.has(v))
+        .ok_or_else(|| {
+            Error::input(format!(
+                "{}: missing the value column `fraction` (or `probability`)",
+                path.display()
+            ))
+        })?;
+    let col = |n: String| c.f64(&n);
+    let (x0, x1, y0, y1) = (
+        col(format!("{x}_min"))?,
+        col(format!("{x}_max"))?,
+        col(format!("{y}_min"))?,
+        col(format!("{y}_max"))?,
+    );
+    let v = c.f64(value)?;
+    let ids = if c.has("id") {
+        c.i64("id")?.into_iter().map(Some).collect()
+    } else {
+        vec![None; v.len()]
+    };
+    let mut maps: Vec<HeatMap> = Vec::new();
+    for i in 0..v.len() {
+        if maps.last().is_none_or(|m| m.id != ids[i]) {
+            maps.push(HeatMap {
+                x: x.clone(),
+                y: y.clone(),
+                value_label: "discovery probability".into(),
+                id: ids[i],
+                cells: Vec::new(),
+            });
+        }
+        let cell = HeatCell {
+            x_min: x0[i],
+            x_max: x1[i],
+            y_min: y0[i],
+            y_max: y1[i],
+            value: v[i],
+        };
+        maps.last_mut().expect("pushed above").cells.push(cell);
+    }
+    Ok(maps)
+}
+
+/// `rose.csv`: `quantity, bin_min_deg, bin_max_deg, observed` and optionally
+/// `null_lo, null_median, null_hi`.
+fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>)>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (q, lo, hi, obs) = (
+        c.str("quantity")?,
+        c.f64("bin_min_deg")?,
+        c.f64("bin_max_deg")?,
+        c.f64("observed")?,
+    );
+    let band = if c.has("null_lo") {
+        Some((c.f64("null_lo")?, c.f64("null_median")?, c.f64("null_hi")?))
+    } else {
+        None
+    };
+    let mut out: Vec<(String, Vec<RoseBin>)> = Vec::new();
+    for i in 0..q.len() {
+        if out.last().is_none_or(|(name, _)| *name != q[i]) {
+            out.push((q[i].clone(), Vec::new()));
+        }
+        let null = band.as_ref().map(|(a, m, b)| NullBand {
+            lo: a[i],
+            median: m[i],
+            hi: b[i],
+        });
+        out.last_mut().expect("pushed above").1.push(RoseBin {
+            min_deg: lo[i],
+            max_deg: hi[i],
+            observed: obs[i],
+            null,
+        });
+    }
+    Ok(out)
+}
+
+/// `cluster_null.csv` (`statistic, value`: one row per null catalog) with the observed values
+/// and p-values in `cluster_test.json` beside it.
+fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (stat, value) = (c.str("statistic")?, c.f64("value")?);
+    let json_path = path.with_file_name("cluster_test.json");
+    let json = if json_path.exists() {
+        read_json(&json_path)?
+    } else {
+        serde_json::Value::Null
+    };
+    let mut samples: Vec<(String, Vec<f64>)> = Vec::new();
+    for (s, v) in stat.into_iter().zip(value) {
+        match samples.iter_mut().find(|(n, _)| *n == s) {
+            Some((_, xs)) => xs.push(v),
+            None => samples.push((s, vec![v])),
+        }
+    }
+    samples
+        .into_iter()
+        .map(|(statistic, samples)| {
+            let t = json["tests"]
+                .as_array()
+                .and_then(|a| a.iter().find(|t| t["statistic"] == statistic.as_str()));
+            let observed = t.and_then(|t| t["observed"].as_f64()).ok_or_else(|| {
+                Error::input(format!(
+                    "{}: no observed value for statistic `{statistic}`",
+                    json_path.display()
+                ))
+            })?;
+            let p = |k: &str| t.and_then(|t| t[k].as_f64());
+            Ok(NullTest {
+                observed,
+                p_value: p("p_value"),
+                p_value_naive: p("p_value_naive"),
+                statistic,
+                samples,
+            })
+        })
+        .collect()
+}
+
+/// `yield_cadence.csv`: `plan, cadence_days, n_objects, n_discovered`, optional `population`.
+fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (plan, cad, n, k) = (
+        c.str("plan")?,
+        c.f64("cadence_days")?,
+        c.i64("n_objects")?,
+        c.i64("n_discovered")?,
+    );
+    let pop = if c.has("population") {
+        c.str("population")?
+    } else {
+        vec!["population".into(); plan.len()]
+    };
+    Ok((0..plan.len())
+        .map(|i| YieldRow {
+            plan: plan[i].clone(),
+            population: pop[i].clone(),
+            cadence_days: cad[i],
+            n_objects: n[i].max(0) as u64,
+            n_discovered: k[i].max(0) as u64,
+        })
+        .collect())
+}
+
+/// The median interval, in nights, between successive distinct nights on which a field (a
+/// pointing centre, to 1″) was visited; fields visited on one night only add nothing.
+pub fn median_revisit_days(s: &Survey) -> Option<f64> {
+    let v = &s.visits;
+    let mut by_field: HashMap<(i64, i64), Vec<i64>> = HashMap::new();
+    for i in 0..v.len() {
+        let key = (
+            (v.ra_deg[i] * 3600.0).round() as i64,
+            (v.dec_deg[i] * 3600.0).round() as i64,
+        );
+        by_field.entry(key).or_default().push(v.night[i]);
+    }
+    let mut gaps: Vec<i64> = Vec::new();
+    for nights in by_field.values_mut() {
+        nights.sort_unstable();
+        nights.dedup();
+        gaps.extend(nights.windows(2).map(|w| w[1] - w[0]));
+    }
+    gaps.sort_unstable();
+    (!gaps.is_empty()).then(|| gaps[gaps.len() / 2] as f64)
+}

@@ -1,0 +1,63 @@
+//! The report: SVG figures (plotters) and one `index.html` for any directory of outputs.
+//!
+//! `report(DIR)` reads what DIR and its immediate subdirectories hold, by these names, and
+//! shows whatever it finds:
+//!
+//! | file | read as | figures |
+//! |---|---|---|
+//! | `summary.json` beside `objects.parquet` (or `.csv`), optional `detections.*` | an observe run (`seine observe --out`) | injected vs discovered in a, q, i, H, r; discovered fraction vs a and H; ϖ and Ω roses of the discoveries (no null band) |
+//! | `*.survey.toml` (and the survey specs named in an observe run's provenance) | a survey and its visits | sky coverage, depth distribution, efficiency curve |
+//! | `STEM.coverage.json`, `STEM.coverage_ecliptic.csv` | a plan's coverage (`seine plan`) | table of coverage by ecliptic latitude |
+//! | `bias_map*.csv`: `X_min, X_max, Y_min, Y_max, fraction` (or `probability`), optional `id` | bias maps, one per `id` (up to 6) | heat maps |
+//! | `rose.csv`: `quantity, bin_min_deg, bin_max_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
+//! | `cluster_null.csv`: `statistic, value` (one row per null catalog) with `cluster_test.json`: `{"tests": [{"statistic", "observed", "p_value", "p_value_naive"}]}` | the cluster test | the null distribution with the observed value |
+//! | `yield_cadence.csv`: `plan, cadence_days, n_objects, n_discovered`, optional `population` | yields of several plans | yield against cadence (also built from two or more observe runs with one known survey each) |
+//!
+//! The figures are written to `DIR/figures/STEM.svg` and the page to `DIR/index.html`.
+
+pub mod build;
+pub mod figure;
+pub mod figures;
+pub mod html;
+pub mod inputs;
+pub mod stats;
+pub mod style;
+pub mod tables;
+
+use std::path::{Path, PathBuf};
+
+use crate::error::{Error, Result, io_at};
+use crate::io::table::write_atomic;
+
+/// What `report` wrote.
+#[derive(Debug, Clone)]
+pub struct Written {
+    pub index: PathBuf,
+    pub figures: Vec<PathBuf>,
+}
+
+/// Build `DIR/index.html` and `DIR/figures/*.svg` from the outputs in DIR.
+pub fn report(dir: &Path) -> Result<Written> {
+    let inputs = inputs::scan(dir)?;
+    let sections = build::sections(dir, &inputs)?;
+    let fig_dir = dir.join("figures");
+    std::fs::create_dir_all(&fig_dir).map_err(|e| io_at(&fig_dir, e))?;
+    let mut figures = Vec::new();
+    for f in sections.iter().flat_map(|s| &s.figures) {
+        figures.push(f.write(&fig_dir)?);
+    }
+    if sections.is_empty() {
+        return Err(Error::input(format!("{}: nothing to report", dir.display())));
+    }
+    let lede = "What the surveys could have found, and what they did find, in the forward model \
+                of seine. Every figure is an SVG file in figures/; every number comes from the \
+                tables beside this page.";
+    let footer = format!(
+        "Written by seine {} (seine report {}).",
+        crate::version(),
+        dir.display()
+    );
+    let index = dir.join("index.html");
+    write_atomic(&index, html::page("seine report", lede, &sections, &footer).as_bytes())?;
+    Ok(Written { index, figures })
+}

@@ -1,0 +1,83 @@
+//! The tidy tables the figures take. Each is a plain list of rows with the units in the field
+//! names; `inputs.rs` fills them from files with documented names (see `mod.rs`), and tests fill
+//! them with synthetic values.
+
+/// Trials and successes in one bin [lo, hi) of a quantity.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FractionBin {
+    pub lo: f64,
+    pub hi: f64,
+    pub n: u64,
+    pub k: u64,
+}
+
+/// One cell of a two-dimensional map: its rectangle in (x, y) and its value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatCell {
+    pub x_min: f64,
+    pub x_max: f64,
+    pub y_min: f64,
+    pub y_max: f64,
+    pub value: f64,
+}
+
+/// A map over two named quantities (names with units, e.g. `varpi_deg`, `node_deg`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatMap {
+    pub x: String,
+    pub y: String,
+    /// What the value is, for the colour bar (e.g. "discovery probability").
+    pub value_label: String,
+    /// Object the map belongs to, when maps are per object.
+    pub id: Option<i64>,
+    pub cells: Vec<HeatCell>,
+}
+
+/// One angular bin of a rose diagram: the observed count and the null band (the central
+/// interval of counts a survey-biased isotropic population gives), when known.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RoseBin {
+    pub min_deg: f64,
+    pub max_deg: f64,
+    pub observed: f64,
+    pub null: Option<NullBand>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NullBand {
+    pub lo: f64,
+    pub median: f64,
+    pub hi: f64,
+}
+
+/// A Monte Carlo test: the statistic's null samples and the observed value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NullTest {
+    pub statistic: String,
+    pub observed: f64,
+    pub p_value: Option<f64>,
+    pub p_value_naive: Option<f64>,
+    pub samples: Vec<f64>,
+}
+
+/// What one plan found of one population.
+#[derive(Debug, Clone, PartialEq)]
+pub struct YieldRow {
+    pub plan: String,
+    pub population: String,
+    /// The cadence on the x axis: the median interval between successive nights on which a
+    /// field was visited, days.
+    pub cadence_days: f64,
+    pub n_objects: u64,
+    pub n_discovered: u64,
+}
+
+/// An efficiency curve: detection probability against magnitude minus depth.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EfficiencyCurve {
+    pub survey: String,
+    /// (m − depth_mag, probability) pairs, ascending in the first.
+    pub model: Vec<(f64, f64)>,
+    /// The fraction of in-field events detected in bins of m − depth_mag (from detections).
+    pub measured: Vec<FractionBin>,
+}

@@ -1,0 +1,393 @@
+//! The report: every figure function on synthetic tidy tables writes a well-formed SVG that
+//! carries its axis labels (with units) and caption; `seine report` on an observe output
+//! directory writes an index.html that references every SVG it wrote; an empty or invalid
+//! directory is one clear error with exit status 2.
+
+mod common;
+
+use std::path::Path;
+
+use seine::report::figure::{Figure, xml_escape};
+use seine::report::figures::{bias, cadence, cluster, distributions, rose, sky, survey};
+use seine::report::tables::*;
+
+/// Well-formedness without an XML library: every opened element is closed in order.
+fn assert_well_formed(svg: &str) {
+    assert!(
+        svg.trim_start().starts_with("<svg") || svg.trim_start().starts_with("<?xml"),
+        "{}",
+        &svg[..80]
+    );
+    let mut stack: Vec<String> = Vec::new();
+    let mut rest = svg;
+    while let Some(i) = rest.find('<') {
+        let j = rest[i..].find('>').expect("unclosed tag") + i;
+        let tag = &rest[i + 1..j];
+        rest = &rest[j + 1..];
+        if tag.starts_with('?') || tag.starts_with('!') || tag.ends_with('/') {
+            continue;
+        }
+        let name = tag
+            .trim_start_matches('/')
+            .split_whitespace()
+            .next()
+            .unwrap_or("")
+            .to_string();
+        if tag.starts_with('/') {
+            assert_eq!(stack.pop().as_deref(), Some(name.as_str()), "mismatched </{name}>");
+        } else {
+            stack.push(name);
+        }
+    }
+    assert!(stack.is_empty(), "unclosed elements: {stack:?}");
+}
+
+/// The figure is well formed and shows every label (escaped as in the SVG) and its caption.
+fn check(f: &Figure, labels: &[&str]) {
+    assert_well_formed(&f.svg);
+    for l in labels {
+        assert!(f.svg.contains(&xml_escape(l)), "{}: missing label {l:?}", f.stem);
+    }
+    assert!(f.caption.len() > 40, "{}: caption too short", f.stem);
+    assert!(
+        f.svg.contains(&format!("<desc>{}</desc>", xml_escape(&f.caption))),
+        "{}: caption not in <desc>",
+        f.stem
+    );
+    let dir = tempfile::tempdir().unwrap();
+    let p = f.write(dir.path()).unwrap();
+    assert_eq!(std::fs::read_to_string(p).unwrap(), f.svg);
+}
+
+fn ramp(n: usize, lo: f64, hi: f64) -> Vec<f64> {
+    (0..n)
+        .map(|k| lo + (hi - lo) * ((k * 7919) % n) as f64 / n as f64)
+        .collect()
+}
+
+#[test]
+fn distributions_and_fractions_have_units() {
+    let a = ramp(500, 30.0, 900.0);
+    let found: Vec<f64> = a.iter().copied().step_by(17).collect();
+    check(
+        &distributions::injected_vs_discovered("a_au", &a, &found, "").unwrap(),
+        &["semi-major axis a (AU)", "objects per bin"],
+    );
+    let h = ramp(500, 4.0, 10.0);
+    check(
+        &distributions::injected_vs_discovered("h_mag", &h, &h[..5], "").unwrap(),
+        &["absolute magnitude H (mag)"],
+    );
+    let bins: Vec<FractionBin> = (0..8)
+        .map(|k| FractionBin {
+            lo: 4.0 + k as f64,
+            hi: 5.0 + k as f64,
+            n: 100 - k * 10,
+            k: 20 - 2 * k,
+        })
+        .collect();
+    check(
+        &distributions::discovered_fraction("h_mag", &bins).unwrap(),
+        &["absolute magnitude H (mag)", "discovered fraction (dimensionless)"],
+    );
+    let log_bins: Vec<FractionBin> = (0..6)
+        .map(|k| FractionBin {
+            lo: 10f64.powf(1.0 + k as f64 / 3.0),
+            hi: 10f64.powf(1.0 + (k + 1) as f64 / 3.0),
+            n: 50,
+            k: k as u64,
+        })
+        .collect();
+    check(
+        &distributions::discovered_fraction("a_au", &log_bins).unwrap(),
+        &["semi-major axis a (AU)"],
+    );
+}
+
+#[test]
+fn empty_tables_still_make_a_figure() {
+    check(
+        &distributions::injected_vs_discovered("q_au", &[], &[], "").unwrap(),
+        &["no objects"],
+    );
+    check(
+        &distributions::discovered_fraction("a_au", &[]).unwrap(),
+        &["no objects in any bin"],
+    );
+    check(&cadence::yield_vs_cadence(&[]).unwrap(), &["no plans to compare"]);
+}
+
+#[test]
+fn survey_figures_have_units() {
+    let d = vec![
+        ("Invented Survey A".to_string(), ramp(300, 22.5, 24.0)),
+        ("Invented Survey B".to_string(), ramp(100, 23.0, 25.0)),
+    ];
+    check(
+        &survey::depth_distribution(&d).unwrap(),
+        &["depth, 50% efficiency (mag)", "visits per 0.1 mag"],
+    );
+    let model: Vec<(f64, f64)> = (0..=40)
+        .map(|k| -2.0 + 0.1 * k as f64)
+        .map(|x| (x, 0.9 / (1.0 + (x / 0.2f64).exp())))
+        .collect();
+    let measured = vec![
+        FractionBin {
+            lo: -0.1,
+            hi: 0.0,
+            n: 100,
+            k: 48,
+        },
+        FractionBin {
+            lo: 0.0,
+            hi: 0.1,
+            n: 80,
+            k: 30,
+        },
+    ];
+    let curve = EfficiencyCurve {
+        survey: "Invented Survey A".into(),
+        model,
+        measured,
+    };
+    check(
+        &survey::efficiency(&[curve]).unwrap(),
+        &["magnitude − depth (mag)", "detection probability (dimensionless)"],
+    );
+}
+
+#[test]
+fn sky_map_names_its_projection() {
+    // A band of cells along the ecliptic, from a few invented pointings.
+    let cells: Vec<(u64, u64)> = (0..2000u64).map(|h| (h * 7 + 30000, 1 + h % 9)).collect();
+    let f = sky::coverage_map("Invented Survey", &cells, &[(150.0, 10.0), (200.0, -5.0)]).unwrap();
+    check(&f, &["visits per point:", "0°", "+30°"]);
+    assert!(f.caption.contains("Hammer–Aitoff") && f.caption.contains("(deg)"));
+}
+
+#[test]
+fn analysis_figures_from_synthetic_tables() {
+    let cells: Vec<HeatCell> = (0..36)
+        .flat_map(|i| (0..18).map(move |j| (i, j)))
+        .map(|(i, j)| HeatCell {
+            x_min: i as f64 * 10.0,
+            x_max: (i + 1) as f64 * 10.0,
+            y_min: j as f64 * 20.0,
+            y_max: (j + 1) as f64 * 20.0,
+            value: 0.01 * (1.0 + ((i as f64) * 0.17).sin()),
+        })
+        .collect();
+    let map = HeatMap {
+        x: "varpi_deg".into(),
+        y: "node_deg".into(),
+        value_label: "discovery probability".into(),
+        id: Some(7),
+        cells,
+    };
+    check(
+        &bias::bias_map(&map).unwrap(),
+        &[
+            "longitude of perihelion ϖ (deg)",
+            "longitude of ascending node Ω (deg)",
+            "discovery probability",
+        ],
+    );
+
+    let bins: Vec<RoseBin> = (0..12)
+        .map(|k| RoseBin {
+            min_deg: 30.0 * k as f64,
+            max_deg: 30.0 * (k + 1) as f64,
+            observed: [0.0, 1.0, 4.0, 6.0, 2.0, 0.0, 0.0, 1.0, 0.0, 0.0, 1.0, 0.0][k],
+            null: Some(NullBand {
+                lo: 0.0,
+                median: 1.0,
+                hi: 3.0,
+            }),
+        })
+        .collect();
+    let f = rose::rose("varpi_deg", &bins, rose::Band::BiasAware, "").unwrap();
+    check(&f, &["90°", "180°"]);
+    assert!(f.caption.contains("longitude of perihelion ϖ (deg)") && f.caption.contains("null band"));
+
+    let samples: Vec<f64> = (0..2000).map(|k| ((k * 37 % 1000) as f64 / 1000.0).powi(2)).collect();
+    let t = NullTest {
+        statistic: "rayleigh_r_varpi".into(),
+        observed: 0.81,
+        p_value: Some(0.031),
+        p_value_naive: Some(0.004),
+        samples,
+    };
+    let f = cluster::null_distribution(&t).unwrap();
+    check(
+        &f,
+        &[
+            "rayleigh_r_varpi (dimensionless)",
+            "fraction of null catalogs",
+            "observed, p = 0.031",
+        ],
+    );
+
+    let rows: Vec<YieldRow> = [("Plan A", 1.0, 40), ("Plan B", 3.0, 55), ("Plan C", 14.0, 20)]
+        .into_iter()
+        .map(|(p, c, k)| YieldRow {
+            plan: p.into(),
+            population: "distant slow movers".into(),
+            cadence_days: c,
+            n_objects: 1000,
+            n_discovered: k,
+        })
+        .collect();
+    check(
+        &cadence::yield_vs_cadence(&rows).unwrap(),
+        &[
+            "revisit interval (days)",
+            "discovered fraction (dimensionless)",
+            "Plan B",
+        ],
+    );
+}
+
+fn run_ok(args: &[&str]) {
+    let o = common::seine(args);
+    assert!(o.status.success(), "seine {args:?}: {}", common::stderr(&o));
+}
+
+/// A small observe run: the deep invented plan, a few thousand drawn objects.
+fn small_observe(dir: &Path) -> std::path::PathBuf {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs");
+    let s = |p: &Path| p.to_str().unwrap().to_string();
+    let visits = dir.join("deep.csv");
+    run_ok(&["plan", "--plan", &s(&root.join("deep-plan.toml")), "--out", &s(&visits)]);
+    let objects = dir.join("objects.parquet");
+    let pop = root.join("populations/scattered-disk.toml");
+    run_ok(&[
+        "draw",
+        "--spec",
+        &s(&pop),
+        "--count",
+        "3000",
+        "--seed",
+        "5",
+        "--out",
+        &s(&objects),
+    ]);
+    let out = dir.join("run");
+    run_ok(&[
+        "observe",
+        "--survey",
+        &s(&dir.join("deep.survey.toml")),
+        "--objects",
+        &s(&objects),
+        "--out",
+        &s(&out),
+        "--quiet",
+    ]);
+    out
+}
+
+#[test]
+fn report_of_an_observe_directory_references_every_svg() {
+    let tmp = tempfile::tempdir().unwrap();
+    let out = small_observe(tmp.path());
+    run_ok(&["report", out.to_str().unwrap()]);
+    let html = std::fs::read_to_string(out.join("index.html")).unwrap();
+    let svgs: Vec<String> = std::fs::read_dir(out.join("figures"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    // The run's provenance names the survey spec, so the survey's figures come along.
+    for stem in [
+        "sky_coverage",
+        "depth",
+        "efficiency",
+        "distribution_a_au",
+        "distribution_r_au",
+        "fraction_h_mag",
+        "rose_varpi_deg",
+    ] {
+        assert!(
+            svgs.contains(&format!("{stem}.svg")),
+            "{stem}.svg not written: {svgs:?}"
+        );
+    }
+    for s in &svgs {
+        assert!(
+            html.contains(&format!("src=\"figures/{s}\"")),
+            "index.html does not show {s}"
+        );
+        assert_well_formed(&std::fs::read_to_string(out.join("figures").join(s)).unwrap());
+    }
+    assert!(
+        !html.contains("http://") && !html.contains("https://"),
+        "the page must work offline"
+    );
+}
+
+#[test]
+fn report_reads_analysis_tables_by_their_documented_names() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path();
+    common::write(
+        d,
+        "rose.csv",
+        "quantity,bin_min_deg,bin_max_deg,observed,null_lo,null_median,null_hi\nvarpi_deg,0,180,3,0,1,2\nvarpi_deg,180,360,1,0,1,2\nnode_deg,0,180,2,0,1,3\nnode_deg,180,360,2,0,1,3\n",
+    );
+    common::write(
+        d,
+        "cluster_null.csv",
+        "statistic,value\nkuiper_v_node,0.1\nkuiper_v_node,0.2\nkuiper_v_node,0.3\n",
+    );
+    common::write(
+        d,
+        "cluster_test.json",
+        r#"{"tests": [{"statistic": "kuiper_v_node", "observed": 0.25, "p_value": 0.33}]}"#,
+    );
+    common::write(
+        d,
+        "bias_map_varpi_node.csv",
+        "id,varpi_deg_min,varpi_deg_max,node_deg_min,node_deg_max,fraction\n1,0,180,0,180,0.1\n1,180,360,0,180,0.2\n2,0,180,0,180,0.3\n",
+    );
+    common::write(
+        d,
+        "yield_cadence.csv",
+        "plan,cadence_days,n_objects,n_discovered\nA,1,100,5\nB,3,100,9\n",
+    );
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    for f in [
+        "rose_varpi_deg",
+        "rose_node_deg",
+        "cluster_null_kuiper_v_node",
+        "bias_map_varpi_deg_node_deg_1",
+        "bias_map_varpi_deg_node_deg_2",
+        "yield_cadence",
+    ] {
+        assert!(html.contains(&format!("figures/{f}.svg")), "{f} missing");
+    }
+}
+
+#[test]
+fn empty_or_invalid_directories_are_one_clear_error() {
+    let tmp = tempfile::tempdir().unwrap();
+    let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    assert!(
+        err.contains("nothing to report") && err.contains("summary.json"),
+        "{err}"
+    );
+    assert!(!tmp.path().join("index.html").exists());
+
+    let missing = tmp.path().join("no-such-dir");
+    let o = common::seine(&["report", missing.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(common::stderr(&o).contains("no such directory"));
+
+    common::write(tmp.path(), "rose.csv", "quantity,bin_min_deg\nvarpi_deg,0\n");
+    let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert!(err.contains("rose.csv") && err.contains("bin_max_deg"), "{err}");
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+}
