@@ -5,6 +5,7 @@
 
 pub mod engine;
 pub mod error;
+pub mod hideout;
 pub mod io;
 pub mod orbit;
 pub mod population;

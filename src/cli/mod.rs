@@ -8,6 +8,7 @@ mod common;
 mod demo;
 mod draw;
 mod ephemeris;
+mod hideout;
 mod observe;
 mod plan;
 
@@ -35,6 +36,8 @@ pub enum Command {
     Plan(plan::Args),
     /// Draw a synthetic population from a spec (or clone simulation particles) into an objects table.
     Draw(draw::Args),
+    /// Where a hypothetical planet could still hide given surveys that found nothing; where to look next.
+    Hideout(hideout::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
 }
@@ -44,6 +47,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Ephemeris(a) => ephemeris::run(a),
         Command::Demo(a) => demo::run(a),
         Command::Draw(a) => draw::run(a),
+        Command::Hideout(a) => hideout::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
     }
