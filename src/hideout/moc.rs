@@ -103,7 +103,7 @@ impl Moc {
     }
 }
 
-/// Sorted indices as runs: `5`, `7-9`.
+/// Sorted indices as runs: `5 6`, `7-9`.
 fn runs(cells: &[u64]) -> Vec<String> {
     let mut out = Vec::new();
     let mut k = 0;
@@ -112,11 +112,12 @@ fn runs(cells: &[u64]) -> Vec<String> {
         while j + 1 < cells.len() && cells[j + 1] == cells[j] + 1 {
             j += 1;
         }
-        out.push(if j == k {
-            cells[k].to_string()
+        // As in the standard's example: a range for three or more, single values otherwise.
+        if j >= k + 2 {
+            out.push(format!("{}-{}", cells[k], cells[j]));
         } else {
-            format!("{}-{}", cells[k], cells[j])
-        });
+            out.extend(cells[k..=j].iter().map(u64::to_string));
+        }
         k = j + 1;
     }
     out
