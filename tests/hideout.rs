@@ -208,38 +208,16 @@ fn the_posterior_map_sums_to_the_surviving_fraction() {
     let dir = tempfile::tempdir().unwrap();
     let s = survey(dir.path(), 1.0);
     let pr = prior(dir.path(), PRIOR);
-    let out = dir.path().join("run");
-    let o = common::seine(&[
-        "hideout",
-        "--survey",
-        s.to_str().unwrap(),
-        "--prior",
-        pr.to_str().unwrap(),
-        "--count",
-        "3000",
-        "--epoch-mjd",
-        &T.to_string(),
-        "--order",
-        "4",
-        "--field-radius-deg",
-        "6",
-        "--out",
-        out.to_str().unwrap(),
-        "--quiet",
-    ]);
-    assert!(o.status.success(), "{}", common::stderr(&o));
+    let out = run_cli(dir.path(), &s, &pr, "run", &[]);
     let summary = hideout::read_summary(&out).unwrap();
-    let path = out.join("sky_map.parquet");
-    let df = read_table(&path).unwrap();
-    let c = Columns::new(&df, &path);
-    let total: f64 = c.f64("p_surviving").unwrap().iter().sum();
+    let total: f64 = column(&out, "sky_map", "p_surviving").iter().sum();
     assert!(
         (total - summary.surviving_fraction).abs() < 1e-12,
         "{total} vs {}",
         summary.surviving_fraction
     );
     assert!(summary.surviving_fraction > 0.5 && summary.surviving_fraction < 0.99);
-    let post: f64 = c.f64("p_posterior").unwrap().iter().sum();
+    let post: f64 = column(&out, "sky_map", "p_posterior").iter().sum();
     assert!((post - 1.0).abs() < 1e-12);
     assert!(summary.region_68.probability >= 0.68 && summary.region_95.probability >= 0.95);
     assert!(summary.conclusion.contains("would already have been found"));
@@ -368,4 +346,20 @@ fn tallies_do_not_depend_on_threads_or_chunks() {
     assert_eq!(one, run(2, 1500));
     assert_eq!(one.total.n_excluded, run(2, 97).total.n_excluded);
     assert_eq!(one.sky.n_surviving, run(2, 97).sky.n_surviving);
+}
+
+/// Every example prior loads and draws with H from its size table (the examples must not rot).
+#[test]
+fn example_priors_draw() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/priors");
+    let mut n = 0;
+    for entry in std::fs::read_dir(&root).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "toml") {
+            let t = Prior::read(&path, None, None).unwrap().draw(1, 0..200).unwrap();
+            assert!(t.h_mag.iter().all(|h| h.is_finite()), "{}", path.display());
+            n += 1;
+        }
+    }
+    assert!(n >= 1);
 }
