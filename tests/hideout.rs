@@ -71,6 +71,7 @@ fn options(count: u64) -> HideoutOptions {
         a_bins: None,
         h_bins: None,
         chunk: 1000,
+        progress: false,
     }
 }
 

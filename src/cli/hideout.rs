@@ -65,7 +65,7 @@ pub struct Args {
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
-    /// Print nothing.
+    /// No progress bar and no conclusion on stderr.
     #[arg(long)]
     pub quiet: bool,
 }
@@ -137,6 +137,7 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
         a_bins: a.a_bins.as_deref().map(|s| parse_bins(s, "--a-bins")).transpose()?,
         h_bins: a.h_bins.as_deref().map(|s| parse_bins(s, "--h-bins")).transpose()?,
         chunk: hideout::CHUNK,
+        progress: !a.quiet,
     };
     let (tally, seconds) = hideout::run_tally(&prior, &surveys, &opts)?;
     let run = RunInfo {

@@ -58,6 +58,8 @@ pub struct HideoutOptions {
     pub a_bins: Option<(f64, f64, usize)>,
     pub h_bins: Option<(f64, f64, usize)>,
     pub chunk: usize,
+    /// A progress bar on a terminal.
+    pub progress: bool,
 }
 
 /// Paths written by `finish`.
@@ -117,12 +119,19 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOption
     let ids = opts
         .shard
         .map_or(0..opts.count as i64, |(k, n)| shard_range(opts.count, k, n));
+    let bar = crate::engine::summary::progress_bar((ids.end - ids.start) as usize, opts.progress);
     let mut lo = ids.start;
     while lo < ids.end {
         let hi = (lo + opts.chunk.max(1) as i64).min(ids.end);
         let objects = prior.draw(opts.seed, lo..hi)?;
         tally.add_draws(&evaluate(&objects, surveys, &epoch, opts.seed));
+        if let Some(b) = &bar {
+            b.inc((hi - lo) as u64);
+        }
         lo = hi;
+    }
+    if let Some(b) = bar {
+        b.finish_and_clear();
     }
     Ok((tally, start.elapsed().as_secs_f64()))
 }
@@ -219,6 +228,7 @@ fn make_summary(
         n_draws: t.n_draws,
         n_excluded: t.total.n_excluded,
         w_prior: t.total.w_prior,
+        n_effective: t.total.w_prior * t.total.w_prior / t.total.w2_prior,
         w_excluded: t.total.w_excluded,
         excluded_fraction: t.total.excluded_fraction(),
         excluded_fraction_err: t.total.excluded_fraction_err(),

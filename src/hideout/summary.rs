@@ -60,6 +60,9 @@ pub struct Summary {
     pub n_draws: u64,
     pub n_excluded: u64,
     pub w_prior: f64,
+    /// (Σ w)² / Σ w²: the number of unit-weight draws with the same statistical power.
+    #[serde(default)]
+    pub n_effective: f64,
     pub w_excluded: f64,
     pub excluded_fraction: f64,
     pub excluded_fraction_err: f64,
@@ -115,12 +118,15 @@ pub fn per_survey(run: &RunInfo, tally: &Tally) -> Vec<SurveyShare> {
 
 /// The conclusion in plain words, with its numbers.
 pub fn conclusion(s: &Summary) -> String {
+    let n = s.run.surveys.len();
+    let surveys = if n == 1 {
+        "this survey".to_string()
+    } else {
+        format!("these {n} surveys")
+    };
     let found = format!(
-        "A planet drawn from this prior would already have been found by these {} survey(s) with probability {:.1}% ± {:.1}% ({} draws).",
-        s.run.surveys.len(),
-        100.0 * s.excluded_fraction,
-        100.0 * s.excluded_fraction_err,
-        s.n_draws
+        "A planet drawn from this prior would already have been found by {surveys} with probability {}.",
+        probability(s)
     );
     let Some(b) = &s.best_field else {
         return format!("{found} No draw survives: the prior is excluded as far as these draws can tell.");
@@ -143,4 +149,18 @@ pub fn conclusion(s: &Summary) -> String {
         s.region_68.area_sq_deg,
         s.region_95.area_sq_deg
     )
+}
+
+/// The excluded fraction with its error; with no draw found, the 95% upper limit 3/n_eff
+/// ("rule of three": Hanley & Lippman-Hand 1983, JAMA 249, 1743; from memory).
+fn probability(s: &Summary) -> String {
+    if s.n_excluded == 0 && s.n_draws > 0 {
+        let n = s.n_draws;
+        return format!(
+            "below {:.2}% (none of {n} draws was found; 95% upper limit)",
+            300.0 / s.n_effective
+        );
+    }
+    let (f, e) = (100.0 * s.excluded_fraction, 100.0 * s.excluded_fraction_err);
+    format!("{f:.1}% ± {e:.1}% ({} draws)", s.n_draws)
 }
