@@ -248,6 +248,10 @@ fn moc_serialization_reproduces_the_standards_example() {
 }
 
 fn run_cli(dir: &Path, s: &Path, pr: &Path, name: &str, extra: &[&str]) -> PathBuf {
+    run_cli_n(dir, s, pr, name, "2500", extra)
+}
+
+fn run_cli_n(dir: &Path, s: &Path, pr: &Path, name: &str, count: &str, extra: &[&str]) -> PathBuf {
     let out = dir.join(name);
     let mut args = vec![
         "hideout",
@@ -256,7 +260,7 @@ fn run_cli(dir: &Path, s: &Path, pr: &Path, name: &str, extra: &[&str]) -> PathB
         "--prior",
         pr.to_str().unwrap(),
         "--count",
-        "2500",
+        count,
         "--seed",
         "5",
         "--epoch-mjd",
@@ -363,4 +367,30 @@ fn example_priors_draw() {
         }
     }
     assert!(n >= 1);
+}
+
+/// A shard with no draws (more shards than draws) still writes its tables and merges.
+#[test]
+fn an_empty_shard_merges() {
+    let dir = tempfile::tempdir().unwrap();
+    let (s, pr) = (survey(dir.path(), 1.0), prior(dir.path(), PRIOR));
+    let shards: Vec<PathBuf> = (0..4)
+        .map(|k| {
+            run_cli_n(
+                dir.path(),
+                &s,
+                &pr,
+                &format!("e{k}"),
+                "3",
+                &["--shard", &format!("{k}/4")],
+            )
+        })
+        .collect();
+    assert_eq!(hideout::read_summary(&shards[1]).map(|x| x.n_draws).unwrap_or(0), 1);
+    let mut args = vec![];
+    for sh in &shards {
+        args.extend(["--merge", sh.to_str().unwrap()]);
+    }
+    let merged = run_cli_n(dir.path(), &s, &pr, "merged", "3", &args);
+    assert_eq!(column(&merged, "excluded", "n_prior")[0], 3.0);
 }

@@ -98,6 +98,9 @@ pub fn run(a: Args) -> Result<()> {
 }
 
 fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, f64)> {
+    if a.count == 0 {
+        return Err(Error::input("--count 0: expected at least one prior draw"));
+    }
     if !(0..=8).contains(&a.order) {
         return Err(Error::input(format!("--order {}: expected 0 to 8", a.order)));
     }

@@ -251,18 +251,35 @@ pub fn read_summary(dir: &Path) -> Result<Summary> {
     serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not a hideout summary: {e}", path.display())))
 }
 
+/// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
+/// Read field by field, so a shard with no draws (NaN fractions, written as null) still merges.
+fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
+    let path = dir.join("summary.json");
+    let bad = |what: &str| Error::input(format!("{}: not a hideout summary: {what}", path.display()));
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
+    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| bad(&e.to_string()))?;
+    let run: RunInfo = serde_json::from_value(v.clone()).map_err(|e| bad(&e.to_string()))?;
+    let n_draws = v["n_draws"].as_u64().ok_or_else(|| bad("no n_draws"))?;
+    let w: Option<Vec<f64>> = v["per_survey"]
+        .as_array()
+        .map(|a| a.iter().map(|p| p["w_discovered"].as_f64()).collect())
+        .unwrap_or(None);
+    let w = w.ok_or_else(|| bad("no per_survey.w_discovered"))?;
+    Ok((run, n_draws, w, v["seconds"].as_f64().unwrap_or(0.0)))
+}
+
 /// Sum the tallies of shard directories (written in `format`) into one.
 pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> {
     let mut acc: Option<(Tally, RunInfo, f64)> = None;
     for dir in dirs {
-        let s = read_summary(dir)?;
-        let mut t = tables::read_tally(dir, format.extension(), s.run.healpix_order, s.run.surveys.len())?;
-        t.n_draws = s.n_draws;
-        t.w_discovered_by = s.per_survey.iter().map(|p| p.w_discovered).collect();
-        let mut run = s.run.clone();
+        let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;
+        let mut t = tables::read_tally(dir, format.extension(), run.healpix_order, run.surveys.len())?;
+        t.n_draws = n_draws;
+        t.w_discovered_by = w_discovered_by;
         run.shard = None;
         match &mut acc {
-            None => acc = Some((t, run, s.seconds)),
+            None => acc = Some((t, run, seconds)),
             Some((total, first, secs)) => {
                 if *first != run {
                     return Err(Error::input(format!(
@@ -274,7 +291,7 @@ pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> 
                 total
                     .add(&t)
                     .map_err(|e| Error::input(format!("{}: {e}", dir.display())))?;
-                *secs += s.seconds;
+                *secs += seconds;
             }
         }
     }
