@@ -327,6 +327,10 @@ fn merged_shards_equal_the_single_run() {
             }
         }
     }
+    for d in [&whole, &merged] {
+        let cov = std::fs::read_to_string(d.join("coverage_one_night_0_5.moc.json")).unwrap();
+        assert!(cov.starts_with("{\"9\":["), "{cov}");
+    }
     let (w, m) = (
         hideout::read_summary(&whole).unwrap(),
         hideout::read_summary(&merged).unwrap(),

@@ -78,12 +78,17 @@ pub fn run(a: Args) -> Result<()> {
         other => return Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
     };
     let mut prov = Provenance::current();
-    let (tally, run, seconds) = if a.merge.is_empty() {
+    let (tally, run, seconds, surveys) = if a.merge.is_empty() {
         compute(&a, &mut prov)?
     } else {
-        hideout::merge(&a.merge, format)?
+        let (t, r, s) = hideout::merge(&a.merge, format)?;
+        (t, r, s, Vec::new())
     };
     let w = hideout::finish(&tally, run, seconds, &a.out, format, &prov)?;
+    match a.merge.first() {
+        None => hideout::write_coverage(&surveys, &a.out)?,
+        Some(first) => hideout::copy_coverage(first, &a.out)?,
+    }
     if !a.quiet {
         eprintln!("{}", w.summary.conclusion);
         eprintln!(
@@ -97,7 +102,8 @@ pub fn run(a: Args) -> Result<()> {
     Ok(())
 }
 
-fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, f64)> {
+/// A run: the tally, what was asked, the seconds taken and the surveys (for their coverage).
+fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, f64, Vec<PreparedSurvey>)> {
     if a.count == 0 {
         return Err(Error::input("--count 0: expected at least one prior draw"));
     }
@@ -154,7 +160,7 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
         field_radius_deg: a.field_radius_deg,
         n_fields: a.n_fields,
     };
-    Ok((tally, run, seconds))
+    Ok((tally, run, seconds, surveys))
 }
 
 /// The latest visit epoch over the surveys, in UTC.

@@ -251,6 +251,30 @@ pub fn read_summary(dir: &Path) -> Result<Summary> {
     serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not a hideout summary: {e}", path.display())))
 }
 
+/// Each survey's covered sky (order-9 MOC JSON, as `seine plan` writes it) as
+/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
+pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
+    for s in surveys {
+        let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey);
+        let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
+        write_atomic(&dir.join(name), format!("{}\n", cov.moc_json()).as_bytes())?;
+    }
+    Ok(())
+}
+
+/// A merge carries the first shard's coverage files over.
+pub fn copy_coverage(from: &Path, dir: &Path) -> Result<()> {
+    let entries = std::fs::read_dir(from).map_err(|e| Error::input(format!("{}: {e}", from.display())))?;
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().to_string();
+        if name.starts_with("coverage_") && name.ends_with(".moc.json") {
+            let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
+            write_atomic(&dir.join(&name), &bytes)?;
+        }
+    }
+    Ok(())
+}
+
 /// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
 /// Read field by field, so a shard with no draws (NaN fractions, written as null) still merges.
 fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
