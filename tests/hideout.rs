@@ -398,3 +398,35 @@ fn an_empty_shard_merges() {
     let merged = run_cli_n(dir.path(), &s, &pr, "merged", "3", &args);
     assert_eq!(column(&merged, "excluded", "n_prior")[0], 3.0);
 }
+
+/// Importance weights of the prior are respected: a proposal that oversamples bright H gives
+/// the same weighted excluded fraction as plain sampling (E_g[w I] = E_f[I]), while its
+/// unweighted fraction is visibly biased. Statistics: 4σ of the two estimates combined.
+#[test]
+fn importance_weighted_priors_give_the_plain_excluded_fraction() {
+    let dir = tempfile::tempdir().unwrap();
+    let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 1.0)).unwrap())];
+    let plain = PRIOR.replace(
+        "h_mag = { dist = \"fixed\", value = -3.0 }",
+        "h_mag = { dist = \"uniform\", lo = -3.0, hi = 12.0 }",
+    );
+    let weighted =
+        plain.clone() + "[importance]\nh_mag = { dist = \"exponential\", alpha = -0.3, lo = -3.0, hi = 12.0 }\n";
+    let tally = |text: &str| {
+        let p = Prior::read(&prior(dir.path(), text), None, None).unwrap();
+        hideout::run_tally(&p, &surveys, &options(8000)).unwrap().0.total
+    };
+    let (a, b) = (tally(&plain), tally(&weighted));
+    let sigma = (a.excluded_fraction_err().powi(2) + b.excluded_fraction_err().powi(2)).sqrt();
+    let (fa, fb) = (a.excluded_fraction(), b.excluded_fraction());
+    assert!(
+        (fa - fb).abs() < 4.0 * sigma,
+        "plain {fa:.4}, weighted {fb:.4}, σ {sigma:.4}"
+    );
+    let unweighted = b.n_excluded as f64 / b.n_prior as f64;
+    let su = (unweighted * (1.0 - unweighted) / b.n_prior as f64).sqrt() + a.excluded_fraction_err();
+    assert!(
+        unweighted > fa + 5.0 * su,
+        "unweighted {unweighted:.4} vs {fa:.4}, σ {su:.4}"
+    );
+}
