@@ -63,7 +63,7 @@ impl Moc {
 
     /// Sky area in square degrees.
     pub fn area_sq_deg(&self) -> f64 {
-        let sky = 4.0 * std::f64::consts::PI * (180.0 / std::f64::consts::PI).powi(2);
+        let sky = super::SKY_SQ_DEG;
         self.cells
             .iter()
             .enumerate()

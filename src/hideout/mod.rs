@@ -37,6 +37,9 @@ use crate::sky::ephemeris::observer_states;
 use crate::sky::observer::ObserverState;
 use crate::time::TimeScale;
 
+/// The whole sky in square degrees, 4π (180/π)².
+pub const SKY_SQ_DEG: f64 = 41252.96124941928;
+
 /// Draws per chunk: bounds memory whatever the prior's size.
 pub const CHUNK: usize = 1 << 16;
 /// Draws (ids 0..PILOT of the whole prior, whatever the shard) that fix the default bin edges.
@@ -62,7 +65,7 @@ pub struct HideoutOptions {
     pub progress: bool,
 }
 
-/// Paths written by `finish`.
+/// What `finish` wrote: the summary, in the output directory.
 #[derive(Debug, Clone)]
 pub struct Written {
     pub summary: Summary,

@@ -69,7 +69,7 @@ pub struct CellView<'a> {
 pub fn sky_map_frame(v: &CellView) -> Result<DataFrame> {
     let s = v.sky;
     let cells: Vec<usize> = (0..s.n_prior.len()).filter(|&c| s.n_prior[c] > 0).collect();
-    let area = 41252.96124941928 / s.n_prior.len() as f64;
+    let area = super::SKY_SQ_DEG / s.n_prior.len() as f64;
     let centre: Vec<(f64, f64)> = cells
         .iter()
         .map(|&c| cdshealpix::nested::center(s.order, c as u64))
@@ -130,7 +130,7 @@ pub fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
 
 /// `fields`: the ranked fields for the next search.
 pub fn fields_frame(fields: &[Field], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
-    let cell_area = 41252.96124941928 / cdshealpix::nested::n_hash(order) as f64;
+    let cell_area = super::SKY_SQ_DEG / cdshealpix::nested::n_hash(order) as f64;
     let per = |g: &dyn Fn(&Field) -> f64| fields.iter().map(g).collect::<Vec<f64>>();
     let ecl: Vec<(f64, f64)> = fields.iter().map(|x| radec_to_ecliptic(x.ra_rad, x.dec_rad)).collect();
     let mut cum = 0.0;
