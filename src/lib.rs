@@ -6,6 +6,7 @@
 pub mod analysis;
 pub mod engine;
 pub mod error;
+pub mod hideout;
 pub mod io;
 pub mod orbit;
 pub mod population;

@@ -12,6 +12,7 @@ mod demo;
 mod detectability;
 mod draw;
 mod ephemeris;
+mod hideout;
 mod merge;
 mod observe;
 mod plan;
@@ -53,6 +54,8 @@ pub enum Command {
     Yield(yields::Args),
     /// Likelihood of the observed catalogue under each model's detected distribution, ratio, fit and marginal tests.
     CompareModels(compare_models::Args),
+    /// Where a hypothetical planet could still hide given surveys that found nothing; where to look next.
+    Hideout(hideout::Args),
     /// Run the whole job on a built-in invented example and write a report.
     Demo(demo::Args),
     /// Combine shard outputs (observe directories or draw tables) into what one run would write.
@@ -73,6 +76,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::BiasMap(a) => bias_map::run(a),
         Command::Detectability(a) => detectability::run(a),
         Command::Draw(a) => draw::run(a),
+        Command::Hideout(a) => hideout::run(a),
         Command::Observe(a) => observe::run(a),
         Command::Plan(a) => plan::run(a),
         Command::Merge(a) => merge::run(a),

@@ -1,0 +1,326 @@
+//! `seine hideout`: where a hypothetical planet could still hide, given surveys that found
+//! nothing, and where to look next.
+//!
+//! Every draw of a prior (a population spec) goes through every survey; the undiscovered
+//! draws are the posterior. A run accumulates additive tallies only (counts and sums of
+//! weights, `tally.rs`), so shards of a job array add up to the whole run (`merge`); the
+//! derived products (fractions, credible regions, ranked fields, the conclusion) are
+//! computed from the tallies at the end, identically for a run and for a merge.
+//!
+//! Files: `prior.rs` (the prior and H from diameter and albedo), `evaluate.rs` (one draw
+//! through the engine and onto the sky at the map epoch), `tally.rs` (accumulators),
+//! `moc.rs` (credible regions as IVOA MOCs), `fields.rs` (the ranked fields), `tables.rs`
+//! (the tidy tables), `summary.rs` (summary.json and the conclusion).
+
+pub mod evaluate;
+pub mod fields;
+pub mod moc;
+pub mod prior;
+pub mod summary;
+pub mod tables;
+pub mod tally;
+
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+pub use evaluate::{DrawResult, evaluate};
+pub use prior::{Prior, diameter_from_h, h_from_diameter};
+pub use summary::{RunInfo, Summary};
+pub use tally::{Binned, Tally};
+
+use crate::engine::PreparedSurvey;
+use crate::error::{Error, Result};
+use crate::io::provenance::Provenance;
+use crate::io::table::{Format, write_atomic, write_table};
+use crate::population::sampler::shard_range;
+use crate::sky::ephemeris::observer_states;
+use crate::sky::observer::ObserverState;
+use crate::time::TimeScale;
+
+/// The whole sky in square degrees, 4π (180/π)².
+pub const SKY_SQ_DEG: f64 = 41252.96124941928;
+
+/// Draws per chunk: bounds memory whatever the prior's size.
+pub const CHUNK: usize = 1 << 16;
+/// Draws (ids 0..PILOT of the whole prior, whatever the shard) that fix the default bin edges.
+pub const PILOT: u64 = 4096;
+
+/// Options of one hideout run.
+#[derive(Debug, Clone)]
+pub struct HideoutOptions {
+    pub seed: u64,
+    pub count: u64,
+    /// (k, n): the k-th of n contiguous id ranges of the prior.
+    pub shard: Option<(u64, u64)>,
+    /// Epoch of the sky map, UTC MJD (geocentric observer).
+    pub epoch_mjd: f64,
+    pub order: u8,
+    pub field_radius_deg: f64,
+    pub n_fields: usize,
+    /// (lo, hi, n) bins of a and H; default: n = 10 over the pilot's range.
+    pub a_bins: Option<(f64, f64, usize)>,
+    pub h_bins: Option<(f64, f64, usize)>,
+    pub chunk: usize,
+    /// A progress bar on a terminal.
+    pub progress: bool,
+}
+
+/// What `finish` wrote: the summary, in the output directory.
+#[derive(Debug, Clone)]
+pub struct Written {
+    pub summary: Summary,
+    pub dir: PathBuf,
+}
+
+/// The observer (geocentre) at the map epoch.
+pub fn epoch_observer(epoch_mjd_utc: f64) -> Result<ObserverState> {
+    Ok(observer_states(&[epoch_mjd_utc], TimeScale::Utc, None)?[0])
+}
+
+/// Default bins: 10 equal bins over the pilot draws' range of a and of H (end bins open).
+pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(Binned, Binned)> {
+    let pilot = if opts.a_bins.is_none() || opts.h_bins.is_none() {
+        Some(prior.draw(opts.seed, 0..PILOT.min(opts.count).max(1) as i64)?)
+    } else {
+        None
+    };
+    let span = |v: Vec<f64>| {
+        let lo = v.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        // A single value (e.g. one H) still gets a bin of width 1 around it.
+        if hi - lo < 1e-9 {
+            (lo - 0.5, hi + 0.5, 1)
+        } else {
+            (lo, hi, 10)
+        }
+    };
+    let pick = |given: Option<(f64, f64, usize)>, f: &dyn Fn() -> Vec<f64>| given.unwrap_or_else(|| span(f()));
+    let p = pilot.as_ref();
+    let a = pick(opts.a_bins, &|| {
+        p.map_or(vec![], |t| t.elements.iter().map(|e| e.a_au).collect())
+    });
+    let h = pick(opts.h_bins, &|| p.map_or(vec![], |t| t.h_mag.clone()));
+    Ok((
+        Binned::linear("a_au", a.0, a.1, a.2),
+        Binned::linear("h_mag", h.0, h.1, h.2),
+    ))
+}
+
+/// Draw the prior (this shard's ids) chunk by chunk through the surveys; returns the tally
+/// and the seconds taken.
+pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOptions) -> Result<(Tally, f64)> {
+    if surveys.len() > evaluate::MAX_SURVEYS {
+        return Err(Error::input(format!(
+            "at most {} surveys per hideout run",
+            evaluate::MAX_SURVEYS
+        )));
+    }
+    let start = Instant::now();
+    let (a, h) = default_bins(prior, opts)?;
+    let mut tally = Tally::new(a, h, opts.order, surveys.len());
+    let epoch = epoch_observer(opts.epoch_mjd)?;
+    let ids = opts
+        .shard
+        .map_or(0..opts.count as i64, |(k, n)| shard_range(opts.count, k, n));
+    let bar = crate::engine::summary::progress_bar((ids.end - ids.start) as usize, opts.progress);
+    let mut lo = ids.start;
+    while lo < ids.end {
+        let hi = (lo + opts.chunk.max(1) as i64).min(ids.end);
+        let objects = prior.draw(opts.seed, lo..hi)?;
+        tally.add_draws(&evaluate(&objects, surveys, &epoch, opts.seed));
+        if let Some(b) = &bar {
+            b.inc((hi - lo) as u64);
+        }
+        lo = hi;
+    }
+    if let Some(b) = bar {
+        b.finish_and_clear();
+    }
+    Ok((tally, start.elapsed().as_secs_f64()))
+}
+
+/// Derive the posterior products from a tally and write every output under `dir`.
+pub fn finish(
+    tally: &Tally,
+    run: RunInfo,
+    seconds: f64,
+    dir: &Path,
+    format: Format,
+    prov: &Provenance,
+) -> Result<Written> {
+    std::fs::create_dir_all(dir)
+        .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", dir.display())))?;
+    let ext = format.extension();
+    let sky = &tally.sky;
+    let w_surv: f64 = sky.w_surviving.iter().sum();
+    let cells68 = moc::credible_cells(&sky.w_surviving, 0.68);
+    let cells95 = moc::credible_cells(&sky.w_surviving, 0.95);
+    let (moc68, moc95) = (
+        moc::Moc::from_cells(sky.order, &cells68),
+        moc::Moc::from_cells(sky.order, &cells95),
+    );
+    let flags = |cells: &[u64]| {
+        let mut f = vec![false; sky.w_surviving.len()];
+        cells.iter().for_each(|&c| f[c as usize] = true);
+        f
+    };
+    let (in68, in95) = (flags(&cells68), flags(&cells95));
+    let radius = run.field_radius_deg.to_radians();
+    let ranked = fields::rank_fields(sky, radius, run.n_fields);
+    let view = tables::CellView {
+        sky,
+        w_prior_total: tally.total.w_prior,
+        w_surviving_total: w_surv,
+        in_68: &in68,
+        in_95: &in95,
+    };
+    let mut frames = vec![
+        ("excluded", tables::excluded_frame(tally)?),
+        ("sky_map", tables::sky_map_frame(&view)?),
+        ("sky_mag_hist", tables::mag_hist_frame(sky)?),
+        (
+            "fields",
+            tables::fields_frame(&ranked, run.field_radius_deg, sky.order, w_surv)?,
+        ),
+    ];
+    for (name, df) in frames.iter_mut() {
+        write_table(df, &dir.join(format!("{name}.{ext}")), prov)?;
+    }
+    for (name, m) in [("region_68", &moc68), ("region_95", &moc95)] {
+        write_atomic(
+            &dir.join(format!("{name}.moc.txt")),
+            format!("{}\n", m.to_ascii()).as_bytes(),
+        )?;
+        write_atomic(
+            &dir.join(format!("{name}.moc.json")),
+            format!("{}\n", m.to_json()).as_bytes(),
+        )?;
+    }
+    let summary = make_summary(
+        tally,
+        run,
+        seconds,
+        &ranked,
+        (&moc68, &cells68),
+        (&moc95, &cells95),
+        w_surv,
+    );
+    let json = serde_json::to_string_pretty(&summary).map_err(|e| Error::io(e.to_string()))?;
+    write_atomic(&dir.join("summary.json"), format!("{json}\n").as_bytes())?;
+    Ok(Written {
+        summary,
+        dir: dir.to_path_buf(),
+    })
+}
+
+fn make_summary(
+    t: &Tally,
+    run: RunInfo,
+    seconds: f64,
+    ranked: &[fields::Field],
+    r68: (&moc::Moc, &[u64]),
+    r95: (&moc::Moc, &[u64]),
+    w_surv: f64,
+) -> Summary {
+    let mut s = Summary {
+        per_survey: summary::per_survey(&run, t),
+        best_field: ranked
+            .first()
+            .map(|f| summary::best_field(f, run.field_radius_deg, w_surv)),
+        run,
+        n_draws: t.n_draws,
+        n_excluded: t.total.n_excluded,
+        w_prior: t.total.w_prior,
+        n_effective: t.total.w_prior * t.total.w_prior / t.total.w2_prior,
+        w_excluded: t.total.w_excluded,
+        excluded_fraction: t.total.excluded_fraction(),
+        excluded_fraction_err: t.total.excluded_fraction_err(),
+        surviving_fraction: t.surviving_fraction(),
+        region_68: summary::region(0.68, r68.0, r68.1, t),
+        region_95: summary::region(0.95, r95.0, r95.1, t),
+        seconds,
+        draws_per_second: t.n_draws as f64 / seconds.max(1e-9),
+        conclusion: String::new(),
+    };
+    s.conclusion = summary::conclusion(&s);
+    s
+}
+
+/// Read a finished run's (or shard's) summary.
+pub fn read_summary(dir: &Path) -> Result<Summary> {
+    let path = dir.join("summary.json");
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
+    serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not a hideout summary: {e}", path.display())))
+}
+
+/// Each survey's covered sky (order-9 MOC JSON, as `seine plan` writes it) as
+/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
+pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
+    for s in surveys {
+        let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey);
+        let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
+        write_atomic(&dir.join(name), format!("{}\n", cov.moc_json()).as_bytes())?;
+    }
+    Ok(())
+}
+
+/// A merge carries the first shard's coverage files over.
+pub fn copy_coverage(from: &Path, dir: &Path) -> Result<()> {
+    let entries = std::fs::read_dir(from).map_err(|e| Error::input(format!("{}: {e}", from.display())))?;
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().to_string();
+        if name.starts_with("coverage_") && name.ends_with(".moc.json") {
+            let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
+            write_atomic(&dir.join(&name), &bytes)?;
+        }
+    }
+    Ok(())
+}
+
+/// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
+/// Read field by field, so a shard with no draws (NaN fractions, written as null) still merges.
+fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
+    let path = dir.join("summary.json");
+    let bad = |what: &str| Error::input(format!("{}: not a hideout summary: {what}", path.display()));
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
+    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| bad(&e.to_string()))?;
+    let run: RunInfo = serde_json::from_value(v.clone()).map_err(|e| bad(&e.to_string()))?;
+    let n_draws = v["n_draws"].as_u64().ok_or_else(|| bad("no n_draws"))?;
+    let w: Option<Vec<f64>> = v["per_survey"]
+        .as_array()
+        .map(|a| a.iter().map(|p| p["w_discovered"].as_f64()).collect())
+        .unwrap_or(None);
+    let w = w.ok_or_else(|| bad("no per_survey.w_discovered"))?;
+    Ok((run, n_draws, w, v["seconds"].as_f64().unwrap_or(0.0)))
+}
+
+/// Sum the tallies of shard directories (written in `format`) into one.
+pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> {
+    let mut acc: Option<(Tally, RunInfo, f64)> = None;
+    for dir in dirs {
+        let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;
+        let mut t = tables::read_tally(dir, format.extension(), run.healpix_order, run.surveys.len())?;
+        t.n_draws = n_draws;
+        t.w_discovered_by = w_discovered_by;
+        run.shard = None;
+        match &mut acc {
+            None => acc = Some((t, run, seconds)),
+            Some((total, first, secs)) => {
+                if *first != run {
+                    return Err(Error::input(format!(
+                        "{}: this shard's prior, surveys, seed, count, epoch or map options differ from {}",
+                        dir.display(),
+                        dirs[0].display()
+                    )));
+                }
+                total
+                    .add(&t)
+                    .map_err(|e| Error::input(format!("{}: {e}", dir.display())))?;
+                *secs += seconds;
+            }
+        }
+    }
+    acc.ok_or_else(|| Error::input("--merge: expected at least one shard directory"))
+}

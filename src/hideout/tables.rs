@@ -1,0 +1,265 @@
+//! The tidy tables of a hideout run, and reading their additive columns back (to merge shards).
+//! Column meanings: notebooks-free-docs/configuration.md ("seine hideout").
+
+use std::path::Path;
+
+use polars::prelude::*;
+
+use super::fields::Field;
+use super::tally::{BinSums, Binned, MAG_BINS, MAG_LO, MAG_STEP, SkyTally, Tally};
+use crate::error::{Error, Result};
+use crate::io::table::{Columns, read_table};
+use crate::sky::frames::radec_to_ecliptic;
+
+const DEG: f64 = std::f64::consts::PI / 180.0;
+
+fn frame(cols: Vec<Column>) -> Result<DataFrame> {
+    let h = cols.first().map_or(0, |c| c.len());
+    DataFrame::new(h, cols).map_err(|e| Error::io(e.to_string()))
+}
+
+fn f(name: &str, v: Vec<f64>) -> Column {
+    Column::new(name.into(), v)
+}
+
+fn i(name: &str, v: Vec<i64>) -> Column {
+    Column::new(name.into(), v)
+}
+
+/// `excluded`: one row per bin of a, of H, and one row `all`; lo/hi empty for `all`.
+pub fn excluded_frame(t: &Tally) -> Result<DataFrame> {
+    let mut rows: Vec<(String, i64, Option<f64>, Option<f64>, BinSums)> = vec![("all".into(), 0, None, None, t.total)];
+    for b in [&t.a, &t.h] {
+        for (k, s) in b.bins.iter().enumerate() {
+            rows.push((b.quantity.clone(), k as i64, Some(b.edges[k]), Some(b.edges[k + 1]), *s));
+        }
+    }
+    let col = |g: &dyn Fn(&BinSums) -> f64| rows.iter().map(|r| g(&r.4)).collect::<Vec<f64>>();
+    let int = |g: &dyn Fn(&BinSums) -> u64| rows.iter().map(|r| g(&r.4) as i64).collect::<Vec<i64>>();
+    frame(vec![
+        Column::new(
+            "quantity".into(),
+            rows.iter().map(|r| r.0.clone()).collect::<Vec<String>>(),
+        ),
+        i("bin", rows.iter().map(|r| r.1).collect()),
+        Column::new("lo".into(), rows.iter().map(|r| r.2).collect::<Vec<Option<f64>>>()),
+        Column::new("hi".into(), rows.iter().map(|r| r.3).collect::<Vec<Option<f64>>>()),
+        i("n_prior", int(&|s| s.n_prior)),
+        f("w_prior", col(&|s| s.w_prior)),
+        f("w2_prior", col(&|s| s.w2_prior)),
+        i("n_excluded", int(&|s| s.n_excluded)),
+        f("w_excluded", col(&|s| s.w_excluded)),
+        f("w2_excluded", col(&|s| s.w2_excluded)),
+        f("excluded_fraction", col(&|s| s.excluded_fraction())),
+        f("excluded_fraction_err", col(&|s| s.excluded_fraction_err())),
+    ])
+}
+
+/// Derived per-cell quantities of the posterior map.
+pub struct CellView<'a> {
+    pub sky: &'a SkyTally,
+    /// Σ w of the whole prior and of its survivors.
+    pub w_prior_total: f64,
+    pub w_surviving_total: f64,
+    pub in_68: &'a [bool],
+    pub in_95: &'a [bool],
+}
+
+/// `sky_map`: one row per cell holding any prior draw at the map epoch.
+pub fn sky_map_frame(v: &CellView) -> Result<DataFrame> {
+    let s = v.sky;
+    let cells: Vec<usize> = (0..s.n_prior.len()).filter(|&c| s.n_prior[c] > 0).collect();
+    let area = super::SKY_SQ_DEG / s.n_prior.len() as f64;
+    let centre: Vec<(f64, f64)> = cells
+        .iter()
+        .map(|&c| cdshealpix::nested::center(s.order, c as u64))
+        .collect();
+    let ecl: Vec<(f64, f64)> = centre.iter().map(|&(ra, dec)| radec_to_ecliptic(ra, dec)).collect();
+    let per = |g: &dyn Fn(usize) -> f64| cells.iter().map(|&c| g(c)).collect::<Vec<f64>>();
+    let n = |x: &[u64]| cells.iter().map(|&c| x[c] as i64).collect::<Vec<i64>>();
+    let flag = |x: &[bool]| cells.iter().map(|&c| x[c]).collect::<Vec<bool>>();
+    frame(vec![
+        i("healpix_order", vec![s.order as i64; cells.len()]),
+        i("cell", cells.iter().map(|&c| c as i64).collect()),
+        f("ra_deg", centre.iter().map(|c| c.0 / DEG).collect()),
+        f("dec_deg", centre.iter().map(|c| c.1 / DEG).collect()),
+        f(
+            "ecl_lon_deg",
+            ecl.iter()
+                .map(|c| c.0.rem_euclid(std::f64::consts::TAU) / DEG)
+                .collect(),
+        ),
+        f("ecl_lat_deg", ecl.iter().map(|c| c.1 / DEG).collect()),
+        f("area_sq_deg", vec![area; cells.len()]),
+        i("n_prior", n(&s.n_prior)),
+        f("w_prior", per(&|c| s.w_prior[c])),
+        i("n_surviving", n(&s.n_surviving)),
+        f("w_surviving", per(&|c| s.w_surviving[c])),
+        f("w_mag_sum", per(&|c| s.w_mag[c])),
+        f("w_rate_sum", per(&|c| s.w_rate[c])),
+        f("p_surviving", per(&|c| s.w_surviving[c] / v.w_prior_total)),
+        f("p_posterior", per(&|c| s.w_surviving[c] / v.w_surviving_total)),
+        f(
+            "p_posterior_per_sq_deg",
+            per(&|c| s.w_surviving[c] / v.w_surviving_total / area),
+        ),
+        f("excluded_fraction", per(&|c| 1.0 - s.w_surviving[c] / s.w_prior[c])),
+        f("mean_mag", per(&|c| s.w_mag[c] / s.w_surviving[c])),
+        f("mean_rate_arcsec_per_hr", per(&|c| s.w_rate[c] / s.w_surviving[c])),
+        Column::new("in_region_68".into(), flag(v.in_68)),
+        Column::new("in_region_95".into(), flag(v.in_95)),
+    ])
+}
+
+/// `sky_mag_hist`: the survivors' weight per cell and magnitude bin (non-empty bins only).
+pub fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
+    let mut keys: Vec<(u64, f64)> = s.mag_hist.iter().map(|(k, w)| (*k, *w)).collect();
+    keys.sort_by_key(|k| k.0);
+    let bin = |k: u64| (k % MAG_BINS as u64) as f64;
+    frame(vec![
+        i("cell", keys.iter().map(|k| (k.0 / MAG_BINS as u64) as i64).collect()),
+        i("mag_bin", keys.iter().map(|k| (k.0 % MAG_BINS as u64) as i64).collect()),
+        f("mag_lo", keys.iter().map(|k| MAG_LO + MAG_STEP * bin(k.0)).collect()),
+        f(
+            "mag_hi",
+            keys.iter().map(|k| MAG_LO + MAG_STEP * (bin(k.0) + 1.0)).collect(),
+        ),
+        f("w_surviving", keys.iter().map(|k| k.1).collect()),
+    ])
+}
+
+/// `fields`: the ranked fields for the next search.
+pub fn fields_frame(fields: &[Field], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
+    let cell_area = super::SKY_SQ_DEG / cdshealpix::nested::n_hash(order) as f64;
+    let per = |g: &dyn Fn(&Field) -> f64| fields.iter().map(g).collect::<Vec<f64>>();
+    let ecl: Vec<(f64, f64)> = fields.iter().map(|x| radec_to_ecliptic(x.ra_rad, x.dec_rad)).collect();
+    let mut cum = 0.0;
+    let cumulative: Vec<f64> = fields
+        .iter()
+        .map(|x| {
+            cum += x.w_surviving / w_surviving_total;
+            cum
+        })
+        .collect();
+    frame(vec![
+        i("rank", fields.iter().map(|x| x.rank as i64).collect()),
+        f("ra_deg", per(&|x| x.ra_rad / DEG)),
+        f("dec_deg", per(&|x| x.dec_rad / DEG)),
+        f(
+            "ecl_lon_deg",
+            ecl.iter()
+                .map(|c| c.0.rem_euclid(std::f64::consts::TAU) / DEG)
+                .collect(),
+        ),
+        f("ecl_lat_deg", ecl.iter().map(|c| c.1 / DEG).collect()),
+        f("radius_deg", vec![radius_deg; fields.len()]),
+        i("n_cells", fields.iter().map(|x| x.n_cells as i64).collect()),
+        f("area_sq_deg", per(&|x| x.n_cells as f64 * cell_area)),
+        i("n_surviving", fields.iter().map(|x| x.n_surviving as i64).collect()),
+        f("w_surviving", per(&|x| x.w_surviving)),
+        f("p_field", per(&|x| x.w_surviving / w_surviving_total)),
+        f("p_cumulative", cumulative),
+        f(
+            "p_per_sq_deg",
+            per(&|x| x.w_surviving / w_surviving_total / (x.n_cells as f64 * cell_area)),
+        ),
+        f("mean_mag", per(&|x| x.mean_mag)),
+        f("depth_90_mag", per(&|x| x.depth_90_mag)),
+        f("mean_rate_arcsec_per_hr", per(&|x| x.mean_rate_arcsec_per_hr)),
+    ])
+}
+
+/// A column that may hold empty values.
+fn opt_f64(df: &DataFrame, path: &Path, name: &str) -> Result<Vec<Option<f64>>> {
+    let col = df
+        .column(name)
+        .map_err(|_| Error::input(format!("{}: missing column `{name}`", path.display())))?;
+    let s = col
+        .as_materialized_series()
+        .cast(&DataType::Float64)
+        .map_err(|e| Error::io(e.to_string()))?;
+    Ok(s.f64().map_err(|e| Error::io(e.to_string()))?.iter().collect())
+}
+
+/// Read the additive columns of `excluded`, `sky_map` and `sky_mag_hist` under `dir`.
+pub fn read_tally(dir: &Path, ext: &str, order: u8, n_surveys: usize) -> Result<Tally> {
+    let (a, h, total) = read_excluded(&dir.join(format!("excluded.{ext}")))?;
+    let mut t = Tally::new(a, h, order, n_surveys);
+    t.total = total;
+    read_sky(&dir.join(format!("sky_map.{ext}")), &mut t.sky)?;
+    read_hist(&dir.join(format!("sky_mag_hist.{ext}")), &mut t.sky)?;
+    Ok(t)
+}
+
+fn read_excluded(path: &Path) -> Result<(Binned, Binned, BinSums)> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let q = c.str("quantity")?;
+    let (lo, hi) = (opt_f64(&df, path, "lo")?, opt_f64(&df, path, "hi")?);
+    let nums = |n: &str| c.f64(n);
+    let (np, wp, w2p) = (nums("n_prior")?, nums("w_prior")?, nums("w2_prior")?);
+    let (ne, we, w2e) = (nums("n_excluded")?, nums("w_excluded")?, nums("w2_excluded")?);
+    let sums = |k: usize| BinSums {
+        n_prior: np[k] as u64,
+        w_prior: wp[k],
+        w2_prior: w2p[k],
+        n_excluded: ne[k] as u64,
+        w_excluded: we[k],
+        w2_excluded: w2e[k],
+    };
+    let binned = |name: &str| -> Result<Binned> {
+        let rows: Vec<usize> = (0..q.len()).filter(|&k| q[k] == name).collect();
+        let mut edges: Vec<f64> = rows.iter().filter_map(|&k| lo[k]).collect();
+        edges.push(
+            rows.last()
+                .and_then(|&k| hi[k])
+                .ok_or_else(|| Error::input(format!("{}: no `{name}` rows with lo and hi", path.display())))?,
+        );
+        let mut b = Binned::new(name, edges);
+        b.bins = rows.iter().map(|&k| sums(k)).collect();
+        Ok(b)
+    };
+    let all = (0..q.len())
+        .find(|&k| q[k] == "all")
+        .ok_or_else(|| Error::input(format!("{}: no row `all`", path.display())))?;
+    Ok((binned("a_au")?, binned("h_mag")?, sums(all)))
+}
+
+fn read_sky(path: &Path, sky: &mut SkyTally) -> Result<()> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let cells = c.i64("cell")?;
+    let cols = [
+        "n_prior",
+        "w_prior",
+        "n_surviving",
+        "w_surviving",
+        "w_mag_sum",
+        "w_rate_sum",
+    ];
+    let v: Vec<Vec<f64>> = cols.iter().map(|n| c.f64(n)).collect::<Result<_>>()?;
+    for (k, &cell) in cells.iter().enumerate() {
+        let cell = usize::try_from(cell)
+            .ok()
+            .filter(|&x| x < sky.n_prior.len())
+            .ok_or_else(|| c.bad_value(k, "cell", &format!("a cell of order {}", sky.order)))?;
+        sky.n_prior[cell] += v[0][k] as u64;
+        sky.w_prior[cell] += v[1][k];
+        sky.n_surviving[cell] += v[2][k] as u64;
+        sky.w_surviving[cell] += v[3][k];
+        sky.w_mag[cell] += v[4][k];
+        sky.w_rate[cell] += v[5][k];
+    }
+    Ok(())
+}
+
+fn read_hist(path: &Path, sky: &mut SkyTally) -> Result<()> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (cells, bins, w) = (c.i64("cell")?, c.i64("mag_bin")?, c.f64("w_surviving")?);
+    for k in 0..cells.len() {
+        let key = super::tally::hist_key(cells[k] as usize, bins[k] as usize);
+        *sky.mag_hist.entry(key).or_insert(0.0) += w[k];
+    }
+    Ok(())
+}
