@@ -186,6 +186,27 @@ fn yield_and_compare_models_write_tables_and_conclusions() {
         assert!(b[2] >= b[0].max(b[1]), "{b:?}");
     }
     assert!(found.iter().sum::<f64>() > 0.0);
+    // A cadence plan is built first, then compared like any survey.
+    let plan = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep-plan.toml");
+    let msg = run_ok(&[
+        "yield",
+        "--plan",
+        &plan.display().to_string(),
+        "--survey",
+        &p("wide.toml"),
+        "--objects",
+        &p("catalog.csv"),
+        "--out",
+        &p("yp"),
+        "--format",
+        "csv",
+        "--seed",
+        "3",
+    ]);
+    assert!(
+        d.path().join("yp/plans/deep-plan.survey.toml").exists() && msg.contains("any:"),
+        "{msg}"
+    );
     // Two invented "models": the catalogue itself cloned with fresh M, and a shifted copy.
     let cat = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
     let mut m1 = String::from(cat.lines().next().unwrap());
