@@ -182,20 +182,13 @@ fn goodness_of_fit_is_uniform_for_the_true_model_and_rejects_a_wrong_one() {
         },
     ] {
         let d = Density::fit(&kind, &pts, &w).unwrap();
-        let mut ps: Vec<f64> = (0..40)
+        let ps: Vec<f64> = (0..40)
             .map(|r| {
                 let cat: Vec<Vec<f64>> = (0..15).map(|_| d.sample(&mut rng)).collect();
                 gof_p(&d, &cat, 150, r)
             })
             .collect();
-        ps.sort_by(f64::total_cmp);
-        let n = ps.len() as f64;
-        let dmax = ps
-            .iter()
-            .enumerate()
-            .map(|(i, x)| (x - i as f64 / n).max((i as f64 + 1.0) / n - x))
-            .fold(0.0, f64::max);
-        let ks = seine::analysis::two_sample::kolmogorov_sf(ps.len(), dmax);
+        let ks = common::ks_uniform_p(&ps);
         let shifted: Vec<Vec<f64>> = (0..15)
             .map(|_| vec![1.9 + 0.1 * rng.random::<f64>(), 1.9 + 0.1 * rng.random::<f64>()])
             .collect();

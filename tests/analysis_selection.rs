@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{ecliptic_fields, survey};
+use common::{ecliptic_fields, ks_uniform_p, survey};
 
 use std::f64::consts::TAU;
 use std::path::Path;
@@ -89,18 +89,6 @@ fn maps(t: &ObjectTable, surveys: &[PreparedSurvey], n_x: usize, per_cell: u64) 
         per_cell,
     };
     bias_maps(t, 0..t.len(), surveys, grid, 77)
-}
-
-fn ks_uniform_p(p: &[f64]) -> f64 {
-    let mut v = p.to_vec();
-    v.sort_by(f64::total_cmp);
-    let n = v.len() as f64;
-    let d = v
-        .iter()
-        .enumerate()
-        .map(|(i, x)| (x - i as f64 / n).max((i as f64 + 1.0) / n - x))
-        .fold(0.0, f64::max);
-    seine::analysis::two_sample::kolmogorov_sf(v.len(), d)
 }
 
 /// Calibration: the catalogue's (a, e, i, H) are fixed; every replica redraws its angles
