@@ -161,3 +161,39 @@ fn kernel_density_against_scipy() {
         assert!((got - want).abs() <= 1e-10 * want, "{x}: {got} vs {want}");
     }
 }
+
+#[test]
+fn goodness_of_fit_is_uniform_for_the_true_model_and_rejects_a_wrong_one() {
+    // Calibration of the smoothed-bootstrap goodness of fit (the null itself; no outside number):
+    // catalogues drawn from the model's own density give uniform p; a shifted catalogue gives small p.
+    use rand::{RngExt, SeedableRng};
+    use seine::analysis::compare::gof_p;
+    use seine::analysis::likelihood::{Density, DensityKind};
+    let mut rng = rand_pcg::Pcg64::seed_from_u64(21);
+    let pts: Vec<Vec<f64>> = (0..300)
+        .map(|_| vec![rng.random::<f64>() * 2.0, rng.random::<f64>() + rng.random::<f64>()])
+        .collect();
+    let w = vec![1.0; pts.len()];
+    for kind in [
+        DensityKind::Kde,
+        DensityKind::Binned {
+            edges: vec![vec![0.0, 0.5, 1.0, 1.5, 2.0], vec![0.0, 0.5, 1.0, 1.5, 2.0]],
+            pseudo: 0.5,
+        },
+    ] {
+        let d = Density::fit(&kind, &pts, &w).unwrap();
+        let ps: Vec<f64> = (0..40)
+            .map(|r| {
+                let cat: Vec<Vec<f64>> = (0..15).map(|_| d.sample(&mut rng)).collect();
+                gof_p(&d, &cat, 150, r)
+            })
+            .collect();
+        let ks = common::ks_uniform_p(&ps);
+        let shifted: Vec<Vec<f64>> = (0..15)
+            .map(|_| vec![1.9 + 0.1 * rng.random::<f64>(), 1.9 + 0.1 * rng.random::<f64>()])
+            .collect();
+        let p_wrong = gof_p(&d, &shifted, 200, 999);
+        eprintln!("{kind:?}: KS p of goodness-of-fit p-values {ks:.3}; wrong catalogue p = {p_wrong}");
+        assert!(ks > 0.01 && p_wrong < 0.05, "KS p {ks}, wrong p {p_wrong}");
+    }
+}

@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{ecliptic_fields, survey};
+use common::{ecliptic_fields, ks_uniform_p, survey};
 
 use std::f64::consts::TAU;
 use std::path::Path;
@@ -89,18 +89,6 @@ fn maps(t: &ObjectTable, surveys: &[PreparedSurvey], n_x: usize, per_cell: u64) 
         per_cell,
     };
     bias_maps(t, 0..t.len(), surveys, grid, 77)
-}
-
-fn ks_uniform_p(p: &[f64]) -> f64 {
-    let mut v = p.to_vec();
-    v.sort_by(f64::total_cmp);
-    let n = v.len() as f64;
-    let d = v
-        .iter()
-        .enumerate()
-        .map(|(i, x)| (x - i as f64 / n).max((i as f64 + 1.0) / n - x))
-        .fold(0.0, f64::max);
-    seine::analysis::two_sample::kolmogorov_sf(v.len(), d)
 }
 
 /// Calibration: the catalogue's (a, e, i, H) are fixed; every replica redraws its angles
@@ -199,4 +187,34 @@ fn power_full_von_mises_clustering_is_found() {
     let p = power(100, 1000);
     eprintln!("power, 100 replicas: {p:.2}");
     assert!(p >= 0.8, "power {p}");
+}
+
+#[test]
+fn bias_maps_favour_perihelia_towards_the_surveyed_patch() {
+    // Expected behaviour of AJ 154, 65 (2017): a shallow survey of one patch finds eccentric
+    // objects near perihelion, so the discovery probability peaks where ϖ points at the patch
+    // (ecliptic longitude 0–45°, centre 22.5°). Geometry, no outside number.
+    let dir = tempfile::tempdir().unwrap();
+    let surveys = vec![lopsided(dir.path())];
+    let base = catalogue(12, 3, |_, _| (0.0, 0.0, 0.0));
+    for m in maps(&base, &surveys, 24, 30).iter().filter(|m| m.mean_p() > 0.005) {
+        let (mut s, mut c) = (0.0, 0.0);
+        for cell in 0..m.trials.len() {
+            let (x0, x1, _, _) = m.cell_bounds(cell);
+            let x = 0.5 * (x0 + x1);
+            (s, c) = (s + m.p(cell) * x.sin(), c + m.p(cell) * x.cos());
+        }
+        let mean = s.atan2(c).to_degrees();
+        eprintln!(
+            "object {}: mean p {:.4}, map-weighted mean ϖ {mean:.0}°, inc {:.1}",
+            m.id,
+            m.mean_p(),
+            base.elements[m.id as usize].inc.to_degrees()
+        );
+        assert!(
+            (mean - 22.5).abs() < 45.0,
+            "object {}: map-weighted mean ϖ {mean:.0}°",
+            m.id
+        );
+    }
 }

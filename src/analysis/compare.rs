@@ -75,6 +75,25 @@ pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> 
     (0..t.len()).filter(|i| found[*i]).collect()
 }
 
+/// Goodness of fit: the fraction of `synthetic` same-size catalogues drawn from the density
+/// whose log-likelihood is below the observed one (catalogue t from
+/// `run_stream(stream_seed, Analysis, t)`); NaN without synthetic catalogues.
+pub fn gof_p(density: &Density, observed: &[Vec<f64>], synthetic: u64, stream_seed: u64) -> f64 {
+    if synthetic == 0 {
+        return f64::NAN;
+    }
+    let ll = density.log_likelihood(observed);
+    let below = (0..synthetic)
+        .into_par_iter()
+        .filter(|t| {
+            let mut rng = run_stream(stream_seed, Purpose::Analysis, *t);
+            let cat: Vec<Vec<f64>> = (0..observed.len()).map(|_| density.sample(&mut rng)).collect();
+            density.log_likelihood(&cat) < ll
+        })
+        .count();
+    below as f64 / synthetic as f64
+}
+
 /// One model's score.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ModelScore {
@@ -117,19 +136,7 @@ pub fn score_model(
     let w: Vec<f64> = rows.iter().map(|&i| model.weight[i]).collect();
     let density = Density::fit(kind, &pts, &w).map_err(|e| Error::input(format!("model `{name}`: {e}")))?;
     let ll = density.log_likelihood(observed);
-    let below = (0..synthetic)
-        .into_par_iter()
-        .filter(|t| {
-            let mut rng = run_stream(seed ^ splitmix64(model_index), Purpose::Analysis, *t);
-            let cat: Vec<Vec<f64>> = (0..observed.len()).map(|_| density.sample(&mut rng)).collect();
-            density.log_likelihood(&cat) < ll
-        })
-        .count() as f64;
-    let p = if synthetic > 0 {
-        below / synthetic as f64
-    } else {
-        f64::NAN
-    };
+    let p = gof_p(&density, observed, synthetic, seed ^ splitmix64(model_index));
     let marginals = (0..space.len())
         .map(|d| {
             let o: Vec<f64> = observed.iter().map(|x| x[d]).collect();

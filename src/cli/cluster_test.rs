@@ -20,9 +20,10 @@ pub struct Args {
     /// The observed catalogue (objects table): its Ω and ω are tested.
     #[arg(long)]
     pub catalog: PathBuf,
-    /// Bias maps written by `seine bias-map` for these objects (otherwise computed here).
+    /// Bias maps written by `seine bias-map` for these objects (otherwise computed here);
+    /// repeat for the tables of several shards.
     #[arg(long)]
-    pub bias_map: Option<PathBuf>,
+    pub bias_map: Vec<PathBuf>,
     #[command(flatten)]
     pub grid: GridArgs,
     /// Synthetic catalogues for the Monte Carlo p-values.
@@ -36,13 +37,8 @@ pub fn run(a: Args) -> Result<()> {
     let mut prov = a.run.start()?;
     let catalog = ObjectTable::read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
-    let maps = match &a.bias_map {
-        Some(p) => {
-            prov.add_input(p)?;
-            let maps = read_maps(p)?;
-            order_maps(maps, &catalog, p)?
-        }
-        None => {
+    let maps = match a.bias_map.as_slice() {
+        [] => {
             if a.surveys.is_empty() {
                 return Err(Error::input(
                     "cluster-test: give --survey (to compute bias maps) or --bias-map",
@@ -51,9 +47,17 @@ pub fn run(a: Args) -> Result<()> {
             let surveys = load_surveys(&a.surveys, &mut prov)?;
             bias_maps(&catalog, 0..catalog.len(), &surveys, a.grid.grid()?, a.run.seed)
         }
+        tables => {
+            let mut maps = Vec::new();
+            for p in tables {
+                prov.add_input(p)?;
+                maps.extend(read_maps(p)?);
+            }
+            order_maps(maps, &catalog, &tables[0])?
+        }
     };
     let out = a.run.out_dir(prov)?;
-    if a.bias_map.is_none() {
+    if a.bias_map.is_empty() {
         out.write("bias_map", map_columns(&maps))?;
     }
     let res = cluster_test(&Angles::of(&catalog), &maps, a.trials, a.run.seed)?;

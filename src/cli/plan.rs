@@ -30,7 +30,7 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     match (&a.plan, &a.survey) {
-        (Some(p), _) => run_plan(p, &a.out, a.seed),
+        (Some(p), _) => run_plan(p, &a.out, a.seed).map(|_| ()),
         (None, Some(s)) => run_survey(s, &a.out),
         (None, None) => Err(Error::input("seine plan: give --plan PLAN or --survey SPEC")),
     }
@@ -62,7 +62,8 @@ fn run_survey(spec: &Path, out: &Path) -> Result<()> {
     Ok(())
 }
 
-fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<()> {
+/// Build a plan's visits and survey spec next to `out`; returns the spec's path (also used by `yield`).
+pub fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<PathBuf> {
     seine::io::table::Format::of(out)?;
     let text = seine::io::spec_text::read_spec_text(plan_path, "cadence plan")?;
     let mut file: PlanFile = parse_toml(&text, plan_path)?;
@@ -86,5 +87,5 @@ fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<()> {
         out.visits.display(),
         out.spec.display()
     );
-    Ok(())
+    Ok(out.spec)
 }

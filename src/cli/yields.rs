@@ -10,9 +10,12 @@ use super::common::*;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
-    /// Survey spec (TOML); repeat to compare surveys (make plans into surveys with `seine plan` first).
-    #[arg(long = "survey", required = true)]
+    /// Survey spec (TOML); repeat to compare surveys.
+    #[arg(long = "survey", required_unless_present = "plans")]
     pub surveys: Vec<PathBuf>,
+    /// Cadence plan (TOML): built first into DIR/plans/<name>.csv and its survey spec; repeat.
+    #[arg(long = "plan")]
+    pub plans: Vec<PathBuf>,
     /// The population (objects table) to run through every survey.
     #[arg(long)]
     pub objects: PathBuf,
@@ -36,7 +39,19 @@ pub fn run(a: Args) -> Result<()> {
         parse_edges("--a-edges", &a.a_edges)?,
     ];
     let mut prov = a.run.start()?;
-    let surveys = load_surveys(&a.surveys, &mut prov)?;
+    let mut specs = a.surveys.clone();
+    for plan in &a.plans {
+        let stem = plan
+            .file_stem()
+            .map_or("plan".into(), |s| s.to_string_lossy().into_owned());
+        prov.add_input(plan)?;
+        specs.push(super::plan::run_plan(
+            plan,
+            &a.run.out.join("plans").join(format!("{stem}.csv")),
+            None,
+        )?);
+    }
+    let surveys = load_surveys(&specs, &mut prov)?;
     let objects = ObjectTable::read(&a.objects)?;
     prov.add_input(&a.objects)?;
     let out = a.run.out_dir(prov)?;

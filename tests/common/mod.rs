@@ -178,3 +178,16 @@ pub fn ecliptic_fields(lons: &[f64]) -> Vec<(f64, f64)> {
         })
         .collect()
 }
+
+/// KS p-value of a sample of p-values against the uniform distribution on [0, 1].
+pub fn ks_uniform_p(p: &[f64]) -> f64 {
+    let mut v = p.to_vec();
+    v.sort_by(f64::total_cmp);
+    let n = v.len() as f64;
+    let d = v
+        .iter()
+        .enumerate()
+        .map(|(i, x)| (x - i as f64 / n).max((i as f64 + 1.0) / n - x))
+        .fold(0.0, f64::max);
+    seine::analysis::two_sample::kolmogorov_sf(v.len(), d)
+}
