@@ -65,6 +65,16 @@ impl TableSink {
         if matches!(self.writer, Writer::Pending) {
             self.open(&df.schema())?;
         }
+        // The batched writers walk the chunks of all columns together: columns sliced from a
+        // table read in several chunks (CSV) next to fresh single-chunk ones must be aligned.
+        let mut aligned;
+        let df = if df.should_rechunk() {
+            aligned = df.clone();
+            aligned.align_chunks();
+            &aligned
+        } else {
+            df
+        };
         let r = match &mut self.writer {
             Writer::Csv(w) => w.write_batch(df),
             Writer::Parquet(w) => w.write_batch(df),
