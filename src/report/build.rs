@@ -119,10 +119,33 @@ fn overview(dir: &Path, inp: &Inputs) -> Section {
     }
     Section {
         title: "What was run".into(),
-        intro: format!("Report of {}.", dir.display()),
+        intro: headline(dir, inp),
         tables: [runs, surveys].into_iter().filter(|t| !t.rows.is_empty()).collect(),
         figures: Vec::new(),
     }
+}
+
+/// One plain sentence per observe run: what went in and what was found.
+fn headline(dir: &Path, inp: &Inputs) -> String {
+    let runs: Vec<String> = inp
+        .runs
+        .iter()
+        .map(|r| {
+            let (n, k) = (
+                r.summary["n_objects"].as_u64().unwrap_or(0),
+                r.summary["n_detected"].as_u64().unwrap_or(0),
+            );
+            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+            format!(
+                "{}: {k} of {n} objects discovered ({}, 95% interval {:.3}%–{:.3}%).",
+                rel(dir, &r.dir),
+                pct(k, n),
+                100.0 * lo,
+                100.0 * hi
+            )
+        })
+        .collect();
+    format!("Report of {}. {}", dir.display(), runs.join(" "))
 }
 
 /// Depth, efficiency and one sky map per survey, with the coverage by ecliptic latitude.

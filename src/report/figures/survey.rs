@@ -36,7 +36,18 @@ pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
         );
         let edges = lin_edges(lo, hi, ((hi - lo) / width).round().max(1.0) as usize);
         let hists: Vec<Vec<u64>> = surveys.iter().map(|s| histogram(&s.1, &edges)).collect();
-        let top = hists.iter().flatten().copied().max().unwrap_or(1) as f64 * 1.12;
+        // Headroom for the legend, which goes to the side away from the tallest bin.
+        let top = hists.iter().flatten().copied().max().unwrap_or(1) as f64 * 1.4;
+        let peak = hists
+            .iter()
+            .flat_map(|h| h.iter().enumerate())
+            .max_by_key(|(_, c)| **c)
+            .map_or(0, |(k, _)| k);
+        let side = if peak < edges.len() / 2 {
+            SeriesLabelPosition::UpperRight
+        } else {
+            SeriesLabelPosition::UpperLeft
+        };
         let mut chart = axes::chart(&area, lo..hi, 0.0..top)?;
         axes::mesh(
             &mut chart,
@@ -51,7 +62,7 @@ pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
                 .label(name.as_str())
                 .legend(axes::swatch(c, 2));
         }
-        axes::legend(&mut chart, SeriesLabelPosition::UpperLeft)
+        axes::legend(&mut chart, side)
     })
 }
 
@@ -69,8 +80,8 @@ fn bin_width(depths: &[f64]) -> f64 {
 pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
     let title = "Detection efficiency";
     let caption = "Probability that a source in the field is detected in one visit, against its \
-                   magnitude minus the visit's depth (mag). Lines: the survey's efficiency model for a \
-                   source that does not trail. Points: the fraction of the simulated in-field events \
+                   magnitude minus the visit's depth (mag). Lines: each survey's efficiency model for a \
+                   source that does not trail. Points, in the survey's colour: the fraction of the simulated in-field events \
                    that were detected, per 0.1 mag, with 95% Wilson intervals; they sit to the right of \
                    the line where fast movers lose signal to trailing, and the fill factor lowers them.";
     render("efficiency", title, caption, (style::WIDTH, style::HEIGHT), |root| {
@@ -88,7 +99,7 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
             let col = style::series(k);
             chart
                 .draw_series(LineSeries::new(c.model.iter().copied(), col.stroke_width(2)))?
-                .label(format!("{} model", c.survey))
+                .label(c.survey.as_str())
                 .legend(axes::swatch(col, 2));
             let pts: Vec<_> = c
                 .measured
@@ -106,14 +117,11 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
                     5,
                 )
             }))?;
-            chart
-                .draw_series(
-                    pts.iter()
-                        .map(|b| Circle::new((0.5 * (b.lo + b.hi), b.k as f64 / b.n as f64), 3, col.filled())),
-                )?
-                .label(format!("{} detected fraction", c.survey))
-                .legend(move |(x, y)| Circle::new((x + 11, y), 3, col.filled()));
+            chart.draw_series(
+                pts.iter()
+                    .map(|b| Circle::new((0.5 * (b.lo + b.hi), b.k as f64 / b.n as f64), 3, col.filled())),
+            )?;
         }
-        axes::legend(&mut chart, SeriesLabelPosition::MiddleRight)
+        axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
     })
 }
