@@ -420,6 +420,9 @@ fn objects_frame(
         df.with_column(c).map_err(|e| Error::io(e.to_string()))?;
     }
     debug_assert_eq!(df.height(), n);
+    // The input columns may come in several pieces (a chunk across two Parquet row groups,
+    // or a large CSV read in parallel); the writers need every column in one.
+    df.rechunk_mut();
     Ok(df)
 }
 
