@@ -187,23 +187,11 @@ fn shards_merged_equal_one_run_in_any_order() {
         );
     }
     // Given out of order: the manifests put them in shard order.
-    let o = Command::new(BIN)
-        .arg("merge")
-        .args([s.path("shard2"), s.path("shard0"), s.path("shard1")])
-        .arg("--out")
-        .arg(s.path("merged"))
-        .output()
-        .unwrap();
+    let o = merge([s.path("shard2"), s.path("shard0"), s.path("shard1")], s.path("merged"));
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert_same_outputs(&s.path("whole"), &s.path("merged"));
     // A missing shard is refused, naming it.
-    let o = Command::new(BIN)
-        .arg("merge")
-        .args([s.path("shard0"), s.path("shard2")])
-        .arg("--out")
-        .arg(s.path("bad"))
-        .output()
-        .unwrap();
+    let o = merge([s.path("shard0"), s.path("shard2")], s.path("bad"));
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("missing: [1]"), "{}", stderr(&o));
     assert!(!s.path("bad/objects.parquet").exists());
@@ -260,13 +248,10 @@ fn draw_is_thread_invariant_and_shards_from_slurm_merge_to_the_whole() {
         &[("SLURM_ARRAY_TASK_ID", "1"), ("SLURM_ARRAY_TASK_COUNT", "1")],
     );
     assert!(table(&d.join("alone1.parquet")).equals_missing(&table(&d.join("s1.parquet"))));
-    let o = Command::new(BIN)
-        .arg("merge")
-        .args((0..3).map(|k| d.join(format!("s{k}.parquet"))))
-        .arg("--out")
-        .arg(d.join("merged.parquet"))
-        .output()
-        .unwrap();
+    let o = merge(
+        (0..3).map(|k| d.join(format!("s{k}.parquet"))),
+        d.join("merged.parquet"),
+    );
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(table(&d.join("merged.parquet")).equals_missing(&table(&d.join("t1.parquet"))));
 }
@@ -309,13 +294,47 @@ fn more_shards_than_objects_merge_to_the_whole() {
         s.observe(&format!("shard{k}"), &["--shard", &format!("{k}/3")]);
     }
     assert_eq!(table(&s.path("shard0/objects.parquet")).height(), 0);
-    let o = Command::new(BIN)
+    let o = merge((0..3).map(|k| s.path(&format!("shard{k}"))), s.path("merged"));
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert_same_outputs(&s.path("whole"), &s.path("merged"));
+}
+
+/// `seine merge INPUTS --out OUT`.
+fn merge<P: AsRef<std::ffi::OsStr>>(inputs: impl IntoIterator<Item = P>, out: PathBuf) -> Output {
+    Command::new(BIN)
         .arg("merge")
-        .args((0..3).map(|k| s.path(&format!("shard{k}"))))
+        .args(inputs)
         .arg("--out")
-        .arg(s.path("merged"))
+        .arg(out)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn chunks_across_parquet_row_groups() {
+    // Objects written as row groups of 150 rows, read in chunks of 200: every other chunk
+    // spans two row groups (a regression: the part writer needs single-piece columns).
+    let s = scenario(450, 300);
+    let df = bench_objects(450);
+    let path = s.path("grouped.parquet");
+    let mut sink = seine::io::sink::TableSink::create(&path, Provenance::current()).unwrap();
+    for k in 0..3 {
+        sink.write(&df.slice(150 * k, 150)).unwrap();
+    }
+    sink.finish().unwrap();
+    s.observe("whole", &[]);
+    let o = Command::new(BIN)
+        .args(["observe", "--quiet", "--seed", "7", "--chunk-size", "200", "--survey"])
+        .arg(&s.spec)
+        .arg("--objects")
+        .arg(&path)
+        .arg("--out")
+        .arg(s.path("grouped"))
         .output()
         .unwrap();
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
-    assert_same_outputs(&s.path("whole"), &s.path("merged"));
+    for t in ["objects.parquet", "detections.parquet"] {
+        let (a, b) = (table(&s.path("whole").join(t)), table(&s.path("grouped").join(t)));
+        assert!(a.equals_missing(&b), "{t}");
+    }
 }

@@ -245,3 +245,20 @@ fn inconsistent_shards_from_the_environment() {
         assert_eq!(listing(c.dir.path()), before);
     }
 }
+
+/// A Parquet objects table is checked in blocks before the run: a duplicate id far apart is
+/// found, with both rows, before anything is written.
+#[test]
+fn duplicate_ids_in_a_parquet_table_name_both_rows() {
+    let c = Case::new(&[]);
+    let mut df = common::bench_objects(1000);
+    let ids: Vec<f64> = (0..1000).map(|i| if i == 900 { 3.0 } else { i as f64 }).collect();
+    df.with_column(polars::prelude::Column::new("id".into(), ids)).unwrap();
+    let path = c.dir.path().join("objects.parquet");
+    seine::io::write_table(&mut df, &path, &seine::io::Provenance::current()).unwrap();
+    let objects = c.p("objects.parquet");
+    c.fails(
+        &c.observe(&["--objects", &objects]),
+        &["objects.parquet row 901", "`id`", "found 3 again"],
+    );
+}

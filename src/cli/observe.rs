@@ -3,9 +3,10 @@
 use std::path::PathBuf;
 
 use seine::Result;
-use seine::engine::{Candidates, ObserveOptions, PreparedSurvey, observe};
+use seine::engine::run::observe_source;
+use seine::engine::{Candidates, ObserveOptions, PreparedSurvey};
 use seine::io::Provenance;
-use seine::io::objects::ObjectTable;
+use seine::io::objects::{ObjectSource, ObjectTable};
 use seine::survey::Survey;
 
 #[derive(clap::Args, Debug)]
@@ -58,7 +59,15 @@ pub fn run(a: Args) -> Result<()> {
         surveys.push(PreparedSurvey::new(s));
     }
     super::common::check_unique_survey_names(&surveys)?;
-    let objects = ObjectTable::read_shard(&a.objects, shard)?;
+    // A Parquet table is read chunk by chunk (bounded memory); a CSV table whole.
+    let table;
+    let objects = match seine::io::table::Format::of(&a.objects)? {
+        seine::io::table::Format::Parquet => ObjectSource::parquet(&a.objects, shard)?,
+        seine::io::table::Format::Csv => {
+            table = ObjectTable::read(&a.objects)?;
+            ObjectSource::Table(&table)
+        }
+    };
     prov.add_input(&a.objects)?;
     let opts = ObserveOptions {
         seed: a.seed,
@@ -74,7 +83,7 @@ pub fn run(a: Args) -> Result<()> {
         resume: a.resume,
         stop: Some(super::common::stop_flag()?),
     };
-    let report = observe(&surveys, &objects, &a.out, &opts, &prov)?;
+    let report = observe_source(&surveys, &objects, &a.out, &opts, &prov)?;
     let s = &report.summary;
     if !a.quiet {
         eprintln!(

@@ -15,7 +15,7 @@ use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256
 use super::pipeline::observe_object;
 use super::summary::Summary;
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
+use crate::io::objects::{ObjectSource, ObjectTable};
 use crate::io::provenance::Provenance;
 use crate::io::sink::TableSink;
 use crate::io::table::{Format, read_table, write_atomic};
@@ -83,27 +83,33 @@ pub fn observe(
     opts: &ObserveOptions,
     provenance: &Provenance,
 ) -> Result<ObserveReport> {
+    observe_source(surveys, &ObjectSource::Table(objects), out_dir, opts, provenance)
+}
+
+/// `observe` with the objects from a source that may read them chunk by chunk (a Parquet
+/// file: memory then follows `chunk_size`, not the table).
+pub fn observe_source(
+    surveys: &[PreparedSurvey],
+    source: &ObjectSource,
+    out_dir: &Path,
+    opts: &ObserveOptions,
+    provenance: &Provenance,
+) -> Result<ObserveReport> {
     if opts.chunk_size == 0 {
         return Err(Error::input("--chunk-size: expected at least 1 object per chunk"));
     }
     // Refuse bad inputs before anything is written: no partial output on an error.
-    check_bands(surveys, objects)?;
-    objects_frame(objects, 0, &[], surveys)?;
+    check_bands(surveys, source.head())?;
+    objects_frame(source.head(), 0, &[], surveys)?;
     std::fs::create_dir_all(out_dir.join(PARTS)).map_err(|e| {
         Error::input(format!(
             "{}: cannot create the output directory: {e}",
             out_dir.display()
         ))
     })?;
-    // A shard read alone (`ObjectTable::read_shard`) is all to be done; otherwise take the shard here.
-    let local = if objects.is_slice() {
-        (0, objects.len())
-    } else {
-        shard_range(objects.len(), opts.shard)
-    };
-    let rows = (objects.first_row + local.0, objects.first_row + local.1);
+    let rows = source.rows(opts.shard);
     let mut manifest = Manifest::new(
-        run_key(surveys, objects, opts, provenance),
+        run_key(surveys, source.head(), opts, provenance),
         rows,
         provenance.inputs.clone(),
     );
@@ -115,7 +121,7 @@ pub fn observe(
     let reused = manifest.chunks.len();
     clear_stale(out_dir, reused)?;
     manifest.write(out_dir)?;
-    compute_chunks(surveys, objects, out_dir, opts, provenance, &mut manifest)?;
+    compute_chunks(surveys, source, out_dir, opts, provenance, &mut manifest)?;
     let report = assemble(surveys, out_dir, opts, provenance, &manifest)?;
     manifest.complete = true;
     manifest.write(out_dir)?;
@@ -174,7 +180,7 @@ fn run_key(surveys: &[PreparedSurvey], objects: &ObjectTable, opts: &ObserveOpti
 /// `Error::Interrupted` after the chunk in flight when the stop flag is raised.
 fn compute_chunks(
     surveys: &[PreparedSurvey],
-    objects: &ObjectTable,
+    source: &ObjectSource,
     out_dir: &Path,
     opts: &ObserveOptions,
     provenance: &Provenance,
@@ -197,7 +203,7 @@ fn compute_chunks(
         let chunk_end = (chunk_start + opts.chunk_size).min(hi);
         let entry = compute_chunk(
             surveys,
-            objects,
+            source,
             out_dir,
             opts,
             provenance,
@@ -220,7 +226,7 @@ fn compute_chunks(
 /// One chunk: objects in parallel, then its two part files (each written atomically).
 fn compute_chunk(
     surveys: &[PreparedSurvey],
-    objects: &ObjectTable,
+    source: &ObjectSource,
     out_dir: &Path,
     opts: &ObserveOptions,
     provenance: &Provenance,
@@ -230,6 +236,8 @@ fn compute_chunk(
     let start = Instant::now();
     // Manifest rows are rows of the input file; the table may start further in.
     let (lo_global, hi_global) = (lo, hi);
+    let chunk = source.chunk(lo, hi)?;
+    let objects: &ObjectTable = &chunk;
     let (lo, hi) = (lo - objects.first_row, hi - objects.first_row);
     let outcomes: Vec<ObjectOutcome> = (lo..hi)
         .into_par_iter()
@@ -412,6 +420,9 @@ fn objects_frame(
         df.with_column(c).map_err(|e| Error::io(e.to_string()))?;
     }
     debug_assert_eq!(df.height(), n);
+    // The input columns may come in several pieces (a chunk across two Parquet row groups,
+    // or a large CSV read in parallel); the writers need every column in one.
+    df.rechunk_mut();
     Ok(df)
 }
 

@@ -5,12 +5,13 @@
 //! `lc_amp_mag` and `lc_period_hr` (a sinusoidal light curve), and `frame`
 //! (`heliocentric` or `barycentric`). Every other column is carried through untouched.
 
+use std::borrow::Cow;
 use std::collections::HashSet;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use polars::prelude::DataFrame;
 
-use super::table::{Columns, Format, read_parquet_rows, read_table};
+use super::table::{Columns, read_parquet_rows, read_table};
 use crate::error::{Error, Result};
 use crate::orbit::{Center, Elements};
 use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
@@ -51,29 +52,6 @@ impl ObjectTable {
     pub fn read(path: &Path) -> Result<Self> {
         let df = read_table(path)?;
         Self::from_frame(df, path)
-    }
-
-    /// Shard k of n of a table: of a Parquet file only the shard's rows are read (ids are
-    /// then checked for uniqueness within the shard); a CSV file is read whole, and the
-    /// engine takes the shard.
-    pub fn read_shard(path: &Path, shard: Option<(usize, usize)>) -> Result<Self> {
-        match (Format::of(path)?, shard) {
-            (Format::Parquet, Some(s)) => {
-                let range = |n| crate::engine::run::shard_range(n, Some(s));
-                let (df, lo, total) = read_parquet_rows(path, range)?;
-                if df.height() == 0 && total > 0 {
-                    // More shards than objects: an empty shard, with the columns of the first row.
-                    let (one, _, _) = read_parquet_rows(path, |_| (0, 1))?;
-                    let mut t = Self::from_frame(one, path)?.emptied();
-                    (t.first_row, t.input_rows) = (lo, total);
-                    return Ok(t);
-                }
-                let mut t = Self::from_frame_at(df, path, lo)?;
-                (t.first_row, t.input_rows) = (lo, total);
-                Ok(t)
-            }
-            _ => Self::read(path),
-        }
     }
 
     /// The same columns with no rows.
@@ -223,4 +201,108 @@ impl ObjectTable {
             input_rows: n,
         })
     }
+}
+
+/// Rows per read when a Parquet objects table is checked before a run.
+const CHECK_ROWS: usize = 1 << 18;
+
+/// Where `observe` takes its objects from, chunk by chunk.
+pub enum ObjectSource<'a> {
+    /// A table in memory (a CSV file, or built by the caller).
+    Table(&'a ObjectTable),
+    /// A Parquet file read one chunk at a time, so that memory follows the chunk and not the
+    /// table: `rows` (of the file) are this run's share, `head` its first row (or an empty
+    /// table with the columns), for the schema and bands.
+    Parquet {
+        path: PathBuf,
+        head: ObjectTable,
+        rows: (usize, usize),
+    },
+}
+
+impl<'a> ObjectSource<'a> {
+    /// Open shard k of n of a Parquet objects table and check every row of it first (values,
+    /// unique ids), so that a bad row fails the run before anything is written.
+    pub fn parquet(path: &Path, shard: Option<(usize, usize)>) -> Result<ObjectSource<'static>> {
+        let (first, lo, total) = read_parquet_rows(path, |n| {
+            let (lo, hi) = crate::engine::run::shard_range(n, shard);
+            (lo, hi.min(lo + 1))
+        })?;
+        let hi = crate::engine::run::shard_range(total, shard).1;
+        check_rows(path, lo, hi)?;
+        let mut head = if first.height() > 0 {
+            Self::table_at(first, path, lo, total)?
+        } else {
+            // An empty share (more shards than objects): the columns of the file's first row.
+            let (one, _, _) = read_parquet_rows(path, |_| (0, 1))?;
+            ObjectTable::from_frame(one, path)?.emptied()
+        };
+        (head.first_row, head.input_rows) = (lo, total);
+        Ok(ObjectSource::Parquet {
+            path: path.to_path_buf(),
+            head,
+            rows: (lo, hi),
+        })
+    }
+
+    fn table_at(df: DataFrame, path: &Path, lo: usize, total: usize) -> Result<ObjectTable> {
+        let mut t = ObjectTable::from_frame_at(df, path, lo)?;
+        (t.first_row, t.input_rows) = (lo, total);
+        Ok(t)
+    }
+
+    /// The first rows (or all of an in-memory table): columns, colours, row count of the input.
+    pub fn head(&self) -> &ObjectTable {
+        match self {
+            ObjectSource::Table(t) => t,
+            ObjectSource::Parquet { head, .. } => head,
+        }
+    }
+
+    /// Rows of the input file this run takes: a Parquet share, or shard k of n of a table.
+    pub fn rows(&self, shard: Option<(usize, usize)>) -> (usize, usize) {
+        match self {
+            ObjectSource::Table(t) if t.is_slice() => (t.first_row, t.first_row + t.len()),
+            ObjectSource::Table(t) => crate::engine::run::shard_range(t.len(), shard),
+            ObjectSource::Parquet { rows, .. } => *rows,
+        }
+    }
+
+    /// A table holding at least the input rows [lo, hi) (its `first_row` says where it starts).
+    pub fn chunk(&self, lo: usize, hi: usize) -> Result<Cow<'_, ObjectTable>> {
+        match self {
+            ObjectSource::Table(t) => Ok(Cow::Borrowed(*t)),
+            ObjectSource::Parquet { head, .. } if hi == lo => Ok(Cow::Borrowed(head)),
+            ObjectSource::Parquet { path, head, .. } => {
+                let (df, _, total) = read_parquet_rows(path, |_| (lo, hi))?;
+                debug_assert_eq!(total, head.input_rows);
+                Ok(Cow::Owned(Self::table_at(df, path, lo, total)?))
+            }
+        }
+    }
+}
+
+/// Check rows [lo, hi) of a Parquet objects table block by block (every value, and ids
+/// unique across the whole range), holding only a block and the ids.
+fn check_rows(path: &Path, lo: usize, hi: usize) -> Result<()> {
+    let mut ids: Vec<(i64, usize)> = Vec::with_capacity(hi - lo);
+    let mut start = lo;
+    while start < hi {
+        let end = (start + CHECK_ROWS).min(hi);
+        let (df, _, _) = read_parquet_rows(path, |_| (start, end))?;
+        let t = ObjectTable::from_frame_at(df, path, start)?;
+        ids.extend(t.ids.iter().enumerate().map(|(k, id)| (*id, start + k)));
+        start = end;
+    }
+    ids.sort_unstable();
+    if let Some(w) = ids.windows(2).find(|w| w[0].0 == w[1].0) {
+        return Err(Error::input(format!(
+            "{} row {}, column `id`: expected a unique id, found {} again (first at row {})",
+            path.display(),
+            w[0].1.max(w[1].1) + 1,
+            w[0].0,
+            w[0].1.min(w[1].1) + 1
+        )));
+    }
+    Ok(())
 }

@@ -36,10 +36,18 @@ install_packages() {
 W=""
 cleanup() {
   [ -n "$W" ] || return 0
+  local pids=""
   for pidfile in "$W/slurmd.pid" "$W/slurmctld.pid" "$W/munge/munged.pid"; do
-    if [ -s "$pidfile" ]; then kill "$(cat "$pidfile")" 2>/dev/null || true; fi
+    if [ -s "$pidfile" ]; then pids="$pids $(cat "$pidfile")"; fi
   done
-  sleep 1
+  for pid in $pids; do kill "$pid" 2>/dev/null || true; done
+  # Wait (bounded) until they are gone, so that a rerun finds the ports free.
+  for _ in $(seq 1 20); do
+    local alive=""
+    for pid in $pids; do if kill -0 "$pid" 2>/dev/null; then alive=1; fi; done
+    [ -n "$alive" ] || break
+    sleep 0.5
+  done
   if [ -z "${SEINE_CLUSTER_KEEP:-}" ]; then rm -rf "$W"; else echo "kept $W"; fi
 }
 
