@@ -10,6 +10,7 @@ use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_atomic};
 use seine::{Error, Result};
 
+use super::common::ShardArgs;
 use super::common::*;
 
 /// Grid options shared with `cluster-test`.
@@ -72,9 +73,9 @@ pub struct Args {
     pub grid: GridArgs,
     #[command(flatten)]
     pub run: RunArgs,
-    /// Take shard K of N (K from 0): a contiguous slice of the catalogue objects.
-    #[arg(long)]
-    pub shard: Option<String>,
+    /// Shard K of N (K from 0; or from SLURM_ARRAY_TASK_ID): a contiguous slice of the catalogue objects.
+    #[command(flatten)]
+    pub shard: ShardArgs,
     /// Do not write the SVG heat maps.
     #[arg(long)]
     pub no_svg: bool,
@@ -86,7 +87,7 @@ pub fn run(a: Args) -> Result<()> {
     let surveys = load_surveys(&a.surveys, &mut prov)?;
     let objects = ObjectTable::read(&a.objects)?;
     prov.add_input(&a.objects)?;
-    let (lo, hi) = shard_range(objects.len(), a.shard.as_deref().map(parse_shard).transpose()?);
+    let (lo, hi) = shard_range(objects.len(), a.shard.resolve()?);
     let out = a.run.out_dir(prov)?;
     let maps = bias_maps(&objects, lo..hi, &surveys, grid, a.run.seed);
     let table = out.write("bias_map", map_columns(&maps))?;

@@ -1,7 +1,8 @@
 //! `seine demo`: the whole job on a built-in invented example — the fictional Cerro Seine
 //! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, the
-//! engine runs it through the survey, and the report (`DIR/index.html`) is written. Later
-//! stages (detectability, bias maps, the clustering test, model comparison) are listed as they land.
+//! engine runs it through the survey; the discoveries become a catalogue whose detectability,
+//! bias maps, bias-aware clustering test and comparison with two model populations are run
+//! with the tool's own commands; the report (`DIR/index.html`) is written last.
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -18,7 +19,44 @@ use seine::survey::spec::parse_toml;
 use seine::{Error, Result};
 
 const PLAN: &str = include_str!("../../survey-configs/synoptic-plan.toml");
-const POPULATION: &str = include_str!("../../survey-configs/populations/scattered-disk.toml");
+/// The demo's invented population: a scattered disk bright enough that a one-year synoptic
+/// survey finds a small catalogue worth testing.
+const POPULATION: &str = r#"
+[population]
+name = "demo scattered disk"
+epoch_mjd = 60676.0
+frame = "barycentric"
+
+[orbit]
+a_au = { dist = "power-law", k = -1.5, lo = 50.0, hi = 500.0 }
+q_au = { dist = "uniform", lo = 30.0, hi = 45.0 }
+inc_deg = { dist = "isotropic" }
+
+[photometry]
+h_mag = { dist = "exponential", alpha = 0.6, lo = 2.5, hi = 7.5 }
+beta_mag_per_deg = { dist = "uniform", lo = 0.10, hi = 0.20 }
+"#;
+/// A second model for the comparison: the same disk with its perihelia clustered in
+/// longitude (von Mises ϖ) and a thinner inclination distribution.
+const CLUSTERED: &str = r#"
+[population]
+name = "demo clustered disk"
+epoch_mjd = 60676.0
+frame = "barycentric"
+
+[orbit]
+a_au = { dist = "power-law", k = -1.5, lo = 50.0, hi = 500.0 }
+q_au = { dist = "uniform", lo = 30.0, hi = 45.0 }
+inc_deg = { dist = "sin-gaussian", sigma = 15.0 }
+varpi_deg = { dist = "von-mises", mean = 60.0, kappa = 2.0 }
+node_deg = { dist = "uniform", lo = 0.0, hi = 360.0 }
+
+[photometry]
+h_mag = { dist = "exponential", alpha = 0.6, lo = 2.5, hi = 7.5 }
+beta_mag_per_deg = { dist = "uniform", lo = 0.10, hi = 0.20 }
+"#;
+/// Size of the demo's catalogue (the first discoveries), kept small so the demo stays quick.
+const CATALOG_MAX: usize = 15;
 const N_OBJECTS: i64 = 20_000;
 const SEED: u64 = 2027;
 
@@ -69,9 +107,10 @@ pub fn run(a: Args) -> Result<()> {
         s.objects_per_second
     );
     print_fraction_by_q(s);
+    analyses(&a.out, &spec_path, &report.objects_path, &objects)?;
     let written = seine::report::report(&a.out)?;
     println!(
-        "4. report   {} figures; open {}",
+        "\n5. report   {} figures; open {}",
         written.figures.len(),
         written.index.display()
     );
@@ -79,11 +118,115 @@ pub fn run(a: Args) -> Result<()> {
         "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), index.html, figures/.",
         a.out.display()
     );
-    println!(
-        "Still to come in the demo: detectability, bias maps, the bias-aware clustering test and model comparison."
-    );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());
     Ok(())
+}
+
+/// The catalogue of discoveries through the analyses, each run as its own command.
+fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable) -> Result<()> {
+    let catalog = write_catalog(out, observed, objects)?;
+    let clustered = draw_to(out, CLUSTERED, "clustered.parquet", N_OBJECTS)?;
+    let (spec, cat, dir) = (path_str(spec), path_str(&catalog), |d: &str| path_str(&out.join(d)));
+    let seed = SEED.to_string();
+    println!(
+        "\n4. analyses of the {CATALOG_MAX}-object catalogue of discoveries ({})",
+        catalog.display()
+    );
+    stage(&[
+        "detectability",
+        "--survey",
+        &spec,
+        "--objects",
+        &cat,
+        "--clones",
+        "200",
+        "--seed",
+        &seed,
+        "--out",
+        &dir("detectability"),
+    ])?;
+    stage(&[
+        "bias-map",
+        "--survey",
+        &spec,
+        "--objects",
+        &cat,
+        "--grid",
+        "18,18",
+        "--seed",
+        &seed,
+        "--out",
+        &dir("bias-map"),
+    ])?;
+    let maps = path_str(&out.join("bias-map").join("bias_map.parquet"));
+    stage(&[
+        "cluster-test",
+        "--catalog",
+        &cat,
+        "--bias-map",
+        &maps,
+        "--trials",
+        "2000",
+        "--seed",
+        &seed,
+        "--out",
+        &dir("cluster-test"),
+    ])?;
+    let models = [
+        format!("isotropic={}", path_str(&out.join("objects.parquet"))),
+        format!("clustered={}", path_str(&clustered)),
+    ];
+    stage(&[
+        "compare-models",
+        "--survey",
+        &spec,
+        "--observed",
+        &cat,
+        "--model",
+        &models[0],
+        "--model",
+        &models[1],
+        "--seed",
+        &seed,
+        "--out",
+        &dir("compare-models"),
+    ])
+}
+
+/// Run one of the tool's own commands in this process, exactly as a user would type it.
+fn stage(args: &[&str]) -> Result<()> {
+    use clap::Parser;
+    let cli = super::Cli::try_parse_from(std::iter::once("seine").chain(args.iter().copied()))
+        .map_err(|e| Error::input(format!("demo stage `{}`: {e}", args[0])))?;
+    super::run(cli)
+}
+
+fn path_str(p: &Path) -> String {
+    p.display().to_string()
+}
+
+/// The first discoveries, with the drawn objects' own columns only, as `catalog.parquet`.
+fn write_catalog(out: &Path, observed: &Path, objects: &ObjectTable) -> Result<PathBuf> {
+    let table = seine::io::read_table(observed)?;
+    let detected = table
+        .column("detected")
+        .and_then(|c| c.bool().cloned())
+        .map_err(|e| Error::io(e.to_string()))?;
+    let names: Vec<String> = objects.frame.get_column_names().iter().map(|n| n.to_string()).collect();
+    let mut catalog = table
+        .filter(&detected)
+        .and_then(|d| d.select(names))
+        .map_err(|e| Error::io(e.to_string()))?
+        .head(Some(CATALOG_MAX));
+    if catalog.height() < 3 {
+        return Err(Error::io(format!(
+            "demo: only {} discoveries, too few for a catalogue",
+            catalog.height()
+        )));
+    }
+    let path = out.join("catalog.parquet");
+    seine::io::table::write_table(&mut catalog, &path, &Provenance::current().with_seed(SEED))?;
+    Ok(path)
 }
 
 /// Write the embedded plan and run the planner; returns the survey spec's path.
@@ -99,15 +242,21 @@ fn plan_survey(out: &Path) -> Result<PathBuf> {
 
 /// Draw the embedded population and write it as `objects.parquet`.
 fn draw_population(out: &Path) -> Result<ObjectTable> {
-    let path = out.join("population.toml");
-    write_atomic(&path, POPULATION.as_bytes())?;
-    let Spec::Draw(pop) = Spec::parse(POPULATION, &path)? else {
+    let path = draw_to(out, POPULATION, "objects.parquet", N_OBJECTS)?;
+    ObjectTable::read(&path)
+}
+
+/// Draw `count` objects of an embedded spec into `out/name` (the spec text beside it).
+fn draw_to(out: &Path, spec_text: &str, name: &str, count: i64) -> Result<PathBuf> {
+    let spec_path = out.join(name.replace(".parquet", ".toml"));
+    write_atomic(&spec_path, spec_text.as_bytes())?;
+    let Spec::Draw(pop) = Spec::parse(spec_text, &spec_path)? else {
         return Err(Error::input("built-in population: expected a drawing spec"));
     };
-    let mut df = pop.frame(pop.draw_ids(SEED, 0..N_OBJECTS)?);
-    let objects_path = out.join("objects.parquet");
-    seine::io::table::write_table(&mut df, &objects_path, &Provenance::current().with_seed(SEED))?;
-    ObjectTable::from_frame(df, &objects_path)
+    let mut df = pop.frame(pop.draw_ids(SEED, 0..count)?);
+    let path = out.join(name);
+    seine::io::table::write_table(&mut df, &path, &Provenance::current().with_seed(SEED))?;
+    Ok(path)
 }
 
 /// The discovered fraction in bins of perihelion distance, as a small text table.

@@ -8,6 +8,7 @@ use seine::analysis::detectability::{GridEdges, Redraw, detectability, selection
 use seine::engine::run::{shard_range, survey_key};
 use seine::io::objects::ObjectTable;
 
+use super::common::ShardArgs;
 use super::common::*;
 
 #[derive(clap::Args, Debug)]
@@ -26,9 +27,9 @@ pub struct Args {
     pub redraw: String,
     #[command(flatten)]
     pub run: RunArgs,
-    /// Take shard K of N (K from 0): a contiguous slice of the catalogue objects.
-    #[arg(long)]
-    pub shard: Option<String>,
+    /// Shard K of N (K from 0; or from SLURM_ARRAY_TASK_ID): a contiguous slice of the catalogue objects.
+    #[command(flatten)]
+    pub shard: ShardArgs,
     /// Bin edges of the selection-function grid (comma-separated).
     #[arg(long, default_value = "0,30,50,100,250,1000,100000")]
     pub a_edges: String,
@@ -55,7 +56,7 @@ pub fn run(a: Args) -> Result<()> {
     let surveys = load_surveys(&a.surveys, &mut prov)?;
     let objects = ObjectTable::read(&a.objects)?;
     prov.add_input(&a.objects)?;
-    let shard = a.shard.as_deref().map(parse_shard).transpose()?;
+    let shard = a.shard.resolve()?;
     let (lo, hi) = shard_range(objects.len(), shard);
     let out = a.run.out_dir(prov)?;
     let res = detectability(&objects, lo..hi, &surveys, a.clones, redraw, a.run.seed);
