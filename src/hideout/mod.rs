@@ -254,7 +254,8 @@ pub fn read_summary(dir: &Path) -> Result<Summary> {
     serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not a hideout summary: {e}", path.display())))
 }
 
-/// Each survey's covered sky (order-9 MOC JSON, as `seine plan` writes it) as
+/// Each survey's covered sky (MOC 2.0 JSON, normalized, cells up to order 9, as `seine plan`
+/// writes it) as
 /// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
 pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
     for s in surveys {
