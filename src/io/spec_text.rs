@@ -29,12 +29,17 @@ pub fn parse_toml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Re
     toml::from_str(text).map_err(|e| toml_error(path, text, e))
 }
 
-/// The candidate closest to `found` by edit distance, if it is close enough to be a typo.
+/// The candidate closest to `found` by edit distance, if it is close enough to be a typo,
+/// or else a candidate that extends it (a key given without its unit: `radius` → `radius_deg`).
 pub fn nearest<'a>(found: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
-    let best = candidates.into_iter().map(|o| (edit_distance(found, o), o)).min();
+    let candidates: Vec<&'a str> = candidates.into_iter().collect();
+    let best = candidates.iter().map(|o| (edit_distance(found, o), *o)).min();
     match best {
         Some((d, o)) if d <= 2.max(found.chars().count() / 3) => Some(o),
-        _ => None,
+        _ => candidates
+            .into_iter()
+            .filter(|o| !found.is_empty() && o.starts_with(found))
+            .min_by_key(|o| o.len()),
     }
 }
 
