@@ -144,7 +144,7 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         specs.push(f.to_path_buf());
     } else if let Some(stem) = name.strip_suffix(".coverage.json") {
         inputs.coverage.push(read_coverage(f, stem)?);
-    } else if name.starts_with("bias_map") && name.ends_with(".csv") {
+    } else if name.starts_with("bias_map") && (name.ends_with(".csv") || name.ends_with(".parquet")) {
         inputs.bias_maps.extend(read_bias_maps(f)?);
     } else if name == "rose.csv" {
         inputs.roses.extend(read_roses(f)?);
@@ -324,34 +324,38 @@ fn read_bias_maps(path: &Path) -> Result<Vec<HeatMap>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let names: Vec<String> = df.get_column_names().iter().map(|s| s.to_string()).collect();
-    let axes: Vec<String> = names
+    // Bin columns: `X_min`/`X_max` (X named with its unit), or `Y_lo_deg`/`Y_hi_deg` as
+    // `seine bias-map` writes them; each pair gives (label, low column, high column).
+    let axes: Vec<(String, String, String)> = names
         .iter()
-        .filter_map(|n| n.strip_suffix("_min").map(str::to_string))
-        .filter(|stem| names.contains(&format!("{stem}_max")))
+        .filter_map(|n| {
+            if let Some(stem) = n.strip_suffix("_min") {
+                let hi = format!("{stem}_max");
+                names.contains(&hi).then(|| (stem.to_string(), n.clone(), hi))
+            } else {
+                let stem = n.strip_suffix("_lo_deg")?;
+                let hi = format!("{stem}_hi_deg");
+                names.contains(&hi).then(|| (format!("{stem}_deg"), n.clone(), hi))
+            }
+        })
         .collect();
-    let [x, y] = axes.as_slice() else {
+    let [(x, x_lo, x_hi), (y, y_lo, y_hi)] = axes.as_slice() else {
         return Err(Error::input(format!(
             "{}: expected bin columns for two quantities (X_min, X_max, Y_min, Y_max), found {}",
             path.display(),
             names.join(", ")
         )));
     };
-    let value = ["fraction", "probability"]
+    let value = ["fraction", "probability", "p_discover"]
         .into_iter()
         .find(|v| c.has(v))
         .ok_or_else(|| {
             Error::input(format!(
-                "{}: missing the value column `fraction` (or `probability`)",
+                "{}: missing the value column `fraction` (or `probability`, `p_discover`)",
                 path.display()
             ))
         })?;
-    let col = |n: String| c.f64(&n);
-    let (x0, x1, y0, y1) = (
-        col(format!("{x}_min"))?,
-        col(format!("{x}_max"))?,
-        col(format!("{y}_min"))?,
-        col(format!("{y}_max"))?,
-    );
+    let (x0, x1, y0, y1) = (c.f64(x_lo)?, c.f64(x_hi)?, c.f64(y_lo)?, c.f64(y_hi)?);
     let v = c.f64(value)?;
     let ids = if c.has("id") {
         c.i64("id")?.into_iter().map(Some).collect()
