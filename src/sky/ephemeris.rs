@@ -1,6 +1,5 @@
 //! Ephemerides of many objects at many epochs: the library side of `seine ephemeris`.
 
-use nalgebra::Vector3;
 use polars::prelude::*;
 use rayon::prelude::*;
 
@@ -83,9 +82,4 @@ pub fn ephemeris_table(objects: &ObjectTable, mjd: &[f64], scale: TimeScale, sit
         cols.push(Column::new((*name).into(), v));
     }
     Ok(DataFrame::new(n, cols).expect("columns of one length"))
-}
-
-/// The unit vector from an observer towards an object, for callers that test footprints.
-pub fn direction_of(orbit: &Orbit, obs: &ObserverState) -> Vector3<f64> {
-    super::apparent::direction(orbit, obs)
 }
