@@ -37,6 +37,19 @@ pub fn object_stream(seed: u64, id: i64, purpose: Purpose) -> Pcg64 {
     Pcg64::new(state, stream)
 }
 
+/// A stream made from a 64-bit key drawn from another stream: how one object's stream
+/// hands each survey a stream of its own (see `engine::pipeline`), so that where one survey
+/// stops drawing never moves the draws of another.
+pub fn substream(key: u64) -> Pcg64 {
+    let a = splitmix64(key ^ 0x0B5E_4E00_0B5E_4E00);
+    let b = splitmix64(a);
+    let c = splitmix64(b ^ 0x5EED_5EED_5EED_5EED);
+    Pcg64::new(
+        ((a as u128) << 64) | b as u128,
+        ((c as u128) << 64) | splitmix64(c) as u128,
+    )
+}
+
 /// A stream for run-level draws that belong to no object (e.g. weather in a plan).
 pub fn run_stream(seed: u64, purpose: Purpose, index: u64) -> Pcg64 {
     object_stream(seed ^ 0xA5A5_A5A5_0000_0000, index as i64, purpose)
@@ -55,5 +68,13 @@ mod tests {
         let again: f64 = object_stream(7, 1, Purpose::Draw).random();
         assert!(x != y && x != z);
         assert_eq!(x, again);
+    }
+
+    #[test]
+    fn substreams_differ_by_key_and_repeat() {
+        let x: u64 = substream(1).random();
+        let y: u64 = substream(2).random();
+        assert!(x != y);
+        assert_eq!(x, substream(1).random::<u64>());
     }
 }

@@ -7,7 +7,7 @@ use std::path::Path;
 
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
-use seine::engine::{Candidates, PreparedSurvey, observe_object};
+use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
 use seine::io::objects::ObjectTable;
 use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
@@ -118,12 +118,21 @@ fn aimed_visits(objects: &ObjectTable, seed: u64, n_nights: usize, offset_deg: f
     out
 }
 
-fn run_all(objects: &ObjectTable, surveys: &[PreparedSurvey], mode: Candidates) -> Vec<seine::engine::ObjectOutcome> {
+fn run_all(objects: &ObjectTable, surveys: &[PreparedSurvey], mode: Candidates) -> Vec<ObjectOutcome> {
+    run_recording(objects, surveys, mode, Record::Everything)
+}
+
+fn run_recording(
+    objects: &ObjectTable,
+    surveys: &[PreparedSurvey],
+    mode: Candidates,
+    record: Record,
+) -> Vec<ObjectOutcome> {
     let mut scratch = Vec::new();
     (0..objects.len())
         .map(|i| {
-            let mut rng = object_stream(9, objects.ids[i], Purpose::Observe);
-            observe_object(objects, i, surveys, mode, &mut rng, &mut scratch)
+            let rng = object_stream(9, objects.ids[i], Purpose::Observe);
+            observe_object(objects, i, surveys, (mode, record), rng, &mut scratch)
         })
         .collect()
 }
@@ -172,6 +181,102 @@ fn index_agrees_with_brute_force_on_every_decision() {
         "discoveries {discovered}"
     );
     assert!(candidates * 20 < brute, "the index must prune: {candidates} vs {brute}");
+}
+
+/// The discovery event of survey `s`, if any.
+fn discovery_of(o: &ObjectOutcome, s: usize) -> Option<seine::engine::Event> {
+    o.surveys[s].discovery_event.map(|e| o.events[e])
+}
+
+#[test]
+fn stopping_at_the_verdict_changes_no_verdict() {
+    let dir = tempfile::tempdir().unwrap();
+    let objects = random_objects(400, 23);
+    let visits = aimed_visits(&objects, 24, 120, 2.0);
+    let linking = "[linking]\nmin_detections_per_night = 2\nmin_nights = 2\ntrack_after_days = 20.0\n";
+    let surveys: Vec<PreparedSurvey> = [
+        // Logistic efficiency, every rate: mostly early stops (p is zero only ~11 mag past the depth).
+        (
+            "logistic",
+            "[efficiency]\nmodel = \"logistic\"\npeak = 0.9\nwidth_mag = 0.3\n",
+        ),
+        // A step at the depth: draws too faint for every visit are skipped.
+        ("step", "[efficiency]\nmodel = \"step\"\npeak = 0.95\n"),
+        // Fast movers only: the distant draws are skipped by their rate.
+        ("fast", "[motion]\nmin_rate = 1.5\nmax_rate = 500.0\n"),
+    ]
+    .iter()
+    .map(|(name, extra)| {
+        let extra = format!("{linking}{extra}");
+        PreparedSurvey::new(make_survey(
+            dir.path(),
+            name,
+            "shape = \"circle\"\nradius_deg = 1.5",
+            &extra,
+            &visits,
+        ))
+    })
+    .collect();
+    let all = run_recording(&objects, &surveys, Candidates::Indexed, Record::Everything);
+    let until_tracked = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilTracked);
+    let until_found = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilDiscovery);
+    let (mut skipped, mut discovered, mut tracked) = (vec![0; surveys.len()], 0, 0);
+    for i in 0..objects.len() {
+        let orbit = Orbit::new(objects.elements[i]);
+        for (s, ps) in surveys.iter().enumerate() {
+            let (a, t, d) = (
+                &all[i].surveys[s],
+                &until_tracked[i].surveys[s],
+                &until_found[i].surveys[s],
+            );
+            assert_eq!(
+                (a.discovered, a.tracked),
+                (t.discovered, t.tracked),
+                "object {i} survey {s}"
+            );
+            assert_eq!(a.discovered, d.discovered, "object {i} survey {s}");
+            assert_eq!(
+                discovery_of(&all[i], s),
+                discovery_of(&until_found[i], s),
+                "object {i} survey {s}"
+            );
+            assert_eq!(
+                discovery_of(&all[i], s),
+                discovery_of(&until_tracked[i], s),
+                "object {i} survey {s}"
+            );
+            if !ps.reach.could_detect(&objects, i, &orbit) {
+                skipped[s] += 1;
+                // Ruled out by the bounds: no visit gave it any chance at all.
+                assert!(
+                    all[i]
+                        .events
+                        .iter()
+                        .all(|e| e.survey as usize != s || e.p_detect == 0.0),
+                    "object {i} survey {s}"
+                );
+            }
+            discovered += a.discovered as usize;
+            tracked += a.tracked as usize;
+        }
+    }
+    let events = |o: &[ObjectOutcome]| o.iter().map(|o| o.events.len()).sum::<usize>();
+    let (e_all, e_tracked, e_found) = (events(&all), events(&until_tracked), events(&until_found));
+    eprintln!(
+        "events {e_all} / {e_tracked} / {e_found}; skipped {skipped:?}; discovered {discovered}, tracked {tracked}"
+    );
+    assert!(
+        discovered > 30 && tracked > 10,
+        "the scenario must discover and track: {discovered}, {tracked}"
+    );
+    assert!(
+        skipped[1] > skipped[0] && skipped[1] > 20 && skipped[2] > 50,
+        "skipped {skipped:?}"
+    );
+    assert!(
+        e_found < e_tracked && e_tracked < e_all,
+        "events {e_all} / {e_tracked} / {e_found}"
+    );
 }
 
 /// An object placed exactly at the centre of a visit's field, seen from the site.

@@ -16,7 +16,7 @@ use rayon::prelude::*;
 
 use super::likelihood::{Density, DensityKind};
 use super::two_sample::{AndersonDarling, Ks, anderson_ksamp, ks_two_sample};
-use crate::engine::{Candidates, PreparedSurvey, observe_object};
+use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, run_stream, splitmix64};
@@ -68,8 +68,9 @@ pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> 
     let found: Vec<bool> = (0..t.len())
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
-            let mut rng = object_stream(seed, t.ids[i], Purpose::Observe);
-            observe_object(t, i, surveys, Candidates::Indexed, &mut rng, scratch).discovered()
+            let rng = object_stream(seed, t.ids[i], Purpose::Observe);
+            let modes = (Candidates::Indexed, Record::UntilDiscovery);
+            observe_object(t, i, surveys, modes, rng, scratch).discovered()
         })
         .collect();
     (0..t.len()).filter(|i| found[*i]).collect()

@@ -9,7 +9,7 @@
 
 use rand_pcg::Pcg64;
 
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, observe_object};
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
 use crate::rng::{Purpose, object_stream};
@@ -63,7 +63,9 @@ impl TrialObject {
         scratch: &mut Vec<usize>,
     ) -> ObjectOutcome {
         self.table.elements[0] = el;
-        let mut rng = object_stream(seed, trial, Purpose::Observe);
-        observe_object(&self.table, 0, surveys, Candidates::Indexed, &mut rng, scratch)
+        // The verdicts (discovered, tracked) are all a trial needs.
+        let rng = object_stream(seed, trial, Purpose::Observe);
+        let modes = (Candidates::Indexed, Record::UntilTracked);
+        observe_object(&self.table, 0, surveys, modes, rng, scratch)
     }
 }

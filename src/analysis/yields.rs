@@ -10,7 +10,7 @@
 use rayon::prelude::*;
 
 use super::binomial::Proportion;
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, observe_object};
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
@@ -44,8 +44,10 @@ fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec
     (0..objects.len())
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
-            let mut rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-            let out = observe_object(objects, i, surveys, Candidates::Indexed, &mut rng, scratch);
+            // Verdicts and the discovery's distance are all a yield needs.
+            let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
+            let modes = (Candidates::Indexed, Record::UntilTracked);
+            let out = observe_object(objects, i, surveys, modes, rng, scratch);
             per_survey(&out, surveys)
         })
         .collect()

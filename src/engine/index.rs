@@ -1,17 +1,21 @@
-//! The visit index: visits grouped in time blocks, and inside each block sorted by
-//! declination, with the observer's state precomputed once per visit.
+//! The visit index: visits grouped in time blocks, and inside each block in declination
+//! stripes sorted by right ascension (`stripes.rs`), with the observer's state precomputed
+//! once per visit.
 //!
 //! Candidate selection for one object in one block: the object's direction at the block's
 //! node time t_b is computed once (geocentric, light time from the previous node). Its
 //! direction at any visit time t in the block is within ω_max |t − t_b| of that, where
 //! ω_max = (v_object,max + v_observer,max) / Δ_min bounds the angular rate. A visit is a
 //! candidate when its centre lies within R_fp + ω_max |t − t_b| + parallax + ε of the
-//! node direction, with R_fp the footprint's bounding radius. This is a strict superset
+//! node direction, with R_fp the footprint's bounding radius; the stripes hand over only
+//! the visits in the box around that cone. This is a strict superset
 //! of the visits whose footprint contains the object, so the index changes no decision.
 
 use nalgebra::Vector3;
 use rayon::prelude::*;
 
+use super::reach::Reach;
+use super::stripes::{Cone, Stripes};
 use crate::orbit::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Orbit};
 use crate::sky::earth::EarthSource;
@@ -22,9 +26,9 @@ use crate::survey::Survey;
 /// long enough that node positions cost little next to the in-field work.
 pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
-const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
+pub(crate) const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
 /// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
-const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
+pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).
 const EPSILON: f64 = 1e-6;
 
@@ -38,15 +42,15 @@ pub enum Candidates {
     All,
 }
 
-/// One time block: its node time, the geocentre then, and its visits by declination.
+/// One time block: its node time, the geocentre then, and its visits (a contiguous range
+/// of the time-sorted visits) by declination stripe and right ascension.
 #[derive(Debug, Clone)]
 pub struct Block {
     pub node_tdb: f64,
     pub half_span: f64,
     pub node_observer: ObserverState,
-    /// Visit indices sorted by declination, with the declinations (radians) beside them.
-    pub by_dec: Vec<usize>,
-    pub dec: Vec<f64>,
+    pub visits: std::ops::Range<usize>,
+    stripes: Stripes,
 }
 
 /// A survey ready for the engine: per-visit observer states and the index.
@@ -58,6 +62,7 @@ pub struct PreparedSurvey {
     pub dec_rad: Vec<f64>,
     pub blocks: Vec<Block>,
     pub bounding_radius: f64,
+    pub reach: Reach,
 }
 
 impl PreparedSurvey {
@@ -75,11 +80,13 @@ impl PreparedSurvey {
                 )
             })
             .collect();
-        let ra_rad = v.ra_deg.iter().map(|d| d.to_radians()).collect();
+        let ra_rad: Vec<f64> = v.ra_deg.iter().map(|d| d.to_radians()).collect();
         let dec_rad: Vec<f64> = v.dec_deg.iter().map(|d| d.to_radians()).collect();
-        let blocks = make_blocks(&v.tdb_mjd, &dec_rad, &source);
         let bounding_radius = survey.footprint.bounding_radius_rad();
+        let blocks = make_blocks(&survey, &ra_rad, &dec_rad, &source, stripe_height(bounding_radius));
+        let reach = Reach::new(&survey);
         PreparedSurvey {
+            reach,
             survey,
             observers,
             ra_rad,
@@ -130,32 +137,26 @@ impl PreparedSurvey {
             let delta_min = delta - v_max * b.half_span - SITE_OFFSET_AU - lt_error;
             let start = out.len();
             if delta_min <= 0.05 {
-                out.extend(b.by_dec.iter().copied()); // too close to bound: test everything
-            } else {
-                let omega = v_max / delta_min;
-                let slack = self.bounding_radius + (SITE_OFFSET_AU + lt_error) / delta_min + EPSILON;
-                self.select_in_block(b, &(d / delta), omega, slack, out);
+                out.extend(b.visits.clone()); // too close to bound: test everything
+                continue;
             }
+            let omega = v_max / delta_min;
+            let slack = self.bounding_radius + (SITE_OFFSET_AU + lt_error) / delta_min + EPSILON;
+            let cone = Cone {
+                dir: &(d / delta),
+                slack,
+                omega,
+                r_max: slack + omega * b.half_span,
+            };
+            b.stripes.select(&cone, out);
             out[start..].sort_unstable();
         }
     }
+}
 
-    fn select_in_block(&self, b: &Block, dir: &Vector3<f64>, omega: f64, slack: f64, out: &mut Vec<usize>) {
-        let r_max = slack + omega * b.half_span;
-        if r_max >= std::f64::consts::PI {
-            out.extend(b.by_dec.iter().copied());
-            return;
-        }
-        let dec0 = dir.z.clamp(-1.0, 1.0).asin();
-        let lo = b.dec.partition_point(|&d| d < dec0 - r_max);
-        let hi = b.dec.partition_point(|&d| d <= dec0 + r_max);
-        for &i in &b.by_dec[lo..hi] {
-            let r = slack + omega * (self.observers[i].tdb_mjd - b.node_tdb).abs();
-            if r >= std::f64::consts::PI || self.survey.visits.center[i].dot(dir) >= r.cos() {
-                out.push(i);
-            }
-        }
-    }
+/// Stripes about as tall as the footprint, so that a query meets two or three of them.
+fn stripe_height(bounding_radius: f64) -> f64 {
+    bounding_radius.clamp(0.5f64.to_radians(), 10f64.to_radians())
 }
 
 /// Observer-to-object vector at the node for a given light time.
@@ -184,27 +185,31 @@ fn converged_light_time(orbit: &Orbit, obs: &ObserverState) -> f64 {
 }
 
 /// Group visits (sorted by time) into blocks of at most BLOCK_DAYS.
-fn make_blocks(tdb: &[f64], dec: &[f64], source: &EarthSource) -> Vec<Block> {
-    let mut blocks = Vec::new();
+fn make_blocks(survey: &Survey, ra: &[f64], dec: &[f64], source: &EarthSource, height: f64) -> Vec<Block> {
+    let v = &survey.visits;
+    let tdb = &v.tdb_mjd;
+    let mut bounds = Vec::new();
     let mut start = 0;
     while start < tdb.len() {
         let mut end = start;
         while end < tdb.len() && tdb[end] - tdb[start] < BLOCK_DAYS {
             end += 1;
         }
-        let (t0, t1) = (tdb[start], tdb[end - 1]);
-        let node = 0.5 * (t0 + t1);
-        let mut by_dec: Vec<usize> = (start..end).collect();
-        by_dec.sort_by(|&a, &b| dec[a].total_cmp(&dec[b]));
-        let decs = by_dec.iter().map(|&i| dec[i]).collect();
-        blocks.push(Block {
-            node_tdb: node,
-            half_span: 0.5 * (t1 - t0),
-            node_observer: ObserverState::new(&source.at(node), None, node, node),
-            by_dec,
-            dec: decs,
-        });
+        bounds.push(start..end);
         start = end;
     }
-    blocks
+    bounds
+        .into_par_iter()
+        .map(|range| {
+            let (t0, t1) = (tdb[range.start], tdb[range.end - 1]);
+            let node = 0.5 * (t0 + t1);
+            Block {
+                node_tdb: node,
+                half_span: 0.5 * (t1 - t0),
+                node_observer: ObserverState::new(&source.at(node), None, node, node),
+                stripes: Stripes::new(height, range.clone(), node, tdb, ra, dec, &v.center),
+                visits: range,
+            }
+        })
+        .collect()
 }

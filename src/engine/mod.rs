@@ -1,21 +1,25 @@
 //! The detection engine: every object against every visit of every survey, through a visit
 //! index in time and on the sky, objects in parallel, outputs streamed in chunks.
 //!
-//! Where the time goes: one coarse position per object per time block (the node), a
-//! declination-band lookup of that block's visits, then an exact light-time-corrected
-//! position only for candidate visits whose centre lies within the footprint's bounding
+//! Where the time goes: one coarse position per object per time block (the node), a lookup
+//! of that block's visits by declination stripe and right ascension, then an exact
+//! light-time-corrected position only for candidate visits whose centre lies within the footprint's bounding
 //! radius plus the object's largest possible motion since the node. Everything else is
 //! bookkeeping. `Candidates::All` is the plain brute force, kept for verification.
+//! Analyses that need only who discovered what (`Record::UntilDiscovery`) stop each survey
+//! at its discovery and skip surveys that provably cannot detect the object (`reach`).
 
 pub mod index;
 pub mod merge;
 pub mod outcome;
 pub mod parts;
 pub mod pipeline;
+pub mod reach;
 pub mod run;
+pub mod stripes;
 pub mod summary;
 
 pub use index::{Candidates, PreparedSurvey};
 pub use outcome::{Event, ObjectOutcome, SurveyOutcome};
-pub use pipeline::observe_object;
+pub use pipeline::{Record, observe_object};
 pub use run::{ObserveOptions, ObserveReport, observe};

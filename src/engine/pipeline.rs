@@ -1,55 +1,87 @@
 //! The per-object pipeline: candidates → exact positions → footprint → magnitude and
 //! detection probability → draws from the object's own stream → linking, per survey.
 //!
-//! Random draws, in this order and only these: one uniform for the light-curve phase; then
-//! for each survey (in the order given) and each in-field event (in visit order) two
-//! uniforms, the first against the fill factor and the second against p_detect. The count
-//! of draws depends only on the in-field set, so any candidate strategy gives identical draws.
+//! Random draws: from the object's stream, one uniform for the light-curve phase, then one
+//! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
+//! two uniforms per in-field event in visit order, the first against the fill factor and the
+//! second against p_detect. A survey's draws depend only on its own in-field set, so any
+//! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
+//! no other survey's draws.
 
-use rand::RngExt;
+use rand::{Rng, RngExt};
 use rand_pcg::Pcg64;
 
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::{Event, ObjectOutcome, SurveyOutcome};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
+use crate::rng::substream;
 use crate::sky::apparent::{direction_from, observe_from};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};
 use crate::survey::Detection;
 
-/// Run one object (row `i` of `objects`) through every survey.
+/// How much of an object's history the engine works out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Record {
+    /// Every in-field event and each survey's whole verdict (`seine observe`).
+    #[default]
+    Everything,
+    /// Each survey only until its verdict is settled: up to the detection that makes the
+    /// object tracked (or to the end, if it never is), and not at all where `reach` proves
+    /// the survey cannot detect the object. `discovered`, `tracked` and the discovery are
+    /// exact; the counts cover only the events worked out.
+    UntilTracked,
+    /// As `UntilTracked`, but each survey stops at the discovery: `tracked` is not worked
+    /// out (false). For analyses that need only who discovered what, and when.
+    UntilDiscovery,
+}
+
+/// Run one object (row `i` of `objects`) through every survey, with `rng` its own stream.
 pub fn observe_object(
     objects: &ObjectTable,
     i: usize,
     surveys: &[PreparedSurvey],
-    mode: Candidates,
-    rng: &mut Pcg64,
+    (mode, record): (Candidates, Record),
+    mut rng: Pcg64,
     scratch: &mut Vec<usize>,
 ) -> ObjectOutcome {
     let orbit = Orbit::new(objects.elements[i]);
     let lc_phase = rng.random::<f64>() * std::f64::consts::TAU;
+    let keys: Vec<u64> = surveys.iter().map(|_| rng.next_u64()).collect();
     let mut out = ObjectOutcome {
         surveys: Vec::with_capacity(surveys.len()),
         ..Default::default()
     };
     for (s, ps) in surveys.iter().enumerate() {
+        if record != Record::Everything && !ps.reach.could_detect(objects, i, &orbit) {
+            out.surveys.push(SurveyOutcome::default());
+            continue;
+        }
+        let mut draws = substream(keys[s]);
         ps.candidates(&orbit, mode, scratch);
         out.candidates += scratch.len() as u64;
         let first = out.events.len();
+        let mut dets: Vec<Detection> = Vec::new();
+        let mut discovered_mjd: Option<f64> = None;
         // The light time of the previous in-field event is the next position's first guess. Only
         // in-field events update it, so every candidate strategy computes bit-identical positions.
         let mut tau = f64::NAN;
         for &v in scratch.iter() {
-            if let Some(ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) {
-                out.events.push(ev);
+            let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
+                continue;
+            };
+            let fill_ok = draws.random::<f64>() < ps.survey.fill_factor;
+            let det_ok = draws.random::<f64>() < ev.p_detect;
+            ev.detected = fill_ok && det_ok;
+            out.events.push(ev);
+            if ev.detected {
+                dets.push(detection(ps, &ev));
+                if settled(ps, record, &dets, &mut discovered_mjd) {
+                    break;
+                }
             }
         }
-        for ev in &mut out.events[first..] {
-            let fill_ok = rng.random::<f64>() < ps.survey.fill_factor;
-            let det_ok = rng.random::<f64>() < ev.p_detect;
-            ev.detected = fill_ok && det_ok;
-        }
-        out.surveys.push(link_survey(ps, &out.events[first..], first));
+        out.surveys.push(link_survey(ps, &dets, &out.events[first..], first));
     }
     out
 }
@@ -100,24 +132,38 @@ fn in_field_event(
     })
 }
 
-/// Apply a survey's linking rules to its events (in visit order).
-fn link_survey(ps: &PreparedSurvey, events: &[Event], offset: usize) -> SurveyOutcome {
-    let visits = &ps.survey.visits;
-    let dets: Vec<Detection> = events
-        .iter()
-        .filter(|e| e.detected)
-        .map(|e| {
-            let v = e.visit as usize;
-            Detection {
-                visit: v,
-                night: visits.night[v],
-                mjd: visits.mjd[v],
-                ra_rad: e.ra_rad,
-                dec_rad: e.dec_rad,
+/// Whether, with `dets` the survey's detections so far, the survey's verdict is settled for
+/// `record`; `discovered_mjd` keeps the discovery's epoch between calls.
+fn settled(ps: &PreparedSurvey, record: Record, dets: &[Detection], discovered_mjd: &mut Option<f64>) -> bool {
+    let rules = &ps.survey.linking;
+    let last = dets.last().expect("called after a detection").mjd;
+    match (record, *discovered_mjd) {
+        (Record::Everything, _) => false,
+        (Record::UntilDiscovery, _) => rules.discovers_at_last(dets),
+        (Record::UntilTracked, Some(t)) => last - t >= rules.track_after_days,
+        (Record::UntilTracked, None) => {
+            if rules.discovers_at_last(dets) {
+                *discovered_mjd = Some(last);
             }
-        })
-        .collect();
-    let link = ps.survey.linking.link(&dets);
+            false
+        }
+    }
+}
+
+fn detection(ps: &PreparedSurvey, e: &Event) -> Detection {
+    let v = e.visit as usize;
+    Detection {
+        visit: v,
+        night: ps.survey.visits.night[v],
+        mjd: ps.survey.visits.mjd[v],
+        ra_rad: e.ra_rad,
+        dec_rad: e.dec_rad,
+    }
+}
+
+/// Apply a survey's linking rules to its detections `dets` (of `events`, in visit order).
+fn link_survey(ps: &PreparedSurvey, dets: &[Detection], events: &[Event], offset: usize) -> SurveyOutcome {
+    let link = ps.survey.linking.link(dets);
     // Map the discovering detection back to its event.
     let discovery_event = link.discovery.map(|k| {
         let visit = dets[k].visit as u32;

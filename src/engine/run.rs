@@ -12,7 +12,7 @@ use rayon::prelude::*;
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
 use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
-use super::pipeline::observe_object;
+use super::pipeline::{Record, observe_object};
 use super::summary::Summary;
 use crate::error::{Error, Result};
 use crate::io::objects::{ObjectSource, ObjectTable};
@@ -242,8 +242,8 @@ fn compute_chunk(
     let outcomes: Vec<ObjectOutcome> = (lo..hi)
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
-            let mut rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
-            observe_object(objects, i, surveys, opts.candidates, &mut rng, scratch)
+            let rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
+            observe_object(objects, i, surveys, (opts.candidates, Record::Everything), rng, scratch)
         })
         .collect();
     let mut summary = Summary::new(surveys);

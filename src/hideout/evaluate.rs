@@ -2,7 +2,7 @@
 
 use rayon::prelude::*;
 
-use crate::engine::{Candidates, PreparedSurvey, observe_object};
+use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
 use crate::rng::{Purpose, object_stream};
@@ -56,8 +56,10 @@ fn evaluate_one(
     scratch: &mut Vec<usize>,
 ) -> DrawResult {
     // The same stream `seine observe` uses, so a draw's fate matches observe on the same table.
-    let mut rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-    let out = observe_object(objects, i, surveys, Candidates::Indexed, &mut rng, scratch);
+    // Only who discovered the draw matters here: each survey stops at its discovery.
+    let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
+    let modes = (Candidates::Indexed, Record::UntilDiscovery);
+    let out = observe_object(objects, i, surveys, modes, rng, scratch);
     let discovered_by = out
         .surveys
         .iter()

@@ -7,11 +7,17 @@
 //!   η = peak/4 · (1 − tanh((m − m_c)/w1)) · (1 − tanh((m − m_c)/w2)), with m_c placed once per
 //!   model so that η(depth) = peak/2.
 //! * table: η at (m − depth, rate), bilinear, clamped at the edges of the grid.
+//! * A probability below 2⁻⁵³ is taken as zero. The engine's uniform draws are multiples of
+//!   2⁻⁵³, so such a probability would succeed only on a draw of exactly 0; taking it as zero
+//!   lets the engine skip, exactly, objects too faint for every visit (`engine::reach`).
 //! * Trailing loss (Vereš & Chesley 2017, AJ 154, 12; from memory):
 //!   Δm = 1.25 log10(1 + a x² / (1 + b x)), x = trail length / seeing FWHM, added to the
 //!   magnitude before the efficiency is read. Coefficients as recalled from the paper (from
 //!   memory): detection loss (a, b) = (0.42, 0.003), signal-to-noise loss (0.67, 1.16);
 //!   `custom` takes any pair.
+
+/// Detection probabilities below this (2⁻⁵³) are zero.
+pub const P_NEGLIGIBLE: f64 = 1.0 / 9_007_199_254_740_992.0;
 
 /// Trailing-loss coefficients (a, b).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -105,7 +111,57 @@ impl Efficiency {
     /// `exposure_s` seconds with seeing `seeing_arcsec`.
     pub fn p(&self, mag: f64, depth: f64, rate: f64, exposure_s: f64, seeing_arcsec: f64) -> f64 {
         let x = rate * exposure_s / 3600.0 / seeing_arcsec;
-        self.eta(mag + self.trailing.loss_mag(x), depth, rate)
+        let eta = self.eta(mag + self.trailing.loss_mag(x), depth, rate);
+        if eta < P_NEGLIGIBLE { 0.0 } else { eta }
+    }
+
+    /// The magnitude offset from the depth (m − depth, before any trailing loss) at and beyond
+    /// which `p` is zero at every rate: +∞ when there is none, −∞ when `p` is zero everywhere.
+    /// It is 10⁻⁶ mag past the exact crossing, so that rounding in m − depth cannot undo it.
+    pub fn zero_beyond_dm(&self) -> f64 {
+        self.exact_zero_beyond_dm() + 1e-6
+    }
+
+    fn exact_zero_beyond_dm(&self) -> f64 {
+        let negligible = |dm: f64| self.eta(dm, 0.0, 0.0) < P_NEGLIGIBLE;
+        match &self.shape {
+            Shape::Step => {
+                if self.peak < P_NEGLIGIBLE {
+                    f64::NEG_INFINITY
+                } else {
+                    0.0
+                }
+            }
+            Shape::Logistic { .. } | Shape::DoubleTanh { .. } => {
+                // Both fall monotonically with dm: bracket the crossing, then bisect.
+                if negligible(-1.0e4) {
+                    return f64::NEG_INFINITY;
+                }
+                let mut hi = 1.0;
+                while !negligible(hi) {
+                    hi *= 2.0;
+                    if hi > 1.0e4 {
+                        return f64::INFINITY;
+                    }
+                }
+                let mut lo = -1.0e4;
+                for _ in 0..200 {
+                    let mid = 0.5 * (lo + hi);
+                    if negligible(mid) { hi = mid } else { lo = mid }
+                }
+                hi
+            }
+            Shape::Table { dm, eta, .. } => {
+                // Interpolation and clamping mix only neighbouring rows: zero from the first
+                // row after which every row is negligible.
+                let live = |row: &Vec<f64>| row.iter().any(|&e| e >= P_NEGLIGIBLE);
+                match eta.iter().rposition(live) {
+                    None => f64::NEG_INFINITY,
+                    Some(k) if k + 1 < dm.len() => dm[k + 1],
+                    Some(_) => f64::INFINITY,
+                }
+            }
+        }
     }
 }
 
@@ -151,6 +207,47 @@ impl EfficiencyModel {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn zero_beyond_is_where_p_first_vanishes() {
+        let shapes = [
+            Shape::Step,
+            Shape::Logistic { width_mag: 0.3 },
+            Shape::double_tanh(0.15, 0.45),
+            Shape::Table {
+                dm: vec![-1.0, 0.0, 1.0, 2.0],
+                rates: vec![0.0, 10.0],
+                eta: vec![vec![0.9, 0.8], vec![0.5, 0.4], vec![0.1, 0.0], vec![0.0, 0.0]],
+            },
+        ];
+        for shape in shapes {
+            let eff = Efficiency {
+                shape,
+                peak: 0.9,
+                trailing: Trailing::DETECTION,
+            };
+            let dm = eff.zero_beyond_dm();
+            assert!(dm.is_finite(), "{:?}", eff.shape);
+            // Zero from there on, at any rate and trailing loss; not zero just before.
+            for (k, rate) in [(0.0, 0.0), (0.0, 5.0), (3.0, 0.0), (40.0, 100.0)] {
+                assert_eq!(
+                    eff.p(24.0 + dm + k, 24.0, rate, 300.0, 1.0),
+                    0.0,
+                    "{:?} at {k}",
+                    eff.shape
+                );
+            }
+            assert!(eff.p(24.0 + dm - 2e-6, 24.0, 0.0, 300.0, 1.0) > 0.0, "{:?}", eff.shape);
+        }
+        // The logistic's crossing in closed form: peak / (1 + e^(dm/w)) = 2⁻⁵³.
+        let lg = Efficiency {
+            shape: Shape::Logistic { width_mag: 0.2 },
+            peak: 0.95,
+            trailing: Trailing::NONE,
+        };
+        let expected = 0.2 * (0.95 / P_NEGLIGIBLE - 1.0).ln();
+        assert!((lg.zero_beyond_dm() - 1e-6 - expected).abs() < 1e-9);
+    }
 
     #[test]
     fn half_peak_at_depth() {

@@ -126,6 +126,15 @@ impl LinkingRules {
         }
     }
 
+    /// Whether the discovery rule first holds at the last of `dets` (given that it held at
+    /// none before): the discovery depends only on the detections up to it, so a caller
+    /// adding detections in time order can stop at the first `true`.
+    pub fn discovers_at_last(&self, dets: &[Detection]) -> bool {
+        let Some(last) = dets.last() else { return false };
+        let tonight = dets.iter().rev().take_while(|d| d.night == last.night).count();
+        tonight >= self.min_detections_per_night && self.link(dets).discovered
+    }
+
     /// The earliest detection at which the discovery rule holds. At each detection of a night
     /// whose tracklet is complete, the best set is every tracklet night back to the earliest one
     /// inside the window (the most nights and the longest arc).

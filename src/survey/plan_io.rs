@@ -14,7 +14,9 @@ use super::visits::night_of;
 use crate::error::{Result, io_at};
 use crate::io::Provenance;
 use crate::io::table::{write_atomic, write_table};
-use crate::sky::horizon::{dark_interval, sun_altitude};
+use crate::sky::earth::EphemerisGrid;
+use crate::sky::horizon::{LocalSky, dark_interval};
+use crate::time::{TimeScale, to_tdb_mjd};
 use std::collections::BTreeMap;
 
 pub struct PlanOutputs {
@@ -166,6 +168,18 @@ pub fn survey_coverage(s: &Survey) -> (Coverage, Vec<NightLog>) {
         e.0 += 1;
         e.1 += v.exposure_s[i] / 3600.0;
     }
+    // Each night's twilight takes ~100 Sun positions: interpolate them from a grid over the
+    // survey's span (as the planner does) rather than summing the series each time.
+    let (lo, hi) = v
+        .tdb_mjd
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
+    let grid = (lo <= hi).then(|| EphemerisGrid::covering(lo - 2.0, hi + 2.0));
+    let sun_altitude = |site, utc: f64| {
+        let tdb = to_tdb_mjd(utc, TimeScale::Utc).unwrap_or(utc);
+        let earth = grid.as_ref().expect("a night has visits").at(tdb);
+        LocalSky::new(site, utc, &earth).sun_altitude()
+    };
     let nights = by_night
         .into_iter()
         .map(|(night, (n, hours))| {

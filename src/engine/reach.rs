@@ -1,0 +1,135 @@
+//! Which surveys could possibly detect an object: bounds on its rate of motion and its
+//! brightness over a survey's span, from its orbit alone (no per-visit positions).
+//!
+//! Over the survey's time span T (widened by the largest light time), the object's distance
+//! r from the centre of its elements changes by at most v_q T, with v_q = √(GM (1 + e) / q)
+//! the speed at perihelion (vis-viva), the largest on the orbit; and r ≥ q always. The
+//! observer is within R_obs = 1.03 AU of that centre (the Earth's aphelion 1.0167 AU, the
+//! Sun's offset from the barycentre ≤ 0.0102 AU, a site's 4·10⁻⁵ AU; rounded up). So in
+//! every visit Δ ≥ r_min − R_obs, the angular rate is at most (v_q + v_obs) / Δ_min, and
+//! the magnitude is at least H + 5 log10(r_min Δ_min) plus the smallest phase term, colour
+//! and light-curve offset it can have. A survey whose rate window starts above that rate,
+//! or whose efficiency is zero (see `survey::efficiency`) at that magnitude in every visit,
+//! cannot detect the object: skipping it changes no outcome.
+
+use super::index::OBSERVER_SPEED;
+use crate::io::objects::ObjectTable;
+use crate::orbit::constants::C_AU_PER_DAY;
+use crate::orbit::{Center, Orbit};
+use crate::sky::photometry::PhaseLaw;
+
+/// Largest distance of the observer from the Sun or the barycentre, AU (see above).
+const OBSERVER_REACH_AU: f64 = 1.03;
+/// Below this bound on Δ (AU) nothing is skipped: the bounds would be loose anyway.
+const NEAREST_BOUNDED_AU: f64 = 0.5;
+/// Margin on the rate bound for light-time terms (relative, ~v/c ≈ 10⁻⁴ is needed).
+const RATE_MARGIN: f64 = 1.01;
+/// Margin on the magnitude bound, mag: for rounding only.
+const MAG_MARGIN: f64 = 0.05;
+const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;
+
+/// What one survey needs to rule an object out: its span, rate window and faint limit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reach {
+    mid_tdb: f64,
+    half_span_days: f64,
+    min_rate_arcsec_per_hr: f64,
+    /// Magnitude at and beyond which every visit's detection probability is zero (+∞: none).
+    zero_beyond_mag: f64,
+    /// Bands of the visits other than the reference band.
+    other_bands: Vec<String>,
+}
+
+impl Reach {
+    pub fn new(survey: &crate::survey::Survey) -> Reach {
+        let v = &survey.visits;
+        let (t0, t1) = v
+            .tdb_mjd
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &t| {
+                (lo.min(t), hi.max(t))
+            });
+        // The deepest visit of each efficiency block, then that block's model once.
+        let mut deepest = vec![f64::NEG_INFINITY; v.block_names.len().max(1)];
+        for (&b, &d) in v.block.iter().zip(&v.depth_mag) {
+            deepest[b as usize] = deepest[b as usize].max(d);
+        }
+        let zero_beyond_mag = deepest
+            .iter()
+            .enumerate()
+            .filter(|(_, d)| d.is_finite())
+            .map(|(b, d)| d + survey.efficiency.for_block(b as u16).zero_beyond_dm())
+            .fold(f64::NEG_INFINITY, f64::max);
+        let mut used = vec![false; v.band_names.len()];
+        v.band.iter().for_each(|&b| used[b as usize] = true);
+        let other_bands = v
+            .band_names
+            .iter()
+            .zip(used)
+            .filter(|(name, used)| *used && **name != survey.reference_band)
+            .map(|(name, _)| name.clone())
+            .collect();
+        Reach {
+            mid_tdb: 0.5 * (t0 + t1),
+            half_span_days: 0.5 * (t1 - t0).max(0.0),
+            min_rate_arcsec_per_hr: survey.motion.min_rate,
+            zero_beyond_mag,
+            other_bands,
+        }
+    }
+
+    /// False only when the survey provably cannot detect object `i` (its orbit `orbit`).
+    pub fn could_detect(&self, objects: &ObjectTable, i: usize, orbit: &Orbit) -> bool {
+        if !self.mid_tdb.is_finite() {
+            return false; // no visits
+        }
+        let Some(delta_min) = self.nearest_au(orbit) else {
+            return true;
+        };
+        let el = &orbit.elements;
+        let mut v_obj = (el.center.gm() * (1.0 + el.e) / el.q_au()).sqrt();
+        if el.center == Center::Heliocentric {
+            v_obj += 2.0e-5; // the Sun's barycentric speed
+        }
+        let max_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
+        if max_rate < self.min_rate_arcsec_per_hr {
+            return false;
+        }
+        self.brightest_mag(objects, i, delta_min) < self.zero_beyond_mag
+    }
+
+    /// A lower bound on the observer–object distance over the span, AU; `None` if too close.
+    fn nearest_au(&self, orbit: &Orbit) -> Option<f64> {
+        let el = &orbit.elements;
+        let q = el.q_au();
+        if !(q.is_finite() && q > 0.0 && el.e >= 0.0) {
+            return None;
+        }
+        let v_q = (el.center.gm() * (1.0 + el.e) / q).sqrt();
+        let r_mid = orbit.position(self.mid_tdb).norm();
+        // Emission times reach back by the light time as well.
+        let light_time = (r_mid + v_q * self.half_span_days + OBSERVER_REACH_AU) / C_AU_PER_DAY;
+        let r_min = q.max(r_mid - v_q * (self.half_span_days + light_time));
+        let delta_min = r_min - OBSERVER_REACH_AU;
+        (delta_min > NEAREST_BOUNDED_AU).then_some(delta_min)
+    }
+
+    /// A lower bound on the object's magnitude in any visit, given Δ ≥ `delta_min`.
+    fn brightest_mag(&self, objects: &ObjectTable, i: usize, delta_min: f64) -> f64 {
+        let r_min = delta_min + OBSERVER_REACH_AU;
+        let alpha_max = (OBSERVER_REACH_AU / r_min).min(1.0).asin();
+        // The smallest phase term on [0, α_max]: both laws are monotone where they are bounded.
+        let phase = match objects.phase_law[i] {
+            PhaseLaw::Linear { beta_mag_per_deg } => (beta_mag_per_deg * alpha_max.to_degrees()).min(0.0),
+            PhaseLaw::HG { g } if (0.0..=1.0).contains(&g) => 0.0, // Φ1, Φ2 ≤ 1 fall with α
+            PhaseLaw::HG { .. } => f64::NEG_INFINITY,
+        };
+        let color = self
+            .other_bands
+            .iter()
+            .map(|b| objects.color(b, i))
+            .fold(0.0f64, f64::min);
+        let light_curve = -0.5 * objects.lc_amp_mag[i].abs();
+        objects.h_mag[i] + 5.0 * (r_min * delta_min).log10() + phase + color + light_curve - MAG_MARGIN
+    }
+}
