@@ -86,9 +86,11 @@ pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<
             let mut chart = ChartBuilder::on(&area)
                 .margin(10)
                 .build_cartesian_2d(-r * aspect..r * aspect, -r..r)?;
-            // Band, then wedges, then the rings and their labels on top so that they stay legible.
+            // Band, then wedges, then the band's median and the rings with their labels on top
+            // so that they stay legible.
             draw_band(&mut chart, bins)?;
             draw_wedges(&mut chart, bins)?;
+            draw_medians(&mut chart, bins)?;
             draw_rings(&mut chart, top, r)
         },
     )
@@ -158,8 +160,18 @@ fn draw_band(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
         let Some(n) = b.null else { continue };
         let poly = sector(b.min_deg, b.max_deg, radius(n.lo), radius(n.hi));
         chart.draw_series(std::iter::once(Polygon::new(poly, style::BAND.mix(0.75).filled())))?;
+    }
+    Ok(())
+}
+
+/// The band's median count per bin, as a dark arc over the wedges (none where it is 0).
+fn draw_medians(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
+    for b in bins {
+        let Some(n) = b.null.filter(|n| n.median > 0.0) else {
+            continue;
+        };
         let med: Vec<_> = arc(b.min_deg, b.max_deg, radius(n.median)).collect();
-        chart.draw_series(std::iter::once(PathElement::new(med, style::MUTED.stroke_width(2))))?;
+        chart.draw_series(std::iter::once(PathElement::new(med, style::INK.stroke_width(2))))?;
     }
     Ok(())
 }
