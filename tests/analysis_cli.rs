@@ -322,6 +322,33 @@ fn yield_and_compare_models_write_tables_and_conclusions() {
         assert!(b[2] >= b[0].max(b[1]), "{b:?}");
     }
     assert!(found.iter().sum::<f64>() > 0.0);
+    // yield_cadence: each survey's revisit interval and its discoveries, which the distance bins
+    // of yield.csv partition.
+    let yc = d.path().join("y/yield_cadence.csv");
+    let df = read_table(&yc).unwrap();
+    let c = Columns::new(&df, &yc);
+    assert_eq!(c.str("plan").unwrap(), ["wide", "patch"]);
+    let yt = read_table(&d.path().join("y/yield.csv")).unwrap();
+    let ytc = Columns::new(&yt, &yc);
+    let (surv, quant) = (ytc.str("survey").unwrap(), ytc.str("quantity").unwrap());
+    for (k, name) in ["wide", "patch"].iter().enumerate() {
+        let in_bins: f64 = (0..surv.len())
+            .filter(|&i| surv[i] == *name && quant[i] == "r_discovery_au")
+            .map(|i| found[i])
+            .sum();
+        assert_eq!(c.f64("n_discovered").unwrap()[k], in_bins, "{name}");
+    }
+    assert_eq!(c.i64("n_objects").unwrap(), [12, 12]);
+    // The patch is seen on nights 10 and 355 nights apart: its median interval is one of those.
+    let days = c.f64("cadence_days").unwrap();
+    assert!(days.iter().all(|d| *d >= 1.0), "{days:?}");
+    assert!([10.0, 355.0].contains(&days[1]), "{days:?}");
+    run_ok(&["report", &p("y")]);
+    let html = std::fs::read_to_string(d.path().join("y/index.html")).unwrap();
+    assert!(
+        html.contains("figures/yield_cadence.svg"),
+        "the report of a yield run shows its figure"
+    );
     // A cadence plan is built first, then compared like any survey.
     let plan = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep-plan.toml");
     let msg = run_ok(&[

@@ -132,7 +132,7 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
              or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
-             rose.*, cluster_null.* with cluster_test.*, yield_cadence.csv), here or one directory down",
+             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*), here or one directory down",
             dir.display()
         )));
     }
@@ -151,7 +151,7 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         inputs.roses.extend(read_roses(f)?);
     } else if name == "cluster_null.csv" || name == "cluster_null.parquet" {
         inputs.null_tests.extend(read_null_tests(f)?);
-    } else if name == "yield_cadence.csv" {
+    } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.extend(read_yields(f)?);
     }
     Ok(())
@@ -496,7 +496,8 @@ fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
     Ok(tests)
 }
 
-/// `yield_cadence.csv`: `plan, cadence_days, n_objects, n_discovered`, optional `population`.
+/// `yield_cadence.csv` (or `.parquet`, as `seine yield` writes it): `plan, cadence_days,
+/// n_objects, n_discovered`, optional `population`.
 fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
