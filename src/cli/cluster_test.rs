@@ -200,11 +200,11 @@ fn conclude(t: &ClusterTest) -> String {
     );
     if !t.unconstrained_ids.is_empty() {
         s += &format!(
-            "\n  Warning: {} never discovered on its bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
+            "\n  Warning: {} on the bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
             if t.unconstrained_ids.len() == 1 {
-                "1 object was".to_string()
+                "1 object was never discovered".to_string()
             } else {
-                format!("{} objects were", t.unconstrained_ids.len())
+                format!("{} objects were never discovered", t.unconstrained_ids.len())
             },
             t.unconstrained_ids
         );
