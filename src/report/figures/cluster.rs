@@ -117,9 +117,14 @@ pub fn null_distribution(test: &NullTest) -> Result<Figure> {
             )))?
             .label(format!("observed, p = {}", p_text(test.p_value)))
             .legend(axes::swatch(c, 3));
-        // The legend goes to the side away from the bulk of the null.
-        let mean = test.samples.iter().filter(|x| x.is_finite()).sum::<f64>() / test.samples.len() as f64;
-        let pos = if mean > 0.5 * (edges[0] + edges[BINS]) {
+        // The legend goes to the side whose bars, outline and observed line are lower.
+        let obs_bin = ((test.observed - edges[0]) / (edges[BINS] - edges[0]) * BINS as f64) as usize;
+        let height = |k: usize| {
+            let line = if k == obs_bin.min(BINS - 1) { peak * 1.08 } else { 0.0 };
+            dens[k].max(naive.get(k).copied().unwrap_or(0.0)).max(line)
+        };
+        let side = |ks: std::ops::Range<usize>| ks.map(height).fold(0.0, f64::max);
+        let pos = if side(0..BINS * 2 / 5) < side(BINS * 3 / 5..BINS) {
             SeriesLabelPosition::UpperLeft
         } else {
             SeriesLabelPosition::UpperRight
