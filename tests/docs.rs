@@ -2,7 +2,8 @@
 //! in a scratch directory that holds (a link to) `survey-configs/`, with the built binary
 //! standing in for `seine`; each block must exit with status 0, and no `seine` command of a
 //! tutorial may sit outside a ```sh block. The usage lines and option tables of
-//! `configuration.md` (placeholders, not runnable) are checked against `seine CMD --help`:
+//! `configuration.md`, and the README's usage lines (placeholders, not runnable), are checked
+//! against `seine CMD --help`:
 //! every option they name exists, with the documented default where one is given.
 
 use std::path::{Path, PathBuf};
@@ -197,7 +198,7 @@ fn help_of(cmd: &str) -> String {
         .unwrap();
     assert!(
         out.status.success(),
-        "configuration.md names `seine {cmd}`, which is not a command"
+        "the docs name `seine {cmd}`, which is not a command"
     );
     String::from_utf8(out.stdout).unwrap()
 }
@@ -243,7 +244,7 @@ fn heading_commands(heading: &str, known: &[String]) -> Vec<String> {
 }
 
 #[test]
-fn configuration_usage_lines_and_option_tables_match_the_help() {
+fn configuration_and_readme_usage_lines_and_option_tables_match_the_help() {
     let text = std::fs::read_to_string(docs_dir().join("configuration.md")).unwrap();
     let top = Command::new(env!("CARGO_BIN_EXE_seine"))
         .arg("--help")
@@ -283,7 +284,24 @@ fn configuration_usage_lines_and_option_tables_match_the_help() {
             usages.extend(line.split('`').skip(1).step_by(2).map(String::from));
         }
     }
-    for u in usages.iter().filter(|u| u.starts_with("seine ")) {
+    // The README's table of commands, in inline code, too.
+    let readme = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme_usages: Vec<String> = readme
+        .lines()
+        .flat_map(|l| l.split('`').skip(1).step_by(2).map(String::from).collect::<Vec<_>>())
+        .collect();
+    for (doc, u) in usages
+        .iter()
+        .map(|u| ("configuration.md", u))
+        .chain(readme_usages.iter().map(|u| ("README.md", u)))
+        .filter(|(_, u)| u.starts_with("seine "))
+        // `seine COMMAND --help` is a placeholder, not a command.
+        .filter(|(_, u)| {
+            u.split_whitespace()
+                .nth(1)
+                .is_some_and(|c| c.chars().any(|ch| ch.is_ascii_lowercase()))
+        })
+    {
         let cmd = u.split_whitespace().nth(1).unwrap();
         if !known.contains(&cmd.to_string()) {
             help(cmd); // fails: a command that does not exist
@@ -291,10 +309,7 @@ fn configuration_usage_lines_and_option_tables_match_the_help() {
         let h = help(cmd);
         let usage = u.split('#').next().unwrap();
         for o in options_in(usage) {
-            assert!(
-                option_help(&h, &o).is_some(),
-                "configuration.md: `{u}`: seine {cmd} has no {o}"
-            );
+            assert!(option_help(&h, &o).is_some(), "{doc}: `{u}`: seine {cmd} has no {o}");
             checked += 1;
         }
     }

@@ -392,4 +392,31 @@ fn empty_or_invalid_directories_are_one_clear_error() {
     let err = common::stderr(&o);
     assert!(err.contains("rose.csv") && err.contains("bin_hi_deg"), "{err}");
     assert_eq!(err.trim().lines().count(), 1, "{err}");
+
+    // Null samples without the cluster test's table beside them, then with a table that lacks
+    // one of their statistics: one sentence naming the file and what it lacks.
+    let d = tempfile::tempdir().unwrap();
+    common::write(
+        d.path(),
+        "cluster_null.csv",
+        "statistic,value\nmean_pole,0.2\nmean_pole,0.3\n",
+    );
+    let o = common::seine(&["report", d.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert!(
+        err.contains("cluster_null.csv") && err.contains("cluster_test.parquet or cluster_test.csv"),
+        "{err}"
+    );
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    common::write(
+        d.path(),
+        "cluster_test.csv",
+        "statistic,observed,p_bias_aware\nrayleigh_varpi,0.4,0.2\n",
+    );
+    let o = common::seine(&["report", d.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert!(err.contains("cluster_test.csv") && err.contains("`mean_pole`"), "{err}");
+    assert!(!d.path().join("index.html").exists());
 }
