@@ -172,6 +172,12 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
     assert!(o.status.success(), "{}", stderr(&o));
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("discovered") && text.contains("Cerro Seine"), "{text}");
+    // The model comparison states its likelihood ratio as a number even beyond f64's range.
+    let err = stderr(&o);
+    assert!(
+        err.contains("likelihood ratio ") && !err.contains("likelihood ratio inf"),
+        "{err}"
+    );
     // The demo's cluster test writes its null samples and rose band; its report shows them.
     let html = std::fs::read_to_string(dir.path().join("index.html")).unwrap();
     for f in [
