@@ -170,6 +170,129 @@ fn bias_map_then_cluster_test_and_the_same_in_one_step() {
 }
 
 #[test]
+fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    let trials = 150;
+    run_ok(&[
+        "cluster-test",
+        "--survey",
+        &p("wide.toml"),
+        "--catalog",
+        &p("catalog.csv"),
+        "--grid",
+        "8,6",
+        "--per-cell",
+        "3",
+        "--trials",
+        &trials.to_string(),
+        "--rose-bins",
+        "12",
+        "--format",
+        "csv",
+        "--out",
+        &p("ct"),
+    ]);
+    let ct = d.path().join("ct");
+    // The null table: one row per sampled statistic and trial, statistic by statistic.
+    let (null_path, test_path, rose_path) = (
+        ct.join("cluster_null.csv"),
+        ct.join("cluster_test.csv"),
+        ct.join("rose.csv"),
+    );
+    let null = read_table(&null_path).unwrap();
+    let c = Columns::new(&null, &null_path);
+    let (stat, trial, value) = (
+        c.str("statistic").unwrap(),
+        c.i64("trial").unwrap(),
+        c.f64("value").unwrap(),
+    );
+    assert_eq!(stat.len(), 8 * trials);
+    assert_eq!(&trial[..trials], &(0..trials as i64).collect::<Vec<_>>()[..]);
+    assert!(
+        value.iter().all(|v| (0.0..=1.0).contains(v)),
+        "R/n, V and lengths lie in [0, 1]"
+    );
+    // The p-values of cluster_test.csv are the fractions of those samples that reach the observed
+    // value: p = (1 + #{T ≥ T_obs}) / (1 + N).
+    let tests = read_table(&test_path).unwrap();
+    let tc = Columns::new(&tests, &test_path);
+    let names = tc.str("statistic").unwrap();
+    let observed = csv_col_nan(&test_path, "observed");
+    let p_bias = tc.f64("p_bias_aware").unwrap();
+    for (j, name) in names.iter().enumerate().filter(|(_, n)| *n != "pole_and_perihelion") {
+        let reach = (0..stat.len())
+            .filter(|&i| stat[i] == *name && value[i] >= observed[j])
+            .count();
+        let want = (1 + reach) as f64 / (1 + trials) as f64;
+        assert!((p_bias[j] - want).abs() < 1e-12, "{name}: {} vs {want}", p_bias[j]);
+    }
+    // The rose: 12 bins per angle; the observed counts add up to the catalogue, the band is ordered.
+    let rose = read_table(&rose_path).unwrap();
+    let rc = Columns::new(&rose, &rose_path);
+    let q = rc.str("quantity").unwrap();
+    let (obs, lo, med, hi) = (
+        rc.f64("observed").unwrap(),
+        rc.f64("null_lo").unwrap(),
+        rc.f64("null_median").unwrap(),
+        rc.f64("null_hi").unwrap(),
+    );
+    for angle in ["varpi_deg", "node_deg", "argperi_deg"] {
+        let rows: Vec<usize> = (0..q.len()).filter(|&i| q[i] == angle).collect();
+        assert_eq!(rows.len(), 12, "{angle}");
+        assert_eq!(rows.iter().map(|&i| obs[i]).sum::<f64>(), 12.0, "{angle}");
+        assert!(rows.iter().all(|&i| lo[i] <= med[i] && med[i] <= hi[i]), "{angle}");
+        assert!(rows.iter().any(|&i| hi[i] > 0.0), "{angle}: an empty band");
+    }
+    assert_eq!(rc.f64("bin_hi_deg").unwrap()[11], 360.0);
+    // The report of the output directory shows the null distributions and the banded roses.
+    run_ok(&["report", &p("ct")]);
+    let html = std::fs::read_to_string(ct.join("index.html")).unwrap();
+    for f in [
+        "cluster_null_rayleigh_varpi",
+        "cluster_null_mean_pole",
+        "rose_varpi_deg",
+        "rose_node_deg",
+    ] {
+        assert!(html.contains(&format!("figures/{f}.svg")), "{f} missing");
+    }
+    assert!(
+        html.contains("the bias-aware null"),
+        "the roses carry the bias-aware band"
+    );
+    // Parquet by default, with the same names.
+    run_ok(&[
+        "cluster-test",
+        "--catalog",
+        &p("catalog.csv"),
+        "--bias-map",
+        &p("ct/bias_map.csv"),
+        "--trials",
+        "20",
+        "--out",
+        &p("ctp"),
+    ]);
+    for f in ["cluster_test.parquet", "cluster_null.parquet", "rose.parquet"] {
+        assert!(d.path().join("ctp").join(f).exists(), "{f}");
+    }
+    let bad = seine(&[
+        "cluster-test",
+        "--catalog",
+        &p("catalog.csv"),
+        "--survey",
+        &p("wide.toml"),
+        "--rose-bins",
+        "0",
+        "--out",
+        &p("ct0"),
+    ]);
+    assert_eq!(bad.status.code(), Some(2));
+    assert!(stderr(&bad).contains("--rose-bins"), "{}", stderr(&bad));
+    assert!(!d.path().join("ct0").exists(), "nothing is written for a bad option");
+}
+
+#[test]
 fn yield_and_compare_models_write_tables_and_conclusions() {
     let d = tempfile::tempdir().unwrap();
     let p = |s: &str| d.path().join(s).display().to_string();
@@ -199,6 +322,33 @@ fn yield_and_compare_models_write_tables_and_conclusions() {
         assert!(b[2] >= b[0].max(b[1]), "{b:?}");
     }
     assert!(found.iter().sum::<f64>() > 0.0);
+    // yield_cadence: each survey's revisit interval and its discoveries, which the distance bins
+    // of yield.csv partition.
+    let yc = d.path().join("y/yield_cadence.csv");
+    let df = read_table(&yc).unwrap();
+    let c = Columns::new(&df, &yc);
+    assert_eq!(c.str("plan").unwrap(), ["wide", "patch"]);
+    let yt = read_table(&d.path().join("y/yield.csv")).unwrap();
+    let ytc = Columns::new(&yt, &yc);
+    let (surv, quant) = (ytc.str("survey").unwrap(), ytc.str("quantity").unwrap());
+    for (k, name) in ["wide", "patch"].iter().enumerate() {
+        let in_bins: f64 = (0..surv.len())
+            .filter(|&i| surv[i] == *name && quant[i] == "r_discovery_au")
+            .map(|i| found[i])
+            .sum();
+        assert_eq!(c.f64("n_discovered").unwrap()[k], in_bins, "{name}");
+    }
+    assert_eq!(c.i64("n_objects").unwrap(), [12, 12]);
+    // The patch is seen on nights 10 and 355 nights apart: its median interval is one of those.
+    let days = c.f64("cadence_days").unwrap();
+    assert!(days.iter().all(|d| *d >= 1.0), "{days:?}");
+    assert!([10.0, 355.0].contains(&days[1]), "{days:?}");
+    run_ok(&["report", &p("y")]);
+    let html = std::fs::read_to_string(d.path().join("y/index.html")).unwrap();
+    assert!(
+        html.contains("figures/yield_cadence.svg"),
+        "the report of a yield run shows its figure"
+    );
     // A cadence plan is built first, then compared like any survey.
     let plan = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep-plan.toml");
     let msg = run_ok(&[

@@ -166,10 +166,38 @@ fn missing_file_and_directory_are_refused() {
 }
 
 #[test]
-fn demo_prints_positions() {
+fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
     let dir = tempfile::tempdir().unwrap();
     let o = seine(&["demo", "--out", dir.path().to_str().unwrap()]);
     assert!(o.status.success(), "{}", stderr(&o));
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("discovered") && text.contains("Cerro Seine"), "{text}");
+    // The model comparison states its likelihood ratio as a number even beyond f64's range.
+    let err = stderr(&o);
+    assert!(
+        err.contains("likelihood ratio ") && !err.contains("likelihood ratio inf"),
+        "{err}"
+    );
+    // The demo's cluster test writes its null samples and rose band; its report shows them.
+    let html = std::fs::read_to_string(dir.path().join("index.html")).unwrap();
+    for f in [
+        "cluster_null_rayleigh_varpi",
+        "cluster_null_kuiper_node",
+        "rose_varpi_deg",
+        "rose_node_deg",
+    ] {
+        assert!(
+            html.contains(&format!("src=\"figures/{f}.svg\"")),
+            "{f} missing from the demo's report"
+        );
+        assert!(dir.path().join("figures").join(format!("{f}.svg")).exists(), "{f}.svg");
+    }
+    assert!(
+        html.contains("the bias-aware null"),
+        "the demo's roses carry the bias-aware band"
+    );
+    assert!(
+        html.contains("Cluster test: each statistic"),
+        "the cluster test's table"
+    );
 }

@@ -215,6 +215,7 @@ fn analysis_figures_from_synthetic_tables() {
         observed: 0.81,
         p_value: Some(0.031),
         p_value_naive: Some(0.004),
+        naive_samples: samples.iter().map(|x| x.sqrt()).collect(),
         samples,
     };
     let f = cluster::null_distribution(&t).unwrap();
@@ -224,6 +225,7 @@ fn analysis_figures_from_synthetic_tables() {
             "rayleigh_r_varpi (dimensionless)",
             "fraction of null catalogs",
             "observed, p = 0.031",
+            "naive null (uniform angles)",
         ],
     );
 
@@ -330,7 +332,7 @@ fn report_reads_analysis_tables_by_their_documented_names() {
     common::write(
         d,
         "rose.csv",
-        "quantity,bin_min_deg,bin_max_deg,observed,null_lo,null_median,null_hi\nvarpi_deg,0,180,3,0,1,2\nvarpi_deg,180,360,1,0,1,2\nnode_deg,0,180,2,0,1,3\nnode_deg,180,360,2,0,1,3\n",
+        "quantity,bin_lo_deg,bin_hi_deg,observed,null_lo,null_median,null_hi\nvarpi_deg,0,180,3,0,1,2\nvarpi_deg,180,360,1,0,1,2\nnode_deg,0,180,2,0,1,3\nnode_deg,180,360,2,0,1,3\n",
     );
     common::write(
         d,
@@ -339,8 +341,8 @@ fn report_reads_analysis_tables_by_their_documented_names() {
     );
     common::write(
         d,
-        "cluster_test.json",
-        r#"{"tests": [{"statistic": "kuiper_v_node", "observed": 0.25, "p_value": 0.33}]}"#,
+        "cluster_test.csv",
+        "statistic,observed,p_bias_aware,p_naive\nkuiper_v_node,0.25,0.33,0.2\n",
     );
     common::write(
         d,
@@ -384,10 +386,37 @@ fn empty_or_invalid_directories_are_one_clear_error() {
     assert_eq!(o.status.code(), Some(2));
     assert!(common::stderr(&o).contains("no such directory"));
 
-    common::write(tmp.path(), "rose.csv", "quantity,bin_min_deg\nvarpi_deg,0\n");
+    common::write(tmp.path(), "rose.csv", "quantity,bin_lo_deg\nvarpi_deg,0\n");
     let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
     assert_eq!(o.status.code(), Some(2));
     let err = common::stderr(&o);
-    assert!(err.contains("rose.csv") && err.contains("bin_max_deg"), "{err}");
+    assert!(err.contains("rose.csv") && err.contains("bin_hi_deg"), "{err}");
     assert_eq!(err.trim().lines().count(), 1, "{err}");
+
+    // Null samples without the cluster test's table beside them, then with a table that lacks
+    // one of their statistics: one sentence naming the file and what it lacks.
+    let d = tempfile::tempdir().unwrap();
+    common::write(
+        d.path(),
+        "cluster_null.csv",
+        "statistic,value\nmean_pole,0.2\nmean_pole,0.3\n",
+    );
+    let o = common::seine(&["report", d.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert!(
+        err.contains("cluster_null.csv") && err.contains("cluster_test.parquet or cluster_test.csv"),
+        "{err}"
+    );
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    common::write(
+        d.path(),
+        "cluster_test.csv",
+        "statistic,observed,p_bias_aware\nrayleigh_varpi,0.4,0.2\n",
+    );
+    let o = common::seine(&["report", d.path().to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = common::stderr(&o);
+    assert!(err.contains("cluster_test.csv") && err.contains("`mean_pole`"), "{err}");
+    assert!(!d.path().join("index.html").exists());
 }

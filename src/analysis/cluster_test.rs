@@ -11,6 +11,11 @@
 //! (Zar's approximation) and Kuiper analytically, the 3-D statistics by Monte Carlo with
 //! uniform angles.
 //!
+//! The null samples are kept: every synthetic catalogue's statistics under both nulls (for the
+//! histogram of the null distribution), and per angular bin of ϖ, Ω and ω the distribution of
+//! the bias-aware catalogues' counts, summarized by its 5th, 50th and 95th percentiles (the
+//! band of the rose diagrams).
+//!
 //! Streams: object `id` in synthetic catalogue t draws from
 //! `object_stream(seed ^ splitmix64(t), id, Analysis)`: first its (ϖ, Ω) from the bias map
 //! (three uniforms), then its uniform angles for the naive null (two uniforms).
@@ -38,6 +43,15 @@ pub const STAT_NAMES: [&str; 9] = [
     "mean_perihelion",
     "pole_and_perihelion",
 ];
+
+/// The statistics that have one value per catalogue (all but the joint one).
+pub const N_SAMPLED: usize = 8;
+
+/// Angular bins of the rose counts unless told otherwise: 20° wide.
+pub const DEFAULT_ROSE_BINS: usize = 18;
+
+/// The angles of the rose counts, in this order (names with their units, as in tables).
+pub const ROSE_QUANTITIES: [&str; 3] = ["varpi_deg", "node_deg", "argperi_deg"];
 
 /// Clustering statistics of one catalogue's angles.
 #[derive(Debug, Clone, PartialEq)]
@@ -88,17 +102,6 @@ impl Stats {
             f64::NAN,
         ]
     }
-
-    /// Which statistics of a synthetic catalogue reach the observed ones.
-    fn at_least(&self, obs: &Stats) -> [bool; 9] {
-        let (s, o) = (self.values(), obs.values());
-        let mut out = [false; 9];
-        for k in 0..8 {
-            out[k] = s[k] >= o[k];
-        }
-        out[8] = out[6] && out[7];
-        out
-    }
 }
 
 /// One statistic's result.
@@ -117,6 +120,31 @@ pub struct StatResult {
     pub p_naive_monte_carlo: f64,
 }
 
+/// The statistics of one synthetic catalogue, `STAT_NAMES[..N_SAMPLED]` order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NullSample {
+    pub trial: u64,
+    /// Angles drawn from the objects' bias maps.
+    pub bias_aware: [f64; N_SAMPLED],
+    /// Uniform angles (no survey bias).
+    pub naive: [f64; N_SAMPLED],
+}
+
+/// One angular bin of a rose: the catalogue's count and the percentiles of the counts of the
+/// bias-aware synthetic catalogues (the smallest count whose cumulative fraction of
+/// catalogues reaches 5%, 50%, 95%).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RoseCount {
+    /// One of `ROSE_QUANTITIES`.
+    pub quantity: &'static str,
+    pub lo_deg: f64,
+    pub hi_deg: f64,
+    pub observed: u64,
+    pub null_lo: u64,
+    pub null_median: u64,
+    pub null_hi: u64,
+}
+
 /// The whole test.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct ClusterTest {
@@ -125,6 +153,12 @@ pub struct ClusterTest {
     /// Objects whose bias map had no discovery at all; they are drawn uniformly.
     pub unconstrained_ids: Vec<i64>,
     pub results: Vec<StatResult>,
+    /// Every synthetic catalogue's statistics, in trial order (tables, not the summary).
+    #[serde(skip)]
+    pub null_samples: Vec<NullSample>,
+    /// Rose counts of ϖ, Ω and ω with the bias-aware band (tables, not the summary).
+    #[serde(skip)]
+    pub rose: Vec<RoseCount>,
 }
 
 /// Angles of a catalogue, radians.
@@ -146,8 +180,20 @@ impl Angles {
     }
 }
 
-/// Run the test on a catalogue's angles with one bias map per object (same order).
+/// Run the test on a catalogue's angles with one bias map per object (same order), with
+/// `DEFAULT_ROSE_BINS` rose bins.
 pub fn cluster_test(cat: &Angles, maps: &[BiasMap], trials: u64, seed: u64) -> Result<ClusterTest> {
+    cluster_test_binned(cat, maps, trials, seed, DEFAULT_ROSE_BINS)
+}
+
+/// The test with `rose_bins` equal angular bins over 0–360° for the rose counts.
+pub fn cluster_test_binned(
+    cat: &Angles,
+    maps: &[BiasMap],
+    trials: u64,
+    seed: u64,
+    rose_bins: usize,
+) -> Result<ClusterTest> {
     let n = cat.ids.len();
     if n < 2 || maps.len() != n {
         return Err(Error::input(format!(
@@ -155,39 +201,139 @@ pub fn cluster_test(cat: &Angles, maps: &[BiasMap], trials: u64, seed: u64) -> R
             maps.len()
         )));
     }
-    if trials == 0 {
-        return Err(Error::input("--trials: expected at least 1"));
-    }
+    check_options(trials, rose_bins)?;
     let obs = Stats::of(&cat.inc, &cat.node, &cat.argperi);
     let samplers: Vec<Option<MapSampler>> = maps.iter().map(BiasMap::sampler).collect();
     let axes: Vec<MapAxes> = maps.iter().map(|m| m.grid.axes).collect();
-    let (bias, naive) = (0..trials)
+    let tally_len = ROSE_QUANTITIES.len() * rose_bins * (n + 1);
+    let (mut null_samples, tally) = (0..trials)
         .into_par_iter()
-        .map(|t| one_trial(cat, &samplers, &axes, &obs, t, seed))
-        .reduce(|| ([0u64; 9], [0u64; 9]), |a, b| (add(a.0, b.0), add(a.1, b.1)));
+        .map(|t| one_trial(cat, &samplers, &axes, t, seed, rose_bins))
+        .fold(
+            || (Vec::new(), vec![0u64; tally_len]),
+            |(mut samples, mut tally), (sample, counts)| {
+                samples.push(sample);
+                // tally[(q·bins + k)·(n + 1) + c]: catalogues with count c in bin k of angle q.
+                for (qk, c) in counts.into_iter().enumerate() {
+                    tally[qk * (n + 1) + c as usize] += 1;
+                }
+                (samples, tally)
+            },
+        )
+        .reduce(
+            || (Vec::new(), vec![0u64; tally_len]),
+            |(mut sa, ta), (sb, tb)| {
+                sa.extend(sb);
+                (sa, ta.iter().zip(&tb).map(|(a, b)| a + b).collect())
+            },
+        );
+    null_samples.sort_by_key(|s| s.trial);
+    let (mut bias, mut naive) = ([0u64; 9], [0u64; 9]);
+    for s in &null_samples {
+        for (k, hit) in reaching(&s.bias_aware, &obs).into_iter().enumerate() {
+            bias[k] += u64::from(hit);
+        }
+        for (k, hit) in reaching(&s.naive, &obs).into_iter().enumerate() {
+            naive[k] += u64::from(hit);
+        }
+    }
     let unconstrained_ids = (0..n).filter(|j| samplers[*j].is_none()).map(|j| cat.ids[j]).collect();
     let results = summarize(&obs, n, trials, &bias, &naive);
+    let rose = rose_counts(cat, rose_bins, &tally, trials);
     Ok(ClusterTest {
         n_objects: n,
         trials,
         unconstrained_ids,
         results,
+        null_samples,
+        rose,
     })
 }
 
-fn add(a: [u64; 9], b: [u64; 9]) -> [u64; 9] {
-    std::array::from_fn(|k| a[k] + b[k])
+/// The test's own options: at least one trial, 1 to 360 rose bins.
+pub fn check_options(trials: u64, rose_bins: usize) -> Result<()> {
+    if trials == 0 {
+        return Err(Error::input("--trials: expected at least 1"));
+    }
+    if !(1..=360).contains(&rose_bins) {
+        return Err(Error::input(format!(
+            "--rose-bins {rose_bins}: expected 1 to 360 angular bins"
+        )));
+    }
+    Ok(())
 }
 
-/// One synthetic catalogue under each null: which statistics reach the observed ones.
+/// Which statistics of a synthetic catalogue reach the observed ones; the joint one when
+/// pole and perihelion both do.
+fn reaching(values: &[f64; N_SAMPLED], obs: &Stats) -> [bool; 9] {
+    let o = obs.values();
+    let mut out = [false; 9];
+    for k in 0..N_SAMPLED {
+        out[k] = values[k] >= o[k];
+    }
+    out[8] = out[6] && out[7];
+    out
+}
+
+/// The bin of an angle (radians) among `bins` equal bins over [0, 2π).
+fn bin_of(angle: f64, bins: usize) -> usize {
+    ((angle.rem_euclid(TAU) / TAU * bins as f64) as usize).min(bins - 1)
+}
+
+/// Counts per bin of ϖ, Ω and ω (`ROSE_QUANTITIES` order, `bins` each).
+fn angle_counts(node: &[f64], argperi: &[f64], bins: usize) -> Vec<u32> {
+    let mut counts = vec![0u32; ROSE_QUANTITIES.len() * bins];
+    for (n, w) in node.iter().zip(argperi) {
+        counts[bin_of(n + w, bins)] += 1;
+        counts[bins + bin_of(*n, bins)] += 1;
+        counts[2 * bins + bin_of(*w, bins)] += 1;
+    }
+    counts
+}
+
+/// The smallest count whose cumulative fraction of catalogues reaches q.
+fn count_quantile(tally: &[u64], trials: u64, q: f64) -> u64 {
+    let mut cum = 0u64;
+    for (c, t) in tally.iter().enumerate() {
+        cum += t;
+        if cum as f64 >= q * trials as f64 {
+            return c as u64;
+        }
+    }
+    tally.len().saturating_sub(1) as u64
+}
+
+fn rose_counts(cat: &Angles, bins: usize, tally: &[u64], trials: u64) -> Vec<RoseCount> {
+    let n = cat.ids.len();
+    let observed = angle_counts(&cat.node, &cat.argperi, bins);
+    let width = 360.0 / bins as f64;
+    (0..ROSE_QUANTITIES.len() * bins)
+        .map(|qk| {
+            let t = &tally[qk * (n + 1)..(qk + 1) * (n + 1)];
+            let k = qk % bins;
+            RoseCount {
+                quantity: ROSE_QUANTITIES[qk / bins],
+                lo_deg: k as f64 * width,
+                hi_deg: (k + 1) as f64 * width,
+                observed: u64::from(observed[qk]),
+                null_lo: count_quantile(t, trials, 0.05),
+                null_median: count_quantile(t, trials, 0.5),
+                null_hi: count_quantile(t, trials, 0.95),
+            }
+        })
+        .collect()
+}
+
+/// One synthetic catalogue under each null: its statistics, and the rose counts of its
+/// bias-aware angles.
 fn one_trial(
     cat: &Angles,
     samplers: &[Option<MapSampler>],
     axes: &[MapAxes],
-    obs: &Stats,
     t: u64,
     seed: u64,
-) -> ([u64; 9], [u64; 9]) {
+    rose_bins: usize,
+) -> (NullSample, Vec<u32>) {
     let n = cat.ids.len();
     let (mut bn, mut bw, mut un, mut uw) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n]);
     let trial_seed = seed ^ splitmix64(t);
@@ -202,9 +348,13 @@ fn one_trial(
         un[j] = rng.random::<f64>() * TAU;
         uw[j] = rng.random::<f64>() * TAU;
     }
-    let b = Stats::of(&cat.inc, &bn, &bw).at_least(obs);
-    let u = Stats::of(&cat.inc, &un, &uw).at_least(obs);
-    (b.map(u64::from), u.map(u64::from))
+    let first = |v: [f64; 9]| -> [f64; N_SAMPLED] { std::array::from_fn(|k| v[k]) };
+    let sample = NullSample {
+        trial: t,
+        bias_aware: first(Stats::of(&cat.inc, &bn, &bw).values()),
+        naive: first(Stats::of(&cat.inc, &un, &uw).values()),
+    };
+    (sample, angle_counts(&bn, &bw, rose_bins))
 }
 
 fn summarize(obs: &Stats, n: usize, trials: u64, bias: &[u64; 9], naive: &[u64; 9]) -> Vec<StatResult> {

@@ -134,7 +134,7 @@ fn conclude(maps: &[BiasMap], mean: &[f64]) -> String {
     format!(
         "seine bias-map: {} objects on a {}×{} grid. Mean chance of discovery over all angles {} (range {}–{}); \
          the most favoured cell is on average {:.1}× the mean, so the surveys see these objects unevenly in {} and node; \
-         {never} objects were never discovered on the grid.",
+         {} never discovered on the grid.",
         maps.len(),
         maps[0].grid.n_x,
         maps[0].grid.n_node,
@@ -142,7 +142,12 @@ fn conclude(maps: &[BiasMap], mean: &[f64]) -> String {
         pct(mean.iter().copied().fold(f64::INFINITY, f64::min)),
         pct(mean.iter().copied().fold(0.0, f64::max)),
         contrast.iter().filter(|c| c.is_finite()).sum::<f64>() / contrast.len() as f64,
-        maps[0].grid.axes.x_name()
+        maps[0].grid.axes.x_name(),
+        if never == 1 {
+            "1 object was".to_string()
+        } else {
+            format!("{never} objects were")
+        }
     )
 }
 

@@ -5,7 +5,7 @@
 use std::path::PathBuf;
 
 use seine::analysis::bias_map::bias_maps;
-use seine::analysis::cluster_test::{Angles, ClusterTest, cluster_test};
+use seine::analysis::cluster_test::{Angles, ClusterTest, N_SAMPLED, STAT_NAMES, cluster_test_binned};
 use seine::io::objects::ObjectTable;
 use seine::{Error, Result};
 
@@ -29,11 +29,16 @@ pub struct Args {
     /// Synthetic catalogues for the Monte Carlo p-values.
     #[arg(long, default_value_t = 10_000)]
     pub trials: u64,
+    /// Equal angular bins over 0–360° of the rose counts of ϖ, Ω and ω (`rose.*`).
+    #[arg(long, default_value_t = seine::analysis::cluster_test::DEFAULT_ROSE_BINS)]
+    pub rose_bins: usize,
     #[command(flatten)]
     pub run: RunArgs,
 }
 
 pub fn run(a: Args) -> Result<()> {
+    // Options first: nothing is computed or written for a bad one.
+    seine::analysis::cluster_test::check_options(a.trials, a.rose_bins)?;
     let mut prov = a.run.start()?;
     let catalog = ObjectTable::read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
@@ -60,7 +65,7 @@ pub fn run(a: Args) -> Result<()> {
     if a.bias_map.is_empty() {
         out.write("bias_map", map_columns(&maps))?;
     }
-    let res = cluster_test(&Angles::of(&catalog), &maps, a.trials, a.run.seed)?;
+    let res = cluster_test_binned(&Angles::of(&catalog), &maps, a.trials, a.run.seed, a.rose_bins)?;
     let r = &res.results;
     let table = out.write(
         "cluster_test",
@@ -94,12 +99,58 @@ pub fn run(a: Args) -> Result<()> {
             ),
         ],
     )?;
+    let null = out.write("cluster_null", null_columns(&res))?;
+    let rose = out.write("rose", rose_columns(&res))?;
     let conclusion = conclude(&res);
     let mut value = serde_json::to_value(&res).map_err(|e| Error::io(e.to_string()))?;
     value["command"] = "cluster-test".into();
     let summary = out.summary(value, &conclusion)?;
-    a.run.report(&conclusion, &[&table, &summary]);
+    a.run.report(&conclusion, &[&table, &null, &rose, &summary]);
     Ok(())
+}
+
+/// `cluster_null`: one row per statistic and synthetic catalogue, statistic by statistic:
+/// `statistic, trial, value` (bias-aware null), `value_naive` (uniform angles).
+fn null_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
+    let s = &res.null_samples;
+    let each = |f: &dyn Fn(usize, &seine::analysis::cluster_test::NullSample) -> f64| -> Vec<f64> {
+        (0..N_SAMPLED).flat_map(|k| s.iter().map(move |x| f(k, x))).collect()
+    };
+    vec![
+        col(
+            "statistic",
+            (0..N_SAMPLED)
+                .flat_map(|k| std::iter::repeat_n(STAT_NAMES[k].to_string(), s.len()))
+                .collect::<Vec<String>>(),
+        ),
+        col(
+            "trial",
+            (0..N_SAMPLED)
+                .flat_map(|_| s.iter().map(|x| x.trial))
+                .collect::<Vec<u64>>(),
+        ),
+        col("value", each(&|k, x| x.bias_aware[k])),
+        col("value_naive", each(&|k, x| x.naive[k])),
+    ]
+}
+
+/// `rose`: per angle and bin, the catalogue's count and the bias-aware null's 5th, 50th and
+/// 95th percentile counts.
+fn rose_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
+    let r = &res.rose;
+    let u = |f: fn(&seine::analysis::cluster_test::RoseCount) -> u64| r.iter().map(f).collect::<Vec<u64>>();
+    vec![
+        col(
+            "quantity",
+            r.iter().map(|x| x.quantity.to_string()).collect::<Vec<String>>(),
+        ),
+        col("bin_lo_deg", r.iter().map(|x| x.lo_deg).collect::<Vec<f64>>()),
+        col("bin_hi_deg", r.iter().map(|x| x.hi_deg).collect::<Vec<f64>>()),
+        col("observed", u(|x| x.observed)),
+        col("null_lo", u(|x| x.null_lo)),
+        col("null_median", u(|x| x.null_median)),
+        col("null_hi", u(|x| x.null_hi)),
+    ]
 }
 
 /// The maps in catalogue order; every catalogue id needs one.
@@ -149,11 +200,11 @@ fn conclude(t: &ClusterTest) -> String {
     );
     if !t.unconstrained_ids.is_empty() {
         s += &format!(
-            "\n  Warning: {} never discovered on its bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
+            "\n  Warning: {} on the bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
             if t.unconstrained_ids.len() == 1 {
-                "1 object was".to_string()
+                "1 object was never discovered".to_string()
             } else {
-                format!("{} objects were", t.unconstrained_ids.len())
+                format!("{} objects were never discovered", t.unconstrained_ids.len())
             },
             t.unconstrained_ids
         );

@@ -266,12 +266,17 @@ fn conclude(scores: &[ModelScore], n_obs: usize) -> String {
     );
     if order.len() >= 2 {
         let d = order[0].log_likelihood - order[1].log_likelihood;
+        // Beyond f64 (Δln L > 709) the ratio is written as a power of ten.
+        let ratio = if d.exp().is_finite() {
+            format!("{:.3e}", d.exp())
+        } else if d.is_finite() {
+            format!("10^{:.0}", d / std::f64::consts::LN_10)
+        } else {
+            "unbounded: the other model gives the catalogue zero density".to_string()
+        };
         s += &format!(
-            "\n  {} is favoured over {} by Δln L = {:.2} (likelihood ratio {:.3e}).",
-            order[0].name,
-            order[1].name,
-            d,
-            d.exp()
+            "\n  {} is favoured over {} by Δln L = {:.2} (likelihood ratio {ratio}).",
+            order[0].name, order[1].name, d,
         );
     }
     s

@@ -115,7 +115,8 @@ pub fn run(a: Args) -> Result<()> {
         written.index.display()
     );
     println!(
-        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), index.html, figures/.",
+        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), catalog.parquet, \
+         detectability/, bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, index.html, figures/.",
         a.out.display()
     );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());

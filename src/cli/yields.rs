@@ -106,6 +106,20 @@ pub fn run(a: Args) -> Result<()> {
             )
         })
         .collect();
+    let cadence = cadence_rows(&surveys, &totals, n, &population_name(&a.objects));
+    let cadence_table = out.write(
+        "yield_cadence",
+        vec![
+            col("plan", cadence.iter().map(|r| r.0.clone()).collect::<Vec<String>>()),
+            col(
+                "population",
+                cadence.iter().map(|r| r.1.clone()).collect::<Vec<String>>(),
+            ),
+            col("cadence_days", cadence.iter().map(|r| r.2).collect::<Vec<f64>>()),
+            col("n_objects", cadence.iter().map(|r| r.3).collect::<Vec<u64>>()),
+            col("n_discovered", cadence.iter().map(|r| r.4).collect::<Vec<u64>>()),
+        ],
+    )?;
     let conclusion = format!(
         "seine yield: {n} objects. {}. Most discoveries: {}.",
         list.join("; "),
@@ -120,6 +134,40 @@ pub fn run(a: Args) -> Result<()> {
         }),
         &conclusion,
     )?;
-    a.run.report(&conclusion, &[&table, &summary]);
+    a.run.report(&conclusion, &[&table, &cadence_table, &summary]);
     Ok(())
+}
+
+/// `yield_cadence`: per survey (plan) its revisit interval (the median number of nights
+/// between successive nights a field was visited) and what it discovered; surveys that never
+/// revisit a field have no interval and no row.
+fn cadence_rows(
+    surveys: &[seine::engine::PreparedSurvey],
+    totals: &[(String, u64, u64)],
+    n: u64,
+    population: &str,
+) -> Vec<(String, String, f64, u64, u64)> {
+    surveys
+        .iter()
+        .zip(totals)
+        .filter_map(|(s, (name, k, _))| {
+            let days = seine::report::inputs::median_revisit_days(&s.survey)?;
+            Some((name.clone(), population.to_string(), days, n, *k))
+        })
+        .collect()
+}
+
+/// The population's name from the spec `seine draw` stored in a Parquet table, else the
+/// file's stem.
+fn population_name(objects: &std::path::Path) -> String {
+    let stem = objects
+        .file_stem()
+        .map_or("population".into(), |s| s.to_string_lossy().into_owned());
+    let spec = seine::io::table::read_parquet_metadata(objects)
+        .ok()
+        .and_then(|kv| kv.into_iter().find(|(k, _)| k == "seine.population_spec"))
+        .and_then(|(_, text)| text.parse::<toml::Table>().ok());
+    spec.as_ref()
+        .and_then(|t| t.get("population")?.get("name")?.as_str().map(String::from))
+        .unwrap_or(stem)
 }

@@ -48,7 +48,7 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
     for (k, run) in inp.runs.iter().enumerate() {
         out.push(found_section(dir, run, k, inp.runs.len())?);
     }
-    out.push(bias_section(inp)?);
+    out.push(bias_section(dir, inp)?);
     Ok(out
         .into_iter()
         .filter(|s| !s.figures.is_empty() || !s.tables.is_empty())
@@ -436,7 +436,7 @@ fn yield_table(rows: &[YieldRow]) -> Table {
 
 /// Bias maps, rose diagrams (with the null band when the cluster test wrote one) and the
 /// cluster test's null distributions.
-fn bias_section(inp: &Inputs) -> Result<Section> {
+fn bias_section(dir: &Path, inp: &Inputs) -> Result<Section> {
     let mut figures: Vec<Figure> = inp
         .bias_maps
         .iter()
@@ -459,18 +459,53 @@ fn bias_section(inp: &Inputs) -> Result<Section> {
             }
         }
     }
-    for (q, bins) in &inp.roses {
-        figures.push(rose::rose(q, bins, rose::Band::BiasAware, "From rose.csv.")?);
+    for (q, bins, source) in &inp.roses {
+        let shown = Path::new(source)
+            .strip_prefix(dir)
+            .map_or(source.clone(), |p| p.display().to_string());
+        let note = format!("Counts of the tested catalogue and band of its synthetic catalogues, from {shown}.");
+        figures.push(rose::rose(q, bins, rose::Band::BiasAware, &note)?);
     }
     for t in &inp.null_tests {
         figures.push(cluster::null_distribution(t)?);
     }
+    let tables = if inp.null_tests.is_empty() {
+        Vec::new()
+    } else {
+        vec![cluster_table(&inp.null_tests)]
+    };
     Ok(Section {
         title: "Bias and clustering".into(),
         intro: "Before reading meaning into aligned orbits: what the surveys' own footprint and \
                 cadence produce from angles that are not clustered at all."
             .into(),
-        tables: Vec::new(),
+        tables,
         figures,
     })
+}
+
+/// The cluster test's statistics: observed value, bias-aware and naive p-values.
+fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
+    let p = |x: Option<f64>| x.map_or("—".into(), |p| format!("{p:.3}"));
+    Table {
+        caption: "Cluster test: each statistic of the tested catalogue (larger means more clustered), \
+                  its chance under the bias-aware null (angles from the objects' bias maps) and \
+                  without the surveys' bias (uniform angles)."
+            .into(),
+        header: ["statistic", "observed", "null catalogues", "p bias-aware", "p naive"]
+            .map(String::from)
+            .to_vec(),
+        rows: tests
+            .iter()
+            .map(|t| {
+                vec![
+                    cluster::stat_label(&t.statistic),
+                    format!("{:.4}", t.observed),
+                    t.samples.len().to_string(),
+                    p(t.p_value),
+                    p(t.p_value_naive),
+                ]
+            })
+            .collect(),
+    }
 }

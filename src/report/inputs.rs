@@ -63,7 +63,8 @@ pub struct Inputs {
     pub surveys: Vec<Survey>,
     pub coverage: Vec<PlanCoverage>,
     pub bias_maps: Vec<HeatMap>,
-    pub roses: Vec<(String, Vec<RoseBin>)>,
+    /// (quantity, bins, the file they came from).
+    pub roses: Vec<(String, Vec<RoseBin>, String)>,
     pub null_tests: Vec<NullTest>,
     pub yields: Vec<YieldRow>,
 }
@@ -130,8 +131,8 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
     if inputs.is_empty() {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
-             or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*.csv, \
-             rose.csv, cluster_null.csv, yield_cadence.csv), here or one directory down",
+             or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
+             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*), here or one directory down",
             dir.display()
         )));
     }
@@ -146,11 +147,11 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         inputs.coverage.push(read_coverage(f, stem)?);
     } else if name.starts_with("bias_map") && (name.ends_with(".csv") || name.ends_with(".parquet")) {
         inputs.bias_maps.extend(read_bias_maps(f)?);
-    } else if name == "rose.csv" {
+    } else if name == "rose.csv" || name == "rose.parquet" {
         inputs.roses.extend(read_roses(f)?);
-    } else if name == "cluster_null.csv" {
+    } else if name == "cluster_null.csv" || name == "cluster_null.parquet" {
         inputs.null_tests.extend(read_null_tests(f)?);
-    } else if name == "yield_cadence.csv" {
+    } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.extend(read_yields(f)?);
     }
     Ok(())
@@ -385,15 +386,15 @@ fn read_bias_maps(path: &Path) -> Result<Vec<HeatMap>> {
     Ok(maps)
 }
 
-/// `rose.csv`: `quantity, bin_min_deg, bin_max_deg, observed` and optionally
-/// `null_lo, null_median, null_hi`.
-fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>)>> {
+/// `rose.csv` (or `.parquet`, as `seine cluster-test` writes it): `quantity, bin_lo_deg,
+/// bin_hi_deg, observed` and optionally `null_lo, null_median, null_hi`.
+fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>, String)>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let (q, lo, hi, obs) = (
         c.str("quantity")?,
-        c.f64("bin_min_deg")?,
-        c.f64("bin_max_deg")?,
+        c.f64("bin_lo_deg")?,
+        c.f64("bin_hi_deg")?,
         c.f64("observed")?,
     );
     let band = if c.has("null_lo") {
@@ -401,10 +402,11 @@ fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>)>> {
     } else {
         None
     };
-    let mut out: Vec<(String, Vec<RoseBin>)> = Vec::new();
+    let source = path.display().to_string();
+    let mut out: Vec<(String, Vec<RoseBin>, String)> = Vec::new();
     for i in 0..q.len() {
-        if out.last().is_none_or(|(name, _)| *name != q[i]) {
-            out.push((q[i].clone(), Vec::new()));
+        if out.last().is_none_or(|(name, _, _)| *name != q[i]) {
+            out.push((q[i].clone(), Vec::new(), source.clone()));
         }
         let null = band.as_ref().map(|(a, m, b)| NullBand {
             lo: a[i],
@@ -421,50 +423,81 @@ fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>)>> {
     Ok(out)
 }
 
-/// `cluster_null.csv` (`statistic, value`: one row per null catalog) with the observed values
-/// and p-values in `cluster_test.json` beside it.
+/// `cluster_null.csv` (or `.parquet`, as `seine cluster-test` writes it): `statistic, value`
+/// (one row per statistic and null catalogue), optional `value_naive`; with the observed
+/// values and p-values (`statistic, observed, p_bias_aware`, optional `p_naive`) in
+/// `cluster_test.csv` (or `.parquet`) beside it.
 fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let (stat, value) = (c.str("statistic")?, c.f64("value")?);
-    let json_path = path.with_file_name("cluster_test.json");
-    let json = if json_path.exists() {
-        read_json(&json_path)?
+    let naive = if c.has("value_naive") {
+        Some(c.f64("value_naive")?)
     } else {
-        serde_json::Value::Null
+        None
     };
-    let mut samples: Vec<(String, Vec<f64>)> = Vec::new();
-    for (s, v) in stat.into_iter().zip(value) {
-        match samples.iter_mut().find(|(n, _)| *n == s) {
-            Some((_, xs)) => xs.push(v),
-            None => samples.push((s, vec![v])),
+    let beside = ["cluster_test.parquet", "cluster_test.csv"].map(|n| path.with_file_name(n));
+    let Some(test_path) = beside.iter().find(|p| p.exists()) else {
+        return Err(Error::input(format!(
+            "{}: expected cluster_test.parquet or cluster_test.csv beside it (the observed values \
+             and p-values seine cluster-test writes)",
+            path.display()
+        )));
+    };
+    let tdf = read_table(test_path)?;
+    let tc = Columns::new(&tdf, test_path);
+    // The joint statistic has no single value (NaN): only the rows of sampled statistics are read.
+    let names = tc.str("statistic")?;
+    let (observed, p_bias) = (
+        nullable(&tdf, test_path, "observed")?,
+        nullable(&tdf, test_path, "p_bias_aware")?,
+    );
+    let p_naive = if tc.has("p_naive") {
+        Some(nullable(&tdf, test_path, "p_naive")?)
+    } else {
+        None
+    };
+    let mut tests: Vec<NullTest> = Vec::new();
+    for i in 0..stat.len() {
+        let s = &stat[i];
+        let k = match tests.iter().position(|t| t.statistic == *s) {
+            Some(k) => k,
+            None => {
+                let j = names.iter().position(|n| n == s).ok_or_else(|| {
+                    Error::input(format!(
+                        "{}: no row for statistic `{s}` of {}",
+                        test_path.display(),
+                        path.display()
+                    ))
+                })?;
+                let finite = |x: Option<f64>| x.filter(|x| x.is_finite());
+                let observed = finite(observed[j]).ok_or_else(|| {
+                    Error::input(format!(
+                        "{}: statistic `{s}`: expected a finite `observed` value",
+                        test_path.display()
+                    ))
+                })?;
+                tests.push(NullTest {
+                    statistic: s.clone(),
+                    observed,
+                    p_value: finite(p_bias[j]),
+                    p_value_naive: p_naive.as_ref().and_then(|p| finite(p[j])),
+                    samples: Vec::new(),
+                    naive_samples: Vec::new(),
+                });
+                tests.len() - 1
+            }
+        };
+        tests[k].samples.push(value[i]);
+        if let Some(v) = &naive {
+            tests[k].naive_samples.push(v[i]);
         }
     }
-    samples
-        .into_iter()
-        .map(|(statistic, samples)| {
-            let t = json["tests"]
-                .as_array()
-                .and_then(|a| a.iter().find(|t| t["statistic"] == statistic.as_str()));
-            let observed = t.and_then(|t| t["observed"].as_f64()).ok_or_else(|| {
-                Error::input(format!(
-                    "{}: no observed value for statistic `{statistic}`",
-                    json_path.display()
-                ))
-            })?;
-            let p = |k: &str| t.and_then(|t| t[k].as_f64());
-            Ok(NullTest {
-                observed,
-                p_value: p("p_value"),
-                p_value_naive: p("p_value_naive"),
-                statistic,
-                samples,
-            })
-        })
-        .collect()
+    Ok(tests)
 }
 
-/// `yield_cadence.csv`: `plan, cadence_days, n_objects, n_discovered`, optional `population`.
+/// `yield_cadence.csv` (or `.parquet`, as `seine yield` writes it): `plan, cadence_days,
+/// n_objects, n_discovered`, optional `population`.
 fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);

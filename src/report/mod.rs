@@ -9,9 +9,9 @@
 //! | `*.survey.toml` (and the survey specs named in an observe run's provenance) | a survey and its visits | sky coverage, depth distribution, efficiency curve |
 //! | `STEM.coverage.json`, `STEM.coverage_ecliptic.csv` | a plan's coverage (`seine plan`) | table of coverage by ecliptic latitude |
 //! | `bias_map*.csv`: `X_min, X_max, Y_min, Y_max, fraction` (or `probability`), optional `id` | bias maps, one per `id` (up to 6) | heat maps |
-//! | `rose.csv`: `quantity, bin_min_deg, bin_max_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
-//! | `cluster_null.csv`: `statistic, value` (one row per null catalog) with `cluster_test.json`: `{"tests": [{"statistic", "observed", "p_value", "p_value_naive"}]}` | the cluster test | the null distribution with the observed value |
-//! | `yield_cadence.csv`: `plan, cadence_days, n_objects, n_discovered`, optional `population` | yields of several plans | yield against cadence (also built from two or more observe runs with one known survey each) |
+//! | `rose.parquet` (or `.csv`, as `seine cluster-test` writes it): `quantity, bin_lo_deg, bin_hi_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the bias-aware null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
+//! | `cluster_null.parquet` (or `.csv`, from `seine cluster-test`): `statistic, value` (one row per statistic and null catalog), optional `value_naive`, with `cluster_test.*` beside it: `statistic, observed, p_bias_aware`, optional `p_naive` | the cluster test | the null distribution of each statistic (and the naive one), the observed value marked |
+//! | `yield_cadence.parquet` (or `.csv`, as `seine yield` writes it): `plan, cadence_days, n_objects, n_discovered`, optional `population` | yields of several plans | yield against cadence (also built from two or more observe runs with one known survey each) |
 //!
 //! The figures are written to `DIR/figures/STEM.svg` and the page to `DIR/index.html`.
 

@@ -57,7 +57,10 @@ pub struct NullTest {
     pub observed: f64,
     pub p_value: Option<f64>,
     pub p_value_naive: Option<f64>,
+    /// The statistic over the bias-aware null catalogues.
     pub samples: Vec<f64>,
+    /// The statistic over catalogues of uniform angles (no survey bias); may be empty.
+    pub naive_samples: Vec<f64>,
 }
 
 /// What one plan found of one population.

@@ -1,8 +1,8 @@
-//! The clustering test's null distribution: a histogram of the statistic over the Monte Carlo
-//! catalogs, with the observed value marked and the p-value (bias-aware and naive) stated.
+//! The clustering test's null distribution: a histogram of the statistic over the bias-aware
+//! Monte Carlo catalogs, the naive null (uniform angles) as an outline when given, the observed
+//! value marked, and the p-values (bias-aware and naive) stated.
 
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use super::axes;
 use crate::error::Result;
@@ -15,15 +15,50 @@ fn p_text(p: Option<f64>) -> String {
     p.map_or("not given".into(), |p| format!("{p:.3}"))
 }
 
+/// A statistic of `seine cluster-test` in words; other names as they are.
+pub fn stat_label(name: &str) -> String {
+    let (what, angle) = match name.split_once('_') {
+        Some(("rayleigh", a)) => ("Rayleigh R/n", a),
+        Some(("kuiper", a)) => ("Kuiper V", a),
+        _ => ("", ""),
+    };
+    let sym = match angle {
+        "varpi" => "ϖ",
+        "node" => "Ω",
+        "argperi" => "ω",
+        _ => "",
+    };
+    match (what, sym, name) {
+        (_, _, "mean_pole") => "length of the mean orbital pole".into(),
+        (_, _, "mean_perihelion") => "length of the mean perihelion direction".into(),
+        ("", _, _) | (_, "", _) => name.into(),
+        (w, s, _) => format!("{w} of {s}"),
+    }
+}
+
+/// Bins of the histograms.
+const BINS: usize = 40;
+
 /// The null histogram of one statistic with its observed value as a vertical line.
 pub fn null_distribution(test: &NullTest) -> Result<Figure> {
-    let title = format!("Cluster test: {}", test.statistic);
+    let label = stat_label(&test.statistic);
+    let title = format!("Cluster test: {label}");
+    let naive = if test.naive_samples.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " Blue outline: the naive null, {} catalogs of uniformly distributed angles (no survey \
+             bias).",
+            test.naive_samples.len()
+        )
+    };
     let caption = format!(
-        "Distribution of the statistic {} (dimensionless) over {} synthetic catalogs whose angles \
-         are drawn isotropically and seen through the same surveys (the bias-aware null), as the \
-         fraction of catalogs per bin. Orange line: the observed catalog's value, {:.4}. \
-         Bias-aware p-value (fraction of null catalogs at least as extreme): {}; naive p-value, \
-         without the survey's bias: {}.",
+        "Distribution of the statistic {label} ({}, dimensionless; larger means more clustered) \
+         over {} synthetic catalogs in which every object keeps its a, e, i and H and draws its \
+         angles from its own bias map, i.e. isotropic angles seen through the same surveys (the \
+         bias-aware null; grey bars), as the fraction of catalogs per bin.{naive} Orange line: the \
+         observed catalog's value, {:.4}. Bias-aware p-value, (1 + catalogs at least as large) / \
+         (1 + catalogs): {}; naive p-value, without the surveys' bias: {}.",
         test.statistic,
         test.samples.len(),
         test.observed,
@@ -36,40 +71,64 @@ pub fn null_distribution(test: &NullTest) -> Result<Figure> {
         let Some((lo, hi)) = finite_range(&test.samples) else {
             return empty_note(&area, "no null samples");
         };
+        let (lo, hi) = finite_range(&test.naive_samples).map_or((lo, hi), |(a, b)| (lo.min(a), hi.max(b)));
         let (lo, hi) = (lo.min(test.observed), hi.max(test.observed));
         let pad = ((hi - lo) * 0.05).max(1e-9);
-        let edges = lin_edges(lo - pad, hi + pad, 40);
-        let n = test.samples.len() as f64;
-        let dens: Vec<f64> = histogram(&test.samples, &edges).iter().map(|&c| c as f64 / n).collect();
-        let top = dens.iter().copied().fold(0.0, f64::max) * 1.2;
-        let mut chart = axes::chart(&area, edges[0]..edges[40], 0.0..top.max(1e-9))?;
+        // The statistics are lengths and distances, never negative: the axis starts at 0 then.
+        let start = if lo >= 0.0 { (lo - pad).max(0.0) } else { lo - pad };
+        let edges = lin_edges(start, hi + pad, BINS);
+        let fractions = |xs: &[f64]| -> Vec<f64> {
+            let n = xs.len().max(1) as f64;
+            histogram(xs, &edges).iter().map(|&c| c as f64 / n).collect()
+        };
+        let (dens, naive) = (fractions(&test.samples), fractions(&test.naive_samples));
+        let peak = dens.iter().chain(&naive).copied().fold(0.0, f64::max).max(1e-9);
+        // Headroom above the tallest bin keeps the legend clear of the bars.
+        let top = peak * 1.55;
+        let mut chart = axes::chart(&area, edges[0]..edges[BINS], 0.0..top)?;
         axes::mesh(
             &mut chart,
-            &format!("{} (dimensionless)", test.statistic),
+            &format!("{label} (dimensionless)"),
             "fraction of null catalogs",
         )?;
-        chart.draw_series(
-            dens.iter()
-                .enumerate()
-                .map(|(k, &d)| Rectangle::new([(edges[k], 0.0), (edges[k + 1], d)], style::BAND.filled())),
-        )?;
+        chart
+            .draw_series(
+                dens.iter()
+                    .enumerate()
+                    .map(|(k, &d)| Rectangle::new([(edges[k], 0.0), (edges[k + 1], d)], style::BAND.filled())),
+            )?
+            .label("bias-aware null (bias maps)")
+            .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + 22, y + 6)], style::BAND.filled()));
+        if !test.naive_samples.is_empty() {
+            let c = style::series(0);
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    axes::steps(&edges, &naive),
+                    c.stroke_width(2),
+                )))?
+                .label("naive null (uniform angles)")
+                .legend(axes::swatch(c, 2));
+        }
         let c = style::series(1);
-        chart.draw_series(std::iter::once(PathElement::new(
-            vec![(test.observed, 0.0), (test.observed, top * 0.92)],
-            c.stroke_width(3),
-        )))?;
-        // The label leans inwards so that it stays inside the plot at either end.
-        let h = if test.observed > 0.5 * (edges[0] + edges[40]) {
-            HPos::Right
-        } else {
-            HPos::Left
+        chart
+            .draw_series(std::iter::once(PathElement::new(
+                vec![(test.observed, 0.0), (test.observed, peak * 1.08)],
+                c.stroke_width(3),
+            )))?
+            .label(format!("observed, p = {}", p_text(test.p_value)))
+            .legend(axes::swatch(c, 3));
+        // The legend goes to the side whose bars, outline and observed line are lower.
+        let obs_bin = ((test.observed - edges[0]) / (edges[BINS] - edges[0]) * BINS as f64) as usize;
+        let height = |k: usize| {
+            let line = if k == obs_bin.min(BINS - 1) { peak * 1.08 } else { 0.0 };
+            dens[k].max(naive.get(k).copied().unwrap_or(0.0)).max(line)
         };
-        let s = style::text(style::LABEL_PX).pos(Pos::new(h, VPos::Bottom));
-        chart.draw_series(std::iter::once(Text::new(
-            format!(" observed, p = {} ", p_text(test.p_value)),
-            (test.observed, top * 0.93),
-            s,
-        )))?;
-        Ok(())
+        let side = |ks: std::ops::Range<usize>| ks.map(height).fold(0.0, f64::max);
+        let pos = if side(0..BINS * 2 / 5) < side(BINS * 3 / 5..BINS) {
+            SeriesLabelPosition::UpperLeft
+        } else {
+            SeriesLabelPosition::UpperRight
+        };
+        axes::legend(&mut chart, pos)
     })
 }

@@ -86,10 +86,17 @@ pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<
             let mut chart = ChartBuilder::on(&area)
                 .margin(10)
                 .build_cartesian_2d(-r * aspect..r * aspect, -r..r)?;
-            // Band, then wedges, then the rings and their labels on top so that they stay legible.
+            // Band, wedges, the grid, then the band's edges and median and the labels on top so
+            // that they stay legible.
             draw_band(&mut chart, bins)?;
             draw_wedges(&mut chart, bins)?;
-            draw_rings(&mut chart, top, r)
+            draw_grid(&mut chart, top, r)?;
+            draw_band_lines(&mut chart, bins)?;
+            draw_labels(&mut chart, top, r)?;
+            if has_null {
+                draw_key(&area, band)?;
+            }
+            Ok(())
         },
     )
 }
@@ -110,10 +117,10 @@ fn sector(a0: f64, a1: f64, r0: f64, r1: f64) -> Vec<(f64, f64)> {
     arc(a0, a1, r1).chain(arc(a1, a0, r0)).collect()
 }
 
-fn draw_rings(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
-    let ticks = ring_counts(top);
+/// Rings at round counts and spokes every 45°.
+fn draw_grid(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
     let grid = style::GRID.stroke_width(1);
-    for &n in &ticks {
+    for &n in &ring_counts(top) {
         let pts: Vec<_> = arc(0.0, 360.0, radius(n as f64)).collect();
         chart.draw_series(std::iter::once(PathElement::new(pts, grid)))?;
     }
@@ -123,6 +130,12 @@ fn draw_rings(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
             grid,
         )))?;
     }
+    Ok(())
+}
+
+/// The count of each ring and the angles at the quarters.
+fn draw_labels(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
+    let ticks = ring_counts(top);
     let lab = style::muted_text(style::LABEL_PX - 2.0).pos(Pos::new(HPos::Left, VPos::Bottom));
     for &n in &ticks {
         chart.draw_series(std::iter::once(Text::new(
@@ -158,9 +171,49 @@ fn draw_band(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
         let Some(n) = b.null else { continue };
         let poly = sector(b.min_deg, b.max_deg, radius(n.lo), radius(n.hi));
         chart.draw_series(std::iter::once(Polygon::new(poly, style::BAND.mix(0.75).filled())))?;
-        let med: Vec<_> = arc(b.min_deg, b.max_deg, radius(n.median)).collect();
-        chart.draw_series(std::iter::once(PathElement::new(med, style::MUTED.stroke_width(2))))?;
     }
+    Ok(())
+}
+
+/// Over the wedges: the band's edges as thin grey arcs (where a wedge covers the band, its
+/// end is still seen against them) and its median count as a dark arc (none where it is 0).
+fn draw_band_lines(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
+    for b in bins {
+        let Some(n) = b.null else { continue };
+        for edge in [n.lo, n.hi].into_iter().filter(|c| *c > 0.0) {
+            let pts: Vec<_> = arc(b.min_deg, b.max_deg, radius(edge)).collect();
+            chart.draw_series(std::iter::once(PathElement::new(pts, style::MUTED.stroke_width(1))))?;
+        }
+        if n.median > 0.0 {
+            let med: Vec<_> = arc(b.min_deg, b.max_deg, radius(n.median)).collect();
+            chart.draw_series(std::iter::once(PathElement::new(med, style::INK.stroke_width(2))))?;
+        }
+    }
+    Ok(())
+}
+
+/// A key in the lower left corner: what the wedges, the band and the dark arcs are.
+fn draw_key(area: &crate::report::figure::Area, band: Band) -> DrawResult {
+    let (_, h) = area.dim_in_pixel();
+    let (x, y0, dy) = (12, h as i32 - 66, 22);
+    let text = style::text(style::LABEL_PX - 2.0).pos(Pos::new(HPos::Left, VPos::Center));
+    let band_name = match band {
+        Band::BiasAware => "bias-aware null, 5–95%",
+        Band::Naive => "naive null, 5–95%",
+    };
+    let c = style::series(1);
+    area.draw(&Rectangle::new([(x, y0 - 6), (x + 20, y0 + 6)], c.mix(0.55).filled()))?;
+    area.draw(&Text::new("observed count", (x + 28, y0), text.clone()))?;
+    area.draw(&Rectangle::new(
+        [(x, y0 + dy - 6), (x + 20, y0 + dy + 6)],
+        style::BAND.mix(0.75).filled(),
+    ))?;
+    area.draw(&Text::new(band_name, (x + 28, y0 + dy), text.clone()))?;
+    area.draw(&PathElement::new(
+        vec![(x, y0 + 2 * dy), (x + 20, y0 + 2 * dy)],
+        style::INK.stroke_width(2),
+    ))?;
+    area.draw(&Text::new("its median", (x + 28, y0 + 2 * dy), text))?;
     Ok(())
 }
 
