@@ -12,6 +12,7 @@ pub mod orbit;
 pub mod population;
 pub mod report;
 pub mod rng;
+pub mod shard;
 pub mod sky;
 pub mod survey;
 pub mod time;

@@ -470,12 +470,12 @@ h_mag = { dist = "fixed", value = 7.0 }
 /// Shards are contiguous, disjoint and cover 0..count for any count and number of shards.
 #[test]
 fn shard_ranges_partition_the_ids() {
-    use seine::population::sampler::shard_range;
+    use seine::shard::shard_ids;
     for count in [0u64, 1, 2, 7, 1000, 1 << 40] {
         for n in [1u64, 2, 3, 7, 64] {
             let mut next = 0i64;
             for k in 0..n {
-                let r = shard_range(count, k, n);
+                let r = shard_ids(count, Some((k, n)));
                 assert_eq!(r.start, next, "count {count}, shard {k}/{n}");
                 next = r.end;
             }

@@ -5,9 +5,9 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapGrid, bias_maps, svg};
-use seine::engine::run::shard_range;
 use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_atomic};
+use seine::shard::shard_rows;
 use seine::{Error, Result};
 
 use super::common::ShardArgs;
@@ -87,7 +87,8 @@ pub fn run(a: Args) -> Result<()> {
     let surveys = load_surveys(&a.surveys, &mut prov)?;
     let objects = ObjectTable::read(&a.objects)?;
     prov.add_input(&a.objects)?;
-    let (lo, hi) = shard_range(objects.len(), a.shard.resolve()?);
+    let rows = shard_rows(objects.len(), a.shard.resolve()?);
+    let (lo, hi) = (rows.start, rows.end);
     let out = a.run.out_dir(prov)?;
     let maps = bias_maps(&objects, lo..hi, &surveys, grid, a.run.seed);
     let table = out.write("bias_map", map_columns(&maps))?;

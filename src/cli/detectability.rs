@@ -5,8 +5,9 @@ use std::path::PathBuf;
 
 use seine::Result;
 use seine::analysis::detectability::{GridEdges, Redraw, detectability, selection_grid};
-use seine::engine::run::{shard_range, survey_key};
+use seine::engine::run::survey_key;
 use seine::io::objects::ObjectTable;
+use seine::shard::shard_rows;
 
 use super::common::ShardArgs;
 use super::common::*;
@@ -57,7 +58,8 @@ pub fn run(a: Args) -> Result<()> {
     let objects = ObjectTable::read(&a.objects)?;
     prov.add_input(&a.objects)?;
     let shard = a.shard.resolve()?;
-    let (lo, hi) = shard_range(objects.len(), shard);
+    let rows = shard_rows(objects.len(), shard);
+    let (lo, hi) = (rows.start, rows.end);
     let out = a.run.out_dir(prov)?;
     let res = detectability(&objects, lo..hi, &surveys, a.clones, redraw, a.run.seed);
     let el =

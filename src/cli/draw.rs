@@ -7,8 +7,9 @@ use seine::io::Provenance;
 use seine::io::sink::TableSink;
 use seine::io::table::Format;
 use seine::population::clone::Cloner;
-use seine::population::sampler::{CHUNK, shard_range};
+use seine::population::sampler::CHUNK;
 use seine::population::{Population, Spec};
+use seine::shard::shard_ids;
 use seine::{Error, Result};
 
 #[derive(clap::Args, Debug)]
@@ -79,7 +80,7 @@ fn draw(a: &Args, pop: &Population, shard: Option<(u64, u64)>, prov: Provenance,
     let count = a
         .count
         .ok_or_else(|| Error::input("--count: expected the number of objects to draw"))?;
-    let ids = shard.map_or(0..count as i64, |(k, n)| shard_range(count, k, n));
+    let ids = shard_ids(count, shard);
     let pilot = pop
         .pilot(a.seed)
         .map_err(|e| Error::input(format!("{}: {e}", a.spec.display())))?;
@@ -104,7 +105,7 @@ fn clone(a: &Args, cloner: &Cloner, shard: Option<(u64, u64)>, prov: Provenance,
             "--count {c}: an [import] spec makes particles × clones = {total} objects; omit --count"
         )));
     }
-    let ids = shard.map_or(0..total as i64, |(k, n)| shard_range(total, k, n));
+    let ids = shard_ids(total, shard);
     let mut sink = TableSink::create(&a.out, prov)?.with_metadata("seine.population_spec", text);
     let mut start = ids.start;
     loop {

@@ -65,14 +65,6 @@ pub struct ObserveReport {
     pub chunks: usize,
 }
 
-/// The rows [lo, hi) of shard k of n over `len` rows.
-pub fn shard_range(len: usize, shard: Option<(usize, usize)>) -> (usize, usize) {
-    match shard {
-        None => (0, len),
-        Some((k, n)) => (len * k / n, len * (k + 1) / n),
-    }
-}
-
 /// Run the objects through the surveys and write `DIR/objects.*`, `DIR/detections.*` and
 /// `DIR/summary.json`, by way of part files and a manifest (see `parts`): chunks are
 /// computed (or, with `resume`, reused), then the final tables are streamed from the parts.

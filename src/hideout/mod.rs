@@ -32,7 +32,7 @@ use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::table::{Format, write_atomic, write_table};
-use crate::population::sampler::shard_range;
+use crate::shard::shard_ids;
 use crate::sky::ephemeris::observer_states;
 use crate::sky::observer::ObserverState;
 use crate::time::TimeScale;
@@ -119,9 +119,7 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOption
     let (a, h) = default_bins(prior, opts)?;
     let mut tally = Tally::new(a, h, opts.order, surveys.len());
     let epoch = epoch_observer(opts.epoch_mjd)?;
-    let ids = opts
-        .shard
-        .map_or(0..opts.count as i64, |(k, n)| shard_range(opts.count, k, n));
+    let ids = shard_ids(opts.count, opts.shard);
     let bar = crate::engine::summary::progress_bar((ids.end - ids.start) as usize, opts.progress);
     let mut lo = ids.start;
     while lo < ids.end {

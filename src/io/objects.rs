@@ -5,6 +5,7 @@
 //! `lc_amp_mag` and `lc_period_hr` (a sinusoidal light curve), and `frame`
 //! (`heliocentric` or `barycentric`). Every other column is carried through untouched.
 
+use crate::shard::shard_rows;
 use std::borrow::Cow;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
@@ -225,10 +226,10 @@ impl<'a> ObjectSource<'a> {
     /// unique ids), so that a bad row fails the run before anything is written.
     pub fn parquet(path: &Path, shard: Option<(usize, usize)>) -> Result<ObjectSource<'static>> {
         let (first, lo, total) = read_parquet_rows(path, |n| {
-            let (lo, hi) = crate::engine::run::shard_range(n, shard);
-            (lo, hi.min(lo + 1))
+            let rows = shard_rows(n, shard);
+            (rows.start, rows.end.min(rows.start + 1))
         })?;
-        let hi = crate::engine::run::shard_range(total, shard).1;
+        let hi = shard_rows(total, shard).end;
         check_rows(path, lo, hi)?;
         let mut head = if first.height() > 0 {
             Self::table_at(first, path, lo, total)?
@@ -263,7 +264,10 @@ impl<'a> ObjectSource<'a> {
     pub fn rows(&self, shard: Option<(usize, usize)>) -> (usize, usize) {
         match self {
             ObjectSource::Table(t) if t.is_slice() => (t.first_row, t.first_row + t.len()),
-            ObjectSource::Table(t) => crate::engine::run::shard_range(t.len(), shard),
+            ObjectSource::Table(t) => {
+                let rows = shard_rows(t.len(), shard);
+                (rows.start, rows.end)
+            }
             ObjectSource::Parquet { rows, .. } => *rows,
         }
     }

@@ -34,14 +34,6 @@ const MAX_ATTEMPTS: u64 = 1_000_000_000;
 const BOUND_KEY: &str = "orbit";
 const INC_KEY: &str = "orbit.inc_deg";
 
-/// A shard K of N (K from 0): a contiguous block of the ids, so the shards are disjoint
-/// and their union is the whole.
-pub fn shard_range(count: u64, k: u64, n: u64) -> Range<i64> {
-    let start = (count as u128 * k as u128 / n as u128) as i64;
-    let end = (count as u128 * (k as u128 + 1) / n as u128) as i64;
-    start..end
-}
-
 /// One attempt at the size, shape and inclination.
 #[derive(Debug, Clone, Copy)]
 struct OrbitDraw {
