@@ -15,7 +15,6 @@ use seine::analysis::cluster_test::{Angles, cluster_test};
 use seine::analysis::trials::TrialObject;
 use seine::engine::PreparedSurvey;
 use seine::io::objects::ObjectTable;
-use seine::io::table::frame_f64;
 use seine::population::Distribution;
 
 /// A strongly lopsided survey: four 10° fields on the ecliptic at λ = 0–45°, observed on a
@@ -37,29 +36,14 @@ fn wide(dir: &Path) -> PreparedSurvey {
 /// n eccentric objects (a 40–80 AU, e 0.4–0.6, i < 15°, H 5–6.5) with the given angles.
 fn catalogue(n: usize, seed: u64, angles: impl Fn(usize, &mut Pcg64) -> (f64, f64, f64)) -> ObjectTable {
     let mut rng = Pcg64::seed_from_u64(seed);
-    let mut cols: Vec<Vec<f64>> = vec![Vec::new(); 9];
-    for i in 0..n {
+    let df = common::objects_frame((0..n).map(|i| {
         let a = 40.0 + 40.0 * rng.random::<f64>();
         let e = 0.4 + 0.2 * rng.random::<f64>();
         let inc = 15.0 * rng.random::<f64>();
         let h = 5.0 + 1.5 * rng.random::<f64>();
         let (node, argperi, m) = angles(i, &mut rng);
-        for (c, v) in cols.iter_mut().zip([i as f64, a, e, inc, node, argperi, m, 60400.0, h]) {
-            c.push(v);
-        }
-    }
-    let names = [
-        "id",
-        "a_au",
-        "e",
-        "inc_deg",
-        "node_deg",
-        "argperi_deg",
-        "mean_anomaly_deg",
-        "epoch_mjd",
-        "h_mag",
-    ];
-    let df = frame_f64(names.iter().zip(cols).map(|(n, c)| (*n, c)).collect());
+        [i as f64, a, e, inc, node, argperi, m, 60400.0, h]
+    }));
     ObjectTable::from_frame(df, Path::new("catalogue.csv")).unwrap()
 }
 

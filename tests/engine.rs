@@ -44,8 +44,7 @@ fn make_survey(dir: &Path, name: &str, field: &str, extra: &str, visits: &[(f64,
 /// Random distant objects, including a > 1000 AU, e = 0.99, retrograde and polar orbits.
 fn random_objects(n: usize, seed: u64) -> ObjectTable {
     let mut rng = Pcg64::seed_from_u64(seed);
-    let mut cols: Vec<Vec<f64>> = vec![Vec::new(); 9];
-    for i in 0..n {
+    let df = common::objects_frame((0..n).map(|i| {
         let a = match i % 5 {
             0 => 1000.0 + rng.random::<f64>() * 2000.0,
             _ => 30.0 * (100f64).powf(rng.random::<f64>()),
@@ -60,7 +59,7 @@ fn random_objects(n: usize, seed: u64) -> ObjectTable {
             1 => 88.0 + 4.0 * rng.random::<f64>(),
             _ => 30.0 * rng.random::<f64>(),
         };
-        let row = [
+        [
             i as f64,
             a,
             e,
@@ -70,23 +69,8 @@ fn random_objects(n: usize, seed: u64) -> ObjectTable {
             360.0 * rng.random::<f64>(),
             60400.0,
             3.0 + 5.0 * rng.random::<f64>(),
-        ];
-        for (c, v) in cols.iter_mut().zip(row) {
-            c.push(v);
-        }
-    }
-    let names = [
-        "id",
-        "a_au",
-        "e",
-        "inc_deg",
-        "node_deg",
-        "argperi_deg",
-        "mean_anomaly_deg",
-        "epoch_mjd",
-        "h_mag",
-    ];
-    let df = frame_f64(names.iter().zip(cols).map(|(n, c)| (*n, c)).collect());
+        ]
+    }));
     ObjectTable::from_frame(df, Path::new("random.csv")).unwrap()
 }
 

@@ -91,14 +91,37 @@ pub fn bench_survey(dir: &Path, n_visits: usize) -> PathBuf {
     dir.join("bench.toml")
 }
 
+/// The nine columns of an objects table, in the order of `objects_frame`'s rows.
+pub const OBJECT_COLUMNS: [&str; 9] = [
+    "id",
+    "a_au",
+    "e",
+    "inc_deg",
+    "node_deg",
+    "argperi_deg",
+    "mean_anomaly_deg",
+    "epoch_mjd",
+    "h_mag",
+];
+
+/// An objects table from rows of (id, a, e, i, Ω, ω, M, epoch, H).
+pub fn objects_frame(rows: impl IntoIterator<Item = [f64; 9]>) -> polars::prelude::DataFrame {
+    let mut cols: Vec<Vec<f64>> = vec![Vec::new(); 9];
+    for row in rows {
+        for (c, v) in cols.iter_mut().zip(row) {
+            c.push(v);
+        }
+    }
+    frame_f64(OBJECT_COLUMNS.iter().zip(cols).map(|(n, c)| (*n, c)).collect())
+}
+
 /// The engine benchmark's objects: a scattered-disk-like population (a 30–1000 AU, q ≥ 30 AU).
 pub fn bench_objects(n: usize) -> polars::prelude::DataFrame {
     let mut rng = Pcg64::seed_from_u64(6);
-    let mut c: Vec<Vec<f64>> = vec![Vec::with_capacity(n); 9];
-    for i in 0..n {
+    objects_frame((0..n).map(|i| {
         let a = 30.0 * (1000f64 / 30.0).powf(rng.random::<f64>());
         let e = rng.random::<f64>() * (1.0 - 30.0 / a);
-        let row = [
+        [
             i as f64,
             a,
             e,
@@ -108,23 +131,8 @@ pub fn bench_objects(n: usize) -> polars::prelude::DataFrame {
             360.0 * rng.random::<f64>(),
             61000.0,
             4.0 + 6.0 * rng.random::<f64>(),
-        ];
-        for (col, v) in c.iter_mut().zip(row) {
-            col.push(v);
-        }
-    }
-    let names = [
-        "id",
-        "a_au",
-        "e",
-        "inc_deg",
-        "node_deg",
-        "argperi_deg",
-        "mean_anomaly_deg",
-        "epoch_mjd",
-        "h_mag",
-    ];
-    frame_f64(names.iter().zip(c).map(|(n, v)| (*n, v)).collect())
+        ]
+    }))
 }
 
 /// Every file and directory below `dir`, sorted (to check that nothing was left behind).
