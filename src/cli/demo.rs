@@ -2,7 +2,8 @@
 //! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, the
 //! engine runs it through the survey; the discoveries become a catalogue whose detectability,
 //! bias maps, bias-aware clustering test and comparison with two model populations are run
-//! with the tool's own commands; the report (`DIR/index.html`) is written last.
+//! with the tool's own commands; three revisit cadences of the same survey are compared on the
+//! population (`seine yield`); the report (`DIR/index.html`) is written last.
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -108,15 +109,17 @@ pub fn run(a: Args) -> Result<()> {
     );
     print_fraction_by_q(s);
     analyses(&a.out, &spec_path, &report.objects_path, &objects)?;
+    compare_cadences(&a.out)?;
     let written = seine::report::report(&a.out)?;
     println!(
-        "\n5. report   {} figures; open {}",
+        "\n6. report   {} figures; open {}",
         written.figures.len(),
         written.index.display()
     );
     println!(
         "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), catalog.parquet, \
-         detectability/, bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, index.html, figures/.",
+         detectability/, bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
+         index.html, figures/.",
         a.out.display()
     );
     println!("done in {:.1} s", t0.elapsed().as_secs_f64());
@@ -192,6 +195,43 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable) -> 
         "--out",
         &dir("compare-models"),
     ])
+}
+
+/// Revisit intervals of the cadence comparison, nights (the demo's own plan revisits every 3).
+const CADENCES: [u32; 3] = [1, 3, 7];
+
+/// The same survey at three revisit intervals, through `seine yield` on the demo population.
+fn compare_cadences(out: &Path) -> Result<()> {
+    println!("\n5. cadence  the same survey revisiting every {CADENCES:?} nights (seine yield)");
+    let dir = out.join("cadences");
+    std::fs::create_dir_all(&dir).map_err(|e| seine::error::io_at(&dir, e))?;
+    let mut args: Vec<String> = vec!["yield".into()];
+    for every in CADENCES {
+        let text = cadence_variant(every)?;
+        let path = dir.join(format!("every-{every}.toml"));
+        write_atomic(&path, text.as_bytes())?;
+        args.extend(["--plan".into(), path_str(&path)]);
+    }
+    let objects = path_str(&out.join("objects.parquet"));
+    args.extend(["--objects".into(), objects, "--seed".into(), SEED.to_string()]);
+    args.extend(["--out".into(), path_str(&out.join("yield"))]);
+    stage(&args.iter().map(String::as_str).collect::<Vec<_>>())
+}
+
+/// The built-in plan with its revisit interval set to `every` nights (and a name saying so).
+fn cadence_variant(every: u32) -> Result<String> {
+    let (from_name, from_every) = ("name = \"Cerro Seine Synoptic Survey\"", "every_nights = 3");
+    if !(PLAN.contains(from_name) && PLAN.contains(from_every)) {
+        return Err(Error::input("built-in plan: expected its name and `every_nights = 3`"));
+    }
+    let when = if every == 1 {
+        "every night".to_string()
+    } else {
+        format!("every {every} nights")
+    };
+    Ok(PLAN
+        .replacen(from_name, &format!("name = \"Cerro Seine Synoptic, {when}\""), 1)
+        .replacen(from_every, &format!("every_nights = {every}"), 1))
 }
 
 /// Run one of the tool's own commands in this process, exactly as a user would type it.
