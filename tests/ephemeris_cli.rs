@@ -201,14 +201,22 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         "the cluster test's table"
     );
     // The cadence step: three revisit intervals through `seine yield`, fewer found the sparser.
-    assert!(html.contains("src=\"figures/yield_cadence.svg\""), "the yield against cadence");
+    assert!(
+        html.contains("src=\"figures/yield_cadence.svg\""),
+        "the yield against cadence"
+    );
     let found: Vec<u64> = ["every night", "every 3 nights", "every 7 nights"]
         .iter()
         .map(|plan| {
-            let at = err.find(&format!("Synoptic, {plan}: ")).unwrap_or_else(|| panic!("{plan} in {err}"));
+            let at = err
+                .find(&format!("Synoptic, {plan}: "))
+                .unwrap_or_else(|| panic!("{plan} in {err}"));
             let rest = &err[at + plan.len() + 11..];
             rest.split_whitespace().next().unwrap().parse().unwrap()
         })
         .collect();
-    assert!(found[0] > found[1] && found[1] > found[2], "discoveries by cadence {found:?}");
+    assert!(
+        found[0] > found[1] && found[1] > found[2],
+        "discoveries by cadence {found:?}"
+    );
 }

@@ -162,5 +162,11 @@ fn probability(s: &Summary) -> String {
         );
     }
     let (f, e) = (100.0 * s.excluded_fraction, 100.0 * s.excluded_fraction_err);
-    format!("{f:.1}% ± {e:.1}% ({} draws)", s.n_draws)
+    // Two significant digits of the error, and the fraction to the same decimal.
+    let digits = if e > 0.0 {
+        (1.0 - e.log10().floor()).clamp(1.0, 4.0) as usize
+    } else {
+        1
+    };
+    format!("{f:.digits$}% ± {e:.digits$}% ({} draws)", s.n_draws)
 }
