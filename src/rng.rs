@@ -31,6 +31,11 @@ pub fn splitmix64(mut z: u64) -> u64 {
 pub fn object_stream(seed: u64, id: i64, purpose: Purpose) -> Pcg64 {
     let a = splitmix64(seed ^ splitmix64(purpose as u64));
     let b = splitmix64(a ^ splitmix64(id as u64));
+    pcg_from(a, b)
+}
+
+/// A PCG64 with state (a, b) and a stream selector mixed from them.
+fn pcg_from(a: u64, b: u64) -> Pcg64 {
     let c = splitmix64(b ^ 0x5EED_5EED_5EED_5EED);
     let state = ((a as u128) << 64) | b as u128;
     let stream = ((c as u128) << 64) | splitmix64(c) as u128;
@@ -42,12 +47,7 @@ pub fn object_stream(seed: u64, id: i64, purpose: Purpose) -> Pcg64 {
 /// stops drawing never moves the draws of another.
 pub fn substream(key: u64) -> Pcg64 {
     let a = splitmix64(key ^ 0x0B5E_4E00_0B5E_4E00);
-    let b = splitmix64(a);
-    let c = splitmix64(b ^ 0x5EED_5EED_5EED_5EED);
-    Pcg64::new(
-        ((a as u128) << 64) | b as u128,
-        ((c as u128) << 64) | splitmix64(c) as u128,
-    )
+    pcg_from(a, splitmix64(a))
 }
 
 /// A stream for run-level draws that belong to no object (e.g. weather in a plan).

@@ -368,13 +368,19 @@ fn report_reads_analysis_tables_by_their_documented_names() {
     }
 }
 
-#[test]
-fn empty_or_invalid_directories_are_one_clear_error() {
-    let tmp = tempfile::tempdir().unwrap();
-    let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
+/// `seine report DIR` refused: exit status 2 and one line on stderr, which is returned.
+fn refused(dir: &str) -> String {
+    let o = common::seine(&["report", dir]);
     assert_eq!(o.status.code(), Some(2));
     let err = common::stderr(&o);
     assert_eq!(err.trim().lines().count(), 1, "{err}");
+    err
+}
+
+#[test]
+fn empty_or_invalid_directories_are_one_clear_error() {
+    let tmp = tempfile::tempdir().unwrap();
+    let err = refused(tmp.path().to_str().unwrap());
     assert!(
         err.contains("nothing to report") && err.contains("summary.json"),
         "{err}"
@@ -382,16 +388,11 @@ fn empty_or_invalid_directories_are_one_clear_error() {
     assert!(!tmp.path().join("index.html").exists());
 
     let missing = tmp.path().join("no-such-dir");
-    let o = common::seine(&["report", missing.to_str().unwrap()]);
-    assert_eq!(o.status.code(), Some(2));
-    assert!(common::stderr(&o).contains("no such directory"));
+    assert!(refused(missing.to_str().unwrap()).contains("no such directory"));
 
     common::write(tmp.path(), "rose.csv", "quantity,bin_lo_deg\nvarpi_deg,0\n");
-    let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
-    assert_eq!(o.status.code(), Some(2));
-    let err = common::stderr(&o);
+    let err = refused(tmp.path().to_str().unwrap());
     assert!(err.contains("rose.csv") && err.contains("bin_hi_deg"), "{err}");
-    assert_eq!(err.trim().lines().count(), 1, "{err}");
 
     // Null samples without the cluster test's table beside them, then with a table that lacks
     // one of their statistics: one sentence naming the file and what it lacks.
@@ -401,22 +402,17 @@ fn empty_or_invalid_directories_are_one_clear_error() {
         "cluster_null.csv",
         "statistic,value\nmean_pole,0.2\nmean_pole,0.3\n",
     );
-    let o = common::seine(&["report", d.path().to_str().unwrap()]);
-    assert_eq!(o.status.code(), Some(2));
-    let err = common::stderr(&o);
+    let err = refused(d.path().to_str().unwrap());
     assert!(
         err.contains("cluster_null.csv") && err.contains("cluster_test.parquet or cluster_test.csv"),
         "{err}"
     );
-    assert_eq!(err.trim().lines().count(), 1, "{err}");
     common::write(
         d.path(),
         "cluster_test.csv",
         "statistic,observed,p_bias_aware\nrayleigh_varpi,0.4,0.2\n",
     );
-    let o = common::seine(&["report", d.path().to_str().unwrap()]);
-    assert_eq!(o.status.code(), Some(2));
-    let err = common::stderr(&o);
+    let err = refused(d.path().to_str().unwrap());
     assert!(err.contains("cluster_test.csv") && err.contains("`mean_pole`"), "{err}");
     assert!(!d.path().join("index.html").exists());
 }

@@ -17,7 +17,7 @@ use rayon::prelude::*;
 use super::reach::Reach;
 use super::stripes::{Cone, Stripes};
 use crate::orbit::constants::C_AU_PER_DAY;
-use crate::orbit::{Center, Orbit};
+use crate::orbit::{Center, Elements, Orbit};
 use crate::sky::earth::EarthSource;
 use crate::sky::observer::ObserverState;
 use crate::survey::Survey;
@@ -26,7 +26,7 @@ use crate::survey::Survey;
 /// long enough that node positions cost little next to the in-field work.
 pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
-pub(crate) const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
+const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
 /// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
 pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).
@@ -114,12 +114,7 @@ impl PreparedSurvey {
     }
 
     fn indexed_candidates(&self, orbit: &Orbit, out: &mut Vec<usize>) {
-        let el = &orbit.elements;
-        let q = el.q_au();
-        let mut v_obj = (el.center.gm() * (1.0 + el.e) / q).sqrt();
-        if el.center == Center::Heliocentric {
-            v_obj += 2.0e-5; // the Sun's barycentric speed
-        }
+        let v_obj = speed_bound(&orbit.elements);
         let v_max = v_obj + OBSERVER_SPEED;
         let mut tau = f64::NAN;
         for b in &self.blocks {
@@ -151,6 +146,17 @@ impl PreparedSurvey {
             b.stripes.select(&cone, out);
             out[start..].sort_unstable();
         }
+    }
+}
+
+/// The largest speed an object can have about the barycentre, AU/day: its speed at
+/// perihelion, √(GM (1 + e) / q) (vis-viva, the largest on the orbit), plus the Sun's
+/// barycentric speed for heliocentric elements.
+pub(crate) fn speed_bound(el: &Elements) -> f64 {
+    let v_q = (el.center.gm() * (1.0 + el.e) / el.q_au()).sqrt();
+    match el.center {
+        Center::Heliocentric => v_q + 2.0e-5,
+        Center::Barycentric => v_q,
     }
 }
 

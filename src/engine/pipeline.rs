@@ -47,17 +47,18 @@ pub fn observe_object(
 ) -> ObjectOutcome {
     let orbit = Orbit::new(objects.elements[i]);
     let lc_phase = rng.random::<f64>() * std::f64::consts::TAU;
-    let keys: Vec<u64> = surveys.iter().map(|_| rng.next_u64()).collect();
     let mut out = ObjectOutcome {
         surveys: Vec::with_capacity(surveys.len()),
         ..Default::default()
     };
     for (s, ps) in surveys.iter().enumerate() {
+        // Every survey takes its key, skipped or not, so that the keys stay in survey order.
+        let key = rng.next_u64();
         if record != Record::Everything && !ps.reach.could_detect(objects, i, &orbit) {
             out.surveys.push(SurveyOutcome::default());
             continue;
         }
-        let mut draws = substream(keys[s]);
+        let mut draws = substream(key);
         ps.candidates(&orbit, mode, scratch);
         out.candidates += scratch.len() as u64;
         let first = out.events.len();

@@ -2,20 +2,22 @@
 //! brightness over a survey's span, from its orbit alone (no per-visit positions).
 //!
 //! Over the survey's time span T (widened by the largest light time), the object's distance
-//! r from the centre of its elements changes by at most v_q T, with v_q = √(GM (1 + e) / q)
-//! the speed at perihelion (vis-viva), the largest on the orbit; and r ≥ q always. The
+//! r from the centre of its elements changes by at most v T, with v the bound on its speed
+//! of `index::speed_bound` (the perihelion speed √(GM (1 + e) / q), the largest on the orbit
+//! by vis-viva, plus the Sun's motion for heliocentric elements); and r ≥ q always. The
 //! observer is within R_obs = 1.03 AU of that centre (the Earth's aphelion 1.0167 AU, the
 //! Sun's offset from the barycentre ≤ 0.0102 AU, a site's 4·10⁻⁵ AU; rounded up). So in
-//! every visit Δ ≥ r_min − R_obs, the angular rate is at most (v_q + v_obs) / Δ_min, and
+//! every visit Δ ≥ r_min − R_obs, the angular rate is at most (v + v_obs) / Δ_min, and
 //! the magnitude is at least H + 5 log10(r_min Δ_min) plus the smallest phase term, colour
 //! and light-curve offset it can have. A survey whose rate window starts above that rate,
 //! or whose efficiency is zero (see `survey::efficiency`) at that magnitude in every visit,
 //! cannot detect the object: skipping it changes no outcome.
 
-use super::index::OBSERVER_SPEED;
+use super::index::{OBSERVER_SPEED, speed_bound};
 use crate::io::objects::ObjectTable;
+use crate::orbit::Orbit;
 use crate::orbit::constants::C_AU_PER_DAY;
-use crate::orbit::{Center, Orbit};
+use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 
 /// Largest distance of the observer from the Sun or the barycentre, AU (see above).
@@ -26,7 +28,6 @@ const NEAREST_BOUNDED_AU: f64 = 0.5;
 const RATE_MARGIN: f64 = 1.01;
 /// Margin on the magnitude bound, mag: for rounding only.
 const MAG_MARGIN: f64 = 0.05;
-const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;
 
 /// What one survey needs to rule an object out: its span, rate window and faint limit.
 #[derive(Debug, Clone, PartialEq)]
@@ -43,12 +44,11 @@ pub struct Reach {
 impl Reach {
     pub fn new(survey: &crate::survey::Survey) -> Reach {
         let v = &survey.visits;
-        let (t0, t1) = v
-            .tdb_mjd
-            .iter()
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &t| {
-                (lo.min(t), hi.max(t))
-            });
+        // Visits are sorted by time (`survey::visits`); none: an empty (NaN) span.
+        let (t0, t1) = match (v.tdb_mjd.first(), v.tdb_mjd.last()) {
+            (Some(&t0), Some(&t1)) => (t0, t1),
+            _ => (f64::NAN, f64::NAN),
+        };
         // The deepest visit of each efficiency block, then that block's model once.
         let mut deepest = vec![f64::NEG_INFINITY; v.block_names.len().max(1)];
         for (&b, &d) in v.block.iter().zip(&v.depth_mag) {
@@ -71,7 +71,7 @@ impl Reach {
             .collect();
         Reach {
             mid_tdb: 0.5 * (t0 + t1),
-            half_span_days: 0.5 * (t1 - t0).max(0.0),
+            half_span_days: 0.5 * (t1 - t0),
             min_rate_arcsec_per_hr: survey.motion.min_rate,
             zero_beyond_mag,
             other_bands,
@@ -83,14 +83,10 @@ impl Reach {
         if !self.mid_tdb.is_finite() {
             return false; // no visits
         }
-        let Some(delta_min) = self.nearest_au(orbit) else {
+        let v_obj = speed_bound(&orbit.elements);
+        let Some(delta_min) = self.nearest_au(orbit, v_obj) else {
             return true;
         };
-        let el = &orbit.elements;
-        let mut v_obj = (el.center.gm() * (1.0 + el.e) / el.q_au()).sqrt();
-        if el.center == Center::Heliocentric {
-            v_obj += 2.0e-5; // the Sun's barycentric speed
-        }
         let max_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
         if max_rate < self.min_rate_arcsec_per_hr {
             return false;
@@ -99,17 +95,18 @@ impl Reach {
     }
 
     /// A lower bound on the observer–object distance over the span, AU; `None` if too close.
-    fn nearest_au(&self, orbit: &Orbit) -> Option<f64> {
+    /// `v_obj` bounds the object's speed (`index::speed_bound`), so also the rate of change
+    /// of its distance from the centre.
+    fn nearest_au(&self, orbit: &Orbit, v_obj: f64) -> Option<f64> {
         let el = &orbit.elements;
         let q = el.q_au();
         if !(q.is_finite() && q > 0.0 && el.e >= 0.0) {
             return None;
         }
-        let v_q = (el.center.gm() * (1.0 + el.e) / q).sqrt();
         let r_mid = orbit.position(self.mid_tdb).norm();
         // Emission times reach back by the light time as well.
-        let light_time = (r_mid + v_q * self.half_span_days + OBSERVER_REACH_AU) / C_AU_PER_DAY;
-        let r_min = q.max(r_mid - v_q * (self.half_span_days + light_time));
+        let light_time = (r_mid + v_obj * self.half_span_days + OBSERVER_REACH_AU) / C_AU_PER_DAY;
+        let r_min = q.max(r_mid - v_obj * (self.half_span_days + light_time));
         let delta_min = r_min - OBSERVER_REACH_AU;
         (delta_min > NEAREST_BOUNDED_AU).then_some(delta_min)
     }

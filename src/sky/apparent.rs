@@ -16,7 +16,7 @@ use super::observer::ObserverState;
 use crate::orbit::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Orbit};
 
-const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;
+pub(crate) const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;
 
 /// Everything an observation of one object at one instant needs.
 #[derive(Debug, Clone, Copy, PartialEq)]

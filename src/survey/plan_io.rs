@@ -170,11 +170,12 @@ pub fn survey_coverage(s: &Survey) -> (Coverage, Vec<NightLog>) {
     }
     // Each night's twilight takes ~100 Sun positions: interpolate them from a grid over the
     // survey's span (as the planner does) rather than summing the series each time.
-    let (lo, hi) = v
+    // Visits are sorted by time, so their span is first to last.
+    let grid = v
         .tdb_mjd
-        .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &t| (l.min(t), h.max(t)));
-    let grid = (lo <= hi).then(|| EphemerisGrid::covering(lo - 2.0, hi + 2.0));
+        .first()
+        .zip(v.tdb_mjd.last())
+        .map(|(lo, hi)| EphemerisGrid::covering(lo - 2.0, hi + 2.0));
     let sun_altitude = |site, utc: f64| {
         let tdb = to_tdb_mjd(utc, TimeScale::Utc).unwrap_or(utc);
         let earth = grid.as_ref().expect("a night has visits").at(tdb);
