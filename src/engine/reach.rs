@@ -6,7 +6,8 @@
 //! of `index::speed_bound` (the perihelion speed √(GM (1 + e) / q), the largest on the orbit
 //! by vis-viva, plus the Sun's motion for heliocentric elements); and r ≥ q always. The
 //! observer is within R_obs = 1.03 AU of that centre (the Earth's aphelion 1.0167 AU, the
-//! Sun's offset from the barycentre ≤ 0.0102 AU, a site's 4·10⁻⁵ AU; rounded up). So in
+//! Sun's offset from the barycentre ≤ 0.0102 AU, both from memory; a site's 4·10⁻⁵ AU;
+//! rounded up). So in
 //! every visit Δ ≥ r_min − R_obs, the angular rate is at most (v + v_obs) / Δ_min, and
 //! the magnitude is at least H + 5 log10(r_min Δ_min) plus the smallest phase term, colour
 //! and light-curve offset it can have. A survey whose rate window starts above that rate,
