@@ -10,6 +10,7 @@ pub mod hideout;
 pub mod io;
 pub mod orbit;
 pub mod population;
+pub mod progress;
 pub mod report;
 pub mod rng;
 pub mod shard;

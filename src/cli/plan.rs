@@ -5,15 +5,18 @@ use std::path::{Path, PathBuf};
 use seine::io::Provenance;
 use seine::survey::Survey;
 use seine::survey::plan_io::{PlanOutputs, survey_coverage, write_coverage, write_plan};
-use seine::survey::planner::{PlanFile, check_passthrough, make_plan};
+use seine::survey::planner::{PlanFile, check_passthrough, make_plan_with_progress};
+use seine::survey::revisit_check::RevisitCheck;
 use seine::survey::spec::parse_toml;
 use seine::{Error, Result};
 
 #[derive(clap::Args, Debug)]
+#[command(group(clap::ArgGroup::new("input").required(true).args(["plan", "survey"])))]
 pub struct Args {
     /// Cadence plan (TOML): [plan], [site], [field], [region], [revisit], [depth], and the
-    /// [efficiency], [motion], [linking] tables to copy into the survey spec.
-    #[arg(long, required_unless_present = "survey", conflicts_with = "survey")]
+    /// [efficiency], [motion], [linking] tables to copy into the survey spec. One of --plan
+    /// or --survey is required.
+    #[arg(long)]
     pub plan: Option<PathBuf>,
     /// Instead of planning: the coverage report of an existing survey spec and its visits.
     /// --out then names the report, NAME.coverage.json (tables and MOC beside it).
@@ -75,9 +78,12 @@ pub fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<PathB
         other => other,
     };
     check_passthrough(&file).map_err(in_plan)?;
-    let plan = make_plan(file).map_err(in_plan)?;
+    let plan = make_plan_with_progress(file, true).map_err(in_plan)?;
     let out = PlanOutputs::for_visits(out);
     let cov = write_plan(&plan, plan_path, &out)?;
+    if let Some(w) = RevisitCheck::of(&plan).warning() {
+        eprintln!("seine plan: warning: {}: {w}", plan_path.display());
+    }
     eprintln!(
         "seine plan: {} visits of {} fields on {} nights, {:.0} deg² covered → {} (spec {})",
         cov.n_visits,

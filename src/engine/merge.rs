@@ -18,6 +18,7 @@ pub struct MergeReport {
     pub summary: Summary,
     pub objects_path: PathBuf,
     pub detections_path: PathBuf,
+    pub discoveries_path: PathBuf,
     pub summary_path: PathBuf,
 }
 
@@ -31,13 +32,17 @@ pub fn merge_observe(dirs: &[PathBuf], out: &Path, format: Format, provenance: P
     let ext = format.extension();
     let objects_path = out.join(format!("objects.{ext}"));
     let detections_path = out.join(format!("detections.{ext}"));
-    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
-        let parts: Vec<PathBuf> = shards
+    let parts = |table: &str| -> Vec<PathBuf> {
+        shards
             .iter()
             .flat_map(|(dir, m)| m.chunks.iter().map(move |c| part_path(dir, table, c.index)))
-            .collect();
-        concat_tables(&parts, path, prov.clone(), None)?;
+            .collect()
+    };
+    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+        concat_tables(&parts(table), path, prov.clone(), None)?;
     }
+    let discoveries_path = super::discoveries::path(out, format);
+    super::discoveries::write(&parts("objects"), &discoveries_path, &prov)?;
     let summary = merged_summary(&shards)?;
     let summary_path = out.join("summary.json");
     write_atomic(&summary_path, summary.to_json().as_bytes())?;
@@ -46,6 +51,7 @@ pub fn merge_observe(dirs: &[PathBuf], out: &Path, format: Format, provenance: P
         summary,
         objects_path,
         detections_path,
+        discoveries_path,
         summary_path,
     })
 }

@@ -9,6 +9,7 @@
 //! Analyses that need only who discovered what (`Record::UntilDiscovery`) stop each survey
 //! at its discovery and skip surveys that provably cannot detect the object (`reach`).
 
+pub mod discoveries;
 pub mod index;
 pub mod merge;
 pub mod outcome;

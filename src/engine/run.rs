@@ -9,6 +9,7 @@ use std::time::Instant;
 use polars::prelude::*;
 use rayon::prelude::*;
 
+use super::discoveries;
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
 use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
@@ -59,14 +60,17 @@ pub struct ObserveReport {
     pub summary: Summary,
     pub objects_path: PathBuf,
     pub detections_path: PathBuf,
+    /// The discovered objects in order of discovery (`discoveries`), and how many.
+    pub discoveries_path: PathBuf,
+    pub n_discoveries: usize,
     pub summary_path: PathBuf,
     /// Chunks taken from an earlier run (`resume`), and chunks in all.
     pub chunks_reused: usize,
     pub chunks: usize,
 }
 
-/// Run the objects through the surveys and write `DIR/objects.*`, `DIR/detections.*` and
-/// `DIR/summary.json`, by way of part files and a manifest (see `parts`): chunks are
+/// Run the objects through the surveys and write `DIR/objects.*`, `DIR/detections.*`,
+/// `DIR/discoveries.*` and `DIR/summary.json`, by way of part files and a manifest (see `parts`): chunks are
 /// computed (or, with `resume`, reused), then the final tables are streamed from the parts.
 pub fn observe(
     surveys: &[PreparedSurvey],
@@ -276,14 +280,18 @@ fn assemble(
     let detections_path = out_dir.join(format!("detections.{ext}"));
     let summary_path = out_dir.join("summary.json");
     let mut summary = Summary::new(surveys);
-    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
-        let parts: Vec<PathBuf> = manifest
+    let parts = |table: &str| -> Vec<PathBuf> {
+        manifest
             .chunks
             .iter()
             .map(|c| part_path(out_dir, table, c.index))
-            .collect();
-        concat_tables(&parts, path, provenance.clone(), opts.stop.as_deref())?;
+            .collect()
+    };
+    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+        concat_tables(&parts(table), path, provenance.clone(), opts.stop.as_deref())?;
     }
+    let discoveries_path = discoveries::path(out_dir, opts.format);
+    let n_discoveries = discoveries::write(&parts("objects"), &discoveries_path, provenance)?;
     for c in &manifest.chunks {
         summary.absorb(&c.summary).map_err(Error::io)?;
     }
@@ -294,6 +302,8 @@ fn assemble(
         summary,
         objects_path,
         detections_path,
+        discoveries_path,
+        n_discoveries,
         summary_path,
         chunks_reused: 0,
         chunks: 0,

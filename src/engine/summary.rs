@@ -216,16 +216,7 @@ impl Summary {
     }
 }
 
-/// A progress bar on standard error, only when it is a terminal and progress is wanted.
+/// A progress bar over objects on standard error (see `crate::progress`).
 pub fn progress_bar(len: usize, wanted: bool) -> Option<indicatif::ProgressBar> {
-    use std::io::IsTerminal;
-    if !wanted || !std::io::stderr().is_terminal() {
-        return None;
-    }
-    let bar = indicatif::ProgressBar::new(len as u64);
-    bar.set_style(
-        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} objects  {per_sec}  eta {eta}")
-            .expect("valid template"),
-    );
-    Some(bar)
+    crate::progress::bar(len as u64, "objects", wanted)
 }

@@ -7,6 +7,7 @@ pub mod footprint;
 pub mod linking;
 pub mod plan_io;
 pub mod planner;
+pub mod revisit_check;
 pub mod spec;
 pub mod visits;
 

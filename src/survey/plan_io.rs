@@ -124,6 +124,7 @@ pub fn write_plan(plan: &Plan, plan_path: &Path, out: &PlanOutputs) -> Result<Co
         "n_fields_in_region": plan.fields.len(),
         "field_area_sq_deg": plan.footprint.area_sq_deg(),
         "moon_penalty": plan.file.depth.moon,
+        "revisits": super::revisit_check::RevisitCheck::of(plan),
     });
     write_table(&mut visits_frame(plan)?, &out.visits, &prov)?;
     write_atomic(&out.spec, spec_toml(&plan.file, plan_path, &visits_name)?.as_bytes())?;

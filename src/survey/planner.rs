@@ -565,6 +565,11 @@ impl Scheduler<'_> {
 
 /// Make the plan: tile, then schedule night by night.
 pub fn make_plan(file: PlanFile) -> Result<Plan> {
+    make_plan_with_progress(file, false)
+}
+
+/// `make_plan`, with a progress bar over the nights on a terminal when `progress`.
+pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
     if let Some(p) = file.problem() {
         return Err(Error::input(p));
     }
@@ -586,8 +591,15 @@ pub fn make_plan(file: PlanFile) -> Result<Plan> {
         out: PlannedVisits::default(),
     };
     let mut nights = Vec::new();
+    let bar = crate::progress::bar((last - first + 1) as u64, "nights", progress);
     for night in first..=last {
         nights.push(plan_night(&mut s, night));
+        if let Some(b) = &bar {
+            b.inc(1);
+        }
+    }
+    if let Some(b) = bar {
+        b.finish_and_clear();
     }
     let Scheduler { fields, out, .. } = s;
     Ok(Plan {
