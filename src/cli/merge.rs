@@ -33,12 +33,13 @@ pub fn run(a: Args) -> Result<()> {
         let r = merge_observe(&a.inputs, &a.out, format, prov)?;
         if !a.quiet {
             eprintln!(
-                "seine merge: {} shards, {} objects, {} discovered → {}, {}, {}",
+                "seine merge: {} shards, {} objects, {} discovered → {}, {}, {}, {}",
                 r.shards,
                 r.summary.n_objects,
                 r.summary.n_detected,
                 r.objects_path.display(),
                 r.detections_path.display(),
+                r.discoveries_path.display(),
                 r.summary_path.display()
             );
         }

@@ -18,6 +18,7 @@ mod observe;
 mod plan;
 mod provenance;
 mod report;
+mod table;
 mod yields;
 
 #[derive(Parser, Debug)]
@@ -64,6 +65,8 @@ pub enum Command {
     Provenance(provenance::Args),
     /// Rebuild the HTML report (index.html and SVG figures) of an output directory.
     Report(report::Args),
+    /// Look at a table (columns, first rows, a row filter) or convert it (Parquet ↔ CSV).
+    Table(table::Args),
 }
 
 pub fn run(cli: Cli) -> Result<()> {
@@ -82,5 +85,6 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Merge(a) => merge::run(a),
         Command::Provenance(a) => provenance::run(a),
         Command::Report(a) => report::run(a),
+        Command::Table(a) => table::run(a),
     }
 }

@@ -17,8 +17,9 @@ pub struct Args {
     /// Objects table (CSV or Parquet).
     #[arg(long)]
     pub objects: PathBuf,
-    /// Output directory: objects.parquet, detections.parquet, summary.json, and the parts/ and
-    /// manifest.json that --resume and `seine merge` use.
+    /// Output directory: objects.parquet, detections.parquet, discoveries.parquet (the
+    /// discovered objects in order of discovery: the catalogue an analysis starts from),
+    /// summary.json, and the parts/ and manifest.json that --resume and `seine merge` use.
     #[arg(long)]
     pub out: PathBuf,
     /// Run seed: with the object ids it fixes every random draw.
@@ -100,9 +101,11 @@ pub fn run(a: Args) -> Result<()> {
             eprintln!("resumed: {} of {} chunks reused", report.chunks_reused, report.chunks);
         }
         eprintln!(
-            "wrote {}, {}, {}",
+            "wrote {}, {}, {} ({} discoveries), {}",
             report.objects_path.display(),
             report.detections_path.display(),
+            report.discoveries_path.display(),
+            report.n_discoveries,
             report.summary_path.display()
         );
     }

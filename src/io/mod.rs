@@ -6,6 +6,7 @@ pub mod provenance;
 pub mod sink;
 pub mod spec_text;
 pub mod table;
+pub mod table_view;
 
 pub use provenance::Provenance;
 pub use table::{Columns, Format, read_table, write_table};
