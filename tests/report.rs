@@ -148,7 +148,10 @@ fn survey_figures_have_units() {
     let curve = EfficiencyCurve {
         survey: "Invented Survey A".into(),
         model,
+        live_fraction: 0.9,
         measured,
+        outside_rates: 12,
+        rate_window: (0.5, 300.0),
     };
     check(
         &survey::efficiency(&[curve]).unwrap(),
@@ -160,8 +163,8 @@ fn survey_figures_have_units() {
 fn sky_map_names_its_projection() {
     // A band of cells along the ecliptic, from a few invented pointings.
     let cells: Vec<(u64, u64)> = (0..2000u64).map(|h| (h * 7 + 30000, 1 + h % 9)).collect();
-    let f = sky::coverage_map("Invented Survey", &cells, &[(150.0, 10.0), (200.0, -5.0)]).unwrap();
-    check(&f, &["visits per point:", "0°", "+30°"]);
+    let f = sky::coverage_map("sky", "Invented Survey", &cells, &[(150.0, 10.0), (200.0, -5.0)]).unwrap();
+    check(&f, &["visits per point:", "0°", "+30°", "−60°", "discovery"]);
     assert!(f.caption.contains("Hammer–Aitoff") && f.caption.contains("(deg)"));
 }
 
@@ -229,24 +232,39 @@ fn analysis_figures_from_synthetic_tables() {
         ],
     );
 
-    let rows: Vec<YieldRow> = [("Plan A", 1.0, 40), ("Plan B", 3.0, 55), ("Plan C", 14.0, 20)]
-        .into_iter()
-        .map(|(p, c, k)| YieldRow {
-            plan: p.into(),
-            population: "distant slow movers".into(),
-            cadence_days: c,
-            n_objects: 1000,
-            n_discovered: k,
-        })
-        .collect();
+    // Plans of unequal effort: the second panel divides by their hours.
+    let rows: Vec<YieldRow> = [
+        ("Plan A", 1.0, 40, 300.0),
+        ("Plan B", 3.0, 55, 100.0),
+        ("Plan C", 14.0, 20, 25.0),
+    ]
+    .into_iter()
+    .map(|(p, c, k, hours)| YieldRow {
+        plan: p.into(),
+        population: "distant slow movers".into(),
+        cadence_days: c,
+        n_objects: 1000,
+        n_discovered: k,
+        effort: Some(Effort {
+            visits: (hours * 60.0) as u64,
+            hours,
+            telescope_time: true,
+            area_sq_deg: 500.0,
+        }),
+    })
+    .collect();
+    let f = cadence::yield_vs_cadence(&rows).unwrap();
     check(
-        &cadence::yield_vs_cadence(&rows).unwrap(),
+        &f,
         &[
             "revisit interval (days)",
             "discovered fraction (dimensionless)",
-            "Plan B",
+            "discoveries per 100 h",
+            "Plan B (55/1000)",
+            "distant slow movers",
         ],
     );
+    assert!(f.caption.contains("per 100 hours of telescope time"), "{}", f.caption);
 }
 
 fn run_ok(args: &[&str]) {
@@ -254,14 +272,32 @@ fn run_ok(args: &[&str]) {
     assert!(o.status.success(), "seine {args:?}: {}", common::stderr(&o));
 }
 
-/// A small observe run: the deep invented plan, a few thousand drawn objects.
+/// A small observe run: the deep and the synoptic invented plans together, a few thousand
+/// drawn objects (the synoptic survey finds some of them).
 fn small_observe(dir: &Path) -> std::path::PathBuf {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs");
     let s = |p: &Path| p.to_str().unwrap().to_string();
-    let visits = dir.join("deep.csv");
-    run_ok(&["plan", "--plan", &s(&root.join("deep-plan.toml")), "--out", &s(&visits)]);
+    for plan in ["deep", "synoptic"] {
+        let visits = dir.join(format!("{plan}.csv"));
+        run_ok(&[
+            "plan",
+            "--plan",
+            &s(&root.join(format!("{plan}-plan.toml"))),
+            "--out",
+            &s(&visits),
+        ]);
+    }
     let objects = dir.join("objects.parquet");
-    let pop = root.join("populations/scattered-disk.toml");
+    // Bright near objects (invented): enough of them are discovered to list.
+    let pop = dir.join("bright.toml");
+    common::write(
+        dir,
+        "bright.toml",
+        "[population]\nname = \"bright test disk\"\nepoch_mjd = 60676.0\n\n[orbit]\n\
+         a_au = { dist = \"uniform\", lo = 40.0, hi = 80.0 }\nq_au = { dist = \"uniform\", lo = 30.0, hi = 40.0 }\n\
+         inc_deg = { dist = \"uniform\", lo = 0.0, hi = 10.0 }\n\n[photometry]\n\
+         h_mag = { dist = \"uniform\", lo = 3.0, hi = 6.0 }\n",
+    );
     run_ok(&[
         "draw",
         "--spec",
@@ -278,6 +314,8 @@ fn small_observe(dir: &Path) -> std::path::PathBuf {
         "observe",
         "--survey",
         &s(&dir.join("deep.survey.toml")),
+        "--survey",
+        &s(&dir.join("synoptic.survey.toml")),
         "--objects",
         &s(&objects),
         "--out",
@@ -297,14 +335,20 @@ fn report_of_an_observe_directory_references_every_svg() {
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
-    // The run's provenance names the survey spec, so the survey's figures come along.
+    // The run's provenance names the survey spec, so the survey's figures come along; its
+    // 40 deg² also get a zoomed map, and the discoveries theirs.
     for stem in [
-        "sky_coverage",
+        "sky_cerro_seine_deep_slow_mover_survey",
+        "sky_cerro_seine_deep_slow_mover_survey_zoom",
+        "sky_cerro_seine_synoptic_survey",
+        "sky_discoveries",
         "depth",
         "efficiency",
         "distribution_a_au",
         "distribution_r_au",
         "fraction_h_mag",
+        "discovery_mag",
+        "discovery_rate_arcsec_per_hr",
         "rose_varpi_deg",
     ] {
         assert!(
@@ -323,6 +367,14 @@ fn report_of_an_observe_directory_references_every_svg() {
         !html.contains("http://") && !html.contains("https://"),
         "the page must work offline"
     );
+    // The run is named by its directory, never "."; its first discoveries are listed and
+    // the whole table linked.
+    assert!(
+        html.contains("What was found: run") && !html.contains(">.<"),
+        "run not named"
+    );
+    assert!(html.contains("href=\"discoveries.parquet\""), "discoveries not linked");
+    assert!(html.contains("in order of discovery"), "first discoveries not listed");
 }
 
 #[test]
@@ -415,4 +467,95 @@ fn empty_or_invalid_directories_are_one_clear_error() {
     let err = refused(d.path().to_str().unwrap());
     assert!(err.contains("cluster_test.csv") && err.contains("`mean_pole`"), "{err}");
     assert!(!d.path().join("index.html").exists());
+}
+
+#[test]
+fn one_bad_input_leaves_its_section_out_and_the_rest_is_built() {
+    let tmp = tempfile::tempdir().unwrap();
+    small_observe(tmp.path());
+    // A rose table that lacks a column, beside a good observe run.
+    common::write(tmp.path(), "rose.csv", "quantity,bin_lo_deg\nvarpi_deg,0\n");
+    let o = common::seine(&["report", tmp.path().to_str().unwrap()]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let err = common::stderr(&o);
+    assert!(
+        err.contains("left out") && err.contains("rose.csv") && err.contains("bin_hi_deg"),
+        "{err}"
+    );
+    let html = std::fs::read_to_string(tmp.path().join("index.html")).unwrap();
+    assert!(
+        html.contains("class=\"note\"") && html.contains("bin_hi_deg"),
+        "the page does not say what was left out"
+    );
+    assert!(html.contains("What was found: run"), "the good run is missing");
+}
+
+#[test]
+fn cadence_comparisons_only_of_runs_of_one_population() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path();
+    small_observe(d);
+    let s = |p: &Path| p.to_str().unwrap().to_string();
+    let observe = |survey: &str, objects: &Path, out: &str| {
+        run_ok(&[
+            "observe",
+            "--survey",
+            &s(&d.join(survey)),
+            "--objects",
+            &s(objects),
+            "--out",
+            &s(&d.join(out)),
+            "--quiet",
+        ])
+    };
+    // The same objects through each survey alone: variants of one another.
+    observe("deep.survey.toml", &d.join("objects.parquet"), "deep-only");
+    observe("synoptic.survey.toml", &d.join("objects.parquet"), "synoptic-only");
+    // Another population through the deep survey: not comparable with them.
+    let other = d.join("other.parquet");
+    let pop = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/populations/scattered-disk.toml");
+    run_ok(&[
+        "draw",
+        "--spec",
+        &s(&pop),
+        "--count",
+        "500",
+        "--seed",
+        "9",
+        "--out",
+        &s(&other),
+    ]);
+    observe("deep.survey.toml", &other, "other-deep");
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    let titles: Vec<&str> = html
+        .match_indices("<h2>")
+        .map(|(i, _)| &html[i + 4..i + 4 + html[i + 4..].find("</h2>").unwrap()])
+        .collect();
+    let cadence: Vec<&&str> = titles
+        .iter()
+        .filter(|t| t.starts_with("Yield against cadence"))
+        .collect();
+    assert_eq!(cadence.len(), 1, "{titles:?}");
+    assert!(
+        cadence[0].contains("deep-only") && cadence[0].contains("synoptic-only") && !cadence[0].contains("other-deep"),
+        "{titles:?}"
+    );
+    // The legend names the population by its spec's name.
+    assert!(html.contains("bright test disk"), "population not named");
+    // Each run has its own section and figures; no figure file is shared.
+    for run in ["deep-only", "synoptic-only", "other-deep", "run"] {
+        assert!(
+            titles.iter().any(|t| *t == format!("What was found: {run}")),
+            "{run}: {titles:?}"
+        );
+    }
+    let srcs: Vec<&str> = html
+        .match_indices("src=\"figures/")
+        .map(|(i, _)| &html[i + 13..i + 13 + html[i + 13..].find('"').unwrap()])
+        .collect();
+    let mut unique = srcs.clone();
+    unique.sort();
+    unique.dedup();
+    assert_eq!(unique.len(), srcs.len(), "a figure is shown twice: {srcs:?}");
 }

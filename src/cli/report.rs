@@ -13,6 +13,9 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     let w = seine::report::report(&a.dir)?;
+    for s in &w.skipped {
+        eprintln!("seine report: left out {}", s.describe());
+    }
     println!("seine report: {} ({} figures)", w.index.display(), w.figures.len());
     Ok(())
 }

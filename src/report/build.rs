@@ -1,125 +1,185 @@
 //! From what a directory holds to the report's sections: which figures and small tables to
-//! make, in the order a reader needs them (what was run, the survey, what was found, cadence,
-//! bias and clustering).
+//! make, in the order a reader needs them (what was run, the cadence comparison, the surveys,
+//! what each run found, bias and clustering). Every section names the run or directory it
+//! comes from; a section whose inputs cannot be read or do not agree is left out with a note.
 
+use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use super::figure::Figure;
 use super::figures::{bias, cadence, cluster, distributions, rose, sky, survey as survey_fig};
-use super::inputs::{self, Inputs, ObserveRun, median_revisit_days, summary_bins};
+use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, median_revisit_days, summary_bins};
 use super::tables::{EfficiencyCurve, FractionBin, YieldRow};
 use crate::error::Result;
 use crate::survey::Survey;
 
-/// A small table for the page.
+/// A small table for the page, with an optional link to the full table it is taken from
+/// (label, path relative to the page).
 #[derive(Debug, Clone, Default)]
 pub struct Table {
     pub caption: String,
     pub header: Vec<String>,
     pub rows: Vec<Vec<String>>,
+    pub link: Option<(String, String)>,
 }
 
 #[derive(Debug, Clone, Default)]
 pub struct Section {
     pub title: String,
     pub intro: String,
+    /// Notices for the reader (an input left out, and why).
+    pub notes: Vec<String>,
     pub tables: Vec<Table>,
     pub figures: Vec<Figure>,
 }
 
-/// Every section of the report of `dir`: the comparison of plans first, when there is one,
-/// since it is the answer; then each survey and run in detail.
-pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
-    let mut out = vec![overview(dir, inp)];
-    let yields = yield_rows(inp);
-    if !yields.is_empty() {
-        out.push(Section {
-            title: "Yield against cadence".into(),
-            intro: "What each plan finds of the same population: the comparison a cadence \
-                    design rests on."
-                .into(),
-            figures: vec![cadence::yield_vs_cadence(&yields)?],
-            tables: vec![yield_table(&yields)],
-        });
+/// Every section of the report of `dir`, and the notes of what was left out (also shown in
+/// the first section). The comparison of plans comes first, when there is one, since it is
+/// the answer; then each survey and run in detail.
+pub fn sections(dir: &Path, inp: &Inputs) -> Result<(Vec<Section>, Vec<Skipped>)> {
+    let mut skipped = inp.skipped.clone();
+    let mut out = Vec::new();
+    let mut add = |built: Result<Section>, source: &Path, skipped: &mut Vec<Skipped>| match built {
+        Ok(s) => out.push(s),
+        Err(e) => skipped.push(Skipped {
+            path: source.to_path_buf(),
+            reason: e.to_string(),
+        }),
+    };
+    for set in &inp.yields {
+        let stem = set
+            .dir
+            .strip_prefix(dir)
+            .map_or(String::new(), |p| slug(&p.display().to_string()));
+        add(
+            yield_section(&label(dir, &set.dir), &stem, &set.rows),
+            &set.dir,
+            &mut skipped,
+        );
+    }
+    for group in cadence_groups(inp) {
+        let names: Vec<String> = group.iter().map(|r| label(dir, &r.dir)).collect();
+        let rows = variant_rows(inp, &group);
+        let source = format!("runs {}", names.join(", "));
+        add(
+            yield_section(&source, &slug(&names.join("_")), &rows),
+            dir,
+            &mut skipped,
+        );
     }
     if !inp.surveys.is_empty() {
-        out.push(surveys_section(inp)?);
+        add(surveys_section(dir, inp), dir, &mut skipped);
     }
-    for (k, run) in inp.runs.iter().enumerate() {
-        out.push(found_section(dir, run, k, inp.runs.len())?);
+    for run in &inp.runs {
+        add(found_section(dir, inp, run), &run.dir, &mut skipped);
     }
-    out.push(bias_section(dir, inp)?);
-    Ok(out
+    add(bias_section(dir, inp), dir, &mut skipped);
+    out.insert(0, overview(dir, inp, &skipped));
+    let out = out
         .into_iter()
-        .filter(|s| !s.figures.is_empty() || !s.tables.is_empty())
-        .collect())
+        .filter(|s| !s.figures.is_empty() || !s.tables.is_empty() || !s.notes.is_empty())
+        .collect();
+    Ok((out, skipped))
 }
 
-fn rel(dir: &Path, p: &Path) -> String {
-    let r = p.strip_prefix(dir).unwrap_or(p).display().to_string();
-    if r.is_empty() { ".".into() } else { r }
+/// The name a run or input goes by: its path under the report's directory, or the
+/// directory's own name when it is the report's directory (never ".").
+pub fn label(dir: &Path, p: &Path) -> String {
+    let r = p.strip_prefix(dir).unwrap_or(p);
+    if !r.as_os_str().is_empty() {
+        return r.display().to_string();
+    }
+    let own = |d: &Path| d.file_name().map(|n| n.to_string_lossy().into_owned());
+    own(dir)
+        .or_else(|| dir.canonicalize().ok().as_deref().and_then(own))
+        .unwrap_or_else(|| "report directory".into())
+}
+
+/// A label as a file-name-safe stem prefix.
+fn slug(s: &str) -> String {
+    let t: String = s
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() {
+                c.to_ascii_lowercase()
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    t.trim_matches('_').to_string()
 }
 
 fn pct(k: u64, n: u64) -> String {
     format!("{:.2}%", 100.0 * k as f64 / n.max(1) as f64)
 }
 
-fn overview(dir: &Path, inp: &Inputs) -> Section {
+fn header(cols: &[&str]) -> Vec<String> {
+    cols.iter().map(|c| c.to_string()).collect()
+}
+
+fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
     let mut runs = Table {
         caption: "Observe runs: objects carried through the surveys and what was found.".into(),
-        header: ["run", "objects", "discovered", "fraction", "tracked", "surveys"]
-            .map(String::from)
-            .to_vec(),
-        rows: Vec::new(),
+        header: header(&["run", "objects", "discovered", "fraction", "secured", "surveys"]),
+        ..Default::default()
     };
     for r in &inp.runs {
         let s = &r.summary;
         let n = s["n_objects"].as_u64().unwrap_or(0);
         let k = s["n_detected"].as_u64().unwrap_or(0);
+        let secured = s["n_secured"].as_u64().or(s["n_tracked"].as_u64()).unwrap_or(0);
         let names: Vec<&str> = s["surveys"]
             .as_array()
             .map(|a| a.iter().filter_map(|x| x["name"].as_str()).collect())
             .unwrap_or_default();
         runs.rows.push(vec![
-            rel(dir, &r.dir),
+            label(dir, &r.dir),
             n.to_string(),
             k.to_string(),
             pct(k, n),
-            s["n_tracked"].as_u64().unwrap_or(0).to_string(),
+            secured.to_string(),
             names.join(", "),
         ]);
     }
     let mut surveys = Table {
-        caption: "Surveys: their pointing histories.".into(),
-        header: [
+        caption: "Surveys: their visit histories and what they cost. Hours are telescope time \
+                  (exposures and overheads) for a plan's visits, else open-shutter time (†)."
+            .into(),
+        header: header(&[
             "survey",
+            "spec",
             "visits",
             "nights",
             "first night (MJD)",
             "last night (MJD)",
             "field (deg²)",
-        ]
-        .map(String::from)
-        .to_vec(),
-        rows: Vec::new(),
+            "hours",
+            "area covered (deg²)",
+        ]),
+        ..Default::default()
     };
     for s in &inp.surveys {
-        let (first, last) = (s.visits.night.iter().min(), s.visits.night.iter().max());
         let mut nights = s.visits.night.clone();
         nights.sort_unstable();
         nights.dedup();
+        let e = effort_of(s);
         surveys.rows.push(vec![
             s.name.clone(),
+            label(dir, &s.spec_path),
             s.visits.len().to_string(),
             nights.len().to_string(),
-            first.map_or("–".into(), |x| x.to_string()),
-            last.map_or("–".into(), |x| x.to_string()),
+            nights.first().map_or("–".into(), |x| x.to_string()),
+            nights.last().map_or("–".into(), |x| x.to_string()),
             format!("{:.2}", s.footprint.area_sq_deg()),
+            format!("{:.0}{}", e.hours, if e.telescope_time { "" } else { " †" }),
+            format!("{:.0}", e.area_sq_deg),
         ]);
     }
     Section {
         title: "What was run".into(),
         intro: headline(dir, inp),
+        notes: skipped.iter().map(|s| format!("Left out: {}", s.describe())).collect(),
         tables: [runs, surveys].into_iter().filter(|t| !t.rows.is_empty()).collect(),
         figures: Vec::new(),
     }
@@ -137,8 +197,8 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
             );
             let (lo, hi) = super::stats::wilson(k, n, 1.96);
             format!(
-                "{}: {k} of {n} objects discovered ({}, 95% interval {:.3}%–{:.3}%).",
-                rel(dir, &r.dir),
+                "Run {}: {k} of {n} objects discovered ({}, 95% interval {:.3}%–{:.3}%).",
+                label(dir, &r.dir),
                 pct(k, n),
                 100.0 * lo,
                 100.0 * hi
@@ -148,15 +208,13 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
     format!("Report of {}. {}", dir.display(), runs.join(" "))
 }
 
-/// Depth, efficiency and one sky map per survey, with the coverage by ecliptic latitude.
-fn surveys_section(inp: &Inputs) -> Result<Section> {
+/// Sky maps (the whole sky, and a zoom of a small coverage) per survey, the depths of all,
+/// and their efficiencies.
+fn surveys_section(dir: &Path, inp: &Inputs) -> Result<Section> {
     let mut figures = Vec::new();
-    for (k, s) in inp.surveys.iter().enumerate() {
-        let mut f = sky::coverage_map(&s.name, &sky::visit_cells(s), &discoveries_of(inp, s))?;
-        if inp.surveys.len() > 1 {
-            f.stem = format!("{}_{k}", f.stem);
-        }
-        figures.push(f);
+    for s in &inp.surveys {
+        let stem = format!("sky_{}", slug(&s.name));
+        figures.extend(sky::maps(&stem, &s.name, &[s], &[])?);
     }
     let depths: Vec<(String, Vec<f64>)> = inp
         .surveys
@@ -166,13 +224,17 @@ fn surveys_section(inp: &Inputs) -> Result<Section> {
     figures.push(survey_fig::depth_distribution(&depths)?);
     let curves: Vec<EfficiencyCurve> = inp.surveys.iter().map(|s| efficiency_curve(inp, s)).collect();
     figures.push(survey_fig::efficiency(&curves)?);
+    let specs: Vec<String> = inp.surveys.iter().map(|s| label(dir, &s.spec_path)).collect();
     Ok(Section {
         title: "The surveys".into(),
-        intro: "Where and how deep the surveys looked, and how likely a source was to be detected \
-                in one visit."
-            .into(),
+        intro: format!(
+            "Where and how deep the surveys looked, and how likely a source was to be detected \
+             in one visit (from {}).",
+            specs.join(", ")
+        ),
         tables: inp.coverage.iter().map(latitude_table).collect(),
         figures,
+        ..Default::default()
     })
 }
 
@@ -183,17 +245,17 @@ fn same_file(a: &Path, b: &Path) -> bool {
         .is_some_and(|(x, y)| x == y)
 }
 
-/// Discovery positions from the runs that observed with this survey alone.
-fn discoveries_of(inp: &Inputs, s: &Survey) -> Vec<(f64, f64)> {
-    inp.runs
+/// The surveys a run observed with, among those the report loaded.
+fn surveys_of<'a>(inp: &'a Inputs, run: &ObserveRun) -> Vec<&'a Survey> {
+    inp.surveys
         .iter()
-        .filter(|r| r.survey_specs.len() == 1 && same_file(&r.survey_specs[0], &s.spec_path))
-        .flat_map(|r| r.objects.discovery_radec_deg.iter().flatten().copied())
+        .filter(|s| run.survey_specs.iter().any(|p| same_file(p, &s.spec_path)))
         .collect()
 }
 
 /// The survey's efficiency model, and the detected fraction of its in-field events in bins of
-/// magnitude minus depth from any run that observed with it.
+/// magnitude minus depth from any run that observed with it. Events outside the survey's
+/// rate window have no chance of detection; they are counted apart, not binned.
 fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
     let eff = &s.efficiency.default;
     let model = (0..=400)
@@ -217,11 +279,16 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
             k: 0,
         })
         .collect();
+    let mut outside_rates = 0;
     for det in inp.runs.iter().filter_map(|r| r.detections.as_ref()) {
         for i in 0..det.mag.len() {
             let Some(d) = (det.survey[i] == s.name).then(|| depth.get(&det.visit_id[i])).flatten() else {
                 continue;
             };
+            if !s.motion.contains(det.rate_arcsec_per_hr[i]) {
+                outside_rates += 1;
+                continue;
+            }
             let k = edges.partition_point(|&e| e <= det.mag[i] - d);
             if k > 0 && k < edges.len() {
                 measured[k - 1].n += 1;
@@ -232,7 +299,10 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
     EfficiencyCurve {
         survey: s.name.clone(),
         model,
+        live_fraction: s.fill_factor,
         measured,
+        outside_rates,
+        rate_window: (s.motion.min_rate, s.motion.max_rate),
     }
 }
 
@@ -260,9 +330,18 @@ fn latitude_table(c: &inputs::PlanCoverage) -> Table {
             ]
         })
         .collect();
+    let revisits = &c.json["revisits"];
+    let kept = match (revisits["designed"].as_str(), revisits["achieved_median_days"].as_f64()) {
+        (Some(d), Some(m)) => format!(
+            " Revisits designed {d}, achieved median {m} nights; {} of {} revisited fields kept \
+             the designed interval.",
+            revisits["fields_as_designed"], revisits["fields_revisited"]
+        ),
+        _ => String::new(),
+    };
     Table {
         caption: format!(
-            "Coverage of plan {} by ecliptic latitude β (from {}.coverage.json): {} visits, {} fields, {} nights used, {:.0} deg² covered.",
+            "Coverage of plan {} by ecliptic latitude β (from {}.coverage.json): {} visits, {} fields, {} nights used, {:.0} deg² covered.{kept}",
             c.json["plan"].as_str().unwrap_or(&c.stem),
             c.stem,
             cv["n_visits"],
@@ -270,16 +349,24 @@ fn latitude_table(c: &inputs::PlanCoverage) -> Table {
             cv["n_nights_used"],
             cv["covered_sq_deg"].as_f64().unwrap_or(0.0)
         ),
-        header: ["β band", "covered (deg²)", "of the band", "seen on ≥ 5 nights (deg²)"]
-            .map(String::from)
-            .to_vec(),
+        header: header(&["β band", "covered (deg²)", "of the band", "seen on ≥ 5 nights (deg²)"]),
         rows,
+        link: None,
     }
 }
 
-/// Injected versus discovered in a, q, i, H and distance, and the discovered fraction
-/// against a and H.
-fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Result<Section> {
+/// Number of discoveries listed in a run's section.
+const FIRST_DISCOVERIES: usize = 10;
+
+/// What one run found: injected against discovered objects, the discovered fraction, where
+/// and how the discoveries were made, and the first of them.
+fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> {
+    let name = label(dir, &run.dir);
+    let prefix = if inp.runs.len() > 1 || run.dir != dir {
+        format!("{}_", slug(&name))
+    } else {
+        String::new()
+    };
     let o = &run.objects;
     let pick = |xs: &[f64]| -> Vec<f64> {
         xs.iter()
@@ -304,25 +391,120 @@ fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Resul
     for q in ["a_au", "h_mag"] {
         figures.push(distributions::discovered_fraction(q, &summary_bins(&run.summary, q))?);
     }
-    if n_runs > 1 {
-        for f in &mut figures {
-            f.stem = format!("run{k}_{}", f.stem);
-        }
+    let surveys = surveys_of(inp, run);
+    let found: Vec<(f64, f64)> = o.discovery_radec_deg.iter().flatten().copied().collect();
+    if !surveys.is_empty() {
+        let what = format!("discoveries of {name}");
+        figures.extend(sky::maps("sky_discoveries", &what, &surveys, &found)?);
+    }
+    if let Some((_, rows)) = &run.discoveries {
+        figures.extend(discovery_figures(rows, &surveys)?);
+    }
+    for f in &mut figures {
+        f.stem = format!("{prefix}{}", f.stem);
     }
     let mut tables = vec![fraction_table(&run.summary)];
     tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected)));
+    if let Some((path, rows)) = run.discoveries.as_ref().filter(|(_, rows)| !rows.is_empty()) {
+        tables.push(first_discoveries(dir, path, rows));
+    }
     Ok(Section {
-        title: format!("What was found: {}", rel(dir, &run.dir)),
-        intro: "Injected objects against discovered ones: where the survey's selection cuts.".into(),
+        title: format!("What was found: {name}"),
+        intro: format!(
+            "Injected objects against discovered ones in run {name}: where the survey's \
+             selection cuts, where and how the discoveries were made."
+        ),
         tables,
         figures,
+        ..Default::default()
     })
+}
+
+/// The magnitude and rate of motion of the discoveries at discovery, per survey, with each
+/// survey's median depth and rate window marked.
+fn discovery_figures(rows: &[crate::engine::discoveries::Discovery], surveys: &[&Survey]) -> Result<Vec<Figure>> {
+    let mut by_survey: BTreeMap<&str, (Vec<f64>, Vec<f64>)> = BTreeMap::new();
+    for d in rows {
+        let e = by_survey.entry(d.survey.as_str()).or_default();
+        e.0.push(d.mag);
+        e.1.push(d.rate_arcsec_per_hr);
+    }
+    let mags: Vec<(String, Vec<f64>)> = by_survey.iter().map(|(s, v)| (s.to_string(), v.0.clone())).collect();
+    let rates: Vec<(String, Vec<f64>)> = by_survey.iter().map(|(s, v)| (s.to_string(), v.1.clone())).collect();
+    let depth_marks: Vec<(String, f64)> = surveys
+        .iter()
+        .filter_map(|s| Some((format!("median depth, {}", s.name), median(&s.visits.depth_mag)?)))
+        .collect();
+    let mut rate_marks = Vec::new();
+    for s in surveys {
+        if s.motion.min_rate > 0.0 {
+            rate_marks.push((format!("slowest rate searched, {}", s.name), s.motion.min_rate));
+        }
+        rate_marks.push((format!("fastest rate searched, {}", s.name), s.motion.max_rate));
+    }
+    Ok(vec![
+        distributions::at_discovery("discovery_mag", &mags, &depth_marks)?,
+        distributions::at_discovery("discovery_rate_arcsec_per_hr", &rates, &rate_marks)?,
+    ])
+}
+
+fn median(xs: &[f64]) -> Option<f64> {
+    let mut v: Vec<f64> = xs.iter().copied().filter(|x| x.is_finite()).collect();
+    v.sort_by(f64::total_cmp);
+    (!v.is_empty()).then(|| v[v.len() / 2])
+}
+
+/// The first discoveries of a run, in order of discovery, with a link to the whole table.
+fn first_discoveries(dir: &Path, path: &Path, rows: &[crate::engine::discoveries::Discovery]) -> Table {
+    let href = path
+        .strip_prefix(dir)
+        .map_or(path.display().to_string(), |p| p.display().to_string());
+    Table {
+        caption: format!(
+            "The first {} of {} discoveries, in order of discovery: epoch (MJD, the survey's \
+             time scale), survey, magnitude, distance from the Sun r and rate of motion at \
+             discovery, and the orbit (a, q, i) and H of the object.",
+            rows.len().min(FIRST_DISCOVERIES),
+            rows.len()
+        ),
+        header: header(&[
+            "id",
+            "MJD",
+            "survey",
+            "mag",
+            "r (AU)",
+            "rate (″/h)",
+            "a (AU)",
+            "q (AU)",
+            "i (deg)",
+            "H (mag)",
+        ]),
+        rows: rows
+            .iter()
+            .take(FIRST_DISCOVERIES)
+            .map(|d| {
+                vec![
+                    d.id.to_string(),
+                    format!("{:.3}", d.mjd),
+                    d.survey.clone(),
+                    format!("{:.2}", d.mag),
+                    format!("{:.1}", d.r_au),
+                    format!("{:.2}", d.rate_arcsec_per_hr),
+                    format!("{:.1}", d.a_au),
+                    format!("{:.1}", d.q_au),
+                    format!("{:.1}", d.inc_deg),
+                    format!("{:.2}", d.h_mag),
+                ]
+            })
+            .collect(),
+        link: Some((format!("all {} discoveries ({href})", rows.len()), href)),
+    }
 }
 
 /// The fraction of each particle's clones that were discovered: the particle's detection
 /// probability, the per-object weight of a likelihood fit (first 25 particles).
 fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
-    let mut by: std::collections::BTreeMap<i64, (u64, u64)> = Default::default();
+    let mut by: BTreeMap<i64, (u64, u64)> = Default::default();
     for (p, d) in parent.iter().zip(detected) {
         let e = by.entry(*p).or_default();
         e.0 += 1;
@@ -348,10 +530,9 @@ fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
             by.len(),
             if by.len() > 25 { ", the first 25 shown" } else { "" }
         ),
-        header: ["parent_id", "clones", "discovered", "probability", "95% interval"]
-            .map(String::from)
-            .to_vec(),
+        header: header(&["parent_id", "clones", "discovered", "probability", "95% interval"]),
         rows,
+        link: None,
     }
 }
 
@@ -372,65 +553,120 @@ fn fraction_table(summary: &serde_json::Value) -> Table {
         .collect();
     Table {
         caption: "Discovered fraction by perihelion distance q (from summary.json), with 95% Wilson intervals.".into(),
-        header: ["q (AU)", "objects", "discovered", "fraction", "95% interval"]
-            .map(String::from)
-            .to_vec(),
+        header: header(&["q (AU)", "objects", "discovered", "fraction", "95% interval"]),
         rows,
+        link: None,
     }
 }
 
-/// Rows from `yield_cadence.csv`, or else from several runs that each used one known survey.
-fn yield_rows(inp: &Inputs) -> Vec<YieldRow> {
-    if !inp.yields.is_empty() {
-        return inp.yields.clone();
+/// Observe runs that are cadence variants of one another: the same objects table (by its
+/// content hash) through one survey each, the surveys all different. Groups of two or more.
+fn cadence_groups(inp: &Inputs) -> Vec<Vec<&ObserveRun>> {
+    let mut by_objects: BTreeMap<&str, Vec<&ObserveRun>> = BTreeMap::new();
+    for r in &inp.runs {
+        if let (Some((_, h)), [_]) = (r.objects_input.as_ref(), r.survey_specs.as_slice()) {
+            by_objects.entry(h.as_str()).or_default().push(r);
+        }
     }
-    let rows: Vec<YieldRow> = inp
-        .runs
+    by_objects
+        .into_values()
+        .filter(|g| {
+            let mut specs: Vec<PathBuf> = g
+                .iter()
+                .map(|r| r.survey_specs[0].canonicalize().unwrap_or(r.survey_specs[0].clone()))
+                .collect();
+            specs.sort();
+            specs.dedup();
+            g.len() >= 2 && specs.len() == g.len()
+        })
+        .collect()
+}
+
+/// The yield rows of cadence-variant runs.
+fn variant_rows(inp: &Inputs, group: &[&ObserveRun]) -> Vec<YieldRow> {
+    group
         .iter()
         .filter_map(|r| {
-            let [spec] = r.survey_specs.as_slice() else { return None };
-            let s = inp.surveys.iter().find(|s| same_file(&s.spec_path, spec))?;
+            let s = surveys_of(inp, r).into_iter().next()?;
             Some(YieldRow {
                 plan: s.name.clone(),
-                population: "injected population".into(),
+                population: r
+                    .objects_input
+                    .as_ref()
+                    .map_or("objects".into(), |(p, _)| inputs::population_name(p)),
                 cadence_days: median_revisit_days(s)?,
                 n_objects: r.summary["n_objects"].as_u64()?,
                 n_discovered: r.summary["n_detected"].as_u64()?,
+                effort: Some(effort_of(s)),
             })
         })
-        .collect();
-    if rows.len() >= 2 { rows } else { Vec::new() }
+        .collect()
+}
+
+/// The cadence comparison of `source` (a yield directory or a group of runs); `stem` tells
+/// its figure apart from others (empty for the report directory's own).
+fn yield_section(source: &str, stem: &str, rows: &[YieldRow]) -> Result<Section> {
+    let mut f = cadence::yield_vs_cadence(rows)?;
+    if !stem.is_empty() {
+        f.stem = format!("{}_{stem}", f.stem);
+    }
+    Ok(Section {
+        title: format!("Yield against cadence: {source}"),
+        intro: format!(
+            "What each plan finds of the same population, and what each costs (from {source}): \
+             the comparison a cadence design rests on. Plans of unequal effort are compared per \
+             hour of telescope time in the second panel."
+        ),
+        figures: vec![f],
+        tables: vec![yield_table(rows)],
+        ..Default::default()
+    })
 }
 
 fn yield_table(rows: &[YieldRow]) -> Table {
+    let dash = || "–".to_string();
     Table {
-        caption: "Yield per plan, with 95% Wilson intervals on the discovered fraction.".into(),
-        header: [
+        caption: "Yield per plan, with 95% Wilson intervals on the discovered fraction; each plan's \
+                  visits, hours (telescope time, or open shutter †) and area covered, and the \
+                  discoveries per 100 hours."
+            .into(),
+        header: header(&[
             "plan",
             "population",
             "revisit (days)",
+            "visits",
+            "hours",
+            "area (deg²)",
             "objects",
             "discovered",
             "fraction",
             "95% interval",
-        ]
-        .map(String::from)
-        .to_vec(),
+            "per 100 h",
+        ]),
         rows: rows
             .iter()
             .map(|r| {
                 let (lo, hi) = super::stats::wilson(r.n_discovered, r.n_objects, 1.96);
+                let e = r.effort.as_ref();
                 vec![
                     r.plan.clone(),
                     r.population.clone(),
                     format!("{:.1}", r.cadence_days),
+                    e.map_or_else(dash, |e| e.visits.to_string()),
+                    e.map_or_else(dash, |e| {
+                        format!("{:.0}{}", e.hours, if e.telescope_time { "" } else { " †" })
+                    }),
+                    e.map_or_else(dash, |e| format!("{:.0}", e.area_sq_deg)),
                     r.n_objects.to_string(),
                     r.n_discovered.to_string(),
                     pct(r.n_discovered, r.n_objects),
                     format!("{:.2}%–{:.2}%", 100.0 * lo, 100.0 * hi),
+                    e.filter(|e| e.hours > 0.0)
+                        .map_or_else(dash, |e| format!("{:.2}", 100.0 * r.n_discovered as f64 / e.hours)),
                 ]
             })
             .collect(),
+        link: None,
     }
 }
 
@@ -446,6 +682,7 @@ fn bias_section(dir: &Path, inp: &Inputs) -> Result<Section> {
     if inp.roses.is_empty() {
         if let Some(run) = inp.runs.first() {
             let o = &run.objects;
+            let name = label(dir, &run.dir);
             let found = |xs: &[f64]| -> Vec<f64> {
                 xs.iter()
                     .zip(&o.detected)
@@ -453,9 +690,9 @@ fn bias_section(dir: &Path, inp: &Inputs) -> Result<Section> {
                     .map(|(x, _)| *x)
                     .collect()
             };
-            let note = "Angles of the discovered objects of the first observe run.";
+            let note = format!("Angles of the discovered objects of run {name}.");
             for (q, xs) in [("varpi_deg", &o.varpi_deg), ("node_deg", &o.node_deg)] {
-                figures.push(rose::rose(q, &rose::bins_of(&found(xs), 18), rose::Band::Naive, note)?);
+                figures.push(rose::rose(q, &rose::bins_of(&found(xs), 18), rose::Band::Naive, &note)?);
             }
         }
     }
@@ -481,6 +718,7 @@ fn bias_section(dir: &Path, inp: &Inputs) -> Result<Section> {
             .into(),
         tables,
         figures,
+        ..Default::default()
     })
 }
 
@@ -492,9 +730,7 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
                   its chance under the bias-aware null (angles from the objects' bias maps) and \
                   without the surveys' bias (uniform angles)."
             .into(),
-        header: ["statistic", "observed", "null catalogues", "p bias-aware", "p naive"]
-            .map(String::from)
-            .to_vec(),
+        header: header(&["statistic", "observed", "null catalogues", "p bias-aware", "p naive"]),
         rows: tests
             .iter()
             .map(|t| {
@@ -507,5 +743,6 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
                 ]
             })
             .collect(),
+        link: None,
     }
 }

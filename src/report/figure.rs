@@ -36,6 +36,18 @@ impl Figure {
     }
 }
 
+impl Figure {
+    /// A figure written directly as SVG text (see `figures::svg`).
+    pub fn from_svg(stem: &str, title: &str, caption: &str, svg: String) -> Figure {
+        Figure {
+            stem: stem.into(),
+            title: title.into(),
+            caption: caption.into(),
+            svg: with_metadata(&svg, title, caption),
+        }
+    }
+}
+
 /// Draw a figure of `size` pixels: white paper, `draw` on the whole area, then the title and
 /// caption into the SVG's metadata.
 pub fn render(

@@ -18,7 +18,7 @@ p.lede { margin: 0 0 8px; color: var(--muted); max-width: 60rem; }
 nav { margin: 8px 0 0; font-size: 0.95rem; }
 nav a { color: var(--accent); margin-right: 16px; text-decoration: none; }
 nav a:hover { text-decoration: underline; }
-.figures { display: grid; grid-template-columns: repeat(auto-fill, minmax(540px, 1fr)); gap: 20px 28px; margin-top: 16px; }
+.figures { display: grid; grid-template-columns: repeat(auto-fill, minmax(min(540px, 100%), 1fr)); gap: 20px 28px; margin-top: 16px; }
 figure { margin: 0; }
 figure img { width: 100%; height: auto; border: 1px solid var(--rule); background: #fff; }
 figcaption { font-size: 0.9rem; color: var(--ink); margin-top: 6px; }
@@ -28,6 +28,10 @@ caption { caption-side: top; text-align: left; color: var(--muted); padding-bott
 th, td { padding: 4px 12px; border-bottom: 1px solid var(--rule); text-align: left; }
 th { background: var(--tint); font-weight: 600; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; }
+.table-wrap { max-width: 100%; overflow-x: auto; }
+p.note { background: #fff6e0; border-left: 4px solid #d0642a; padding: 6px 12px; margin: 10px 0; font-size: 0.92rem; overflow-wrap: anywhere; }
+p.more { margin: 2px 0 10px; font-size: 0.9rem; }
+p.more a { color: var(--accent); }
 footer { color: var(--muted); font-size: 0.85rem; margin-top: 40px; padding-bottom: 28px; border-top: 1px solid var(--rule); padding-top: 8px; }
 "#;
 
@@ -58,8 +62,11 @@ fn table(t: &Table) -> String {
             format!("<tr>{cells}</tr>\n")
         })
         .collect();
+    let more = t.link.as_ref().map_or(String::new(), |(text, href)| {
+        format!("<p class=\"more\"><a href=\"{}\">{}</a></p>\n", esc(href), esc(text))
+    });
     format!(
-        "<table>\n<caption>{}</caption>\n<thead><tr>{head}</tr></thead>\n<tbody>\n{body}</tbody>\n</table>\n",
+        "<div class=\"table-wrap\"><table>\n<caption>{}</caption>\n<thead><tr>{head}</tr></thead>\n<tbody>\n{body}</tbody>\n</table></div>\n{more}",
         esc(&t.caption)
     )
 }
@@ -84,6 +91,9 @@ pub fn page(title: &str, lede: &str, sections: &[Section], footer: &str) -> Stri
             esc(&s.title),
             esc(&s.intro)
         );
+        for n in &s.notes {
+            body += &format!("<p class=\"note\">{}</p>\n", esc(n));
+        }
         for t in &s.tables {
             body += &table(t);
         }

@@ -7,11 +7,12 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
-use super::tables::{FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin, YieldRow};
+use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin, YieldRow};
+use crate::engine::discoveries::{self, Discovery};
 use crate::error::{Error, Result, io_at};
 use crate::io::objects::ObjectTable;
-use crate::io::provenance::{METADATA_KEY, Provenance};
-use crate::io::table::{Columns, read_parquet_metadata, read_table, sidecar_path};
+use crate::io::provenance::{Provenance, read_provenance};
+use crate::io::table::{Columns, read_parquet_metadata, read_table};
 use crate::survey::Survey;
 
 /// One `observe` output directory.
@@ -19,10 +20,41 @@ pub struct ObserveRun {
     pub dir: PathBuf,
     pub summary: serde_json::Value,
     pub objects: Observed,
-    /// The detections table, when present: (survey, visit_id, mag, detected) per event.
+    /// The detections table, when present: (survey, visit_id, mag, rate, detected) per event.
     pub detections: Option<Detections>,
+    /// The discoveries table (`engine::discoveries`), when present: its path and rows.
+    pub discoveries: Option<(PathBuf, Vec<Discovery>)>,
     /// Survey specs named in the run's provenance that still exist.
     pub survey_specs: Vec<PathBuf>,
+    /// The objects table the run observed and its content hash (from its provenance): runs
+    /// of one population through different surveys share the hash.
+    pub objects_input: Option<(PathBuf, String)>,
+}
+
+/// An input the report could not use, and why; its section is left out and the page says so.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Skipped {
+    pub path: PathBuf,
+    pub reason: String,
+}
+
+impl Skipped {
+    /// One sentence: the reason, which names the input (prefixed with it when it does not).
+    pub fn describe(&self) -> String {
+        let p = self.path.display().to_string();
+        if self.reason.contains(&p) {
+            self.reason.clone()
+        } else {
+            format!("{p}: {}", self.reason)
+        }
+    }
+}
+
+/// One yield comparison (`seine yield`): its directory, rows, and the surveys it compared
+/// (from its summary's provenance) for their effort.
+pub struct YieldSet {
+    pub dir: PathBuf,
+    pub rows: Vec<YieldRow>,
 }
 
 /// The per-object columns the figures use.
@@ -46,6 +78,7 @@ pub struct Detections {
     pub survey: Vec<String>,
     pub visit_id: Vec<i64>,
     pub mag: Vec<f64>,
+    pub rate_arcsec_per_hr: Vec<f64>,
     pub detected: Vec<bool>,
 }
 
@@ -66,7 +99,9 @@ pub struct Inputs {
     /// (quantity, bins, the file they came from).
     pub roses: Vec<(String, Vec<RoseBin>, String)>,
     pub null_tests: Vec<NullTest>,
-    pub yields: Vec<YieldRow>,
+    pub yields: Vec<YieldSet>,
+    /// Inputs that could not be read, each with the reason.
+    pub skipped: Vec<Skipped>,
 }
 
 impl Inputs {
@@ -77,6 +112,20 @@ impl Inputs {
             && self.roses.is_empty()
             && self.null_tests.is_empty()
             && self.yields.is_empty()
+    }
+
+    /// Keep what `read` gives; an input error is noted against `path` and the scan goes on.
+    fn keep<T>(&mut self, path: &Path, read: Result<T>) -> Option<T> {
+        match read {
+            Ok(x) => Some(x),
+            Err(e) => {
+                self.skipped.push(Skipped {
+                    path: path.to_path_buf(),
+                    reason: e.to_string(),
+                });
+                None
+            }
+        }
     }
 }
 
@@ -110,8 +159,9 @@ fn name_of(p: &Path) -> String {
         .unwrap_or_default()
 }
 
-/// Read everything the report can show from `dir`; an unreadable or empty directory is one
-/// clear input error.
+/// Read everything the report can show from `dir`. An input that cannot be read is noted in
+/// `skipped` and left out; a missing directory, or one where nothing at all can be shown, is
+/// one clear input error.
 pub fn scan(dir: &Path) -> Result<Inputs> {
     if !dir.is_dir() {
         return Err(Error::input(format!("{}: no such directory", dir.display())));
@@ -120,14 +170,24 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
     let mut specs: Vec<PathBuf> = Vec::new();
     for d in search_dirs(dir)? {
         for f in files_in(&d) {
-            read_file(&f, &mut inputs, &mut specs)?;
+            let read = read_file(&f, &mut inputs, &mut specs);
+            inputs.keep(&f, read);
         }
-        if let Some(run) = read_run(&d)? {
+        let read = read_run(&d);
+        if let Some(run) = inputs.keep(&d, read).flatten() {
             specs.extend(run.survey_specs.iter().cloned());
             inputs.runs.push(run);
         }
     }
-    load_surveys(&mut inputs, specs)?;
+    load_surveys(&mut inputs, specs);
+    if inputs.is_empty() && !inputs.skipped.is_empty() {
+        let why: Vec<String> = inputs.skipped.iter().map(|s| s.reason.clone()).collect();
+        return Err(Error::input(format!(
+            "{}: nothing to report: {}",
+            dir.display(),
+            why.join("; ")
+        )));
+    }
     if inputs.is_empty() {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
@@ -152,22 +212,23 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
     } else if name == "cluster_null.csv" || name == "cluster_null.parquet" {
         inputs.null_tests.extend(read_null_tests(f)?);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
-        inputs.yields.extend(read_yields(f)?);
+        inputs.yields.push(read_yield_set(f)?);
     }
     Ok(())
 }
 
-/// Load each distinct survey spec once.
-fn load_surveys(inputs: &mut Inputs, specs: Vec<PathBuf>) -> Result<()> {
+/// Load each distinct survey spec once; a spec that does not load is noted and skipped.
+fn load_surveys(inputs: &mut Inputs, specs: Vec<PathBuf>) {
     let mut seen = Vec::new();
     for s in specs {
         let key = s.canonicalize().unwrap_or(s.clone());
         if !seen.contains(&key) {
             seen.push(key);
-            inputs.surveys.push(Survey::load(&s)?);
+            if let Some(survey) = inputs.keep(&s, Survey::load(&s)) {
+                inputs.surveys.push(survey);
+            }
         }
     }
-    Ok(())
 }
 
 fn read_json(path: &Path) -> Result<serde_json::Value> {
@@ -205,13 +266,30 @@ fn read_run(d: &Path) -> Result<Option<ObserveRun>> {
         .iter()
         .map(|n| d.join(n))
         .find(|p| p.exists());
+    let prov = read_provenance(&objects_path).ok();
     Ok(Some(ObserveRun {
         dir: d.to_path_buf(),
         summary: read_json(&summary_path)?,
         objects: read_observed(&objects_path)?,
         detections: detections.map(|p| read_detections(&p)).transpose()?,
-        survey_specs: provenance_specs(&objects_path, d),
+        discoveries: discoveries::find(d)
+            .map(|p| discoveries::read(&p).map(|rows| (p, rows)))
+            .transpose()?,
+        survey_specs: prov.as_ref().map_or(Vec::new(), |p| survey_specs(p, d)),
+        objects_input: prov.as_ref().and_then(objects_input),
     }))
+}
+
+/// The hash of the objects table among a run's inputs: the one table that is not a visits
+/// table (a survey spec's visits are recorded beside the spec).
+fn objects_input(p: &Provenance) -> Option<(PathBuf, String)> {
+    let tables: Vec<&crate::io::provenance::InputHash> = p
+        .inputs
+        .iter()
+        .filter(|i| i.path.ends_with(".parquet") || i.path.ends_with(".csv"))
+        .collect();
+    // Observe records each spec, then its visits table, then the objects table last.
+    tables.last().map(|i| (PathBuf::from(&i.path), i.sha256.clone()))
 }
 
 fn bools(c: &Columns, name: &str) -> Result<Vec<bool>> {
@@ -262,29 +340,20 @@ fn read_detections(path: &Path) -> Result<Detections> {
         survey: c.str("survey")?,
         visit_id: c.i64("visit_id")?,
         mag: c.f64("mag")?,
+        rate_arcsec_per_hr: c.f64("rate_arcsec_per_hr")?,
         detected: bools(&c, "detected")?,
     })
 }
 
-/// Survey specs (`.toml` inputs) recorded in a table's provenance, where they still exist
-/// (as recorded, or relative to the run directory).
-fn provenance_specs(table: &Path, run_dir: &Path) -> Vec<PathBuf> {
-    let json = if name_of(table).ends_with(".parquet") {
-        read_parquet_metadata(table)
-            .ok()
-            .and_then(|kv| kv.into_iter().find(|(k, _)| k == METADATA_KEY).map(|(_, v)| v))
-    } else {
-        std::fs::read_to_string(sidecar_path(table)).ok()
-    };
-    let Some(prov) = json.and_then(|j| serde_json::from_str::<Provenance>(&j).ok()) else {
-        return Vec::new();
-    };
+/// Survey specs (`.toml` inputs) recorded in a provenance, where they still exist (as
+/// recorded, or relative to `dir`).
+fn survey_specs(prov: &Provenance, dir: &Path) -> Vec<PathBuf> {
     prov.inputs
         .iter()
         .filter(|i| i.path.ends_with(".toml"))
         .filter_map(|i| {
             let p = PathBuf::from(&i.path);
-            [p.clone(), run_dir.join(&p)]
+            [p.clone(), dir.join(&p)]
                 .into_iter()
                 .find(|c| c.is_file() && is_survey_spec(c))
         })
@@ -497,8 +566,9 @@ fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
 }
 
 /// `yield_cadence.csv` (or `.parquet`, as `seine yield` writes it): `plan, cadence_days,
-/// n_objects, n_discovered`, optional `population`.
-fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
+/// n_objects, n_discovered`, optional `population`; with the effort of each plan from the
+/// survey specs in the provenance of `summary.json` beside it, when there is one.
+fn read_yield_set(path: &Path) -> Result<YieldSet> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let (plan, cad, n, k) = (
@@ -507,20 +577,102 @@ fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
         c.i64("n_objects")?,
         c.i64("n_discovered")?,
     );
+    let dir = path.parent().unwrap_or(Path::new("")).to_path_buf();
+    let (surveys, objects) = yield_context(&dir);
+    let found = objects.as_deref().map(population_name);
+    let stem = objects
+        .as_deref()
+        .and_then(|p| p.file_stem())
+        .map(|s| s.to_string_lossy().into_owned());
     let pop = if c.has("population") {
         c.str("population")?
     } else {
-        vec!["population".into(); plan.len()]
+        vec!["population".to_string(); plan.len()]
     };
-    Ok((0..plan.len())
+    let rows = (0..plan.len())
         .map(|i| YieldRow {
             plan: plan[i].clone(),
-            population: pop[i].clone(),
+            population: population_label(&pop[i], stem.as_deref(), found.as_deref()),
             cadence_days: cad[i],
             n_objects: n[i].max(0) as u64,
             n_discovered: k[i].max(0) as u64,
+            effort: surveys.iter().find(|s| s.name == plan[i]).map(effort_of),
         })
-        .collect())
+        .collect();
+    Ok(YieldSet { dir, rows })
+}
+
+/// The surveys a yield compared and the objects table it ran, from the provenance of the
+/// `summary.json` in `dir`.
+fn yield_context(dir: &Path) -> (Vec<Survey>, Option<PathBuf>) {
+    let Ok(summary) = read_json(&dir.join("summary.json")) else {
+        return (Vec::new(), None);
+    };
+    let Ok(prov) = serde_json::from_value::<Provenance>(summary["provenance"].clone()) else {
+        return (Vec::new(), None);
+    };
+    let surveys = survey_specs(&prov, dir)
+        .iter()
+        .filter_map(|p| Survey::load(p).ok())
+        .collect();
+    let objects = prov
+        .inputs
+        .iter()
+        .rev()
+        .map(|i| PathBuf::from(&i.path))
+        .find(|p| matches!(name_of(p).rsplit('.').next(), Some("parquet" | "csv")));
+    (surveys, objects)
+}
+
+/// A population's name: the `name` of the spec that drew it (stored in the table by `seine
+/// draw`, or a spec `STEM.toml` beside it), else its file name.
+pub fn population_name(objects: &Path) -> String {
+    let stored = read_parquet_metadata(objects)
+        .ok()
+        .and_then(|kv| kv.into_iter().find(|(k, _)| k == "seine.population_spec"))
+        .map(|(_, text)| text);
+    let beside = || std::fs::read_to_string(objects.with_extension("toml")).ok();
+    stored
+        .or_else(beside)
+        .and_then(|text| text.parse::<toml::Table>().ok())
+        .and_then(|t| t.get("population")?.get("name")?.as_str().map(String::from))
+        .unwrap_or_else(|| name_of(objects))
+}
+
+/// The label of a yield row's population: the written one, unless it is only the bare stem
+/// of the objects file (or missing), in which case the name found from the file is better.
+fn population_label(written: &str, stem: Option<&str>, found: Option<&str>) -> String {
+    match found {
+        Some(f) if Some(written) == stem || written == "population" => f.to_string(),
+        _ => written.to_string(),
+    }
+}
+
+/// What a survey cost: its visits, hours and area. Hours are the telescope time the planner
+/// used (exposures and overheads, `STEM.coverage_nights.csv` beside the visits table) when
+/// there is that table, else the open-shutter time (the sum of exposure times). The area is
+/// the covered area of `STEM.coverage.json` when there is one, else counted on the report's
+/// sky cells.
+pub fn effort_of(s: &Survey) -> Effort {
+    let stem = s.visits_path.with_extension("");
+    let beside = |suffix: &str| PathBuf::from(format!("{}{suffix}", stem.display()));
+    let telescope_hours = read_table(&beside(".coverage_nights.csv"))
+        .ok()
+        .and_then(|df| Columns::new(&df, &s.visits_path).f64("used_hours").ok())
+        .map(|h| h.iter().sum::<f64>());
+    let area = read_json(&beside(".coverage.json"))
+        .ok()
+        .and_then(|j| j["coverage"]["covered_sq_deg"].as_f64());
+    let area_sq_deg = area.unwrap_or_else(|| {
+        let cells = super::figures::sky::visit_cells(&[s], super::figures::sky::MAP_ORDER);
+        cells.len() as f64 * 41252.96 / cdshealpix::nested::n_hash(super::figures::sky::MAP_ORDER) as f64
+    });
+    Effort {
+        visits: s.visits.len() as u64,
+        hours: telescope_hours.unwrap_or_else(|| s.visits.exposure_s.iter().sum::<f64>() / 3600.0),
+        telescope_time: telescope_hours.is_some(),
+        area_sq_deg,
+    }
 }
 
 /// The median interval, in nights, between successive distinct nights on which a field (a

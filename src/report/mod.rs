@@ -29,25 +29,38 @@ use std::path::{Path, PathBuf};
 use crate::error::{Error, Result, io_at};
 use crate::io::table::write_atomic;
 
-/// What `report` wrote.
+/// What `report` wrote, and the inputs it left out (each also noted in the page).
 #[derive(Debug, Clone)]
 pub struct Written {
     pub index: PathBuf,
     pub figures: Vec<PathBuf>,
+    pub skipped: Vec<inputs::Skipped>,
 }
 
-/// Build `DIR/index.html` and `DIR/figures/*.svg` from the outputs in DIR.
+/// Build `DIR/index.html` and `DIR/figures/*.svg` from the outputs in DIR. An input that
+/// cannot be read, or does not agree with the others, leaves its section out with a note;
+/// the rest is built.
 pub fn report(dir: &Path) -> Result<Written> {
     let inputs = inputs::scan(dir)?;
-    let sections = build::sections(dir, &inputs)?;
+    let (mut sections, skipped) = build::sections(dir, &inputs)?;
+    if sections.iter().all(|s| s.figures.is_empty() && s.tables.is_empty()) {
+        let why: Vec<String> = skipped.iter().map(|s| s.reason.clone()).collect();
+        return Err(Error::input(format!(
+            "{}: nothing to report{}",
+            dir.display(),
+            if why.is_empty() {
+                String::new()
+            } else {
+                format!(": {}", why.join("; "))
+            }
+        )));
+    }
+    distinct_stems(&mut sections);
     let fig_dir = dir.join("figures");
     std::fs::create_dir_all(&fig_dir).map_err(|e| io_at(&fig_dir, e))?;
     let mut figures = Vec::new();
     for f in sections.iter().flat_map(|s| &s.figures) {
         figures.push(f.write(&fig_dir)?);
-    }
-    if sections.is_empty() {
-        return Err(Error::input(format!("{}: nothing to report", dir.display())));
     }
     let lede = "What the surveys could have found, and what they did find, in the forward model \
                 of seine. Every figure is an SVG file in figures/; every number comes from the \
@@ -59,5 +72,23 @@ pub fn report(dir: &Path) -> Result<Written> {
     );
     let index = dir.join("index.html");
     write_atomic(&index, html::page("seine report", lede, &sections, &footer).as_bytes())?;
-    Ok(Written { index, figures })
+    Ok(Written {
+        index,
+        figures,
+        skipped,
+    })
+}
+
+/// Two figures never share a file: a stem seen before gets `_2`, `_3`, … (each section
+/// already names its figures by run; this is the guarantee).
+fn distinct_stems(sections: &mut [build::Section]) {
+    let mut seen = std::collections::HashSet::new();
+    for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
+        let base = f.stem.clone();
+        let mut k = 1;
+        while !seen.insert(f.stem.clone()) {
+            k += 1;
+            f.stem = format!("{base}_{k}");
+        }
+    }
 }

@@ -73,14 +73,36 @@ pub struct YieldRow {
     pub cadence_days: f64,
     pub n_objects: u64,
     pub n_discovered: u64,
+    /// What the plan cost, when its survey is known.
+    pub effort: Option<Effort>,
+}
+
+/// A survey's effort: what an equal-effort comparison divides by.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Effort {
+    pub visits: u64,
+    /// Hours of telescope time (exposures and overheads) when `telescope_time`, else of open
+    /// shutter (the sum of exposure times: overheads unknown).
+    pub hours: f64,
+    pub telescope_time: bool,
+    /// Area covered at least once, deg².
+    pub area_sq_deg: f64,
 }
 
 /// An efficiency curve: detection probability against magnitude minus depth.
 #[derive(Debug, Clone, PartialEq)]
 pub struct EfficiencyCurve {
     pub survey: String,
-    /// (m − depth_mag, probability) pairs, ascending in the first.
+    /// (m − depth_mag, probability) pairs of the efficiency model, ascending in the first.
     pub model: Vec<(f64, f64)>,
-    /// The fraction of in-field events detected in bins of m − depth_mag (from detections).
+    /// The fraction of the footprint that is live detector: a source in the field lands on
+    /// it with this probability, so the model of an in-field event is `live_fraction` × η.
+    pub live_fraction: f64,
+    /// The fraction of in-field events detected in bins of m − depth_mag (from detections),
+    /// counting only events inside the survey's rate window.
     pub measured: Vec<FractionBin>,
+    /// In-field events moving slower or faster than the search finds (never detected).
+    pub outside_rates: u64,
+    /// The rates the search finds, arcsec per hour.
+    pub rate_window: (f64, f64),
 }

@@ -50,12 +50,14 @@ where
     Ok(())
 }
 
-/// Ticks of a logarithmic axis at 1, 2 and 5 times the powers of ten inside [lo, hi]
-/// (plotters labels only the powers of ten, too few over one or two decades).
+/// Ticks of a logarithmic axis: at 1, 2 and 5 times the powers of ten inside [lo, hi] over
+/// up to three decades (plotters labels only the powers of ten, too few there), at the
+/// powers of ten alone over more.
 pub fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
     let (a, b) = (lo.log10().floor() as i32, hi.log10().ceil() as i32);
+    let steps: &[f64] = if hi / lo > 1e3 { &[1.0] } else { &[1.0, 2.0, 5.0] };
     (a..=b)
-        .flat_map(|p| [1.0, 2.0, 5.0].map(|m| m * 10f64.powi(p)))
+        .flat_map(|p| steps.iter().map(move |m| m * 10f64.powi(p)))
         .filter(|&t| t >= lo && t <= hi)
         .collect()
 }
@@ -98,4 +100,59 @@ pub fn steps(edges: &[f64], heights: &[f64]) -> Vec<(f64, f64)> {
         pts.push((edges[k + 1], h));
     }
     pts
+}
+
+/// A histogram outline with gaps at empty bins: one step curve per run of non-empty bins,
+/// closed down to `floor` (the bottom of the axis) at both ends of the run, so that an empty
+/// bin is drawn as nothing rather than as a line along (or below) the axis.
+pub fn step_runs(edges: &[f64], counts: &[u64], floor: f64) -> Vec<Vec<(f64, f64)>> {
+    let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut open = false;
+    for (k, &c) in counts.iter().enumerate() {
+        if c == 0 {
+            if open {
+                let x = edges[k];
+                runs.last_mut().expect("open run").push((x, floor));
+            }
+            open = false;
+            continue;
+        }
+        let h = c as f64;
+        if !open {
+            runs.push(vec![(edges[k], floor)]);
+            open = true;
+        }
+        let run = runs.last_mut().expect("open run");
+        run.push((edges[k], h));
+        run.push((edges[k + 1], h));
+    }
+    if open {
+        runs.last_mut().expect("open run").push((edges[counts.len()], floor));
+    }
+    runs
+}
+
+/// Whether counts span enough decades to need a logarithmic axis: the largest over the
+/// smallest non-zero count above 30.
+pub fn counts_need_log(counts: &[u64]) -> bool {
+    let nonzero = counts.iter().copied().filter(|&c| c > 0);
+    let (lo, hi) = nonzero.fold((u64::MAX, 0), |(a, b), c| (a.min(c), b.max(c)));
+    hi > 0 && hi as f64 / lo as f64 > 30.0
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn empty_bins_are_gaps() {
+        let edges = [0.0, 1.0, 2.0, 3.0, 4.0];
+        let runs = step_runs(&edges, &[2, 0, 3, 1], 0.5);
+        assert_eq!(runs.len(), 2);
+        assert_eq!(runs[0], vec![(0.0, 0.5), (0.0, 2.0), (1.0, 2.0), (1.0, 0.5)]);
+        assert_eq!(runs[1].first(), Some(&(2.0, 0.5)));
+        assert_eq!(runs[1].last(), Some(&(4.0, 0.5)));
+        assert!(step_runs(&edges, &[0, 0, 0, 0], 0.5).is_empty());
+        assert!(counts_need_log(&[1, 0, 500]) && !counts_need_log(&[10, 0, 200]));
+    }
 }

@@ -36,7 +36,7 @@ pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f6
     let title = format!("Injected and discovered objects in {sym}");
     let caption = format!(
         "Number of objects per bin of {} — injected (blue, {} objects) and discovered (orange, {}). \
-         Counts on a logarithmic axis. {note}",
+         Counts on a logarithmic axis; bins without objects are left empty. {note}",
         label(quantity),
         injected.len(),
         discovered.len()
@@ -66,22 +66,25 @@ pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f6
     })
 }
 
-const FLOOR: f64 = 0.6;
+/// The bottom of the count axis: below one object, so that a bin of one has a visible height.
+const FLOOR: f64 = 0.5;
 
 fn draw_hists<X>(area: &Area, x: X, edges: &[f64], hists: &[Vec<u64>; 2], top: f64, quantity: &str) -> DrawResult
 where
     X: AsRangedCoord<Value = f64>,
     X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
 {
-    let mut chart = axes::chart(area, x, (FLOOR..top).log_scale())?;
+    let y = (FLOOR..top).log_scale().with_key_points(axes::log_ticks(1.0, top));
+    let mut chart = axes::chart(area, x, y)?;
     axes::mesh(&mut chart, &label(quantity), "objects per bin")?;
     for (k, (h, name)) in hists.iter().zip(["injected", "discovered"]).enumerate() {
-        let heights: Vec<f64> = h.iter().map(|&c| (c as f64).max(FLOOR)).collect();
         let c = style::series(k);
-        chart
-            .draw_series(LineSeries::new(axes::steps(edges, &heights), c.stroke_width(2)))?
-            .label(name)
-            .legend(axes::swatch(c, 2));
+        for (j, run) in axes::step_runs(edges, h, FLOOR).into_iter().enumerate() {
+            let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
+            if j == 0 {
+                drawn.label(name).legend(axes::swatch(c, 2));
+            }
+        }
     }
     axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
@@ -165,4 +168,153 @@ where
             .map(|b| Circle::new((centre(b), b.k as f64 / b.n as f64), 4, c.filled())),
     )?;
     Ok(())
+}
+
+/// The axis label of a circumstance of discovery.
+fn discovery_label(quantity: &str) -> String {
+    match quantity {
+        "discovery_mag" => "magnitude at discovery (mag)".into(),
+        "discovery_rate_arcsec_per_hr" => "rate of motion at discovery (arcsec/h)".into(),
+        other => label(other),
+    }
+}
+
+/// Histograms of a circumstance of discovery (`discovery_mag`, `discovery_rate_arcsec_per_hr`),
+/// one step curve per survey, with reference values (a survey's median depth, the rates its
+/// search finds) drawn as dashed vertical lines where they fall near the data. Rates get a
+/// logarithmic axis when they span more than a factor of five.
+pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[(String, f64)]) -> Result<Figure> {
+    let what = discovery_label(quantity);
+    let title = match quantity {
+        "discovery_mag" => "Magnitude of the discoveries".to_string(),
+        "discovery_rate_arcsec_per_hr" => "Rate of motion of the discoveries".to_string(),
+        other => format!("Discoveries in {other}"),
+    };
+    let all: Vec<f64> = per_survey.iter().flat_map(|s| s.1.iter().copied()).collect();
+    let is_rate = quantity.contains("rate");
+    // Reference values are drawn when they lie near the data (within a factor of four for
+    // rates, 1.5 mag for magnitudes), so that a far limit does not squash the histogram.
+    let near = |v: f64| {
+        finite_range(&all).is_some_and(|(lo, hi)| {
+            if is_rate {
+                v > 0.0 && v >= lo / 4.0 && v <= hi * 4.0
+            } else {
+                v >= lo - 1.5 && v <= hi + 1.5
+            }
+        })
+    };
+    let (shown, far): (Vec<&(String, f64)>, Vec<&(String, f64)>) = marks.iter().partition(|m| near(m.1));
+    let extent: Vec<f64> = all.iter().copied().chain(shown.iter().map(|m| m.1)).collect();
+    let log = is_rate && finite_range(&extent).is_some_and(|(lo, hi)| lo > 0.0 && hi / lo > 5.0);
+    let edges = finite_range(&extent).map(|(lo, hi)| {
+        if log {
+            log_edges(lo / 1.15, hi * 1.15, 30)
+        } else {
+            let pad = ((hi - lo) * 0.04).max(0.1);
+            lin_edges(lo - pad, hi + pad, 30)
+        }
+    });
+    let hists: Vec<Vec<u64>> = edges
+        .as_ref()
+        .map_or(Vec::new(), |e| per_survey.iter().map(|s| histogram(&s.1, e)).collect());
+    let names: Vec<String> = per_survey
+        .iter()
+        .map(|(n, v)| format!("{n} ({} discoveries)", v.len()))
+        .collect();
+    let caption = format!(
+        "Number of discoveries per bin of {what}, as each was first found: {}.{}{} Bins \
+         without discoveries are left empty.",
+        if names.is_empty() {
+            "none".into()
+        } else {
+            names.join("; ")
+        },
+        if shown.is_empty() {
+            String::new()
+        } else {
+            format!(
+                " Dashed lines: {}.",
+                shown
+                    .iter()
+                    .map(|(n, v)| format!("{n} ({})", axes::tick((v * 100.0).round() / 100.0)))
+                    .collect::<Vec<_>>()
+                    .join("; ")
+            )
+        },
+        if far.is_empty() {
+            String::new()
+        } else {
+            format!(
+                " Off the axis: {}.",
+                far.iter()
+                    .map(|(n, v)| format!("{n} ({})", axes::tick((v * 100.0).round() / 100.0)))
+                    .collect::<Vec<_>>()
+                    .join("; ")
+            )
+        }
+    );
+    let stem = quantity.to_string();
+    render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
+        let area = titled(root, &title)?;
+        let Some(edges) = edges.as_ref().filter(|_| !all.is_empty()) else {
+            return empty_note(&area, "no discoveries");
+        };
+        let (lo, hi) = (edges[0], edges[edges.len() - 1]);
+        let top = hists.iter().flatten().copied().max().unwrap_or(1).max(1) as f64 * 1.5;
+        let plot = AtDiscovery {
+            edges,
+            hists: &hists,
+            names: &names,
+            marks: &shown,
+            x_desc: &what,
+            top,
+        };
+        if log {
+            plot.draw(&area, (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi)))
+        } else {
+            plot.draw(&area, lo..hi)
+        }
+    })
+}
+
+struct AtDiscovery<'a> {
+    edges: &'a [f64],
+    hists: &'a [Vec<u64>],
+    names: &'a [String],
+    marks: &'a [&'a (String, f64)],
+    x_desc: &'a str,
+    top: f64,
+}
+
+impl AtDiscovery<'_> {
+    fn draw<X>(&self, area: &Area, x: X) -> DrawResult
+    where
+        X: AsRangedCoord<Value = f64>,
+        X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+    {
+        let mut chart = axes::chart(area, x, 0.0..self.top)?;
+        axes::mesh(&mut chart, self.x_desc, "discoveries per bin")?;
+        for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
+            let c = style::series(k);
+            for (j, run) in axes::step_runs(self.edges, h, 0.0).into_iter().enumerate() {
+                let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
+                if j == 0 {
+                    drawn.label(name.as_str()).legend(axes::swatch(c, 2));
+                }
+            }
+        }
+        for (k, (name, v)) in self.marks.iter().map(|m| (&m.0, m.1)).enumerate() {
+            let c = style::series(k + self.hists.len());
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(v, 0.0), (v, self.top)],
+                    6,
+                    4,
+                    c.stroke_width(2),
+                ))?
+                .label(name.as_str())
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 8, y)], c.stroke_width(2)));
+        }
+        axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
+    }
 }

@@ -9,3 +9,4 @@ pub mod distributions;
 pub mod rose;
 pub mod sky;
 pub mod survey;
+pub mod svg;

@@ -1,16 +1,19 @@
 //! The survey's own figures: the distribution of visit depths, and the detection efficiency
 //! against magnitude minus depth (the model, with the fraction actually detected beside it).
 
+use plotters::coord::combinators::BindKeyPoints;
+use plotters::coord::ranged1d::{AsRangedCoord, Ranged, ValueFormatter};
 use plotters::prelude::*;
 
 use super::axes;
 use crate::error::Result;
-use crate::report::figure::{Figure, empty_note, render, titled};
+use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
 use crate::report::stats::{finite_range, histogram, lin_edges, wilson};
 use crate::report::style;
 use crate::report::tables::EfficiencyCurve;
 
-/// Step histograms of visit depths (0.1 mag bins), one per survey.
+/// Step histograms of visit depths, one per survey; counts on a logarithmic axis when they
+/// span decades (a deep survey of few visits beside a wide one of many), empty bins as gaps.
 pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
     let title = "Depth of the visits";
     let names: Vec<String> = surveys
@@ -19,51 +22,92 @@ pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
         .collect();
     let all: Vec<f64> = surveys.iter().flat_map(|s| s.1.iter().copied()).collect();
     let width = bin_width(&all);
-    let caption = format!(
-        "Number of visits per {} mag bin of depth, the magnitude at which the detection \
-         efficiency falls to half its peak: {}.",
-        axes::tick(width),
-        names.join("; ")
-    );
-    render("depth", title, &caption, (style::WIDTH, style::HEIGHT), |root| {
-        let area = titled(root, title)?;
-        let Some((lo, hi)) = finite_range(&all) else {
-            return empty_note(&area, "no visits");
-        };
+    let edges = finite_range(&all).map(|(lo, hi)| {
         let (lo, hi) = (
             (lo / width).floor() * width - 2.0 * width,
             (hi / width).ceil() * width + 2.0 * width,
         );
-        let edges = lin_edges(lo, hi, ((hi - lo) / width).round().max(1.0) as usize);
-        let hists: Vec<Vec<u64>> = surveys.iter().map(|s| histogram(&s.1, &edges)).collect();
-        // Headroom for the legend, which goes to the side away from the tallest bin.
-        let top = hists.iter().flatten().copied().max().unwrap_or(1) as f64 * 1.4;
-        let peak = hists
+        lin_edges(lo, hi, ((hi - lo) / width).round().max(1.0) as usize)
+    });
+    let hists: Vec<Vec<u64>> = edges
+        .as_ref()
+        .map_or(Vec::new(), |e| surveys.iter().map(|s| histogram(&s.1, e)).collect());
+    let all_counts: Vec<u64> = hists.iter().flatten().copied().collect();
+    let log = axes::counts_need_log(&all_counts);
+    let caption = format!(
+        "Number of visits per {} mag bin of depth, the magnitude at which the detection \
+         efficiency falls to half its peak: {}.{} Bins without visits are left empty.",
+        axes::tick(width),
+        names.join("; "),
+        if log {
+            " Counts on a logarithmic axis: they span more than a factor of 30."
+        } else {
+            ""
+        }
+    );
+    render("depth", title, &caption, (style::WIDTH, style::HEIGHT), |root| {
+        let area = titled(root, title)?;
+        let Some(edges) = edges.as_ref() else {
+            return empty_note(&area, "no visits");
+        };
+        let (lo, hi) = (edges[0], edges[edges.len() - 1]);
+        let max = all_counts.iter().copied().max().unwrap_or(1).max(1) as f64;
+        let y_desc = format!("visits per {} mag", axes::tick(width));
+        let plot = DepthPlot {
+            edges,
+            hists: &hists,
+            names: &names,
+            y_desc: &y_desc,
+        };
+        if log {
+            let (floor, top) = (0.5, max * 4.0);
+            let y = (floor..top).log_scale().with_key_points(axes::log_ticks(1.0, top));
+            plot.draw(&area, lo..hi, y, floor)
+        } else {
+            plot.draw(&area, lo..hi, 0.0..max * 1.4, 0.0)
+        }
+    })
+}
+
+struct DepthPlot<'a> {
+    edges: &'a [f64],
+    hists: &'a [Vec<u64>],
+    names: &'a [String],
+    y_desc: &'a str,
+}
+
+impl DepthPlot<'_> {
+    fn draw<Y>(&self, area: &Area, x: std::ops::Range<f64>, y: Y, floor: f64) -> DrawResult
+    where
+        Y: AsRangedCoord<Value = f64>,
+        Y::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+    {
+        // The legend goes to the side away from the tallest bin.
+        let peak = self
+            .hists
             .iter()
             .flat_map(|h| h.iter().enumerate())
             .max_by_key(|(_, c)| **c)
             .map_or(0, |(k, _)| k);
-        let side = if peak < edges.len() / 2 {
+        let side = if peak < self.edges.len() / 2 {
             SeriesLabelPosition::UpperRight
         } else {
             SeriesLabelPosition::UpperLeft
         };
-        let mut chart = axes::chart(&area, lo..hi, 0.0..top)?;
-        axes::mesh(
-            &mut chart,
-            "depth, 50% efficiency (mag)",
-            &format!("visits per {} mag", axes::tick(width)),
-        )?;
-        for (k, (h, name)) in hists.iter().zip(&names).enumerate() {
-            let heights: Vec<f64> = h.iter().map(|&c| c as f64).collect();
+        let mut chart = axes::chart(area, x, y)?;
+        axes::mesh(&mut chart, "depth, 50% efficiency (mag)", self.y_desc)?;
+        for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
-            chart
-                .draw_series(LineSeries::new(axes::steps(&edges, &heights), c.stroke_width(2)))?
-                .label(name.as_str())
-                .legend(axes::swatch(c, 2));
+            let runs = axes::step_runs(self.edges, h, floor);
+            for (j, run) in runs.into_iter().enumerate() {
+                let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
+                if j == 0 {
+                    drawn.label(name.as_str()).legend(axes::swatch(c, 2));
+                }
+            }
         }
         axes::legend(&mut chart, side)
-    })
+    }
 }
 
 /// A round bin width giving about 30 bins over the range of depths (at least 0.01 mag).
@@ -75,16 +119,46 @@ fn bin_width(depths: &[f64]) -> f64 {
         .unwrap_or(1.0)
 }
 
-/// The efficiency model of each survey (lines) and the detected fraction of in-field events
-/// (points with Wilson 95% intervals), against m − depth.
+/// The efficiency model of each survey and the detected fraction of in-field events, against
+/// m − depth: dashed, the efficiency η of a source on live detector; solid, η times the live
+/// fraction of the footprint (what a source in the field gets); points with Wilson 95%
+/// intervals, the simulated events inside the survey's rate window.
 pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
     let title = "Detection efficiency";
-    let caption = "Probability that a source in the field is detected in one visit, against its \
-                   magnitude minus the visit's depth (mag). Lines: each survey's efficiency model for a \
-                   source that does not trail. Points, in the survey's colour: the fraction of the simulated in-field events \
-                   that were detected, per 0.1 mag, with 95% Wilson intervals; they sit to the right of \
-                   the line where fast movers lose signal to trailing, and the fill factor lowers them.";
-    render("efficiency", title, caption, (style::WIDTH, style::HEIGHT), |root| {
+    let outside: Vec<String> = curves
+        .iter()
+        .filter(|c| c.outside_rates > 0)
+        .map(|c| {
+            format!(
+                "{} events of {} moved outside its rates {}–{}″/h",
+                c.outside_rates,
+                c.survey,
+                axes::tick(c.rate_window.0),
+                axes::tick(c.rate_window.1)
+            )
+        })
+        .collect();
+    let caption = format!(
+        "Probability that a source in the field is detected in one visit, against its magnitude \
+         minus the visit's depth (mag). Dashed: each survey's efficiency model η for a source on \
+         live detector that does not trail. Solid: η times the survey's live fraction of the \
+         footprint ({}), the chance of a source anywhere in the field. Points, in the survey's \
+         colour: the fraction of the simulated in-field events that were detected, per 0.1 mag, \
+         with 95% Wilson intervals, counting only events whose rate of motion the search finds \
+         (slower or faster ones are never detected{}). Points follow the solid line; fast movers \
+         that lose signal to trailing sit to its right.",
+        curves
+            .iter()
+            .map(|c| format!("{}: {}", c.survey, axes::tick(c.live_fraction)))
+            .collect::<Vec<_>>()
+            .join("; "),
+        if outside.is_empty() {
+            String::new()
+        } else {
+            format!(" and left out: {}", outside.join("; "))
+        }
+    );
+    render("efficiency", title, &caption, (style::WIDTH, style::HEIGHT), |root| {
         let area = titled(root, title)?;
         if curves.is_empty() {
             return empty_note(&area, "no survey spec found");
@@ -97,8 +171,17 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
         )?;
         for (k, c) in curves.iter().enumerate() {
             let col = style::series(k);
+            chart.draw_series(DashedLineSeries::new(
+                c.model.iter().copied(),
+                6,
+                4,
+                col.mix(0.7).stroke_width(1),
+            ))?;
             chart
-                .draw_series(LineSeries::new(c.model.iter().copied(), col.stroke_width(2)))?
+                .draw_series(LineSeries::new(
+                    c.model.iter().map(|&(x, p)| (x, p * c.live_fraction)),
+                    col.stroke_width(2),
+                ))?
                 .label(c.survey.as_str())
                 .legend(axes::swatch(col, 2));
             let pts: Vec<_> = c
