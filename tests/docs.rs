@@ -92,7 +92,7 @@ fn tutorial_cadence_runs() {
     let d = run_doc("tutorial-cadence.md");
     let html = read_page(&d.path().join("cadence/yield/index.html"));
     assert!(
-        html.contains("figures/yield_cadence.svg"),
+        html.contains("figures/yield_cadence.svg") && html.contains("per 100 h"),
         "step 5's report draws the yield against cadence"
     );
 }
@@ -108,11 +108,13 @@ fn tutorial_likelihood_runs() {
     ] {
         assert!(d.path().join(format!("likelihood/{f}.parquet")).exists(), "{f}");
     }
-    let catalog = std::fs::read_to_string(d.path().join("likelihood/catalog.csv")).unwrap();
-    let header = catalog.lines().next().unwrap();
+    // The catalogue is observe's table of discoveries: objects-table columns first, each row
+    // a discovery (no `detected` column to filter on), with its circumstances.
+    let catalog = std::fs::read_to_string(d.path().join("likelihood/sky/discoveries.csv")).unwrap();
+    let header: Vec<&str> = catalog.lines().next().unwrap().split(',').collect();
     assert!(
-        header.starts_with("id,a_au") && !header.contains("detected"),
-        "the catalogue keeps the objects-table columns only: {header}"
+        header.starts_with(&["id", "a_au"]) && !header.contains(&"detected") && header.contains(&"discovery_mjd"),
+        "the catalogue: objects-table columns and the discovery's circumstances: {header:?}"
     );
     assert!(catalog.lines().count() > 3, "a catalogue of a few discoveries at least");
 }

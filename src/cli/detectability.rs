@@ -31,13 +31,16 @@ pub struct Args {
     /// Shard K of N (K from 0; or from SLURM_ARRAY_TASK_ID): a contiguous slice of the catalogue objects.
     #[command(flatten)]
     pub shard: ShardArgs,
-    /// Bin edges of the selection-function grid (comma-separated).
+    /// Bin edges of the selection-function grid in semi-major axis a, AU (comma-separated).
     #[arg(long, default_value = "0,30,50,100,250,1000,100000")]
     pub a_edges: String,
+    /// Bin edges of the grid in perihelion distance q, AU (comma-separated).
     #[arg(long, default_value = "0,30,40,50,75,100,100000")]
     pub q_edges: String,
+    /// Bin edges of the grid in inclination i, degrees (comma-separated).
     #[arg(long, default_value = "0,10,20,30,45,90,180")]
     pub inc_edges: String,
+    /// Bin edges of the grid in absolute magnitude H, mag (comma-separated).
     #[arg(long, default_value = "-5,3,4,5,6,7,8,9,10,20")]
     pub h_edges: String,
 }

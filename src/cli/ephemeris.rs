@@ -10,15 +10,18 @@ use seine::time::TimeScale;
 use seine::{Error, Result};
 
 #[derive(clap::Args, Debug)]
+#[command(group(clap::ArgGroup::new("when").required(true).args(["epochs", "survey"])))]
 pub struct Args {
     /// Objects table (CSV or Parquet): a_au, e (or q_au), inc_deg, node_deg, argperi_deg,
     /// mean_anomaly_deg, epoch_mjd (TDB), h_mag, ...
     #[arg(long)]
     pub objects: PathBuf,
-    /// Epochs table with a column `mjd` (UTC unless --time-scale says otherwise).
-    #[arg(long, required_unless_present = "survey", conflicts_with = "survey")]
+    /// Epochs table with a column `mjd` (UTC unless --time-scale says otherwise). One of
+    /// --epochs or --survey is required.
+    #[arg(long)]
     pub epochs: Option<PathBuf>,
-    /// A survey spec: one row per object and visit, from the survey's site, in its time scale.
+    /// Instead of --epochs, a survey spec: one row per object and visit, from the survey's
+    /// site, in its time scale.
     #[arg(long)]
     pub survey: Option<PathBuf>,
     /// Output table (.csv or .parquet): id, mjd, ra_deg, dec_deg, r_au, delta_au, phase_deg, mag, ...

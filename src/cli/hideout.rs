@@ -14,10 +14,12 @@ use seine::{Error, Result};
 #[derive(clap::Args, Debug)]
 pub struct Args {
     /// Survey spec (TOML); repeat for several surveys. A draw is excluded when any survey finds it.
+    /// Required (with --prior) unless --merge.
     #[arg(long = "survey", required_unless_present = "merge")]
     pub surveys: Vec<PathBuf>,
     /// Prior: a population spec of hypothetical planets, optionally with a [size] table
-    /// (diameter_km, albedo) that sets H = 5 log10(1329 km / (D √p)).
+    /// (diameter_km, albedo) that sets H = 5 log10(1329 km / (D √p)). Required (with
+    /// --survey) unless --merge.
     #[arg(long, required_unless_present = "merge")]
     pub prior: Option<PathBuf>,
     /// Number of prior draws (ids 0..N; a shard takes a contiguous slice).

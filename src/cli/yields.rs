@@ -9,9 +9,10 @@ use seine::{Error, Result};
 use super::common::*;
 
 #[derive(clap::Args, Debug)]
+#[command(group(clap::ArgGroup::new("compared").required(true).multiple(true).args(["surveys", "plans"])))]
 pub struct Args {
-    /// Survey spec (TOML); repeat to compare surveys.
-    #[arg(long = "survey", required_unless_present = "plans")]
+    /// Survey spec (TOML); repeat to compare surveys. At least one --survey or --plan.
+    #[arg(long = "survey")]
     pub surveys: Vec<PathBuf>,
     /// Cadence plan (TOML): built first into DIR/plans/<name>.csv and its survey spec; repeat.
     #[arg(long = "plan")]
@@ -19,13 +20,13 @@ pub struct Args {
     /// The population (objects table) to run through every survey.
     #[arg(long)]
     pub objects: PathBuf,
-    /// Bin edges of the heliocentric distance at discovery (AU).
+    /// Bin edges of the heliocentric distance at discovery, AU (comma-separated).
     #[arg(long, default_value = "0,30,40,50,70,100,150,250,500,1000,100000")]
     pub r_edges: String,
-    /// Bin edges of H (mag).
+    /// Bin edges of the absolute magnitude H, mag (comma-separated).
     #[arg(long, default_value = "-5,3,4,5,6,7,8,9,10,20")]
     pub h_edges: String,
-    /// Bin edges of a (AU).
+    /// Bin edges of the semi-major axis a, AU (comma-separated).
     #[arg(long, default_value = "0,30,50,100,250,1000,100000")]
     pub a_edges: String,
     #[command(flatten)]

@@ -1,17 +1,18 @@
 //! The report: SVG figures (plotters) and one `index.html` for any directory of outputs.
 //!
 //! `report(DIR)` reads what DIR and its immediate subdirectories hold, by these names, and
-//! shows whatever it finds:
+//! shows whatever it finds; an input that cannot be read leaves its section out with a note
+//! (in the page and in `Written::skipped`):
 //!
 //! | file | read as | figures |
 //! |---|---|---|
-//! | `summary.json` beside `objects.parquet` (or `.csv`), optional `detections.*` | an observe run (`seine observe --out`) | injected vs discovered in a, q, i, H, r; discovered fraction vs a and H; ϖ and Ω roses of the discoveries (no null band) |
-//! | `*.survey.toml` (and the survey specs named in an observe run's provenance) | a survey and its visits | sky coverage, depth distribution, efficiency curve |
-//! | `STEM.coverage.json`, `STEM.coverage_ecliptic.csv` | a plan's coverage (`seine plan`) | table of coverage by ecliptic latitude |
+//! | `summary.json` beside `objects.parquet` (or `.csv`), optional `detections.*`, `discoveries.*` | an observe run (`seine observe --out`), named by its directory | injected vs discovered in a, q, i, H, r; discovered fraction vs a and H; where the discoveries were made; their magnitude and rate at discovery; the first discoveries (linked); ϖ and Ω roses of the discoveries (no null band) |
+//! | `*.survey.toml` (and the survey specs named in an observe run's provenance) | a survey and its visits | visits, hours and area; sky coverage (and a zoom of a small one), depth distribution, efficiency curve |
+//! | `STEM.coverage.json`, `STEM.coverage_ecliptic.csv` | a plan's coverage (`seine plan`) | table of coverage by ecliptic latitude, revisits kept |
 //! | `bias_map*.csv`: `X_min, X_max, Y_min, Y_max, fraction` (or `probability`), optional `id` | bias maps, one per `id` (up to 6) | heat maps |
 //! | `rose.parquet` (or `.csv`, as `seine cluster-test` writes it): `quantity, bin_lo_deg, bin_hi_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the bias-aware null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
 //! | `cluster_null.parquet` (or `.csv`, from `seine cluster-test`): `statistic, value` (one row per statistic and null catalog), optional `value_naive`, with `cluster_test.*` beside it: `statistic, observed, p_bias_aware`, optional `p_naive` | the cluster test | the null distribution of each statistic (and the naive one), the observed value marked |
-//! | `yield_cadence.parquet` (or `.csv`, as `seine yield` writes it): `plan, cadence_days, n_objects, n_discovered`, optional `population` | yields of several plans | yield against cadence (also built from two or more observe runs with one known survey each) |
+//! | `yield_cadence.parquet` (or `.csv`, as `seine yield` writes it): `plan, cadence_days, n_objects, n_discovered`, optional `population`; the specs in `summary.json`'s provenance | yields of several plans with their effort | yield against cadence and per 100 hours (also built from observe runs of one objects table through one survey each) |
 //!
 //! The figures are written to `DIR/figures/STEM.svg` and the page to `DIR/index.html`.
 
