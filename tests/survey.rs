@@ -21,9 +21,9 @@ const DEG: f64 = std::f64::consts::PI / 180.0;
 /// The site of the astropy fixtures (tests/reference/site.toml).
 fn fixture_site() -> Site {
     Site {
-        longitude_deg: -70.5,
-        latitude_deg: -30.2,
-        elevation_m: 2400.0,
+        longitude_deg: 19.3,
+        latitude_deg: 20.6,
+        elevation_m: 2350.0,
     }
 }
 
@@ -248,9 +248,9 @@ const SPEC: &str = r#"
 name = "test survey"
 visits = "visits.csv"
 [site]
-longitude_deg = -70.45
-latitude_deg = -30.35
-elevation_m = 2450.0
+longitude_deg = 19.3
+latitude_deg = 20.6
+elevation_m = 2350.0
 [field]
 shape = "circle"
 radius_deg = 1.0
@@ -258,17 +258,17 @@ radius_deg = 1.0
 model = "logistic"
 peak = 0.9
 width_mag = 0.3
-[efficiency.blocks.deep]
-model = "double-tanh"
-w1_mag = 0.2
-w2_mag = 0.5
+[efficiency.classes.deep]
+model = "tanh-product"
+fall_width_mag = 0.2
+tail_width_mag = 0.5
 peak = 0.8
 [motion]
-min_rate = 0.1
-max_rate = 100.0
+min_rate_arcsec_per_hr = 0.1
+max_rate_arcsec_per_hr = 100.0
 "#;
 
-const VISITS: &str = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag,exposure_s,seeing_arcsec,block
+const VISITS: &str = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag,exposure_s,seeing_arcsec,efficiency_class
 3,61000.30,10.0,-5.0,r,24.0,0,1.0,wide
 1,61000.10,10.0,-5.0,r,24.5,300,1.0,deep
 2,61000.10,12.0,-5.0,g,23.5,300,1.0,wide
@@ -287,12 +287,12 @@ fn survey_loads_sorts_and_detects() {
     let s = Survey::load(&write_spec(dir.path(), SPEC, VISITS)).unwrap();
     assert_eq!(s.visits.visit_id, vec![1, 2, 3], "sorted by (mjd, visit_id)");
     assert_eq!(s.visits.band_names, vec!["r", "g"]);
-    // Night from local noon: floor(61000.1 − 70.45/360 − 0.5) = 60999.
+    // Night from local noon: floor(61000.1 + 19.3/360 − 0.5) = 60999.
     assert_eq!(s.visits.night, vec![60999, 60999, 60999]);
     assert_eq!(s.reference_band, "r");
     // Logistic at its depth: peak/2 (no exposure on visit 3, so no trailing).
     assert!((s.p_detect(2, 24.0, 1.0) - 0.45).abs() < 1e-12);
-    // The deep block's double tanh at its depth with no trailing (rate 0.1, tiny trail): ≈ 0.8/2.
+    // The deep class's tanh product at its depth with no trailing (rate 0.1, tiny trail): ≈ 0.8/2.
     assert!((s.p_detect(0, 24.5, 0.1) - 0.4).abs() < 1e-3);
     assert_eq!(s.p_detect(2, 10.0, 0.05), 0.0, "below the rate window");
     assert_eq!(s.p_detect(2, 10.0, 150.0), 0.0, "above the rate window");
@@ -334,12 +334,12 @@ fn mosaic_spec_loads_and_refuses_a_fill_factor() {
     let spec = SPEC.replace("shape = \"circle\"\nradius_deg = 1.0", mosaic);
     let dir = tmpdir();
     let s = Survey::load(&write_spec(dir.path(), &spec, VISITS)).unwrap();
-    assert_eq!(s.fill_factor, 1.0);
+    assert_eq!(s.live_fraction, 1.0);
     assert!((s.footprint.area_sq_deg() - 0.5 - 0.225).abs() < 1e-3);
     assert_bad_survey(
-        &format!("{spec}").replace("[efficiency]", "fill_factor = 0.9\n[efficiency]"),
+        &format!("{spec}").replace("[efficiency]", "live_fraction = 0.9\n[efficiency]"),
         VISITS,
-        &["field.fill_factor"],
+        &["field.live_fraction"],
     );
     assert_bad_survey(
         &spec.replace("[0.5, 0.5]]]", "[0.5, 0.5], [0.4, 1e9]]]"),
@@ -402,15 +402,23 @@ fn bad_specs_name_the_key() {
         v,
         &["efficiency.width_mag"],
     );
-    assert_bad_survey(&SPEC.replace("w1_mag = 0.2", ""), v, &["efficiency.blocks.deep.w1_mag"]);
     assert_bad_survey(
-        &SPEC.replace("[efficiency.blocks.deep]", "[efficiency.blocks.shallow]"),
+        &SPEC.replace("fall_width_mag = 0.2", ""),
         v,
-        &["efficiency.blocks.shallow", "no visit has block"],
+        &["efficiency.classes.deep.fall_width_mag"],
     );
-    assert_bad_survey(&SPEC.replace("max_rate = 100.0", "max_rate = 0.01"), v, &["motion"]);
     assert_bad_survey(
-        &SPEC.replace("latitude_deg = -30.35", "latitude_deg = -130.35"),
+        &SPEC.replace("[efficiency.classes.deep]", "[efficiency.classes.shallow]"),
+        v,
+        &["efficiency.classes.shallow", "no visit has efficiency class"],
+    );
+    assert_bad_survey(
+        &SPEC.replace("max_rate_arcsec_per_hr = 100.0", "max_rate_arcsec_per_hr = 0.01"),
+        v,
+        &["motion"],
+    );
+    assert_bad_survey(
+        &SPEC.replace("latitude_deg = 20.6", "latitude_deg = -130.35"),
         v,
         &["site.latitude_deg"],
     );

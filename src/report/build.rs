@@ -67,7 +67,7 @@ fn pct(k: u64, n: u64) -> String {
 fn overview(dir: &Path, inp: &Inputs) -> Section {
     let mut runs = Table {
         caption: "Observe runs: objects carried through the surveys and what was found.".into(),
-        header: ["run", "objects", "discovered", "fraction", "tracked", "surveys"]
+        header: ["run", "objects", "discovered", "fraction", "secured", "surveys"]
             .map(String::from)
             .to_vec(),
         rows: Vec::new(),
@@ -85,7 +85,7 @@ fn overview(dir: &Path, inp: &Inputs) -> Section {
             n.to_string(),
             k.to_string(),
             pct(k, n),
-            s["n_tracked"].as_u64().unwrap_or(0).to_string(),
+            s["n_secured"].as_u64().unwrap_or(0).to_string(),
             names.join(", "),
         ]);
     }
