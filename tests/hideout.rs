@@ -84,7 +84,7 @@ fn nearest_field_deg(ra: f64, dec: f64) -> f64 {
         .fold(f64::INFINITY, f64::min)
 }
 
-/// Geometric check worked out by hand: with one visit per field at T, fill 1 and a step
+/// Geometric check worked out by hand: with one visit per field at T, live fraction 1 and a step
 /// efficiency far below the draws' magnitudes, a draw is discovered exactly when its
 /// astrometric position at T lies inside a field; the sky map at T is then fully excluded
 /// inside the fields and not at all outside.
@@ -130,10 +130,10 @@ fn a_bright_prior_is_excluded_inside_the_fields_and_nowhere_else() {
     }
 }
 
-/// With fill factor 0.5 the in-field draws are excluded with probability 0.5 (binomial,
+/// With live fraction 0.5 the in-field draws are excluded with probability 0.5 (binomial,
 /// within 4σ) and the others never.
 #[test]
-fn exclusion_inside_the_fields_follows_the_fill_factor() {
+fn exclusion_inside_the_fields_follows_the_live_fraction() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 0.5)).unwrap())];
     let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();

@@ -329,7 +329,7 @@ fn assert_bad_survey(spec: &str, visits: &str, expect: &[&str]) {
 }
 
 #[test]
-fn mosaic_spec_loads_and_refuses_a_fill_factor() {
+fn mosaic_spec_loads_and_refuses_a_live_fraction() {
     let mosaic = "shape = \"mosaic\"\nchips = [[[-0.5, -0.5], [0.5, -0.5], [0.5, 0.0], [-0.5, 0.0]], [[-0.5, 0.05], [0.5, 0.05], [0.5, 0.5]]]";
     let spec = SPEC.replace("shape = \"circle\"\nradius_deg = 1.0", mosaic);
     let dir = tmpdir();
@@ -580,27 +580,67 @@ fn no_random_plan_breaks_its_limits() {
     eprintln!("random plans: {n_visits} visits in {n_plans_with_visits} of 150 plans, none outside the limits");
 }
 
+/// Every shipped survey spec is usable as shipped: the one command of its header, run beside a
+/// copy of its plan, writes that very spec and a loadable survey; survey-configs/README.md
+/// states the same command; a spec whose visits table is committed loads in place.
 #[test]
-fn example_plans_write_a_loadable_survey() {
+fn shipped_survey_specs_are_made_by_the_command_of_their_header() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs");
-    let dir = tmpdir();
-    for name in ["wide-plan.toml", "deep-plan.toml", "synoptic-plan.toml"] {
-        let out = dir.path().join(name.replace("-plan.toml", ".parquet"));
-        let (code, err) = seine(&[
-            "plan",
-            "--plan",
-            root.join(name).to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ]);
-        assert_eq!(code, 0, "{err}");
-        let spec = out.with_file_name(format!("{}.survey.toml", out.file_stem().unwrap().to_str().unwrap()));
-        let s = Survey::load(&spec).unwrap();
+    let readme = std::fs::read_to_string(root.join("README.md")).unwrap();
+    let mut n = 0;
+    for entry in std::fs::read_dir(&root).unwrap() {
+        let path = entry.unwrap().path();
+        let name = path.file_name().unwrap().to_string_lossy().into_owned();
+        if !name.ends_with(".survey.toml") {
+            continue;
+        }
+        let shipped = std::fs::read_to_string(&path).unwrap();
+        let command = shipped
+            .lines()
+            .find_map(|l| {
+                l.split_once("Regenerate it and its visits with: ")
+                    .map(|(_, c)| c.trim())
+            })
+            .unwrap_or_else(|| panic!("{name}: no command in its header"));
+        assert!(readme.contains(command), "survey-configs/README.md lacks `{command}`");
+        let words: Vec<&str> = command.split_whitespace().collect();
+        assert!(
+            words.len() == 6 && words[..3] == ["seine", "plan", "--plan"] && words[4] == "--out",
+            "{name}: {command}"
+        );
+        let dir = tmpdir();
+        std::fs::copy(root.join(words[3]), dir.path().join(words[3])).unwrap();
+        let out = Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args(&words[1..])
+            .current_dir(dir.path())
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{command}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let made = dir.path().join(&name);
+        assert_eq!(
+            std::fs::read_to_string(&made).unwrap(),
+            shipped,
+            "{name} differs from what `{command}` writes"
+        );
+        let s = Survey::load(&made).unwrap();
         assert!(s.visits.len() > 100, "{name}: {} visits", s.visits.len());
-        let cov: serde_json::Value =
-            serde_json::from_str(&std::fs::read_to_string(out.with_extension("coverage.json")).unwrap()).unwrap();
+        let cov = dir.path().join(name.replace(".survey.toml", ".coverage.json"));
+        let cov: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(cov).unwrap()).unwrap();
         assert!(cov["coverage"]["covered_sq_deg"].as_f64().unwrap() > 10.0);
+        if root.join(words[5]).exists() && shipped.contains(&format!("visits = \"{}\"", words[5])) {
+            assert_eq!(
+                Survey::load(&path).unwrap().visits.len(),
+                s.visits.len(),
+                "{name} in place"
+            );
+        }
+        n += 1;
     }
+    assert_eq!(n, 3, "the three example surveys");
 }
 
 #[test]

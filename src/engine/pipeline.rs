@@ -3,7 +3,7 @@
 //!
 //! Random draws: from the object's stream, one uniform for the light-curve phase, then one
 //! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
-//! two uniforms per in-field event in visit order, the first against the fill factor and the
+//! two uniforms per in-field event in visit order, the first against the live fraction and the
 //! second against p_detect. A survey's draws depend only on its own in-field set, so any
 //! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
 //! no other survey's draws.
