@@ -209,7 +209,7 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         .iter()
         .map(|plan| {
             let at = err
-                .find(&format!("Synoptic, {plan}: "))
+                .find(&format!("synoptic, {plan}: "))
                 .unwrap_or_else(|| panic!("{plan} in {err}"));
             let rest = &err[at + plan.len() + 11..];
             rest.split_whitespace().next().unwrap().parse().unwrap()
