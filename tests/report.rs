@@ -338,9 +338,9 @@ fn report_of_an_observe_directory_references_every_svg() {
     // The run's provenance names the survey spec, so the survey's figures come along; its
     // 40 deg² also get a zoomed map, and the discoveries theirs.
     for stem in [
-        "sky_cerro_seine_deep_slow_mover_survey",
-        "sky_cerro_seine_deep_slow_mover_survey_zoom",
-        "sky_cerro_seine_synoptic_survey",
+        "sky_sorrel_peak_deep_stare",
+        "sky_sorrel_peak_deep_stare_zoom",
+        "sky_sorrel_peak_synoptic_sweep",
         "sky_discoveries",
         "depth",
         "efficiency",

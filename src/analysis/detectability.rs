@@ -62,7 +62,7 @@ impl Redraw {
 pub struct ObjectDetectability {
     pub row: usize,
     pub discovered: Proportion,
-    pub tracked: u64,
+    pub secured: u64,
     /// Discoveries by each survey on its own.
     pub by_survey: Vec<u64>,
 }
@@ -94,13 +94,13 @@ fn one_object(
 ) -> ObjectDetectability {
     let mut obj = TrialObject::new(objects, i);
     let base = obj.elements();
-    let (mut found, mut tracked, mut by_survey) = (0u64, 0u64, vec![0u64; surveys.len()]);
+    let (mut found, mut secured, mut by_survey) = (0u64, 0u64, vec![0u64; surveys.len()]);
     for k in 0..trials {
         let tid = trial_id(objects.ids[i], k, trials);
         let el = redraw.apply(&base, &mut angle_stream(seed, tid));
         let out = obj.observe(el, surveys, seed, tid, scratch);
         found += out.discovered() as u64;
-        tracked += out.surveys.iter().any(|s| s.tracked) as u64;
+        secured += out.surveys.iter().any(|s| s.secured) as u64;
         for (n, s) in by_survey.iter_mut().zip(&out.surveys) {
             *n += s.discovered as u64;
         }
@@ -108,7 +108,7 @@ fn one_object(
     ObjectDetectability {
         row: i,
         discovered: Proportion::new(found, trials),
-        tracked,
+        secured,
         by_survey,
     }
 }

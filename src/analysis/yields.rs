@@ -1,4 +1,4 @@
-//! Cadence yields: for each survey (and for all of them together), discoveries and tracked
+//! Cadence yields: for each survey (and for all of them together), discoveries and secured
 //! objects of a population in bins of distance at discovery, H and a, with binomial errors
 //! and the ratio to the best survey in each bin — the table a survey proposal quotes.
 //!
@@ -21,7 +21,7 @@ pub const QUANTITIES: [&str; 3] = ["r_discovery_au", "h_mag", "a_au"];
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Verdict {
     discovered: bool,
-    tracked: bool,
+    secured: bool,
     r_au: f64,
 }
 
@@ -34,7 +34,7 @@ pub struct YieldRow {
     pub hi: f64,
     pub n_objects: u64,
     pub discovered: Proportion,
-    pub tracked: u64,
+    pub secured: u64,
     /// This survey's discovered fraction over the best single survey's in the bin.
     pub ratio_to_best: f64,
 }
@@ -46,7 +46,7 @@ fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec
         .map_init(Vec::new, |scratch, i| {
             // Verdicts and the discovery's distance are all a yield needs.
             let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, Record::UntilTracked);
+            let modes = (Candidates::Indexed, Record::UntilSecured);
             let out = observe_object(objects, i, surveys, modes, rng, scratch);
             per_survey(&out, surveys)
         })
@@ -59,14 +59,14 @@ fn per_survey(out: &ObjectOutcome, surveys: &[PreparedSurvey]) -> Vec<Verdict> {
         .iter()
         .map(|s| Verdict {
             discovered: s.discovered,
-            tracked: s.tracked,
+            secured: s.secured,
             r_au: s.discovery_event.map_or(f64::NAN, |e| out.events[e].r_au),
         })
         .collect();
     let first = out.first_discovery(|e| surveys[e.survey as usize].survey.visits.mjd[e.visit as usize]);
     v.push(Verdict {
         discovered: out.discovered(),
-        tracked: out.surveys.iter().any(|s| s.tracked),
+        secured: out.surveys.iter().any(|s| s.secured),
         r_au: first.map_or(f64::NAN, |(_, e)| out.events[e].r_au),
     });
     v
@@ -111,7 +111,7 @@ fn bin_row(
     quantity: &'static str,
 ) -> YieldRow {
     let inside = |x: f64| x >= lo && x < hi;
-    let (mut n, mut k, mut tracked) = (0u64, 0u64, 0u64);
+    let (mut n, mut k, mut secured) = (0u64, 0u64, 0u64);
     for (i, vi) in v.iter().enumerate() {
         let x = match q {
             0 => vi[s].r_au,
@@ -123,7 +123,7 @@ fn bin_row(
         n += counted as u64;
         if counted && vi[s].discovered && inside(x) {
             k += 1;
-            tracked += vi[s].tracked as u64;
+            secured += vi[s].secured as u64;
         }
     }
     YieldRow {
@@ -133,7 +133,7 @@ fn bin_row(
         hi,
         n_objects: n,
         discovered: Proportion::new(k, n),
-        tracked,
+        secured,
         ratio_to_best: f64::NAN,
     }
 }

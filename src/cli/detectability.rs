@@ -76,7 +76,7 @@ pub fn run(a: Args) -> Result<()> {
         col("h_mag", res.iter().map(|d| objects.h_mag[d.row]).collect::<Vec<f64>>()),
         col("trials", res.iter().map(|d| d.discovered.n).collect::<Vec<u64>>()),
         col("discovered", res.iter().map(|d| d.discovered.k).collect::<Vec<u64>>()),
-        col("tracked", res.iter().map(|d| d.tracked).collect::<Vec<u64>>()),
+        col("secured", res.iter().map(|d| d.secured).collect::<Vec<u64>>()),
         col(
             "p_discover",
             res.iter().map(|d| d.discovered.fraction).collect::<Vec<f64>>(),

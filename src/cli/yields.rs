@@ -69,7 +69,7 @@ pub fn run(a: Args) -> Result<()> {
             col("bin_lo", rows.iter().map(|r| r.lo).collect::<Vec<f64>>()),
             col("bin_hi", rows.iter().map(|r| r.hi).collect::<Vec<f64>>()),
             col("n_objects", rows.iter().map(|r| r.n_objects).collect::<Vec<u64>>()),
-            col("tracked", rows.iter().map(|r| r.tracked).collect::<Vec<u64>>()),
+            col("secured", rows.iter().map(|r| r.secured).collect::<Vec<u64>>()),
             col(
                 "ratio_to_best",
                 rows.iter().map(|r| r.ratio_to_best).collect::<Vec<f64>>(),
@@ -85,7 +85,7 @@ pub fn run(a: Args) -> Result<()> {
         let (k, t): (u64, u64) = rows
             .iter()
             .filter(|r| r.survey == s && r.quantity == "r_discovery_au")
-            .fold((0, 0), |acc, r| (acc.0 + r.discovered.k, acc.1 + r.tracked));
+            .fold((0, 0), |acc, r| (acc.0 + r.discovered.k, acc.1 + r.secured));
         totals.push((s, k, t));
     }
     let n = objects.len() as u64;
@@ -101,7 +101,7 @@ pub fn run(a: Args) -> Result<()> {
         .map(|(s, k, t)| {
             let p = seine::analysis::binomial::Proportion::new(*k, n);
             format!(
-                "{s}: {k} discovered ({} ± {}), {t} tracked",
+                "{s}: {k} discovered ({} ± {}), {t} secured",
                 pct(p.fraction),
                 pct(p.std_error)
             )
@@ -130,7 +130,7 @@ pub fn run(a: Args) -> Result<()> {
         serde_json::json!({
             "command": "yield",
             "objects": n,
-            "totals": totals.iter().map(|(s, k, t)| serde_json::json!({"survey": s, "discovered": k, "tracked": t})).collect::<Vec<_>>(),
+            "totals": totals.iter().map(|(s, k, t)| serde_json::json!({"survey": s, "discovered": k, "secured": t})).collect::<Vec<_>>(),
             "best_survey": best.0,
         }),
         &conclusion,

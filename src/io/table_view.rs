@@ -48,7 +48,7 @@ impl Op {
 }
 
 /// One row filter: `COLUMN OP VALUE`, e.g. `a_au > 150`, `detected == true`,
-/// `discovery_survey == Cerro Seine Deep Slow-Mover Survey`.
+/// `discovery_survey == Sorrel Peak deep stare`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Filter {
     pub column: String,

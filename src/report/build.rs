@@ -128,7 +128,7 @@ fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
         let s = &r.summary;
         let n = s["n_objects"].as_u64().unwrap_or(0);
         let k = s["n_detected"].as_u64().unwrap_or(0);
-        let secured = s["n_secured"].as_u64().or(s["n_tracked"].as_u64()).unwrap_or(0);
+        let secured = s["n_secured"].as_u64().unwrap_or(0);
         let names: Vec<&str> = s["surveys"]
             .as_array()
             .map(|a| a.iter().filter_map(|x| x["name"].as_str()).collect())
@@ -299,10 +299,10 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
     EfficiencyCurve {
         survey: s.name.clone(),
         model,
-        live_fraction: s.fill_factor,
+        live_fraction: s.live_fraction,
         measured,
         outside_rates,
-        rate_window: (s.motion.min_rate, s.motion.max_rate),
+        rate_window: (s.motion.min_rate_arcsec_per_hr, s.motion.max_rate_arcsec_per_hr),
     }
 }
 
@@ -437,10 +437,16 @@ fn discovery_figures(rows: &[crate::engine::discoveries::Discovery], surveys: &[
         .collect();
     let mut rate_marks = Vec::new();
     for s in surveys {
-        if s.motion.min_rate > 0.0 {
-            rate_marks.push((format!("slowest rate searched, {}", s.name), s.motion.min_rate));
+        if s.motion.min_rate_arcsec_per_hr > 0.0 {
+            rate_marks.push((
+                format!("slowest rate searched, {}", s.name),
+                s.motion.min_rate_arcsec_per_hr,
+            ));
         }
-        rate_marks.push((format!("fastest rate searched, {}", s.name), s.motion.max_rate));
+        rate_marks.push((
+            format!("fastest rate searched, {}", s.name),
+            s.motion.max_rate_arcsec_per_hr,
+        ));
     }
     Ok(vec![
         distributions::at_discovery("discovery_mag", &mags, &depth_marks)?,
