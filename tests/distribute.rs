@@ -65,7 +65,7 @@ fn table(p: &Path) -> DataFrame {
 /// Every column and row of the two output directories' tables agree, and their summaries
 /// agree but for the timings.
 fn assert_same_outputs(a: &Path, b: &Path) {
-    for t in ["objects.parquet", "detections.parquet"] {
+    for t in ["objects.parquet", "detections.parquet", "discoveries.parquet"] {
         let (x, y) = (table(&a.join(t)), table(&b.join(t)));
         assert_eq!(x.height(), y.height(), "{t}: row counts");
         assert!(
@@ -333,7 +333,7 @@ fn chunks_across_parquet_row_groups() {
         .output()
         .unwrap();
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
-    for t in ["objects.parquet", "detections.parquet"] {
+    for t in ["objects.parquet", "detections.parquet", "discoveries.parquet"] {
         let (a, b) = (table(&s.path("whole").join(t)), table(&s.path("grouped").join(t)));
         assert!(a.equals_missing(&b), "{t}");
     }

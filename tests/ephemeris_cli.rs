@@ -202,7 +202,7 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
     );
     // The cadence step: three revisit intervals through `seine yield`, fewer found the sparser.
     assert!(
-        html.contains("src=\"figures/yield_cadence.svg\""),
+        html.contains("src=\"figures/yield_cadence_yield.svg\"") && html.contains("per 100 h"),
         "the yield against cadence"
     );
     let found: Vec<u64> = ["every night", "every 3 nights", "every 7 nights"]

@@ -117,7 +117,7 @@ pub fn run(a: Args) -> Result<()> {
         written.index.display()
     );
     println!(
-        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, summary.json), catalog.parquet, \
+        "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, discoveries, summary.json), catalog.parquet, \
          detectability/, bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
          index.html, figures/.",
         a.out.display()

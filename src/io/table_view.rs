@@ -241,7 +241,7 @@ fn number(x: f64) -> String {
     if x.fract() == 0.0 && x.abs() < 1e15 {
         format!("{x:.0}")
     } else {
-        format!("{}", format!("{x:.6e}").parse::<f64>().unwrap_or(x))
+        format!("{}", format!("{x:.5e}").parse::<f64>().unwrap_or(x))
     }
 }
 

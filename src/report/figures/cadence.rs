@@ -204,8 +204,8 @@ fn place_label(
     obstacles: &[Rect],
     placed: &mut Vec<Rect>,
 ) -> (i32, i32, HPos) {
-    // A sans-serif character is about 0.55 em wide on average.
-    let (w, h) = ((0.55 * font_px * chars as f64).ceil() as i32, font_px.ceil() as i32 + 2);
+    // A sans-serif character is about 0.5 em wide on average.
+    let (w, h) = ((0.5 * font_px * chars as f64).ceil() as i32, font_px.ceil() as i32 + 2);
     let candidates = [
         (12, 0, HPos::Left),
         (-12, 0, HPos::Right),
@@ -248,7 +248,7 @@ mod tests {
         let first = place_label((100, 200), 20, 14.0, &bounds, &[bar], &mut placed);
         assert_eq!((first.0, first.1), (12, 0));
         let second = place_label((100, 204), 20, 14.0, &bounds, &[bar], &mut placed);
-        assert_ne!((second.0, second.1), (12, 0), "{second:?}");
+        assert_ne!((second.0, second.1), (12, 0), "{:?}", (second.0, second.1));
         assert!(!placed[0].overlaps(&placed[1]));
         assert!(placed.iter().all(|r| !r.overlaps(&bar)));
         // Near the right edge a label goes to the left of its point.
