@@ -28,14 +28,7 @@ fn observed(dir: &Path, format: &str) -> PathBuf {
         "--out",
         &s(&dir.join("syn.csv")),
     ]);
-    common::write(
-        dir,
-        "bright.toml",
-        "[population]\nname = \"bright test disk\"\nepoch_mjd = 60676.0\n\n[orbit]\n\
-         a_au = { dist = \"uniform\", lo = 40.0, hi = 80.0 }\nq_au = { dist = \"uniform\", lo = 30.0, hi = 40.0 }\n\
-         inc_deg = { dist = \"uniform\", lo = 0.0, hi = 10.0 }\n\n[photometry]\n\
-         h_mag = { dist = \"uniform\", lo = 3.0, hi = 6.0 }\n",
-    );
+    common::bright_population(dir);
     let objects = dir.join("objects.parquet");
     run_ok(&[
         "draw",

@@ -289,15 +289,7 @@ fn small_observe(dir: &Path) -> std::path::PathBuf {
     }
     let objects = dir.join("objects.parquet");
     // Bright near objects (invented): enough of them are discovered to list.
-    let pop = dir.join("bright.toml");
-    common::write(
-        dir,
-        "bright.toml",
-        "[population]\nname = \"bright test disk\"\nepoch_mjd = 60676.0\n\n[orbit]\n\
-         a_au = { dist = \"uniform\", lo = 40.0, hi = 80.0 }\nq_au = { dist = \"uniform\", lo = 30.0, hi = 40.0 }\n\
-         inc_deg = { dist = \"uniform\", lo = 0.0, hi = 10.0 }\n\n[photometry]\n\
-         h_mag = { dist = \"uniform\", lo = 3.0, hi = 6.0 }\n",
-    );
+    let pop = common::bright_population(dir);
     run_ok(&[
         "draw",
         "--spec",

@@ -50,6 +50,19 @@ pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
+/// `DIR/bright.toml`: an invented population of bright, near, low-inclination objects, of
+/// which the invented synoptic survey discovers enough to list and count.
+pub fn bright_population(dir: &Path) -> PathBuf {
+    write(
+        dir,
+        "bright.toml",
+        "[population]\nname = \"bright test disk\"\nepoch_mjd = 60676.0\n\n[orbit]\n\
+         a_au = { dist = \"uniform\", lo = 40.0, hi = 80.0 }\nq_au = { dist = \"uniform\", lo = 30.0, hi = 40.0 }\n\
+         inc_deg = { dist = \"uniform\", lo = 0.0, hi = 10.0 }\n\n[photometry]\n\
+         h_mag = { dist = \"uniform\", lo = 3.0, hi = 6.0 }\n",
+    )
+}
+
 /// Write a small CSV file into a directory.
 pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
     let p = dir.join(name);
