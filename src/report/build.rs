@@ -6,8 +6,10 @@ use std::path::{Path, PathBuf};
 
 use super::figure::Figure;
 use super::figures::{bias, cadence, cluster, distributions, rose, sky, survey as survey_fig};
-use super::inputs::{self, Inputs, ObserveRun, median_revisit_days, summary_bins};
-use super::tables::{EfficiencyCurve, FractionBin, YieldRow};
+use super::inputs::{self, Inputs, ObserveRun, fraction_bins};
+use super::tables::{CadenceRow, EfficiencyCurve, FractionBin};
+use crate::analysis::binomial::{Proportion, Tally};
+use crate::analysis::yield_tables::median_revisit_days;
 use crate::error::Result;
 use crate::survey::Survey;
 
@@ -49,6 +51,7 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<Vec<Section>> {
         out.push(found_section(dir, run, k, inp.runs.len())?);
     }
     out.push(bias_section(dir, inp)?);
+    out.extend(comparison_section(dir, inp));
     Ok(out
         .into_iter()
         .filter(|s| !s.figures.is_empty() || !s.tables.is_empty())
@@ -60,13 +63,25 @@ fn rel(dir: &Path, p: &Path) -> String {
     if r.is_empty() { ".".into() } else { r }
 }
 
-fn pct(k: u64, n: u64) -> String {
-    format!("{:.2}%", 100.0 * k as f64 / n.max(1) as f64)
+/// A weighted fraction as a percentage.
+fn pct(p: &Proportion) -> String {
+    format!("{:.2}%", 100.0 * p.fraction)
+}
+
+/// The weighted discovered fraction of an observe run's objects.
+fn run_fraction(r: &ObserveRun) -> Proportion {
+    let mut t = Tally::default();
+    for (w, d) in r.objects.weight.iter().zip(&r.objects.detected) {
+        t.add(*w, *d);
+    }
+    t.proportion()
 }
 
 fn overview(dir: &Path, inp: &Inputs) -> Section {
     let mut runs = Table {
-        caption: "Observe runs: objects carried through the surveys and what was found.".into(),
+        caption: "Observe runs: objects carried through the surveys and what was found (fraction \
+                  weighted by the objects' weights)."
+            .into(),
         header: ["run", "objects", "discovered", "fraction", "tracked", "surveys"]
             .map(String::from)
             .to_vec(),
@@ -84,7 +99,7 @@ fn overview(dir: &Path, inp: &Inputs) -> Section {
             rel(dir, &r.dir),
             n.to_string(),
             k.to_string(),
-            pct(k, n),
+            pct(&run_fraction(r)),
             s["n_tracked"].as_u64().unwrap_or(0).to_string(),
             names.join(", "),
         ]);
@@ -131,17 +146,15 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
         .runs
         .iter()
         .map(|r| {
-            let (n, k) = (
-                r.summary["n_objects"].as_u64().unwrap_or(0),
-                r.summary["n_detected"].as_u64().unwrap_or(0),
-            );
-            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+            let p = run_fraction(r);
             format!(
-                "{}: {k} of {n} objects discovered ({}, 95% interval {:.3}%–{:.3}%).",
+                "{}: {} of {} objects discovered ({} weighted, 95% interval {:.3}%–{:.3}%).",
                 rel(dir, &r.dir),
-                pct(k, n),
-                100.0 * lo,
-                100.0 * hi
+                p.k,
+                p.n,
+                pct(&p),
+                100.0 * p.lower,
+                100.0 * p.upper
             )
         })
         .collect();
@@ -210,12 +223,7 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
     let edges: Vec<f64> = (0..=40).map(|j| -2.0 + 0.1 * j as f64).collect();
     let mut measured: Vec<FractionBin> = edges
         .windows(2)
-        .map(|w| FractionBin {
-            lo: w[0],
-            hi: w[1],
-            n: 0,
-            k: 0,
-        })
+        .map(|w| FractionBin::counts(w[0], w[1], 0, 0))
         .collect();
     for det in inp.runs.iter().filter_map(|r| r.detections.as_ref()) {
         for i in 0..det.mag.len() {
@@ -224,8 +232,7 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
             };
             let k = edges.partition_point(|&e| e <= det.mag[i] - d);
             if k > 0 && k < edges.len() {
-                measured[k - 1].n += 1;
-                measured[k - 1].k += det.detected[i] as u64;
+                measured[k - 1].tally.add(1.0, det.detected[i]);
             }
         }
     }
@@ -302,15 +309,15 @@ fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Resul
         )?,
     ];
     for q in ["a_au", "h_mag"] {
-        figures.push(distributions::discovered_fraction(q, &summary_bins(&run.summary, q))?);
+        figures.push(distributions::discovered_fraction(q, &fraction_bins(run, q))?);
     }
     if n_runs > 1 {
         for f in &mut figures {
             f.stem = format!("run{k}_{}", f.stem);
         }
     }
-    let mut tables = vec![fraction_table(&run.summary)];
-    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected)));
+    let mut tables = vec![fraction_table(run)];
+    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected, &o.weight)));
     Ok(Section {
         title: format!("What was found: {}", rel(dir, &run.dir)),
         intro: "Injected objects against discovered ones: where the survey's selection cuts.".into(),
@@ -319,32 +326,30 @@ fn found_section(dir: &Path, run: &ObserveRun, k: usize, n_runs: usize) -> Resul
     })
 }
 
-/// The fraction of each particle's clones that were discovered: the particle's detection
-/// probability, the per-object weight of a likelihood fit (first 25 particles).
-fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
-    let mut by: std::collections::BTreeMap<i64, (u64, u64)> = Default::default();
-    for (p, d) in parent.iter().zip(detected) {
-        let e = by.entry(*p).or_default();
-        e.0 += 1;
-        e.1 += *d as u64;
+/// The fraction of each particle's clones that were discovered (weighted): the particle's
+/// detection probability, the per-object weight of a likelihood fit (first 25 particles).
+fn parent_table(parent: &[i64], detected: &[bool], weight: &[f64]) -> Table {
+    let mut by: std::collections::BTreeMap<i64, Tally> = Default::default();
+    for ((p, d), w) in parent.iter().zip(detected).zip(weight) {
+        by.entry(*p).or_default().add(*w, *d);
     }
     let rows = by
         .iter()
         .take(25)
-        .map(|(p, &(n, k))| {
-            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+        .map(|(p, t)| {
+            let f = t.proportion();
             vec![
                 p.to_string(),
-                n.to_string(),
-                k.to_string(),
-                format!("{:.3}", k as f64 / n as f64),
-                format!("{lo:.3}–{hi:.3}"),
+                t.n.to_string(),
+                t.k.to_string(),
+                format!("{:.3}", f.fraction),
+                format!("{:.3}–{:.3}", f.lower, f.upper),
             ]
         })
         .collect();
     Table {
         caption: format!(
-            "Detection probability per simulation particle: the fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
+            "Detection probability per simulation particle: the (weighted) fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
             by.len(),
             if by.len() > 25 { ", the first 25 shown" } else { "" }
         ),
@@ -355,23 +360,25 @@ fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
     }
 }
 
-fn fraction_table(summary: &serde_json::Value) -> Table {
-    let rows = summary_bins(summary, "q_au")
+fn fraction_table(run: &ObserveRun) -> Table {
+    let rows = fraction_bins(run, "q_au")
         .iter()
-        .filter(|b| b.n > 0)
+        .filter(|b| b.n() > 0)
         .map(|b| {
-            let (lo, hi) = super::stats::wilson(b.k, b.n, 1.96);
+            let p = b.proportion();
             vec![
                 format!("{:.0}–{:.0}", b.lo, b.hi),
-                b.n.to_string(),
-                b.k.to_string(),
-                pct(b.k, b.n),
-                format!("{:.3}%–{:.3}%", 100.0 * lo, 100.0 * hi),
+                p.n.to_string(),
+                p.k.to_string(),
+                pct(&p),
+                format!("{:.3}%–{:.3}%", 100.0 * p.lower, 100.0 * p.upper),
             ]
         })
         .collect();
     Table {
-        caption: "Discovered fraction by perihelion distance q (from summary.json), with 95% Wilson intervals.".into(),
+        caption: "Discovered fraction by perihelion distance q (bins of summary.json; fractions weighted by the \
+                  objects' weights), with 95% Wilson intervals at the effective number of objects."
+            .into(),
         header: ["q (AU)", "objects", "discovered", "fraction", "95% interval"]
             .map(String::from)
             .to_vec(),
@@ -380,31 +387,35 @@ fn fraction_table(summary: &serde_json::Value) -> Table {
 }
 
 /// Rows from `yield_cadence.csv`, or else from several runs that each used one known survey.
-fn yield_rows(inp: &Inputs) -> Vec<YieldRow> {
+fn yield_rows(inp: &Inputs) -> Vec<CadenceRow> {
     if !inp.yields.is_empty() {
         return inp.yields.clone();
     }
-    let rows: Vec<YieldRow> = inp
+    let rows: Vec<CadenceRow> = inp
         .runs
         .iter()
         .filter_map(|r| {
             let [spec] = r.survey_specs.as_slice() else { return None };
             let s = inp.surveys.iter().find(|s| same_file(&s.spec_path, spec))?;
-            Some(YieldRow {
+            let p = run_fraction(r);
+            Some(CadenceRow {
                 plan: s.name.clone(),
                 population: "injected population".into(),
                 cadence_days: median_revisit_days(s)?,
-                n_objects: r.summary["n_objects"].as_u64()?,
-                n_discovered: r.summary["n_detected"].as_u64()?,
+                n_objects: p.n,
+                n_discovered: p.k,
+                fraction: p.fraction,
+                wilson_lo: p.lower,
+                wilson_hi: p.upper,
             })
         })
         .collect();
     if rows.len() >= 2 { rows } else { Vec::new() }
 }
 
-fn yield_table(rows: &[YieldRow]) -> Table {
+fn yield_table(rows: &[CadenceRow]) -> Table {
     Table {
-        caption: "Yield per plan, with 95% Wilson intervals on the discovered fraction.".into(),
+        caption: "Yield per plan, with 95% Wilson intervals on the (weighted) discovered fraction.".into(),
         header: [
             "plan",
             "population",
@@ -419,15 +430,14 @@ fn yield_table(rows: &[YieldRow]) -> Table {
         rows: rows
             .iter()
             .map(|r| {
-                let (lo, hi) = super::stats::wilson(r.n_discovered, r.n_objects, 1.96);
                 vec![
                     r.plan.clone(),
                     r.population.clone(),
                     format!("{:.1}", r.cadence_days),
                     r.n_objects.to_string(),
                     r.n_discovered.to_string(),
-                    pct(r.n_discovered, r.n_objects),
-                    format!("{:.2}%–{:.2}%", 100.0 * lo, 100.0 * hi),
+                    format!("{:.2}%", 100.0 * r.fraction),
+                    format!("{:.2}%–{:.2}%", 100.0 * r.wilson_lo, 100.0 * r.wilson_hi),
                 ]
             })
             .collect(),
@@ -508,4 +518,46 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
             })
             .collect(),
     }
+}
+
+/// Model comparisons: each model's ln L with its model-sample error, Δ to the best and the
+/// goodness of fit, as `seine compare-models` wrote them.
+fn comparison_section(dir: &Path, inp: &Inputs) -> Option<Section> {
+    if inp.comparisons.is_empty() {
+        return None;
+    }
+    let tables = inp
+        .comparisons
+        .iter()
+        .map(|(file, rows)| Table {
+            caption: format!(
+                "Model comparison from {}: ln L of the catalogue under each model's detected density, \
+                 ± its model-sample error (bootstrap over the model's objects); Δ to the best model; \
+                 goodness of fit p (lower tail, from synthetic catalogues of the model's own detected objects).",
+                rel(dir, Path::new(file))
+            ),
+            header: ["model", "objects", "detected", "ln L", "Δ ln L", "goodness of fit p"]
+                .map(String::from)
+                .to_vec(),
+            rows: rows
+                .iter()
+                .map(|r| {
+                    vec![
+                        r.model.clone(),
+                        r.n_objects.to_string(),
+                        r.n_detected.to_string(),
+                        format!("{:.2} ± {:.2}", r.log_likelihood, r.log_likelihood_error),
+                        format!("{:.2} ± {:.2}", r.delta, r.delta_error),
+                        format!("{:.3} ± {:.3}", r.gof_p, r.gof_p_error),
+                    ]
+                })
+                .collect(),
+        })
+        .collect();
+    Some(Section {
+        title: "Model comparison".into(),
+        intro: "Which model population explains the catalogue once both are seen through the surveys.".into(),
+        tables,
+        figures: Vec::new(),
+    })
 }

@@ -2,12 +2,13 @@
 //! plan coverage reports and the analysis tables, by the file names documented in `mod.rs`.
 //! Everything is read into the tidy tables of `tables.rs`.
 
-use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
-use super::tables::{FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin, YieldRow};
+use super::tables::{CadenceRow, FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin};
+use crate::analysis::comparison::{self, ModelRow};
+use crate::analysis::yield_tables;
 use crate::error::{Error, Result, io_at};
 use crate::io::objects::ObjectTable;
 use crate::io::provenance::{METADATA_KEY, Provenance};
@@ -35,6 +36,8 @@ pub struct Observed {
     pub r_au: Vec<f64>,
     pub varpi_deg: Vec<f64>,
     pub node_deg: Vec<f64>,
+    /// The objects' weights (importance sampling; 1 when the table has none).
+    pub weight: Vec<f64>,
     pub detected: Vec<bool>,
     pub discovery_r_au: Vec<Option<f64>>,
     pub discovery_radec_deg: Vec<Option<(f64, f64)>>,
@@ -66,7 +69,9 @@ pub struct Inputs {
     /// (quantity, bins, the file they came from).
     pub roses: Vec<(String, Vec<RoseBin>, String)>,
     pub null_tests: Vec<NullTest>,
-    pub yields: Vec<YieldRow>,
+    pub yields: Vec<CadenceRow>,
+    /// Model comparisons (`models.*` of `seine compare-models`): the file and its rows.
+    pub comparisons: Vec<(String, Vec<ModelRow>)>,
 }
 
 impl Inputs {
@@ -77,6 +82,7 @@ impl Inputs {
             && self.roses.is_empty()
             && self.null_tests.is_empty()
             && self.yields.is_empty()
+            && self.comparisons.is_empty()
     }
 }
 
@@ -132,7 +138,7 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
              or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
-             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*), here or one directory down",
+             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*, models.*), here or one directory down",
             dir.display()
         )));
     }
@@ -152,7 +158,11 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
     } else if name == "cluster_null.csv" || name == "cluster_null.parquet" {
         inputs.null_tests.extend(read_null_tests(f)?);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
-        inputs.yields.extend(read_yields(f)?);
+        inputs.yields.extend(yield_tables::read_cadence(f)?);
+    } else if comparison::find(f.parent().unwrap_or(Path::new("."))).as_deref() == Some(f) {
+        inputs
+            .comparisons
+            .push((f.display().to_string(), comparison::read_models(f)?));
     }
     Ok(())
 }
@@ -244,6 +254,7 @@ fn read_observed(path: &Path) -> Result<Observed> {
         r_au: el.iter().map(|e| e.to_state().0.norm()).collect(),
         varpi_deg: el.iter().map(|e| e.varpi().to_degrees()).collect(),
         node_deg: el.iter().map(|e| e.node.to_degrees().rem_euclid(360.0)).collect(),
+        weight: t.weight.clone(),
         detected: bools(&c, "detected")?,
         discovery_r_au: nullable(&t.frame, path, "discovery_r_au")?,
         discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
@@ -295,28 +306,36 @@ fn is_survey_spec(p: &Path) -> bool {
     std::fs::read_to_string(p).is_ok_and(|t| t.contains("[survey]"))
 }
 
-/// The discovered-fraction bins of one quantity from `summary.json` (`bins[].quantity`).
-pub fn summary_bins(summary: &serde_json::Value, quantity: &str) -> Vec<FractionBin> {
-    let Some(b) = summary["bins"]
+/// The weighted discovered-fraction bins of `a_au`, `h_mag` or `q_au`, over the bin edges of
+/// the run's `summary.json` (`bins[].quantity`), from the objects and their weights.
+pub fn fraction_bins(run: &ObserveRun, quantity: &str) -> Vec<FractionBin> {
+    let o = &run.objects;
+    let values = match quantity {
+        "a_au" => &o.a_au,
+        "h_mag" => &o.h_mag,
+        "q_au" => &o.q_au,
+        _ => return Vec::new(),
+    };
+    let Some(b) = run.summary["bins"]
         .as_array()
         .and_then(|a| a.iter().find(|b| b["quantity"] == quantity))
     else {
         return Vec::new();
     };
-    let nums = |k: &str| -> Vec<f64> {
-        b[k].as_array()
-            .map(|a| a.iter().filter_map(|x| x.as_f64()).collect())
-            .unwrap_or_default()
-    };
-    let (edges, n, k) = (nums("edges"), nums("n"), nums("detected"));
-    (0..n.len().min(k.len()).min(edges.len().saturating_sub(1)))
-        .map(|j| FractionBin {
-            lo: edges[j],
-            hi: edges[j + 1],
-            n: n[j] as u64,
-            k: k[j] as u64,
-        })
-        .collect()
+    let edges: Vec<f64> = b["edges"]
+        .as_array()
+        .map(|a| a.iter().filter_map(|x| x.as_f64()).collect())
+        .unwrap_or_default();
+    let mut bins: Vec<FractionBin> = edges
+        .windows(2)
+        .map(|w| FractionBin::counts(w[0], w[1], 0, 0))
+        .collect();
+    for i in 0..values.len() {
+        if let Some(k) = crate::analysis::binomial::bin_index(&edges, values[i]) {
+            bins[k].tally.add(o.weight[i], o.detected[i]);
+        }
+    }
+    bins
 }
 
 /// `bias_map*.csv`: columns `X_min, X_max, Y_min, Y_max` for two quantities and a value
@@ -494,53 +513,4 @@ fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
         }
     }
     Ok(tests)
-}
-
-/// `yield_cadence.csv` (or `.parquet`, as `seine yield` writes it): `plan, cadence_days,
-/// n_objects, n_discovered`, optional `population`.
-fn read_yields(path: &Path) -> Result<Vec<YieldRow>> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    let (plan, cad, n, k) = (
-        c.str("plan")?,
-        c.f64("cadence_days")?,
-        c.i64("n_objects")?,
-        c.i64("n_discovered")?,
-    );
-    let pop = if c.has("population") {
-        c.str("population")?
-    } else {
-        vec!["population".into(); plan.len()]
-    };
-    Ok((0..plan.len())
-        .map(|i| YieldRow {
-            plan: plan[i].clone(),
-            population: pop[i].clone(),
-            cadence_days: cad[i],
-            n_objects: n[i].max(0) as u64,
-            n_discovered: k[i].max(0) as u64,
-        })
-        .collect())
-}
-
-/// The median interval, in nights, between successive distinct nights on which a field (a
-/// pointing centre, to 1″) was visited; fields visited on one night only add nothing.
-pub fn median_revisit_days(s: &Survey) -> Option<f64> {
-    let v = &s.visits;
-    let mut by_field: HashMap<(i64, i64), Vec<i64>> = HashMap::new();
-    for i in 0..v.len() {
-        let key = (
-            (v.ra_deg[i] * 3600.0).round() as i64,
-            (v.dec_deg[i] * 3600.0).round() as i64,
-        );
-        by_field.entry(key).or_default().push(v.night[i]);
-    }
-    let mut gaps: Vec<i64> = Vec::new();
-    for nights in by_field.values_mut() {
-        nights.sort_unstable();
-        nights.dedup();
-        gaps.extend(nights.windows(2).map(|w| w[1] - w[0]));
-    }
-    gaps.sort_unstable();
-    (!gaps.is_empty()).then(|| gaps[gaps.len() / 2] as f64)
 }

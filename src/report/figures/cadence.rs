@@ -8,13 +8,12 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Figure, empty_note, render, titled};
-use crate::report::stats::wilson;
 use crate::report::style;
-use crate::report::tables::YieldRow;
+use crate::report::tables::CadenceRow;
 
 /// The discovered fraction of each (plan, population) against the plan's cadence, points
 /// labelled by plan and coloured by population.
-pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
+pub fn yield_vs_cadence(rows: &[CadenceRow]) -> Result<Figure> {
     let title = "Yield against cadence";
     // Populations in order of first appearance, each once.
     let mut pops: Vec<&str> = Vec::new();
@@ -47,11 +46,7 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
             let xs = rows.iter().map(|r| r.cadence_days.max(0.1));
             let (x0, x1) = xs.fold((f64::MAX, f64::MIN), |(a, b), x| (a.min(x), b.max(x)));
             let (x0, x1) = (x0 / 2.0, x1 * 2.0);
-            let ymax = rows
-                .iter()
-                .map(|r| wilson(r.n_discovered, r.n_objects, 1.96).1)
-                .fold(1e-4, f64::max)
-                * 1.25;
+            let ymax = rows.iter().map(|r| r.wilson_hi).fold(1e-4, f64::max) * 1.25;
             let x = (x0..x1).log_scale().with_key_points(axes::log_ticks(x0, x1));
             let mut chart = axes::chart(&area, x, 0.0..ymax)?;
             axes::mesh(
@@ -67,10 +62,9 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
             };
             for (k, pop) in pops.iter().enumerate() {
                 let c = style::series(k);
-                let mine: Vec<&YieldRow> = rows.iter().filter(|r| r.population == *pop).collect();
+                let mine: Vec<&CadenceRow> = rows.iter().filter(|r| r.population == *pop).collect();
                 chart.draw_series(mine.iter().map(|r| {
-                    let (lo, hi) = wilson(r.n_discovered, r.n_objects, 1.96);
-                    ErrorBar::new_vertical(r.cadence_days, lo, frac(r), hi, c.stroke_width(2), 8)
+                    ErrorBar::new_vertical(r.cadence_days, r.wilson_lo, frac(r), r.wilson_hi, c.stroke_width(2), 8)
                 }))?;
                 chart
                     .draw_series(
@@ -92,6 +86,7 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
     )
 }
 
-fn frac(r: &YieldRow) -> f64 {
-    r.n_discovered as f64 / r.n_objects.max(1) as f64
+/// The weighted discovered fraction.
+fn frac(r: &CadenceRow) -> f64 {
+    r.fraction
 }
