@@ -141,6 +141,9 @@ pub struct Query {
     ln_jacobian: f64,
 }
 
+/// How far beyond a bound (in kernel σ) a mirror image is still summed.
+const MIRROR_REACH: f64 = 12.0;
+
 /// The product kernel: a Gaussian over the non-angle coordinates (reflected at bounds) times a
 /// von Mises per angle.
 #[derive(Debug, Clone)]
@@ -151,6 +154,9 @@ pub struct Kernel {
     kappa: Vec<f64>,
     /// ln of the normalization in working coordinates (the Gaussian's and every von Mises').
     ln_norm: f64,
+    /// The kernel's σ per non-angle coordinate (working units): a mirror image farther than
+    /// `MIRROR_REACH` σ beyond a bound adds less than e^(−72) of a kernel's peak and is skipped.
+    sigma: Vec<f64>,
     pub bandwidth: Bandwidth,
 }
 
@@ -184,6 +190,7 @@ impl Kernel {
             whiten,
             kappa: bandwidth.kappa.clone(),
             ln_norm: ln_gauss + ln_vm,
+            sigma: (0..nl).map(|k| bandwidth.covariance[(k, k)].sqrt()).collect(),
             bandwidth: bandwidth.clone(),
         })
     }
@@ -223,6 +230,9 @@ impl Kernel {
                 let n = images.len();
                 for j in 0..n {
                     for edge in [*lo, *hi] {
+                        if (images[0][k] - edge).abs() > MIRROR_REACH * self.sigma[k] {
+                            continue;
+                        }
                         let mut m = images[j].clone();
                         m[k] = 2.0 * edge - m[k];
                         images.push(m);

@@ -8,7 +8,7 @@ network. Writes into tests/reference/fixtures/:
 
 - kde_weighted_data.csv, kde_weighted_eval.csv: scipy.stats.gaussian_kde with
   `weights=` (Scott's rule) on invented 2-D data; the eval table carries the
-  density, and the data table's first row the kde's `factor` and `neff` (the
+  density, and the data table's every row the kde's `factor` and `neff` (the
   latter is Kish's effective sample size (sum w)^2 / sum w^2, computed by scipy).
 - vonmises_pdf.csv: scipy.stats.vonmises.pdf(x, kappa, loc) on a grid.
 - recenter.csv: heliocentric ecliptic J2000 elements and the barycentric
@@ -18,7 +18,10 @@ network. Writes into tests/reference/fixtures/:
   the orbit about a primary of the Sun's and planets' total mass at rest at the
   barycentre, from rebound's `orbit(primary=...)`.
 - neptune_longitude.csv: Neptune's osculating mean longitude from erfa.plan94
-  (heliocentric J2000 position and velocity; elements with GM_sun (1 + m_N)).
+  (heliocentric J2000 positions; the velocity by a central difference over
+  +-0.5 day, since plan94's own velocity omits the derivative of its periodic
+  terms and is off by 1e-5 au/day, 0.3%; elements by rebound with
+  GM_sun (1 + m_N)).
 """
 
 import csv
@@ -60,7 +63,7 @@ def kde_weighted():
     ev = np.vstack([rng.uniform(-3, 3, 40), rng.uniform(-1, 5, 40)])
     dens = kde(ev)
     rows = [(float(data[0, i]), float(data[1, i]), float(weights[i]),
-             float(kde.factor) if i == 0 else "", float(kde.neff) if i == 0 else "")
+             float(kde.factor), float(kde.neff))
             for i in range(n)]
     write("kde_weighted_data.csv", ["x0", "x1", "weight", "factor", "neff"], rows)
     write("kde_weighted_eval.csv", ["x0", "x1", "density"],
@@ -125,11 +128,11 @@ def neptune_longitude():
     rows = []
     gm = GM_SUN * (1.0 + 1.0 / RATIOS[7])
     for mjd in np.linspace(45000.0, 65000.0, 21):
-        pv = erfa.plan94(MJD0, float(mjd), 8)
+        pos = lambda t: ecl(erfa.plan94(MJD0, float(t), 8)[0])
+        r, v = pos(mjd), pos(mjd + 0.5) - pos(mjd - 0.5)
         sim = rebound.Simulation()
         sim.G = gm
         sim.add(m=1.0)
-        r, v = ecl(pv[0]), ecl(pv[1])
         sim.add(m=0.0, x=r[0], y=r[1], z=r[2], vx=v[0], vy=v[1], vz=v[2])
         o = sim.particles[1].orbit(primary=sim.particles[0])
         rows.append((float(mjd), math.degrees(o.l) % 360.0))
