@@ -607,3 +607,75 @@ fn bad_input_exits_2_with_a_clear_message() {
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     assert!(!d.path().join("y0").exists(), "yield wrote something when it refused");
 }
+
+#[test]
+fn compare_models_refuses_mixed_frames_or_converts_them() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    // The catalogue marked barycentric; the model (40 fresh-M copies of it) heliocentric.
+    let cat = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
+    let bary: String = cat
+        .lines()
+        .enumerate()
+        .map(|(k, l)| format!("{l},{}\n", if k == 0 { "frame" } else { "barycentric" }))
+        .collect();
+    std::fs::write(d.path().join("bary.csv"), bary).unwrap();
+    let mut model = String::from(cat.lines().next().unwrap());
+    for k in 0..40 {
+        for line in cat.lines().skip(1) {
+            let f: Vec<&str> = line.split(',').collect();
+            let id = f[0].parse::<i64>().unwrap() * 100 + k;
+            let m = (k as f64 * 9.0 + 3.0) % 360.0;
+            model.push_str(&format!(
+                "\n{id},{},{},{},{},{},{m},60400,{}",
+                f[1], f[2], f[3], f[4], f[5], f[8]
+            ));
+        }
+    }
+    std::fs::write(d.path().join("m.csv"), model + "\n").unwrap();
+    let args = |frame: &[&str], out: &str| -> Vec<String> {
+        let mut v: Vec<String> = [
+            "compare-models",
+            "--survey",
+            &p("wide.toml"),
+            "--observed",
+            &p("bary.csv"),
+            "--model",
+            &format!("m={}", p("m.csv")),
+            "--space",
+            "a_au,inc_deg",
+            "--synthetic",
+            "50",
+            "--bootstrap",
+            "20",
+            "--format",
+            "csv",
+            "--out",
+            &p(out),
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        v.extend(frame.iter().map(|s| s.to_string()));
+        v
+    };
+    let refused = seine(&args(&[], "mixed").iter().map(String::as_str).collect::<Vec<_>>());
+    assert_eq!(refused.status.code(), Some(2), "{}", stderr(&refused));
+    assert!(
+        stderr(&refused).contains("must share a frame") && stderr(&refused).contains("--frame"),
+        "{}",
+        stderr(&refused)
+    );
+    assert!(!d.path().join("mixed").exists());
+    let msg = run_ok(
+        &args(&["--frame", "heliocentric"], "converted")
+            .iter()
+            .map(String::as_str)
+            .collect::<Vec<_>>(),
+    );
+    assert!(msg.contains("heliocentric elements"), "{msg}");
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join("converted/summary.json")).unwrap()).unwrap();
+    assert_eq!(summary["frame"], "heliocentric");
+}
