@@ -114,10 +114,13 @@ impl WeightedEcdf {
             d_minus = d_minus.max(f[k].0 - k as f64 / n);
             k = j;
         }
-        // A² and U² use the CDF at the point, midway through any atom of the model there.
+        // A² and U² use the CDF at the point, midway through any atom of the model there; A²
+        // keeps it half an effective object from 0 and 1 (its logarithms), U² needs no clamp
+        // (and a clamp would spoil its invariance under a turn of the zero).
+        let eps = if self.angle { 0.0 } else { self.eps };
         let mid: Vec<f64> = f
             .iter()
-            .map(|(a, b)| (0.5 * (a + b)).clamp(self.eps, 1.0 - self.eps))
+            .map(|(a, b)| (0.5 * (a + b)).clamp(eps, 1.0 - eps))
             .collect();
         if self.angle {
             let mean = mid.iter().sum::<f64>() / n;
