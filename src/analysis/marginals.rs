@@ -118,10 +118,7 @@ impl WeightedEcdf {
         // keeps it half an effective object from 0 and 1 (its logarithms), U² needs no clamp
         // (and a clamp would spoil its invariance under a turn of the zero).
         let eps = if self.angle { 0.0 } else { self.eps };
-        let mid: Vec<f64> = f
-            .iter()
-            .map(|(a, b)| (0.5 * (a + b)).clamp(eps, 1.0 - eps))
-            .collect();
+        let mid: Vec<f64> = f.iter().map(|(a, b)| (0.5 * (a + b)).clamp(eps, 1.0 - eps)).collect();
         if self.angle {
             let mean = mid.iter().sum::<f64>() / n;
             let u2 = mid
