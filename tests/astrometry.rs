@@ -211,7 +211,7 @@ fn assert_ephemeris(c: &EphemCheck, what: &str) {
         "{what}: worst position {:.2e}″, distance {:.1e} rel, phase {:.1e}°, mag {:.1e}, rate {:.1e} rel",
         c.worst_pos_arcsec, c.worst_dist_rel, c.worst_phase_deg, c.worst_mag, c.worst_rate_rel
     );
-    // Required: RA/Dec within 0.2″ for objects beyond 30 AU (issue 2).
+    // Required: RA/Dec within 0.2″ for objects beyond 30 AU.
     assert!(
         c.worst_pos_arcsec < 0.2,
         "{what}: position differs by {}″",

@@ -126,8 +126,8 @@ fn clones_particles_with_parent_ids_and_extra_columns() {
     std::fs::write(
         dir.path().join("particles.csv"),
         "id,a_au,e,inc_deg,node_deg,argperi_deg,mean_anomaly_deg,epoch_mjd,h_mag,sim_tag\n\
-         7,250.0,0.8,12.0,110.0,300.0,5.0,60676.0,7.0,11\n\
-         9,310.0,0.85,20.0,95.0,290.0,355.0,60676.0,7.5,12\n",
+         7,250.0,0.8,12.0,230.0,300.0,5.0,60676.0,7.0,11\n\
+         9,310.0,0.85,20.0,255.0,310.0,355.0,60676.0,7.5,12\n",
     )
     .unwrap();
     let spec = write_spec(

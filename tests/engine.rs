@@ -18,7 +18,7 @@ use seine::sky::frames::lon_lat;
 use seine::survey::Survey;
 use seine::time::TimeScale;
 
-const SITE: &str = "[site]\nlongitude_deg = -70.45\nlatitude_deg = -30.35\nelevation_m = 2450.0\n";
+const SITE: &str = "[site]\nlongitude_deg = 19.3\nlatitude_deg = 20.6\nelevation_m = 2350.0\n";
 
 /// Write a survey spec and its visits (mjd UTC, ra, dec, depth, rotation) and load it.
 fn make_survey(dir: &Path, name: &str, field: &str, extra: &str, visits: &[(f64, f64, f64, f64, f64)]) -> Survey {
@@ -131,7 +131,7 @@ fn index_agrees_with_brute_force_on_every_decision() {
         PreparedSurvey::new(make_survey(
             dir.path(),
             "circles",
-            "shape = \"circle\"\nradius_deg = 1.5\nfill_factor = 0.9",
+            "shape = \"circle\"\nradius_deg = 1.5\nlive_fraction = 0.9",
             "[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n",
             &visits,
         )),
@@ -177,7 +177,7 @@ fn stopping_at_the_verdict_changes_no_verdict() {
     let dir = tempfile::tempdir().unwrap();
     let objects = random_objects(400, 23);
     let visits = aimed_visits(&objects, 24, 120, 2.0);
-    let linking = "[linking]\nmin_detections_per_night = 2\nmin_nights = 2\ntrack_after_days = 20.0\n";
+    let linking = "[linking]\nmin_detections_per_night = 2\nmin_nights = 2\nsecure_after_days = 20.0\n";
     let surveys: Vec<PreparedSurvey> = [
         // Logistic efficiency, every rate: mostly early stops (p is zero only ~11 mag past the depth).
         (
@@ -187,7 +187,10 @@ fn stopping_at_the_verdict_changes_no_verdict() {
         // A step at the depth: draws too faint for every visit are skipped.
         ("step", "[efficiency]\nmodel = \"step\"\npeak = 0.95\n"),
         // Fast movers only: the distant draws are skipped by their rate.
-        ("fast", "[motion]\nmin_rate = 1.5\nmax_rate = 500.0\n"),
+        (
+            "fast",
+            "[motion]\nmin_rate_arcsec_per_hr = 1.5\nmax_rate_arcsec_per_hr = 500.0\n",
+        ),
     ]
     .iter()
     .map(|(name, extra)| {
@@ -202,20 +205,20 @@ fn stopping_at_the_verdict_changes_no_verdict() {
     })
     .collect();
     let all = run_recording(&objects, &surveys, Candidates::Indexed, Record::Everything);
-    let until_tracked = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilTracked);
+    let until_secured = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilSecured);
     let until_found = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilDiscovery);
-    let (mut skipped, mut discovered, mut tracked) = (vec![0; surveys.len()], 0, 0);
+    let (mut skipped, mut discovered, mut secured) = (vec![0; surveys.len()], 0, 0);
     for i in 0..objects.len() {
         let orbit = Orbit::new(objects.elements[i]);
         for (s, ps) in surveys.iter().enumerate() {
             let (a, t, d) = (
                 &all[i].surveys[s],
-                &until_tracked[i].surveys[s],
+                &until_secured[i].surveys[s],
                 &until_found[i].surveys[s],
             );
             assert_eq!(
-                (a.discovered, a.tracked),
-                (t.discovered, t.tracked),
+                (a.discovered, a.secured),
+                (t.discovered, t.secured),
                 "object {i} survey {s}"
             );
             assert_eq!(a.discovered, d.discovered, "object {i} survey {s}");
@@ -226,7 +229,7 @@ fn stopping_at_the_verdict_changes_no_verdict() {
             );
             assert_eq!(
                 discovery_of(&all[i], s),
-                discovery_of(&until_tracked[i], s),
+                discovery_of(&until_secured[i], s),
                 "object {i} survey {s}"
             );
             if !ps.reach.could_detect(&objects, i, &orbit) {
@@ -241,25 +244,25 @@ fn stopping_at_the_verdict_changes_no_verdict() {
                 );
             }
             discovered += a.discovered as usize;
-            tracked += a.tracked as usize;
+            secured += a.secured as usize;
         }
     }
     let events = |o: &[ObjectOutcome]| o.iter().map(|o| o.events.len()).sum::<usize>();
-    let (e_all, e_tracked, e_found) = (events(&all), events(&until_tracked), events(&until_found));
+    let (e_all, e_secured, e_found) = (events(&all), events(&until_secured), events(&until_found));
     eprintln!(
-        "events {e_all} / {e_tracked} / {e_found}; skipped {skipped:?}; discovered {discovered}, tracked {tracked}"
+        "events {e_all} / {e_secured} / {e_found}; skipped {skipped:?}; discovered {discovered}, secured {secured}"
     );
     assert!(
-        discovered > 30 && tracked > 10,
-        "the scenario must discover and track: {discovered}, {tracked}"
+        discovered > 30 && secured > 10,
+        "the scenario must discover and secure: {discovered}, {secured}"
     );
     assert!(
         skipped[1] > skipped[0] && skipped[1] > 20 && skipped[2] > 50,
         "skipped {skipped:?}"
     );
     assert!(
-        e_found < e_tracked && e_tracked < e_all,
-        "events {e_all} / {e_tracked} / {e_found}"
+        e_found < e_secured && e_secured < e_all,
+        "events {e_all} / {e_secured} / {e_found}"
     );
 }
 
@@ -280,9 +283,9 @@ fn object_at(ra_deg: f64, dec_deg: f64, r_au: f64, mjd: f64, h_mag: f64) -> Obje
     // Place the body on the line of sight at distance ≈ r from the observer, then solve for
     // elements from that state (circular velocity perpendicular to the Sun direction).
     let site = seine::sky::observer::Site {
-        longitude_deg: -70.45,
-        latitude_deg: -30.35,
-        elevation_m: 2450.0,
+        longitude_deg: 19.3,
+        latitude_deg: 20.6,
+        elevation_m: 2350.0,
     };
     let obs = observer_states(&[mjd], TimeScale::Utc, Some(&site)).unwrap()[0];
     let dir = seine::sky::frames::unit_vector(ra_deg.to_radians(), dec_deg.to_radians());
@@ -319,9 +322,9 @@ fn object_at_field_centre_is_found_and_just_outside_is_not() {
             &[mjd],
             TimeScale::Utc,
             Some(&seine::sky::observer::Site {
-                longitude_deg: -70.45,
-                latitude_deg: -30.35,
-                elevation_m: 2450.0,
+                longitude_deg: 19.3,
+                latitude_deg: 20.6,
+                elevation_m: 2350.0,
             }),
         )
         .unwrap()[0],
@@ -373,7 +376,7 @@ fn object_at_field_centre_is_found_and_just_outside_is_not() {
 #[test]
 fn slow_distant_object_and_the_rate_window() {
     // Rule of thumb (common practice, no source): a 500 AU object at opposition moves
-    // ≈ 0.28″/hr, so a search with min_rate = 1″/hr loses it and min_rate = 0.1 finds it.
+    // ≈ 0.28″/hr, so a search with min_rate_arcsec_per_hr = 1″/hr loses it and min_rate_arcsec_per_hr = 0.1 finds it.
     let dir = tempfile::tempdir().unwrap();
     let mjd = 60755.3; // near the March equinox: opposition is at RA ≈ 180°
     let obs = observer_states(&[mjd], TimeScale::Utc, None).unwrap()[0];
@@ -386,14 +389,14 @@ fn slow_distant_object_and_the_rate_window() {
         dir.path(),
         "fast",
         field,
-        "[motion]\nmin_rate = 1.0\n",
+        "[motion]\nmin_rate_arcsec_per_hr = 1.0\n",
         &visit,
     ));
     let slow = PreparedSurvey::new(make_survey(
         dir.path(),
         "slow",
         field,
-        "[motion]\nmin_rate = 0.1\n",
+        "[motion]\nmin_rate_arcsec_per_hr = 0.1\n",
         &visit,
     ));
     let lost = run_all(&objects, &[fast], Candidates::Indexed)[0].clone();

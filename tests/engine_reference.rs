@@ -1,14 +1,14 @@
-//! `seine observe` against an independent brute force (issue 5, item 8).
+//! `seine observe` against an independent brute force.
 //!
 //! Outside source: `tests/reference/make_engine_fixtures.py`, a Python brute force, every
 //! object against every visit, on pyerfa (UTC→TDB, `epv00` Earth and Sun), astropy
 //! (`EarthLocation.get_gcrs_posvel`, the site), rebound (two-body orbits) and numpy (light
 //! time, its own gnomonic footprint test, magnitudes, ±0.5 h finite-difference rates, and
-//! the linking rules written from the DESIGN.md / issue text). Two invented surveys from
-//! the fictional Cerro Seine: a 1.2° circle and a 2.6° × 1.4° rectangle turned by a
+//! the linking rules written from their documented text in DESIGN.md). Two invented surveys
+//! from the invented site Sorrel Peak: a 1.2° circle and a 2.6° × 1.4° rectangle turned by a
 //! per-visit `rotation_deg`, with fields across RA 0/360 and over both poles; 40 invented
 //! objects (30–1500 AU, e ≤ 0.95, a third of them retrograde). Detection is deterministic
-//! (step efficiency, peak 1, fill factor 1), so every decision can be compared exactly.
+//! (step efficiency, peak 1, live fraction 1), so every decision can be compared exactly.
 //! Borderline cases (within 0.5″ of an edge, 0.001 mag of the depth, 1% of a rate limit)
 //! were redrawn by the generator (`fixtures/engine/generation.log`).
 
@@ -235,7 +235,7 @@ fn observe_matches_the_python_brute_force() {
     assert!(worst_rate < 0.01, "rates differ by up to {worst_rate} relative");
 
     // Discoveries per survey. Outside source: the linking rules of make_engine_fixtures.py
-    // (Python, written from the DESIGN.md / issue text), on the numpy detection decisions.
+    // (Python, written from the documented rules), on the numpy detection decisions.
     for (name, id, visit, detected, expected) in got_disc {
         assert_eq!(visit, expected, "{name}, object {id}: discovery visit differs");
         assert_eq!(detected, expected.is_some(), "{name}, object {id}: detected");

@@ -171,7 +171,7 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
     let o = seine(&["demo", "--out", dir.path().to_str().unwrap()]);
     assert!(o.status.success(), "{}", stderr(&o));
     let text = String::from_utf8_lossy(&o.stdout);
-    assert!(text.contains("discovered") && text.contains("Cerro Seine"), "{text}");
+    assert!(text.contains("discovered") && text.contains("Sorrel Peak"), "{text}");
     // The model comparison states its likelihood ratio as a number even beyond f64's range.
     let err = stderr(&o);
     assert!(
@@ -209,7 +209,7 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         .iter()
         .map(|plan| {
             let at = err
-                .find(&format!("Synoptic, {plan}: "))
+                .find(&format!("synoptic, {plan}: "))
                 .unwrap_or_else(|| panic!("{plan} in {err}"));
             let rest = &err[at + plan.len() + 11..];
             rest.split_whitespace().next().unwrap().parse().unwrap()

@@ -1,4 +1,4 @@
-//! Fuzzing of the spec and table loaders (issue 8.2) as property tests: random bytes, random
+//! Fuzzing of the spec and table loaders as property tests: random bytes, random
 //! TOML built from the specs' own keys and random values, and random CSV tables built from
 //! the contract's columns and hostile cells. Each loader must return (Ok or a typed error),
 //! never panic, and never hang (each case has a deadline). The default run is short (a few
@@ -55,18 +55,18 @@ const KEYS: &[&str] = &[
     "width_deg",
     "height_deg",
     "chips",
-    "fill_factor",
+    "live_fraction",
     "model",
     "peak",
     "width_mag",
-    "w1_mag",
-    "w2_mag",
+    "fall_width_mag",
+    "tail_width_mag",
     "dm",
     "rates",
     "eta",
     "trailing",
-    "min_rate",
-    "max_rate",
+    "min_rate_arcsec_per_hr",
+    "max_rate_arcsec_per_hr",
     "min_detections_per_night",
     "min_tracklet_span_min",
     "min_nights",
@@ -115,7 +115,7 @@ const SECTIONS: &[&str] = &[
     "region",
     "revisit",
     "depth",
-    "efficiency.blocks.deep",
+    "efficiency.classes.deep",
 ];
 
 /// A TOML value: numbers at the edges, strings, arrays, inline distributions, junk.
@@ -189,7 +189,7 @@ const COLUMNS: &[&str] = &[
     "rotation_deg",
     "exposure_s",
     "seeing_arcsec",
-    "block",
+    "efficiency_class",
     "junk",
 ];
 

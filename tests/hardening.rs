@@ -1,4 +1,4 @@
-//! The catalogue of bad inputs (issue 8.1), one test each, through the binary: every case
+//! The catalogue of bad inputs, one test each, through the binary: every case
 //! exits with status 2, prints one sentence naming the file and the row or key and what was
 //! expected, and leaves no output anywhere (the working directory is unchanged).
 
@@ -172,9 +172,128 @@ fn unknown_band_is_refused() {
 }
 
 #[test]
-fn missing_visits_file_is_named() {
+fn missing_visits_file_is_named_with_the_spec_and_seine_plan() {
     let c = Case::new(&[("survey.toml", &SPEC.replace("visits.csv", "nowhere.csv"))]);
-    c.fails(&c.observe(&[]), &["nowhere.csv", "no such file"]);
+    c.fails(
+        &c.observe(&[]),
+        &[
+            "survey.toml",
+            "survey.visits",
+            "nowhere.csv",
+            "does not exist",
+            "seine plan --plan",
+        ],
+    );
+}
+
+/// A spec written by `seine plan` states the command that makes its visits: the message repeats it.
+#[test]
+fn missing_visits_of_a_planned_survey_repeat_the_command_of_its_header() {
+    let header = "# Regenerate it and its visits with: seine plan --plan wide-plan.toml --out wide.parquet\n";
+    let spec = format!("{header}{}", SPEC.replace("visits.csv", "wide.parquet"));
+    let c = Case::new(&[("survey.toml", &spec)]);
+    c.fails(
+        &c.observe(&[]),
+        &[
+            "survey.toml",
+            "wide.parquet",
+            "`seine plan --plan wide-plan.toml --out wide.parquet`",
+        ],
+    );
+}
+
+#[test]
+fn a_cadence_plan_given_as_a_survey_spec_is_named_as_such() {
+    let c = Case::new(&[(
+        "survey.toml",
+        "[plan]\nname = \"a plan\"\n[revisit]\nevery_nights = 3\n",
+    )]);
+    c.fails(
+        &c.observe(&[]),
+        &["survey.toml", "cadence plan", "not a survey spec", "seine plan --plan"],
+    );
+}
+
+#[test]
+fn a_survey_spec_given_as_a_cadence_plan_is_named_as_such() {
+    let c = Case::new(&[]);
+    let (spec, out) = (c.p("survey.toml"), c.p("planned.csv"));
+    let a = args(&["plan", "--plan", &spec, "--out", &out]);
+    c.fails(&a, &["survey.toml", "survey spec", "not a cadence plan", "--survey"]);
+}
+
+/// A key or value that was renamed: the message names the new one, "`OLD` was renamed `NEW`".
+fn refuses_renamed(spec: &str, old: &str, new: &str) {
+    let c = Case::new(&[("survey.toml", spec)]);
+    c.fails(
+        &c.observe(&[]),
+        &["survey.toml", &format!("`{old}` was renamed `{new}`")],
+    );
+}
+
+#[test]
+fn renamed_fill_factor() {
+    refuses_renamed(&format!("{SPEC}fill_factor = 0.9\n"), "fill_factor", "live_fraction");
+}
+
+#[test]
+fn renamed_min_rate() {
+    refuses_renamed(
+        &format!("{SPEC}[motion]\nmin_rate = 1.0\n"),
+        "min_rate",
+        "min_rate_arcsec_per_hr",
+    );
+}
+
+#[test]
+fn renamed_max_rate() {
+    refuses_renamed(
+        &format!("{SPEC}[motion]\nmax_rate = 100.0\n"),
+        "max_rate",
+        "max_rate_arcsec_per_hr",
+    );
+}
+
+#[test]
+fn renamed_track_after_days() {
+    let spec = format!("{SPEC}[linking]\ntrack_after_days = 30.0\n");
+    refuses_renamed(&spec, "track_after_days", "secure_after_days");
+}
+
+#[test]
+fn renamed_efficiency_blocks() {
+    let spec = format!("{SPEC}[efficiency]\nmodel = \"step\"\n[efficiency.blocks.deep]\npeak = 0.5\n");
+    refuses_renamed(&spec, "blocks", "classes");
+}
+
+#[test]
+fn renamed_double_tanh_model() {
+    let spec = format!("{SPEC}[efficiency]\nmodel = \"double-tanh\"\nfall_width_mag = 0.2\ntail_width_mag = 0.5\n");
+    refuses_renamed(&spec, "double-tanh", "tanh-product");
+}
+
+#[test]
+fn renamed_w1_mag() {
+    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nw1_mag = 0.2\ntail_width_mag = 0.5\n");
+    refuses_renamed(&spec, "w1_mag", "fall_width_mag");
+}
+
+#[test]
+fn renamed_w2_mag() {
+    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nfall_width_mag = 0.2\nw2_mag = 0.5\n");
+    refuses_renamed(&spec, "w2_mag", "tail_width_mag");
+}
+
+#[test]
+fn renamed_block_column_of_the_visits() {
+    let visits = VISITS
+        .replace("depth_mag\n", "depth_mag,block\n")
+        .replace(",24.0\n", ",24.0,deep\n");
+    let c = Case::new(&[("visits.csv", &visits)]);
+    c.fails(
+        &c.observe(&[]),
+        &["visits.csv", "`block` was renamed `efficiency_class`"],
+    );
 }
 
 #[test]

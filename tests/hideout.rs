@@ -50,7 +50,7 @@ fn survey(dir: &Path, fill: f64) -> PathBuf {
     std::fs::write(dir.join(format!("visits{fill}.csv")), csv).unwrap();
     let spec = format!(
         "[survey]\nname = \"one-night {fill}\"\nvisits = \"visits{fill}.csv\"\n[field]\nshape = \"circle\"\nradius_deg = {RADIUS_DEG}\n\
-         fill_factor = {fill}\n[efficiency]\nmodel = \"step\"\npeak = 1.0\ntrailing = \"none\"\n[linking]\nmin_detections_per_night = 1\nmin_nights = 1\n"
+         live_fraction = {fill}\n[efficiency]\nmodel = \"step\"\npeak = 1.0\ntrailing = \"none\"\n[linking]\nmin_detections_per_night = 1\nmin_nights = 1\n"
     );
     common::write(dir, &format!("survey{fill}.toml"), &spec)
 }
@@ -84,7 +84,7 @@ fn nearest_field_deg(ra: f64, dec: f64) -> f64 {
         .fold(f64::INFINITY, f64::min)
 }
 
-/// Geometric check worked out by hand: with one visit per field at T, fill 1 and a step
+/// Geometric check worked out by hand: with one visit per field at T, live fraction 1 and a step
 /// efficiency far below the draws' magnitudes, a draw is discovered exactly when its
 /// astrometric position at T lies inside a field; the sky map at T is then fully excluded
 /// inside the fields and not at all outside.
@@ -130,10 +130,10 @@ fn a_bright_prior_is_excluded_inside_the_fields_and_nowhere_else() {
     }
 }
 
-/// With fill factor 0.5 the in-field draws are excluded with probability 0.5 (binomial,
+/// With live fraction 0.5 the in-field draws are excluded with probability 0.5 (binomial,
 /// within 4σ) and the others never.
 #[test]
-fn exclusion_inside_the_fields_follows_the_fill_factor() {
+fn exclusion_inside_the_fields_follows_the_live_fraction() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 0.5)).unwrap())];
     let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
@@ -159,11 +159,11 @@ fn exclusion_inside_the_fields_follows_the_fill_factor() {
 
 /// H = 5 log10(1329 km / (D √p)): the constant 1329 km = 2 au 10^(V_sun/5) with
 /// V_sun = −26.762 (Pravec & Harris 2007, Icarus 190, 250, appendix A; from memory), the worked
-/// example D = 1329 km, p = 1 → H = 0, and the MPC's table "Conversion of Absolute Magnitude to
-/// Diameter" (minorplanetcenter.net/iau/lists/Sizes; diameters in km for p = 0.5, 0.25, 0.05,
-/// printed to two or three significant figures).
+/// example D = 1329 km, p = 1 → H = 0, and the standard tabulation of absolute magnitude
+/// against diameter (diameters in km for p = 0.5, 0.25, 0.05, printed to two or three
+/// significant figures; values from memory).
 #[test]
-fn h_from_diameter_matches_its_worked_example_and_the_mpc_table() {
+fn h_from_diameter_matches_its_worked_example_and_the_standard_table() {
     let au_km = 149_597_870.7;
     let k = 2.0 * au_km * 10f64.powf(-26.762 / 5.0);
     assert!((k - 1329.0).abs() < 1.0, "K = {k}");

@@ -203,10 +203,10 @@ fn von_mises_resultant_length_function_matches_scipy() {
 fn von_mises_samples_match_mean_resultant_length() {
     let fixture = vonmises_fixture();
     for (i, &(kappa, a)) in fixture.iter().enumerate().filter(|(i, _)| i % 40 == 0) {
-        let d = Distribution::VonMises { mean: 60.0, kappa };
+        let d = Distribution::VonMises { mean: 150.0, kappa };
         let x = samples(&d, 200_000, 300 + i as u64);
         let (c, s) = x.iter().fold((0.0, 0.0), |acc, t| {
-            let r = (t - 60.0).to_radians();
+            let r = (t - 150.0).to_radians();
             (acc.0 + r.cos(), acc.1 + r.sin())
         });
         let n = x.len() as f64;
@@ -337,7 +337,7 @@ epoch_mjd = 60676.0
 a_au = { dist = "log-uniform", lo = 150.0, hi = 600.0 }
 q_au = { dist = "uniform", lo = 35.0, hi = 80.0 }
 inc_deg = { dist = "sin-gaussian", sigma = 15.0 }
-varpi_deg = { dist = "von-mises", mean = 60.0, kappa = 2.0 }
+varpi_deg = { dist = "von-mises", mean = 150.0, kappa = 2.0 }
 [photometry]
 h_mag = { dist = "exponential", alpha = 0.6, lo = 4.0, hi = 9.0 }
 color = { g = { dist = "normal", mean = 0.6, sigma = 0.1 } }
@@ -377,19 +377,19 @@ fn drawn_table_is_a_valid_objects_table() {
         assert!((40.0..=80.0).contains(&el.q_au()) && el.inc.to_degrees() <= 45.0);
     }
     assert_eq!(t.colors.len(), 1);
-    // ϖ = Ω + ω is von Mises about 60°: its mean direction is near 60°.
+    // ϖ = Ω + ω is von Mises about 150°: its mean direction is near 150°.
     let (s, c) = t
         .elements
         .iter()
         .fold((0.0, 0.0), |a, e| (a.0 + e.varpi().sin(), a.1 + e.varpi().cos()));
-    assert!((s.atan2(c).to_degrees() - 60.0).abs() < 5.0);
+    assert!((s.atan2(c).to_degrees() - 150.0).abs() < 5.0);
     let acc = pop.pilot(1).unwrap();
     assert!(acc > 0.5 && acc < 1.0, "{acc}");
 }
 
 /// Importance weights: the weighted fraction of "M within 30° of perihelion and H < 6"
 /// under proposals equals plain sampling's fraction and the closed form
-/// (60/360) × F_H(6) within statistical error (issue 3, item 2).
+/// (60/360) × F_H(6) within statistical error.
 #[test]
 fn importance_weights_are_unbiased() {
     let base = CLUSTERED.split("[constraints]").next().unwrap().to_string();

@@ -21,9 +21,9 @@ const DEG: f64 = std::f64::consts::PI / 180.0;
 /// The site of the astropy fixtures (tests/reference/site.toml).
 fn fixture_site() -> Site {
     Site {
-        longitude_deg: -70.5,
-        latitude_deg: -30.2,
-        elevation_m: 2400.0,
+        longitude_deg: 19.3,
+        latitude_deg: 20.6,
+        elevation_m: 2350.0,
     }
 }
 
@@ -248,9 +248,9 @@ const SPEC: &str = r#"
 name = "test survey"
 visits = "visits.csv"
 [site]
-longitude_deg = -70.45
-latitude_deg = -30.35
-elevation_m = 2450.0
+longitude_deg = 19.3
+latitude_deg = 20.6
+elevation_m = 2350.0
 [field]
 shape = "circle"
 radius_deg = 1.0
@@ -258,17 +258,17 @@ radius_deg = 1.0
 model = "logistic"
 peak = 0.9
 width_mag = 0.3
-[efficiency.blocks.deep]
-model = "double-tanh"
-w1_mag = 0.2
-w2_mag = 0.5
+[efficiency.classes.deep]
+model = "tanh-product"
+fall_width_mag = 0.2
+tail_width_mag = 0.5
 peak = 0.8
 [motion]
-min_rate = 0.1
-max_rate = 100.0
+min_rate_arcsec_per_hr = 0.1
+max_rate_arcsec_per_hr = 100.0
 "#;
 
-const VISITS: &str = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag,exposure_s,seeing_arcsec,block
+const VISITS: &str = "visit_id,mjd,ra_deg,dec_deg,band,depth_mag,exposure_s,seeing_arcsec,efficiency_class
 3,61000.30,10.0,-5.0,r,24.0,0,1.0,wide
 1,61000.10,10.0,-5.0,r,24.5,300,1.0,deep
 2,61000.10,12.0,-5.0,g,23.5,300,1.0,wide
@@ -287,12 +287,12 @@ fn survey_loads_sorts_and_detects() {
     let s = Survey::load(&write_spec(dir.path(), SPEC, VISITS)).unwrap();
     assert_eq!(s.visits.visit_id, vec![1, 2, 3], "sorted by (mjd, visit_id)");
     assert_eq!(s.visits.band_names, vec!["r", "g"]);
-    // Night from local noon: floor(61000.1 − 70.45/360 − 0.5) = 60999.
+    // Night from local noon: floor(61000.1 + 19.3/360 − 0.5) = 60999.
     assert_eq!(s.visits.night, vec![60999, 60999, 60999]);
     assert_eq!(s.reference_band, "r");
     // Logistic at its depth: peak/2 (no exposure on visit 3, so no trailing).
     assert!((s.p_detect(2, 24.0, 1.0) - 0.45).abs() < 1e-12);
-    // The deep block's double tanh at its depth with no trailing (rate 0.1, tiny trail): ≈ 0.8/2.
+    // The deep class's tanh product at its depth with no trailing (rate 0.1, tiny trail): ≈ 0.8/2.
     assert!((s.p_detect(0, 24.5, 0.1) - 0.4).abs() < 1e-3);
     assert_eq!(s.p_detect(2, 10.0, 0.05), 0.0, "below the rate window");
     assert_eq!(s.p_detect(2, 10.0, 150.0), 0.0, "above the rate window");
@@ -329,17 +329,17 @@ fn assert_bad_survey(spec: &str, visits: &str, expect: &[&str]) {
 }
 
 #[test]
-fn mosaic_spec_loads_and_refuses_a_fill_factor() {
+fn mosaic_spec_loads_and_refuses_a_live_fraction() {
     let mosaic = "shape = \"mosaic\"\nchips = [[[-0.5, -0.5], [0.5, -0.5], [0.5, 0.0], [-0.5, 0.0]], [[-0.5, 0.05], [0.5, 0.05], [0.5, 0.5]]]";
     let spec = SPEC.replace("shape = \"circle\"\nradius_deg = 1.0", mosaic);
     let dir = tmpdir();
     let s = Survey::load(&write_spec(dir.path(), &spec, VISITS)).unwrap();
-    assert_eq!(s.fill_factor, 1.0);
+    assert_eq!(s.live_fraction, 1.0);
     assert!((s.footprint.area_sq_deg() - 0.5 - 0.225).abs() < 1e-3);
     assert_bad_survey(
-        &format!("{spec}").replace("[efficiency]", "fill_factor = 0.9\n[efficiency]"),
+        &format!("{spec}").replace("[efficiency]", "live_fraction = 0.9\n[efficiency]"),
         VISITS,
-        &["field.fill_factor"],
+        &["field.live_fraction"],
     );
     assert_bad_survey(
         &spec.replace("[0.5, 0.5]]]", "[0.5, 0.5], [0.4, 1e9]]]"),
@@ -402,15 +402,23 @@ fn bad_specs_name_the_key() {
         v,
         &["efficiency.width_mag"],
     );
-    assert_bad_survey(&SPEC.replace("w1_mag = 0.2", ""), v, &["efficiency.blocks.deep.w1_mag"]);
     assert_bad_survey(
-        &SPEC.replace("[efficiency.blocks.deep]", "[efficiency.blocks.shallow]"),
+        &SPEC.replace("fall_width_mag = 0.2", ""),
         v,
-        &["efficiency.blocks.shallow", "no visit has block"],
+        &["efficiency.classes.deep.fall_width_mag"],
     );
-    assert_bad_survey(&SPEC.replace("max_rate = 100.0", "max_rate = 0.01"), v, &["motion"]);
     assert_bad_survey(
-        &SPEC.replace("latitude_deg = -30.35", "latitude_deg = -130.35"),
+        &SPEC.replace("[efficiency.classes.deep]", "[efficiency.classes.shallow]"),
+        v,
+        &["efficiency.classes.shallow", "no visit has efficiency class"],
+    );
+    assert_bad_survey(
+        &SPEC.replace("max_rate_arcsec_per_hr = 100.0", "max_rate_arcsec_per_hr = 0.01"),
+        v,
+        &["motion"],
+    );
+    assert_bad_survey(
+        &SPEC.replace("latitude_deg = 20.6", "latitude_deg = -130.35"),
         v,
         &["site.latitude_deg"],
     );
@@ -572,27 +580,67 @@ fn no_random_plan_breaks_its_limits() {
     eprintln!("random plans: {n_visits} visits in {n_plans_with_visits} of 150 plans, none outside the limits");
 }
 
+/// Every shipped survey spec is usable as shipped: the one command of its header, run beside a
+/// copy of its plan, writes that very spec and a loadable survey; survey-configs/README.md
+/// states the same command; a spec whose visits table is committed loads in place.
 #[test]
-fn example_plans_write_a_loadable_survey() {
+fn shipped_survey_specs_are_made_by_the_command_of_their_header() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs");
-    let dir = tmpdir();
-    for name in ["wide-plan.toml", "deep-plan.toml", "synoptic-plan.toml"] {
-        let out = dir.path().join(name.replace("-plan.toml", ".parquet"));
-        let (code, err) = seine(&[
-            "plan",
-            "--plan",
-            root.join(name).to_str().unwrap(),
-            "--out",
-            out.to_str().unwrap(),
-        ]);
-        assert_eq!(code, 0, "{err}");
-        let spec = out.with_file_name(format!("{}.survey.toml", out.file_stem().unwrap().to_str().unwrap()));
-        let s = Survey::load(&spec).unwrap();
+    let readme = std::fs::read_to_string(root.join("README.md")).unwrap();
+    let mut n = 0;
+    for entry in std::fs::read_dir(&root).unwrap() {
+        let path = entry.unwrap().path();
+        let name = path.file_name().unwrap().to_string_lossy().into_owned();
+        if !name.ends_with(".survey.toml") {
+            continue;
+        }
+        let shipped = std::fs::read_to_string(&path).unwrap();
+        let command = shipped
+            .lines()
+            .find_map(|l| {
+                l.split_once("Regenerate it and its visits with: ")
+                    .map(|(_, c)| c.trim())
+            })
+            .unwrap_or_else(|| panic!("{name}: no command in its header"));
+        assert!(readme.contains(command), "survey-configs/README.md lacks `{command}`");
+        let words: Vec<&str> = command.split_whitespace().collect();
+        assert!(
+            words.len() == 6 && words[..3] == ["seine", "plan", "--plan"] && words[4] == "--out",
+            "{name}: {command}"
+        );
+        let dir = tmpdir();
+        std::fs::copy(root.join(words[3]), dir.path().join(words[3])).unwrap();
+        let out = Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args(&words[1..])
+            .current_dir(dir.path())
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{command}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let made = dir.path().join(&name);
+        assert_eq!(
+            std::fs::read_to_string(&made).unwrap(),
+            shipped,
+            "{name} differs from what `{command}` writes"
+        );
+        let s = Survey::load(&made).unwrap();
         assert!(s.visits.len() > 100, "{name}: {} visits", s.visits.len());
-        let cov: serde_json::Value =
-            serde_json::from_str(&std::fs::read_to_string(out.with_extension("coverage.json")).unwrap()).unwrap();
+        let cov = dir.path().join(name.replace(".survey.toml", ".coverage.json"));
+        let cov: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(cov).unwrap()).unwrap();
         assert!(cov["coverage"]["covered_sq_deg"].as_f64().unwrap() > 10.0);
+        if root.join(words[5]).exists() && shipped.contains(&format!("visits = \"{}\"", words[5])) {
+            assert_eq!(
+                Survey::load(&path).unwrap().visits.len(),
+                s.visits.len(),
+                "{name} in place"
+            );
+        }
+        n += 1;
     }
+    assert_eq!(n, 3, "the three example surveys");
 }
 
 #[test]

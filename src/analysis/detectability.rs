@@ -64,7 +64,7 @@ impl Redraw {
 pub struct ObjectDetectability {
     pub row: usize,
     pub discovered: Proportion,
-    pub tracked: u64,
+    pub secured: u64,
     /// Discoveries by each survey on its own.
     pub by_survey: Vec<u64>,
 }
@@ -96,13 +96,13 @@ fn one_object(
 ) -> ObjectDetectability {
     let mut obj = TrialObject::new(objects, i);
     let base = obj.elements();
-    let (mut found, mut tracked, mut by_survey) = (0u64, 0u64, vec![0u64; surveys.len()]);
+    let (mut found, mut secured, mut by_survey) = (0u64, 0u64, vec![0u64; surveys.len()]);
     for k in 0..trials {
         let tid = trial_id(objects.ids[i], k, trials);
         let el = redraw.apply(&base, &mut angle_stream(seed, tid));
         let out = obj.observe(el, surveys, seed, tid, scratch);
         found += out.discovered() as u64;
-        tracked += out.surveys.iter().any(|s| s.tracked) as u64;
+        secured += out.surveys.iter().any(|s| s.secured) as u64;
         for (n, s) in by_survey.iter_mut().zip(&out.surveys) {
             *n += s.discovered as u64;
         }
@@ -110,7 +110,7 @@ fn one_object(
     ObjectDetectability {
         row: i,
         discovered: Proportion::new(found, trials),
-        tracked,
+        secured,
         by_survey,
     }
 }
@@ -154,7 +154,7 @@ pub fn write(
         col("h_mag", res.iter().map(|d| objects.h_mag[d.row]).collect::<Vec<f64>>()),
         col("trials", res.iter().map(|d| d.discovered.n).collect::<Vec<u64>>()),
         col("discovered", res.iter().map(|d| d.discovered.k).collect::<Vec<u64>>()),
-        col("secured", res.iter().map(|d| d.tracked).collect::<Vec<u64>>()),
+        col("secured", res.iter().map(|d| d.secured).collect::<Vec<u64>>()),
         col("p_discover", p(|x| x.fraction)),
         col("p_std_error", p(|x| x.std_error)),
         col("p_wilson_lo", p(|x| x.lower)),

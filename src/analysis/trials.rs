@@ -63,9 +63,9 @@ impl TrialObject {
         scratch: &mut Vec<usize>,
     ) -> ObjectOutcome {
         self.table.elements[0] = el;
-        // The verdicts (discovered, tracked) are all a trial needs.
+        // The verdicts (discovered, secured) are all a trial needs.
         let rng = object_stream(seed, trial, Purpose::Observe);
-        let modes = (Candidates::Indexed, Record::UntilTracked);
+        let modes = (Candidates::Indexed, Record::UntilSecured);
         observe_object(&self.table, 0, surveys, modes, rng, scratch)
     }
 }

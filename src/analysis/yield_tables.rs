@@ -73,10 +73,10 @@ pub fn write(
             col("bin_lo", rows.iter().map(|r| r.lo).collect::<Vec<f64>>()),
             col("bin_hi", rows.iter().map(|r| r.hi).collect::<Vec<f64>>()),
             col("n_objects", rows.iter().map(|r| r.n_objects).collect::<Vec<u64>>()),
-            col("secured", rows.iter().map(|r| r.tracked).collect::<Vec<u64>>()),
+            col("secured", rows.iter().map(|r| r.secured).collect::<Vec<u64>>()),
             col(
                 "secured_fraction",
-                rows.iter().map(|r| r.tracked_fraction).collect::<Vec<f64>>(),
+                rows.iter().map(|r| r.secured_fraction).collect::<Vec<f64>>(),
             ),
             col(
                 "ratio_to_best",

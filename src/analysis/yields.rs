@@ -1,4 +1,4 @@
-//! Cadence yields: for each survey (and for all of them together), discoveries and tracked
+//! Cadence yields: for each survey (and for all of them together), discoveries and secured
 //! objects of a population in bins of distance at discovery, H and a, with binomial errors
 //! and the ratio to the best survey in each bin — the table a survey proposal quotes.
 //!
@@ -23,7 +23,7 @@ pub const QUANTITIES: [&str; 3] = ["r_discovery_au", "h_mag", "a_au"];
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Verdict {
     discovered: bool,
-    tracked: bool,
+    secured: bool,
     r_au: f64,
 }
 
@@ -37,8 +37,8 @@ pub struct YieldRow {
     pub n_objects: u64,
     pub discovered: Proportion,
     /// Objects seen again (secured), counted and weighted.
-    pub tracked: u64,
-    pub tracked_fraction: f64,
+    pub secured: u64,
+    pub secured_fraction: f64,
     /// This survey's discovered fraction over the best single survey's in the bin.
     pub ratio_to_best: f64,
 }
@@ -50,7 +50,7 @@ fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec
         .map_init(Vec::new, |scratch, i| {
             // Verdicts and the discovery's distance are all a yield needs.
             let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, Record::UntilTracked);
+            let modes = (Candidates::Indexed, Record::UntilSecured);
             let out = observe_object(objects, i, surveys, modes, rng, scratch);
             per_survey(&out, surveys)
         })
@@ -63,14 +63,14 @@ fn per_survey(out: &ObjectOutcome, surveys: &[PreparedSurvey]) -> Vec<Verdict> {
         .iter()
         .map(|s| Verdict {
             discovered: s.discovered,
-            tracked: s.tracked,
+            secured: s.secured,
             r_au: s.discovery_event.map_or(f64::NAN, |e| out.events[e].r_au),
         })
         .collect();
     let first = out.first_discovery(|e| surveys[e.survey as usize].survey.visits.mjd[e.visit as usize]);
     v.push(Verdict {
         discovered: out.discovered(),
-        tracked: out.surveys.iter().any(|s| s.tracked),
+        secured: out.surveys.iter().any(|s| s.secured),
         r_au: first.map_or(f64::NAN, |(_, e)| out.events[e].r_au),
     });
     v
@@ -121,7 +121,7 @@ fn bin_row(
     quantity: &'static str,
 ) -> YieldRow {
     let inside = |x: f64| x >= lo && x < hi;
-    let (mut found, mut tracked) = (Tally::default(), Tally::default());
+    let (mut found, mut secured) = (Tally::default(), Tally::default());
     for (i, vi) in v.iter().enumerate() {
         let x = match q {
             0 => vi[s].r_au,
@@ -132,10 +132,10 @@ fn bin_row(
         if q == 0 || inside(x) {
             let hit = vi[s].discovered && inside(x);
             found.add(objects.weight[i], hit);
-            tracked.add(objects.weight[i], hit && vi[s].tracked);
+            secured.add(objects.weight[i], hit && vi[s].secured);
         }
     }
-    let t = tracked.proportion();
+    let t = secured.proportion();
     YieldRow {
         survey: name.into(),
         quantity,
@@ -143,8 +143,8 @@ fn bin_row(
         hi,
         n_objects: found.n,
         discovered: found.proportion(),
-        tracked: t.k,
-        tracked_fraction: t.fraction,
+        secured: t.k,
+        secured_fraction: t.fraction,
         ratio_to_best: f64::NAN,
     }
 }
@@ -161,7 +161,7 @@ fn totals_of(objects: &ObjectTable, v: &[Vec<Verdict>]) -> Vec<(Tally, Tally)> {
     for (i, vi) in v.iter().enumerate() {
         for (s, t) in out.iter_mut().enumerate() {
             t.0.add(objects.weight[i], vi[s].discovered);
-            t.1.add(objects.weight[i], vi[s].tracked);
+            t.1.add(objects.weight[i], vi[s].secured);
         }
     }
     out

@@ -1,5 +1,5 @@
-//! `seine demo`: the whole job on a built-in invented example — the fictional Cerro Seine
-//! Observatory plans a synoptic survey, an invented scattered-disk population is drawn, the
+//! `seine demo`: the whole job on a built-in invented example — the invented site Sorrel
+//! Peak plans a synoptic survey, an invented scattered-disk population is drawn, the
 //! engine runs it through the survey; the discoveries become a catalogue whose detectability,
 //! bias maps, bias-aware clustering test and comparison with two model populations are run
 //! with the tool's own commands; three revisit cadences of the same survey are compared on the
@@ -49,7 +49,7 @@ frame = "barycentric"
 a_au = { dist = "power-law", k = -1.5, lo = 50.0, hi = 500.0 }
 q_au = { dist = "uniform", lo = 30.0, hi = 45.0 }
 inc_deg = { dist = "sin-gaussian", sigma = 15.0 }
-varpi_deg = { dist = "von-mises", mean = 60.0, kappa = 2.0 }
+varpi_deg = { dist = "von-mises", mean = 150.0, kappa = 2.0 }
 node_deg = { dist = "uniform", lo = 0.0, hi = 360.0 }
 
 [photometry]
@@ -70,7 +70,7 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     let t0 = Instant::now();
-    println!("seine demo — an invented scenario: the fictional Cerro Seine Observatory\n");
+    println!("seine demo — an invented scenario: a synoptic survey from the invented site Sorrel Peak\n");
     let spec_path = plan_survey(&a.out)?;
     let survey = Survey::load(&spec_path)?;
     println!(
@@ -99,10 +99,10 @@ pub fn run(a: Args) -> Result<()> {
     let report = observe(&prepared, &objects, &a.out.join("observe"), &opts, &provenance)?;
     let s = &report.summary;
     println!(
-        "3. observe  {} discovered ({:.2}%), {} tracked; {} in-field events, {:.2} candidates per event, {:.0} objects/s",
+        "3. observe  {} discovered ({:.2}%), {} secured; {} in-field events, {:.2} candidates per event, {:.0} objects/s",
         s.n_detected,
         100.0 * s.detected_fraction,
-        s.n_tracked,
+        s.n_secured,
         s.in_field_events,
         s.candidates_per_in_field_event,
         s.objects_per_second
@@ -220,7 +220,7 @@ fn compare_cadences(out: &Path) -> Result<()> {
 
 /// The built-in plan with its revisit interval set to `every` nights (and a name saying so).
 fn cadence_variant(every: u32) -> Result<String> {
-    let (from_name, from_every) = ("name = \"Cerro Seine Synoptic Survey\"", "every_nights = 3");
+    let (from_name, from_every) = ("name = \"Sorrel Peak synoptic sweep\"", "every_nights = 3");
     if !(PLAN.contains(from_name) && PLAN.contains(from_every)) {
         return Err(Error::input("built-in plan: expected its name and `every_nights = 3`"));
     }
@@ -230,7 +230,7 @@ fn cadence_variant(every: u32) -> Result<String> {
         format!("every {every} nights")
     };
     Ok(PLAN
-        .replacen(from_name, &format!("name = \"Cerro Seine Synoptic, {when}\""), 1)
+        .replacen(from_name, &format!("name = \"Sorrel Peak synoptic, {when}\""), 1)
         .replacen(from_every, &format!("every_nights = {every}"), 1))
 }
 

@@ -26,7 +26,7 @@ mod yields;
     version,
     about = "Forward-model what a sky survey of the distant solar system would detect",
     long_about = "seine draws synthetic distant objects (or takes simulation particles), carries each \
-    one through a survey's pointing history and reports which would have been found.\n\n\
+    one through a survey's visit history and reports which would have been found.\n\n\
     Tables are CSV or Parquet by extension. Errors name the file, row or key and exit with status 2."
 )]
 pub struct Cli {

@@ -87,11 +87,11 @@ pub fn run(a: Args) -> Result<()> {
     let s = &report.summary;
     if !a.quiet {
         eprintln!(
-            "seine observe: {} objects, {} discovered ({:.2}%), {} tracked; {} in-field events, {:.2} candidates per event; {:.0} objects/s",
+            "seine observe: {} objects, {} discovered ({:.2}%), {} secured; {} in-field events, {:.2} candidates per event; {:.0} objects/s",
             s.n_objects,
             s.n_detected,
             100.0 * s.detected_fraction,
-            s.n_tracked,
+            s.n_secured,
             s.in_field_events,
             s.candidates_per_in_field_event,
             s.objects_per_second

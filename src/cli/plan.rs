@@ -3,6 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use seine::io::Provenance;
+use seine::io::spec_text::has_table;
 use seine::survey::Survey;
 use seine::survey::plan_io::{PlanOutputs, survey_coverage, write_coverage, write_plan};
 use seine::survey::planner::{PlanFile, check_passthrough, make_plan};
@@ -66,6 +67,12 @@ fn run_survey(spec: &Path, out: &Path) -> Result<()> {
 pub fn run_plan(plan_path: &Path, out: &Path, seed: Option<u64>) -> Result<PathBuf> {
     seine::io::table::Format::of(out)?;
     let text = seine::io::spec_text::read_spec_text(plan_path, "cadence plan")?;
+    if has_table(&text, "survey") && !has_table(&text, "plan") {
+        return Err(Error::input(format!(
+            "{}: this is a survey spec (it has a [survey] table), not a cadence plan; pass it with --survey",
+            plan_path.display()
+        )));
+    }
     let mut file: PlanFile = parse_toml(&text, plan_path)?;
     if let Some(s) = seed {
         file.plan.seed = s;

@@ -22,7 +22,7 @@ pub struct SurveyOutcome {
     pub n_detected: u32,
     pub n_nights: u32,
     pub discovered: bool,
-    pub tracked: bool,
+    pub secured: bool,
     /// Index into the object's events of the detection that completed discovery.
     pub discovery_event: Option<usize>,
 }

@@ -3,7 +3,7 @@
 //!
 //! Random draws: from the object's stream, one uniform for the light-curve phase, then one
 //! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
-//! two uniforms per in-field event in visit order, the first against the fill factor and the
+//! two uniforms per in-field event in visit order, the first against the live fraction and the
 //! second against p_detect. A survey's draws depend only on its own in-field set, so any
 //! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
 //! no other survey's draws.
@@ -27,11 +27,11 @@ pub enum Record {
     #[default]
     Everything,
     /// Each survey only until its verdict is settled: up to the detection that makes the
-    /// object tracked (or to the end, if it never is), and not at all where `reach` proves
-    /// the survey cannot detect the object. `discovered`, `tracked` and the discovery are
+    /// object secured (or to the end, if it never is), and not at all where `reach` proves
+    /// the survey cannot detect the object. `discovered`, `secured` and the discovery are
     /// exact; the counts cover only the events worked out.
-    UntilTracked,
-    /// As `UntilTracked`, but each survey stops at the discovery: `tracked` is not worked
+    UntilSecured,
+    /// As `UntilSecured`, but each survey stops at the discovery: `secured` is not worked
     /// out (false). For analyses that need only who discovered what, and when.
     UntilDiscovery,
 }
@@ -71,7 +71,7 @@ pub fn observe_object(
             let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
                 continue;
             };
-            let fill_ok = draws.random::<f64>() < ps.survey.fill_factor;
+            let fill_ok = draws.random::<f64>() < ps.survey.live_fraction;
             let det_ok = draws.random::<f64>() < ev.p_detect;
             ev.detected = fill_ok && det_ok;
             out.events.push(ev);
@@ -141,8 +141,8 @@ fn settled(ps: &PreparedSurvey, record: Record, dets: &[Detection], discovered_m
     match (record, *discovered_mjd) {
         (Record::Everything, _) => false,
         (Record::UntilDiscovery, _) => rules.discovers_at_last(dets),
-        (Record::UntilTracked, Some(t)) => last - t >= rules.track_after_days,
-        (Record::UntilTracked, None) => {
+        (Record::UntilSecured, Some(t)) => last - t >= rules.secure_after_days,
+        (Record::UntilSecured, None) => {
             if rules.discovers_at_last(dets) {
                 *discovered_mjd = Some(last);
             }
@@ -179,7 +179,7 @@ fn link_survey(ps: &PreparedSurvey, dets: &[Detection], events: &[Event], offset
         n_detected: dets.len() as u32,
         n_nights: link.n_nights as u32,
         discovered: link.discovered,
-        tracked: link.tracked,
+        secured: link.secured,
         discovery_event,
     }
 }

@@ -50,16 +50,16 @@ impl Reach {
             (Some(&t0), Some(&t1)) => (t0, t1),
             _ => (f64::NAN, f64::NAN),
         };
-        // The deepest visit of each efficiency block, then that block's model once.
-        let mut deepest = vec![f64::NEG_INFINITY; v.block_names.len().max(1)];
-        for (&b, &d) in v.block.iter().zip(&v.depth_mag) {
+        // The deepest visit of each efficiency class, then that class's model once.
+        let mut deepest = vec![f64::NEG_INFINITY; v.class_names.len().max(1)];
+        for (&b, &d) in v.efficiency_class.iter().zip(&v.depth_mag) {
             deepest[b as usize] = deepest[b as usize].max(d);
         }
         let zero_beyond_mag = deepest
             .iter()
             .enumerate()
             .filter(|(_, d)| d.is_finite())
-            .map(|(b, d)| d + survey.efficiency.for_block(b as u16).zero_beyond_dm())
+            .map(|(b, d)| d + survey.efficiency.for_class(b as u16).zero_beyond_dm())
             .fold(f64::NEG_INFINITY, f64::max);
         let mut used = vec![false; v.band_names.len()];
         v.band.iter().for_each(|&b| used[b as usize] = true);
@@ -73,7 +73,7 @@ impl Reach {
         Reach {
             mid_tdb: 0.5 * (t0 + t1),
             half_span_days: 0.5 * (t1 - t0),
-            min_rate_arcsec_per_hr: survey.motion.min_rate,
+            min_rate_arcsec_per_hr: survey.motion.min_rate_arcsec_per_hr,
             zero_beyond_mag,
             other_bands,
         }
@@ -88,8 +88,8 @@ impl Reach {
         let Some(delta_min) = self.nearest_au(orbit, v_obj) else {
             return true;
         };
-        let max_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
-        if max_rate < self.min_rate_arcsec_per_hr {
+        let max_reachable_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
+        if max_reachable_rate < self.min_rate_arcsec_per_hr {
             return false;
         }
         self.brightest_mag(objects, i, delta_min) < self.zero_beyond_mag

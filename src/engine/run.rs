@@ -356,9 +356,9 @@ fn objects_frame(
             outs.iter().map(|o| o.discovered()).collect::<Vec<bool>>(),
         ),
         Column::new(
-            "tracked".into(),
+            "secured".into(),
             outs.iter()
-                .map(|o| o.surveys.iter().any(|s| s.tracked))
+                .map(|o| o.surveys.iter().any(|s| s.secured))
                 .collect::<Vec<bool>>(),
         ),
         Column::new("n_in_field".into(), sum(&|s| s.n_in_field)),
@@ -398,8 +398,8 @@ fn objects_frame(
             outs.iter().map(|o| o.surveys[s].discovered).collect::<Vec<bool>>(),
         ));
         cols.push(Column::new(
-            format!("tracked_{key}").into(),
-            outs.iter().map(|o| o.surveys[s].tracked).collect::<Vec<bool>>(),
+            format!("secured_{key}").into(),
+            outs.iter().map(|o| o.surveys[s].secured).collect::<Vec<bool>>(),
         ));
     }
     for c in cols {

@@ -63,7 +63,7 @@ pub struct SurveySummary {
     pub name: String,
     pub n_visits: usize,
     pub discovered: u64,
-    pub tracked: u64,
+    pub secured: u64,
     pub in_field_events: u64,
 }
 
@@ -71,7 +71,7 @@ pub struct SurveySummary {
 pub struct Summary {
     pub n_objects: u64,
     pub n_detected: u64,
-    pub n_tracked: u64,
+    pub n_secured: u64,
     pub detected_fraction: f64,
     pub weighted_detected_fraction: f64,
     pub surveys: Vec<SurveySummary>,
@@ -106,7 +106,7 @@ impl Summary {
         Summary {
             n_objects: 0,
             n_detected: 0,
-            n_tracked: 0,
+            n_secured: 0,
             detected_fraction: 0.0,
             weighted_detected_fraction: 0.0,
             surveys: surveys
@@ -115,7 +115,7 @@ impl Summary {
                     name: s.survey.name.clone(),
                     n_visits: s.len(),
                     discovered: 0,
-                    tracked: 0,
+                    secured: 0,
                     in_field_events: 0,
                 })
                 .collect(),
@@ -143,7 +143,7 @@ impl Summary {
             let (det, w) = (o.discovered(), objects.weight[i]);
             self.n_objects += 1;
             self.n_detected += det as u64;
-            self.n_tracked += o.surveys.iter().any(|s| s.tracked) as u64;
+            self.n_secured += o.surveys.iter().any(|s| s.secured) as u64;
             self.weight_total += w;
             self.weight_detected += if det { w } else { 0.0 };
             self.candidates_evaluated += o.candidates;
@@ -158,7 +158,7 @@ impl Summary {
             }
             for (s, so) in self.surveys.iter_mut().zip(&o.surveys) {
                 s.discovered += so.discovered as u64;
-                s.tracked += so.tracked as u64;
+                s.secured += so.secured as u64;
                 s.in_field_events += so.n_in_field as u64;
             }
         }
@@ -179,7 +179,7 @@ impl Summary {
         }
         self.n_objects += o.n_objects;
         self.n_detected += o.n_detected;
-        self.n_tracked += o.n_tracked;
+        self.n_secured += o.n_secured;
         self.weight_total += o.weight_total;
         self.weight_detected += o.weight_detected;
         self.candidates_evaluated += o.candidates_evaluated;
@@ -187,7 +187,7 @@ impl Summary {
         self.elapsed_s += o.elapsed_s;
         for (a, b) in self.surveys.iter_mut().zip(&o.surveys) {
             a.discovered += b.discovered;
-            a.tracked += b.tracked;
+            a.secured += b.secured;
             a.in_field_events += b.in_field_events;
         }
         for (a, b) in self.bins.iter_mut().zip(&o.bins) {

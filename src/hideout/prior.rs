@@ -3,8 +3,8 @@
 //!
 //! H from size: D √p = K 10^(−H/5), K = 2 au 10^(V_sun/5) ≈ 1329 km with V_sun = −26.762
 //! (derivation in Pravec & Harris 2007, Icarus 190, 250, appendix A; volume and page from
-//! memory). Checked in tests/hideout.rs against the MPC's table "Conversion of Absolute
-//! Magnitude to Diameter" and the worked example D = 1329 km, p = 1 → H = 0.
+//! memory). Checked in tests/hideout.rs against the standard tabulation of absolute magnitude
+//! against diameter (values from memory) and the worked example D = 1329 km, p = 1 → H = 0.
 
 use std::ops::Range;
 use std::path::{Path, PathBuf};

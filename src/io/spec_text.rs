@@ -29,6 +29,13 @@ pub fn parse_toml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Re
     toml::from_str(text).map_err(|e| toml_error(path, text, e))
 }
 
+/// Whether the TOML text has a top-level table `name` (false when it is not TOML at all): tells
+/// one kind of spec from another before the parse that would only list unknown keys.
+pub fn has_table(text: &str, name: &str) -> bool {
+    text.parse::<toml::Table>()
+        .is_ok_and(|t| t.get(name).is_some_and(toml::Value::is_table))
+}
+
 /// The candidate closest to `found` by edit distance, if it is close enough to be a typo,
 /// or else a candidate that extends it (a key given without its unit: `radius` → `radius_deg`).
 pub fn nearest<'a>(found: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
@@ -71,7 +78,29 @@ fn line_column(text: &str, offset: usize) -> (usize, usize) {
     (line, column)
 }
 
-/// "unknown field `x`, expected one of `a`, `b`" → "; did you mean `a`?" when one is close.
+/// Keys and values of the specs that were renamed: (old, new). A file that still uses an old
+/// name is refused with a hint naming the new one.
+pub const RENAMED: [(&str, &str); 8] = [
+    ("blocks", "classes"),
+    ("double-tanh", "tanh-product"),
+    ("w1_mag", "fall_width_mag"),
+    ("w2_mag", "tail_width_mag"),
+    ("fill_factor", "live_fraction"),
+    ("min_rate", "min_rate_arcsec_per_hr"),
+    ("max_rate", "max_rate_arcsec_per_hr"),
+    ("track_after_days", "secure_after_days"),
+];
+
+/// "; `OLD` was renamed `NEW`" when `found` is a renamed key or value, else "".
+pub fn renamed_hint(found: &str) -> String {
+    RENAMED
+        .iter()
+        .find(|(old, _)| *old == found)
+        .map_or(String::new(), |(old, new)| format!("; `{old}` was renamed `{new}`"))
+}
+
+/// "unknown field `x`, expected one of `a`, `b`" → "; did you mean `a`?" when one is close,
+/// or "; `x` was renamed `a`" when `x` is a former name.
 fn nearest_key_hint(message: &str) -> String {
     if !(message.starts_with("unknown field") || message.starts_with("unknown variant")) {
         return String::new();
@@ -80,6 +109,10 @@ fn nearest_key_hint(message: &str) -> String {
     let Some((found, options)) = quoted.split_first() else {
         return String::new();
     };
+    let renamed = renamed_hint(found);
+    if !renamed.is_empty() {
+        return renamed;
+    }
     nearest(found, options.iter().copied()).map_or(String::new(), |o| format!("; did you mean `{o}`?"))
 }
 

@@ -21,7 +21,7 @@ use crate::rng::{Purpose, object_stream, run_stream};
 pub const CHUNK: usize = 1 << 18;
 /// Objects per parallel task inside a chunk.
 const TASK: usize = 1 << 13;
-/// Acceptance below this is an error (issue 3).
+/// Acceptance below this is an error: the constraints reject nearly everything.
 pub const MIN_ACCEPTANCE: f64 = 1e-6;
 /// Pilot: stop after this many accepted draws, or this many attempts.
 const PILOT_ACCEPTED: u64 = 2000;

@@ -82,7 +82,7 @@ fn overview(dir: &Path, inp: &Inputs) -> Section {
         caption: "Observe runs: objects carried through the surveys and what was found (fraction \
                   weighted by the objects' weights)."
             .into(),
-        header: ["run", "objects", "discovered", "fraction", "tracked", "surveys"]
+        header: ["run", "objects", "discovered", "fraction", "secured", "surveys"]
             .map(String::from)
             .to_vec(),
         rows: Vec::new(),
@@ -100,7 +100,7 @@ fn overview(dir: &Path, inp: &Inputs) -> Section {
             n.to_string(),
             k.to_string(),
             pct(&run_fraction(r)),
-            s["n_tracked"].as_u64().unwrap_or(0).to_string(),
+            s["n_secured"].as_u64().unwrap_or(0).to_string(),
             names.join(", "),
         ]);
     }

@@ -4,8 +4,9 @@ use crate::orbit::constants::{ARCSEC, TAU};
 use nalgebra::{Matrix3, Vector3};
 
 /// Obliquity of the ecliptic at J2000 used with ecliptic orbital elements: 84381.448″
-/// (IAU 1976), the value of the JPL "ecliptic and mean equinox of J2000" frame. IAU 2006
-/// gives 84381.406″; the 0.042″ difference moves no position by more than that.
+/// (IAU 1976; Lieske et al. 1977, A&A 58, 1, from memory), the obliquity of the usual "ecliptic and mean
+/// equinox of J2000" frame of orbital elements. IAU 2006 gives 84381.406″; the 0.042″
+/// difference moves no position by more than that.
 pub const OBLIQUITY_J2000: f64 = 84381.448 * ARCSEC;
 
 /// Rotate a vector from ecliptic J2000 axes to ICRS axes (rotation about x by ε).
@@ -54,8 +55,8 @@ pub fn separation(a: &Vector3<f64>, b: &Vector3<f64>) -> f64 {
     a.cross(b).norm().atan2(a.dot(b))
 }
 
-/// ICRS → galactic rotation, the matrix A_G of the Hipparcos catalogue (ESA 1997, vol. 1,
-/// §1.5.3; from memory, checked against the galactic centre and pole in the tests).
+/// ICRS → galactic rotation, the matrix A_G of ESA 1997, SP-1200, vol. 1, §1.5.3 (from
+/// memory, checked against the galactic centre and pole in the tests).
 pub fn icrs_to_galactic_matrix() -> Matrix3<f64> {
     Matrix3::new(
         -0.054_875_560_4,
@@ -81,7 +82,7 @@ mod tests {
 
     #[test]
     fn ecliptic_equatorial_handbook_example() {
-        // Meeus, Astronomical Algorithms (2nd ed.), example 13.a (Pollux), from memory:
+        // Meeus, Astronomical Algorithms (2nd ed.), example 13.a, from memory:
         // α = 116.328942°, δ = +28.026183° gives λ = 113.215630°, β = +6.684170° with
         // ε = 23.4392911° (J2000, IAU 1976 = 84381.448″).
         let (l, b) = radec_to_ecliptic(116.328942f64.to_radians(), 28.026183f64.to_radians());
@@ -94,7 +95,7 @@ mod tests {
 
     #[test]
     fn galactic_centre_and_pole() {
-        // Hipparcos definition (ESA 1997): the north galactic pole is at ICRS
+        // ESA 1997, SP-1200, vol. 1, §1.5.3: the north galactic pole is at ICRS
         // α = 192.85948°, δ = +27.12825°; the galactic centre (l = b = 0) at
         // α = 266.40499°, δ = −28.93617° (from memory).
         let (_, b) = radec_to_galactic(192.85948f64.to_radians(), 27.12825f64.to_radians());

@@ -1,4 +1,4 @@
-//! The coverage report of a pointing history: sky area covered against ecliptic latitude,
+//! The coverage report of a visit history: sky area covered against ecliptic latitude,
 //! visits per field, nights used and time used per night, the depth distribution, and the
 //! covered sky as an IVOA MOC.
 //!

@@ -3,9 +3,11 @@
 //! By contract `depth_mag` is the magnitude at which the efficiency is half its peak.
 //! * step: η = peak for m < depth, 0 otherwise.
 //! * logistic: η = peak / (1 + exp((m − depth)/width_mag)).
-//! * double tanh (the form used to characterize TNO surveys with implanted sources):
-//!   η = peak/4 · (1 − tanh((m − m_c)/w1)) · (1 − tanh((m − m_c)/w2)), with m_c placed once per
-//!   model so that η(depth) = peak/2.
+//! * tanh-product (a published form for efficiencies measured with implanted moving sources;
+//!   the source is in methods.md): η = peak/4 · (1 − tanh((m − m_c)/w_f)) · (1 − tanh((m − m_c)/w_t))
+//!   with w_f = `fall_width_mag`, w_t = `tail_width_mag`. At its centre m_c the efficiency is
+//!   peak/4, not peak/2, so m_c is not the depth: m_c = depth + Δ, with Δ > 0 solved once per
+//!   model from (1 + tanh(Δ/w_f))(1 + tanh(Δ/w_t)) = 2, so that η(depth) = peak/2.
 //! * table: η at (m − depth, rate), bilinear, clamped at the edges of the grid.
 //! * A probability below 2⁻⁵³ is taken as zero. The engine's uniform draws are multiples of
 //!   2⁻⁵³, so such a probability would succeed only on a draw of exactly 0; taking it as zero
@@ -46,11 +48,11 @@ pub enum Shape {
     Logistic {
         width_mag: f64,
     },
-    /// `offset` = m_c − depth, solved once so that η(depth) = peak/2.
-    DoubleTanh {
-        w1: f64,
-        w2: f64,
-        offset: f64,
+    /// `centre_offset_mag` = m_c − depth (> 0), solved once so that η(depth) = peak/2.
+    TanhProduct {
+        fall_width_mag: f64,
+        tail_width_mag: f64,
+        centre_offset_mag: f64,
     },
     /// `eta[i][j]` at (`dm[i]`, `rates[j]`), both axes ascending.
     Table {
@@ -68,20 +70,21 @@ pub struct Efficiency {
 }
 
 impl Shape {
-    /// A double-tanh shape with its centre placed so that η(depth) = peak/2.
-    pub fn double_tanh(w1: f64, w2: f64) -> Shape {
-        // g(u) = (1 − tanh(−u/w1))(1 − tanh(−u/w2)) with u = m_c − depth rises from 1 (u = 0) toward 4;
-        // bisect g(u) = 2 on u in [0, 50 max(w)].
-        let g = |u: f64| (1.0 + (u / w1).tanh()) * (1.0 + (u / w2).tanh());
-        let (mut lo, mut hi) = (0.0, 50.0 * w1.max(w2));
+    /// A tanh-product shape with its centre placed so that η(depth) = peak/2.
+    pub fn tanh_product(fall_width_mag: f64, tail_width_mag: f64) -> Shape {
+        // g(u) = (1 − tanh(−u/w_f))(1 − tanh(−u/w_t)) with u = m_c − depth rises from 1 (u = 0)
+        // toward 4; bisect g(u) = 2 on u in [0, 50 max(w)].
+        let (wf, wt) = (fall_width_mag, tail_width_mag);
+        let g = |u: f64| (1.0 + (u / wf).tanh()) * (1.0 + (u / wt).tanh());
+        let (mut lo, mut hi) = (0.0, 50.0 * wf.max(wt));
         for _ in 0..200 {
             let m = 0.5 * (lo + hi);
             if g(m) < 2.0 { lo = m } else { hi = m }
         }
-        Shape::DoubleTanh {
-            w1,
-            w2,
-            offset: 0.5 * (lo + hi),
+        Shape::TanhProduct {
+            fall_width_mag,
+            tail_width_mag,
+            centre_offset_mag: 0.5 * (lo + hi),
         }
     }
 }
@@ -99,9 +102,13 @@ impl Efficiency {
                 }
             }
             Shape::Logistic { width_mag } => self.peak / (1.0 + (dm / width_mag).exp()),
-            Shape::DoubleTanh { w1, w2, offset } => {
-                let u = dm - offset;
-                0.25 * self.peak * (1.0 - (u / w1).tanh()) * (1.0 - (u / w2).tanh())
+            Shape::TanhProduct {
+                fall_width_mag: wf,
+                tail_width_mag: wt,
+                centre_offset_mag,
+            } => {
+                let u = dm - centre_offset_mag;
+                0.25 * self.peak * (1.0 - (u / wf).tanh()) * (1.0 - (u / wt).tanh())
             }
             Shape::Table { dm: xs, rates, eta } => bilinear(xs, rates, eta, dm, rate),
         }
@@ -132,7 +139,7 @@ impl Efficiency {
                     0.0
                 }
             }
-            Shape::Logistic { .. } | Shape::DoubleTanh { .. } => {
+            Shape::Logistic { .. } | Shape::TanhProduct { .. } => {
                 // Both fall monotonically with dm: bracket the crossing, then bisect.
                 if negligible(-1.0e4) {
                     return f64::NEG_INFINITY;
@@ -187,18 +194,18 @@ fn bilinear(xs: &[f64], ys: &[f64], v: &[Vec<f64>], x: f64, y: f64) -> f64 {
     lo * (1.0 - tx) + hi * tx
 }
 
-/// The default efficiency plus per-block overrides, indexed by `Visits::block`.
+/// The default efficiency plus per-class overrides, indexed by `Visits::efficiency_class`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct EfficiencyModel {
     pub default: Efficiency,
-    /// One entry per `Visits::block_names` entry: `None` uses the default.
-    pub blocks: Vec<Option<Efficiency>>,
+    /// One entry per `Visits::class_names` entry: `None` uses the default.
+    pub classes: Vec<Option<Efficiency>>,
 }
 
 impl EfficiencyModel {
-    pub fn for_block(&self, block: u16) -> &Efficiency {
-        self.blocks
-            .get(block as usize)
+    pub fn for_class(&self, class: u16) -> &Efficiency {
+        self.classes
+            .get(class as usize)
             .and_then(|b| b.as_ref())
             .unwrap_or(&self.default)
     }
@@ -213,7 +220,7 @@ mod tests {
         let shapes = [
             Shape::Step,
             Shape::Logistic { width_mag: 0.3 },
-            Shape::double_tanh(0.15, 0.45),
+            Shape::tanh_product(0.15, 0.45),
             Shape::Table {
                 dm: vec![-1.0, 0.0, 1.0, 2.0],
                 rates: vec![0.0, 10.0],
@@ -257,16 +264,23 @@ mod tests {
             trailing: Trailing::NONE,
         };
         assert!((lg.eta(24.0, 24.0, 0.0) - 0.45).abs() < 1e-12);
-        let dt = Efficiency {
-            shape: Shape::double_tanh(0.2, 0.6),
+        let tp = Efficiency {
+            shape: Shape::tanh_product(0.2, 0.6),
             peak: 0.8,
             trailing: Trailing::NONE,
         };
-        assert!((dt.eta(24.0, 24.0, 0.0) - 0.4).abs() < 1e-9);
+        assert!((tp.eta(24.0, 24.0, 0.0) - 0.4).abs() < 1e-9);
+        // At its centre m_c = depth + Δ the published form gives a quarter of the peak.
+        let Shape::TanhProduct { centre_offset_mag, .. } = tp.shape else {
+            unreachable!()
+        };
+        assert!(centre_offset_mag > 0.0);
+        assert!((tp.eta(24.0 + centre_offset_mag, 24.0, 0.0) - 0.2).abs() < 1e-9);
         // Equal widths have the closed form m_c − depth = w·atanh(√2 − 1).
-        if let Shape::DoubleTanh { offset, .. } = Shape::double_tanh(0.3, 0.3) {
-            assert!((offset - 0.3 * (2f64.sqrt() - 1.0).atanh()).abs() < 1e-9);
-        }
+        let Shape::TanhProduct { centre_offset_mag, .. } = Shape::tanh_product(0.3, 0.3) else {
+            unreachable!()
+        };
+        assert!((centre_offset_mag - 0.3 * (2f64.sqrt() - 1.0).atanh()).abs() < 1e-9);
     }
 
     #[test]

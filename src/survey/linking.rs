@@ -7,7 +7,7 @@
 //!   least that much (the separation of the earliest and the latest detection of the set),
 //!   so that very slow movers count only once their motion is resolved. The discovery is the
 //!   earliest detection at which the rule is satisfied.
-//! * Tracked: discovered and detected again ≥ `track_after_days` after the discovery (default
+//! * Secured: discovered and detected again ≥ `secure_after_days` after the discovery (default
 //!   365 days, about one opposition later: common practice, no source).
 
 use serde::{Deserialize, Serialize};
@@ -22,7 +22,7 @@ pub struct LinkingRules {
     pub min_nights: usize,
     pub window_days: f64,
     pub min_arc_arcsec: f64,
-    pub track_after_days: f64,
+    pub secure_after_days: f64,
 }
 
 impl Default for LinkingRules {
@@ -33,7 +33,7 @@ impl Default for LinkingRules {
             min_nights: 1,
             window_days: 3650.0,
             min_arc_arcsec: 0.0,
-            track_after_days: 365.0,
+            secure_after_days: 365.0,
         }
     }
 }
@@ -55,7 +55,7 @@ pub struct LinkOutcome {
     /// Distinct nights with at least one detection.
     pub n_nights: usize,
     pub n_tracklet_nights: usize,
-    pub tracked: bool,
+    pub secured: bool,
 }
 
 /// One night's detections: the index of the first and the index at which its tracklet completes.
@@ -74,7 +74,7 @@ impl LinkingRules {
             ("min_tracklet_span_min", self.min_tracklet_span_min),
             ("window_days", self.window_days),
             ("min_arc_arcsec", self.min_arc_arcsec),
-            ("track_after_days", self.track_after_days),
+            ("secure_after_days", self.secure_after_days),
         ];
         checks
             .iter()
@@ -116,13 +116,14 @@ impl LinkingRules {
         };
         let tracklets: Vec<&Night> = nights.iter().filter(|n| n.complete_at.is_some()).collect();
         let discovery = self.discovery(dets, &tracklets);
-        let tracked = discovery.is_some_and(|k| dets[k..].iter().any(|d| d.mjd - dets[k].mjd >= self.track_after_days));
+        let secured =
+            discovery.is_some_and(|k| dets[k..].iter().any(|d| d.mjd - dets[k].mjd >= self.secure_after_days));
         LinkOutcome {
             discovered: discovery.is_some(),
             discovery,
             n_nights,
             n_tracklet_nights: tracklets.len(),
-            tracked,
+            secured,
         }
     }
 
@@ -231,16 +232,16 @@ mod tests {
     }
 
     #[test]
-    fn tracked_after_a_year() {
+    fn secured_after_a_year() {
         let d = [det(0, 0, 0.6, 0.0), det(1, 400, 400.6, 0.0)];
         let o = rules(1, 0.0, 1, 10.0).link(&d);
-        assert!(o.tracked);
+        assert!(o.secured);
         let o = LinkingRules {
-            track_after_days: 500.0,
+            secure_after_days: 500.0,
             ..rules(1, 0.0, 1, 10.0)
         }
         .link(&d);
-        assert!(o.discovered && !o.tracked);
-        assert!(!rules(2, 0.0, 1, 10.0).link(&d).tracked);
+        assert!(o.discovered && !o.secured);
+        assert!(!rules(2, 0.0, 1, 10.0).link(&d).secured);
     }
 }

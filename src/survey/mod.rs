@@ -19,6 +19,7 @@ pub use spec::RateWindow;
 pub use visits::Visits;
 
 use crate::error::{Error, Result};
+use crate::io::spec_text;
 use crate::sky::observer::Site;
 use crate::time::TimeScale;
 
@@ -34,7 +35,7 @@ pub struct Survey {
     pub visits: Visits,
     pub footprint: Footprint,
     /// Fraction of the footprint that is live detector (1 for a mosaic, whose gaps are explicit).
-    pub fill_factor: f64,
+    pub live_fraction: f64,
     pub efficiency: EfficiencyModel,
     pub motion: RateWindow,
     pub linking: LinkingRules,
@@ -43,28 +44,39 @@ pub struct Survey {
 impl Survey {
     /// Read a survey spec and its visits table (the path relative to the spec file).
     pub fn load(spec_path: &Path) -> Result<Survey> {
-        let text = crate::io::spec_text::read_spec_text(spec_path, "survey spec")?;
+        let text = spec_text::read_spec_text(spec_path, "survey spec")?;
+        if spec_text::has_table(&text, "plan") && !spec_text::has_table(&text, "survey") {
+            return Err(Error::input(format!(
+                "{p}: this is a cadence plan (it has a [plan] table), not a survey spec; make the \
+                 survey spec and its visits with `seine plan --plan {p} --out VISITS.parquet` and \
+                 pass the spec it writes (VISITS.survey.toml)",
+                p = spec_path.display()
+            )));
+        }
         let spec: spec::SpecFile = spec::parse_toml(&text, spec_path)?;
-        Self::from_spec(spec, spec_path)
+        Self::from_spec(spec, spec_path, &text)
     }
 
-    fn from_spec(spec: spec::SpecFile, spec_path: &Path) -> Result<Survey> {
+    fn from_spec(spec: spec::SpecFile, spec_path: &Path, text: &str) -> Result<Survey> {
         let in_spec = |e: Error| match e {
             Error::Input(m) => Error::input(format!("{}: {m}", spec_path.display())),
             other => other,
         };
-        let (footprint, fill_factor, default, blocks) = Self::check_keys(&spec).map_err(in_spec)?;
+        let (footprint, live_fraction, default, classes) = Self::check_keys(&spec).map_err(in_spec)?;
         let dir = spec_path.parent().unwrap_or(Path::new(""));
         let visits_path = dir.join(&spec.survey.visits);
+        if !visits_path.exists() {
+            return Err(in_spec(Error::input(missing_visits(&visits_path, dir, text))));
+        }
         let visits = Visits::read(&visits_path, spec.survey.time_scale, spec.site.as_ref())?;
-        if let Some(unused) = blocks.keys().find(|k| !visits.block_names.contains(k)) {
+        if let Some(unused) = classes.keys().find(|k| !visits.class_names.contains(k)) {
             return Err(in_spec(Error::input(format!(
-                "efficiency.blocks.{unused}: no visit has block `{unused}` (blocks in {}: {})",
+                "efficiency.classes.{unused}: no visit has efficiency class `{unused}` (classes in {}: {})",
                 visits_path.display(),
-                visits.block_names.join(", ")
+                visits.class_names.join(", ")
             ))));
         }
-        let per_block = visits.block_names.iter().map(|n| blocks.get(n).cloned()).collect();
+        let per_class = visits.class_names.iter().map(|n| classes.get(n).cloned()).collect();
         Ok(Survey {
             name: spec.survey.name,
             spec_path: spec_path.to_path_buf(),
@@ -74,10 +86,10 @@ impl Survey {
             reference_band: spec.survey.reference_band,
             visits,
             footprint,
-            fill_factor,
+            live_fraction,
             efficiency: EfficiencyModel {
                 default,
-                blocks: per_block,
+                classes: per_class,
             },
             motion: spec.motion,
             linking: spec.linking,
@@ -97,29 +109,32 @@ impl Survey {
         if let Some(p) = spec.site.as_ref().and_then(Site::problem) {
             return Err(Error::input(p));
         }
-        let (footprint, fill_factor) = spec.field.footprint()?;
+        let (footprint, live_fraction) = spec.field.footprint()?;
         let m = spec.motion;
-        if !(m.min_rate >= 0.0 && m.max_rate >= m.min_rate && m.max_rate.is_finite()) {
+        if !(m.min_rate_arcsec_per_hr >= 0.0
+            && m.max_rate_arcsec_per_hr >= m.min_rate_arcsec_per_hr
+            && m.max_rate_arcsec_per_hr.is_finite())
+        {
             return Err(Error::input(format!(
-                "motion: expected 0 ≤ min_rate ≤ max_rate (arcsec per hour), found {} and {}",
-                m.min_rate, m.max_rate
+                "motion: expected 0 ≤ min_rate_arcsec_per_hr ≤ max_rate_arcsec_per_hr (arcsec per hour), found {} and {}",
+                m.min_rate_arcsec_per_hr, m.max_rate_arcsec_per_hr
             )));
         }
         if let Some(p) = spec.linking.problem() {
             return Err(Error::input(p));
         }
-        let (default, blocks) = spec.efficiency.build_all()?;
-        Ok((footprint, fill_factor, default, blocks))
+        let (default, classes) = spec.efficiency.build_all()?;
+        Ok((footprint, live_fraction, default, classes))
     }
 
     /// Detection probability at one visit: 0 outside the rate window; otherwise the visit's
-    /// (or its block's) efficiency at the magnitude plus the trailing loss.
+    /// (or its efficiency class's) efficiency at the magnitude plus the trailing loss.
     pub fn p_detect(&self, visit: usize, mag: f64, rate_arcsec_per_hr: f64) -> f64 {
         if !self.motion.contains(rate_arcsec_per_hr) {
             return 0.0;
         }
         let v = &self.visits;
-        self.efficiency.for_block(v.block[visit]).p(
+        self.efficiency.for_class(v.efficiency_class[visit]).p(
             mag,
             v.depth_mag[visit],
             rate_arcsec_per_hr,
@@ -127,4 +142,28 @@ impl Survey {
             v.seeing_arcsec[visit],
         )
     }
+}
+
+/// The message for a survey spec whose visits table is missing: the command that makes it,
+/// from the spec's own header when `seine plan` wrote it.
+fn missing_visits(visits_path: &Path, dir: &Path, text: &str) -> String {
+    let stated = text.lines().take_while(|l| l.starts_with('#')).find_map(|l| {
+        l.split_once("Regenerate it and its visits with:")
+            .map(|(_, c)| c.trim())
+    });
+    let run_in = if dir.as_os_str().is_empty() {
+        String::new()
+    } else {
+        format!(" (run in {})", dir.display())
+    };
+    let how = match stated {
+        Some(cmd) => format!("make it with `{cmd}`{run_in}"),
+        None => "if a cadence plan describes the survey, make the visits and a spec with \
+                 `seine plan --plan PLAN.toml --out VISITS.parquet`"
+            .to_string(),
+    };
+    format!(
+        "survey.visits: the visits table {} does not exist; {how}",
+        visits_path.display()
+    )
 }

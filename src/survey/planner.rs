@@ -661,8 +661,10 @@ pub fn check_passthrough(file: &PlanFile) -> Result<(Efficiency, BTreeMap<String
         return Err(Error::input(p));
     }
     let m = file.motion;
-    if !(m.min_rate >= 0.0 && m.max_rate >= m.min_rate) {
-        return Err(Error::input("motion: expected 0 ≤ min_rate ≤ max_rate"));
+    if !(m.min_rate_arcsec_per_hr >= 0.0 && m.max_rate_arcsec_per_hr >= m.min_rate_arcsec_per_hr) {
+        return Err(Error::input(
+            "motion: expected 0 ≤ min_rate_arcsec_per_hr ≤ max_rate_arcsec_per_hr",
+        ));
     }
     file.efficiency.build_all()
 }

@@ -57,37 +57,37 @@ pub struct FieldSpec {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub chips: Option<Vec<Vec<[f64; 2]>>>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub fill_factor: Option<f64>,
+    pub live_fraction: Option<f64>,
 }
 
 /// Rates (arcsec per hour) the search can find.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
 pub struct RateWindow {
-    pub min_rate: f64,
-    pub max_rate: f64,
+    pub min_rate_arcsec_per_hr: f64,
+    pub max_rate_arcsec_per_hr: f64,
 }
 
 impl Default for RateWindow {
     fn default() -> Self {
         RateWindow {
-            min_rate: 0.0,
-            max_rate: 1000.0,
+            min_rate_arcsec_per_hr: 0.0,
+            max_rate_arcsec_per_hr: 1000.0,
         }
     }
 }
 
 impl RateWindow {
     pub fn contains(&self, rate: f64) -> bool {
-        rate >= self.min_rate && rate <= self.max_rate
+        rate >= self.min_rate_arcsec_per_hr && rate <= self.max_rate_arcsec_per_hr
     }
 }
 
-/// `[efficiency]` and each `[efficiency.blocks.NAME]`: a block's absent keys take the default's values.
+/// `[efficiency]` and each `[efficiency.classes.NAME]`: a class's absent keys take the default's values.
 #[derive(Debug, Clone, Default, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct EfficiencySpec {
-    /// step | logistic | double-tanh | table
+    /// step | logistic | tanh-product | table
     #[serde(skip_serializing_if = "Option::is_none")]
     pub model: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -95,9 +95,9 @@ pub struct EfficiencySpec {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub width_mag: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub w1_mag: Option<f64>,
+    pub fall_width_mag: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub w2_mag: Option<f64>,
+    pub tail_width_mag: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub dm: Option<Vec<f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -112,7 +112,7 @@ pub struct EfficiencySpec {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub trailing_b: Option<f64>,
     #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
-    pub blocks: BTreeMap<String, EfficiencySpec>,
+    pub classes: BTreeMap<String, EfficiencySpec>,
 }
 
 /// Parse TOML text into `T`: the one spec parser of the project (file, line, column, key, hint).
@@ -136,9 +136,9 @@ impl FieldSpec {
                     .chips
                     .as_ref()
                     .ok_or_else(|| Error::input("field.chips: required for shape = \"mosaic\""))?;
-                if self.fill_factor.is_some_and(|f| f != 1.0) {
+                if self.live_fraction.is_some_and(|f| f != 1.0) {
                     return Err(Error::input(
-                        "field.fill_factor: a mosaic's chip gaps already set its fill; leave fill_factor out",
+                        "field.live_fraction: a mosaic's chip gaps already set its fill; leave live_fraction out",
                     ));
                 }
                 Footprint::Mosaic {
@@ -154,10 +154,10 @@ impl FieldSpec {
         if let Some(p) = fp.problem() {
             return Err(Error::input(p));
         }
-        let fill = self.fill_factor.unwrap_or(1.0);
+        let fill = self.live_fraction.unwrap_or(1.0);
         if !(fill > 0.0 && fill <= 1.0) {
             return Err(Error::input(format!(
-                "field.fill_factor: expected a fraction in (0, 1], found {fill}"
+                "field.live_fraction: expected a fraction in (0, 1], found {fill}"
             )));
         }
         Ok((fp, fill))
@@ -165,25 +165,25 @@ impl FieldSpec {
 }
 
 impl EfficiencySpec {
-    /// This table's values over `base`'s (a block over the default).
+    /// This table's values over `base`'s (a class over the default).
     fn over(&self, base: &EfficiencySpec) -> EfficiencySpec {
         EfficiencySpec {
             model: self.model.clone().or(base.model.clone()),
             peak: self.peak.or(base.peak),
             width_mag: self.width_mag.or(base.width_mag),
-            w1_mag: self.w1_mag.or(base.w1_mag),
-            w2_mag: self.w2_mag.or(base.w2_mag),
+            fall_width_mag: self.fall_width_mag.or(base.fall_width_mag),
+            tail_width_mag: self.tail_width_mag.or(base.tail_width_mag),
             dm: self.dm.clone().or(base.dm.clone()),
             rates: self.rates.clone().or(base.rates.clone()),
             eta: self.eta.clone().or(base.eta.clone()),
             trailing: self.trailing.clone().or(base.trailing.clone()),
             trailing_a: self.trailing_a.or(base.trailing_a),
             trailing_b: self.trailing_b.or(base.trailing_b),
-            blocks: BTreeMap::new(),
+            classes: BTreeMap::new(),
         }
     }
 
-    /// Build the model of `[key]`, where `key` is `efficiency` or `efficiency.blocks.NAME`.
+    /// Build the model of `[key]`, where `key` is `efficiency` or `efficiency.classes.NAME`.
     pub fn build(&self, key: &str) -> Result<Efficiency> {
         let err = |sub: &str, what: String| Error::input(format!("{key}.{sub}: {what}"));
         let positive = |v: Option<f64>, sub: &str| -> Result<f64> {
@@ -200,12 +200,16 @@ impl EfficiencySpec {
             "logistic" => Shape::Logistic {
                 width_mag: positive(self.width_mag, "width_mag")?,
             },
-            "double-tanh" => Shape::double_tanh(positive(self.w1_mag, "w1_mag")?, positive(self.w2_mag, "w2_mag")?),
+            "tanh-product" => Shape::tanh_product(
+                positive(self.fall_width_mag, "fall_width_mag")?,
+                positive(self.tail_width_mag, "tail_width_mag")?,
+            ),
             "table" => self.table_shape(key)?,
             other => {
+                let hint = crate::io::spec_text::renamed_hint(other);
                 return Err(err(
                     "model",
-                    format!("expected step, logistic, double-tanh or table, found `{other}`"),
+                    format!("expected step, logistic, tanh-product or table, found `{other}`{hint}"),
                 ));
             }
         };
@@ -281,18 +285,18 @@ impl EfficiencySpec {
         Ok(t)
     }
 
-    /// The default model and one override per named block.
+    /// The default model and one override per named class.
     pub fn build_all(&self) -> Result<(Efficiency, BTreeMap<String, Efficiency>)> {
         let default = self.build("efficiency")?;
-        let mut blocks = BTreeMap::new();
-        for (name, b) in &self.blocks {
-            if !b.blocks.is_empty() {
+        let mut classes = BTreeMap::new();
+        for (name, b) in &self.classes {
+            if !b.classes.is_empty() {
                 return Err(Error::input(format!(
-                    "efficiency.blocks.{name}.blocks: blocks do not nest"
+                    "efficiency.classes.{name}.classes: classes do not nest"
                 )));
             }
-            blocks.insert(name.clone(), b.over(self).build(&format!("efficiency.blocks.{name}"))?);
+            classes.insert(name.clone(), b.over(self).build(&format!("efficiency.classes.{name}"))?);
         }
-        Ok((default, blocks))
+        Ok((default, classes))
     }
 }

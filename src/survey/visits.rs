@@ -1,7 +1,8 @@
 //! The visits table: one row per exposure (DESIGN.md contract). Required columns `mjd`,
 //! `ra_deg`, `dec_deg`, `band`, `depth_mag`; optional `visit_id` (default: the row number,
 //! counted from 0), `rotation_deg` (0), `exposure_s` (0: no trailing), `seeing_arcsec` (1.0),
-//! `block` (a named efficiency group; default "default"). Other columns are ignored.
+//! `efficiency_class` (the name of one of the spec's `[efficiency.classes.NAME]`; default
+//! "default"). Other columns are ignored, except the former name `block`, refused with a hint.
 //! Rows are sorted by (mjd, visit_id).
 
 use std::collections::HashMap;
@@ -32,8 +33,8 @@ pub struct Visits {
     pub rotation_deg: Vec<f64>,
     pub exposure_s: Vec<f64>,
     pub seeing_arcsec: Vec<f64>,
-    pub block: Vec<u16>,
-    pub block_names: Vec<String>,
+    pub efficiency_class: Vec<u16>,
+    pub class_names: Vec<String>,
     pub night: Vec<i64>,
 }
 
@@ -136,8 +137,14 @@ impl Visits {
             |x| x > 0.0 && x < 100.0,
             "a seeing FWHM in (0, 100) arcsec",
         )?;
-        let block = if cols.has("block") {
-            cols.str("block")?
+        if cols.has("block") && !cols.has("efficiency_class") {
+            return Err(Error::input(format!(
+                "{}: column `block` was renamed `efficiency_class`",
+                path.display()
+            )));
+        }
+        let efficiency_class = if cols.has("efficiency_class") {
+            cols.str("efficiency_class")?
         } else {
             vec!["default".to_string(); cols.len()]
         };
@@ -159,7 +166,7 @@ impl Visits {
             tdb.push(to_tdb_mjd(t, scale).map_err(in_row)?);
         }
         let (band, band_names) = intern(&band, path, "band")?;
-        let (block, block_names) = intern(&block, path, "block")?;
+        let (efficiency_class, class_names) = intern(&efficiency_class, path, "efficiency_class")?;
         let lon = site.map_or(0.0, |s| s.longitude_deg);
         let mut order: Vec<usize> = (0..mjd.len()).collect();
         order.sort_by(|&a, &b| mjd[a].total_cmp(&mjd[b]).then(visit_id[a].cmp(&visit_id[b])));
@@ -186,8 +193,8 @@ impl Visits {
             rotation_deg: pick(&rotation),
             exposure_s: pick(&exposure),
             seeing_arcsec: pick(&seeing),
-            block: order.iter().map(|&i| block[i]).collect(),
-            block_names,
+            efficiency_class: order.iter().map(|&i| efficiency_class[i]).collect(),
+            class_names,
         })
     }
 }

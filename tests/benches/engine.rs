@@ -1,7 +1,7 @@
 //! Engine benchmark (run on demand: `cargo bench --bench engine -- [N_OBJECTS] [N_VISITS]`).
 //!
-//! A 3-year survey of an ecliptic band centred on opposition from the fictional Cerro Seine
-//! Observatory: each night ~N_VISITS/900 visits in triplets an hour apart, 1°-radius fields
+//! A 3-year survey of an ecliptic band centred on opposition from the invented site Sorrel
+//! Peak: each night ~N_VISITS/900 visits in triplets an hour apart, 1°-radius fields
 //! tiling ±10° of ecliptic latitude around the anti-Sun point; objects a scattered-disk-like
 //! population (a 30–1000 AU log-uniform, q ≥ 30 AU, i < 40°). Prints wall time, objects per
 //! second, candidates per in-field event. Figures go to notebooks-free-docs/performance.md.

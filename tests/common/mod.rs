@@ -86,7 +86,7 @@ pub fn bench_survey(dir: &Path, n_visits: usize) -> PathBuf {
         }
     }
     std::fs::write(dir.join("bench.csv"), csv).unwrap();
-    let spec = "[survey]\nname = \"bench\"\nvisits = \"bench.csv\"\n[site]\nlongitude_deg = -70.45\nlatitude_deg = -30.35\nelevation_m = 2450.0\n[field]\nshape = \"circle\"\nradius_deg = 1.0\n[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n";
+    let spec = "[survey]\nname = \"bench\"\nvisits = \"bench.csv\"\n[site]\nlongitude_deg = 19.3\nlatitude_deg = 20.6\nelevation_m = 2350.0\n[field]\nshape = \"circle\"\nradius_deg = 1.0\n[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n";
     std::fs::write(dir.join("bench.toml"), spec).unwrap();
     dir.join("bench.toml")
 }

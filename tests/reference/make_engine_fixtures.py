@@ -6,7 +6,7 @@ Entry point:  python tests/reference/make_engine_fixtures.py
 erfa.epv00 Earth and Sun, astropy site vector, rebound two-body orbits.)
 
 A plain brute force, every object against every visit, for two invented
-surveys from the fictional Cerro Seine site (tests/reference/site.toml):
+surveys from the invented Sorrel Peak site (tests/reference/site.toml):
 
 * `engref-circle`: a circular field of radius 1.2 deg;
 * `engref-rect`: a 2.6 x 1.4 deg rectangle turned by a per-visit
@@ -16,10 +16,10 @@ For each (survey, visit, object) the script computes the light-time
 corrected astrometric position from the site (pyerfa + astropy + rebound,
 numpy vector arithmetic), tests it against the footprint with its own
 gnomonic projection, computes the magnitude and the rate of motion, and
-decides detection with a deterministic efficiency (step, peak 1, fill
-factor 1): detected <=> in field, mag < depth_mag, min_rate <= rate <=
-max_rate.  The linking rules (tracklets, nights, window) are implemented
-here from the text of DESIGN.md / issue 5, not by translating linking.rs.
+decides detection with a deterministic efficiency (step, peak 1, live
+fraction 1): detected <=> in field, mag < depth_mag, min_rate_arcsec_per_hr <= rate <=
+max_rate_arcsec_per_hr.  The linking rules (tracklets, nights, window) are implemented
+here from the text of DESIGN.md, not by translating linking.rs.
 
 Borderline cases are avoided: a pointing that puts any object within 0.5"
 of a footprint edge, or an in-field object within 1% of a rate limit, is
@@ -52,14 +52,14 @@ N_RUNS = 12           # observing runs, one every ~60 days: ~2 years
 SURVEYS = [
     {
         "name": "engref-circle", "file": "circle", "shape": "circle",
-        "radius_deg": 1.2, "min_rate": 0.4, "max_rate": 6.0,
+        "radius_deg": 1.2, "min_rate_arcsec_per_hr": 0.4, "max_rate_arcsec_per_hr": 6.0,
         "linking": {"min_detections_per_night": 2, "min_tracklet_span_min": 30.0,
                     "min_nights": 2, "window_days": 60.0},
         "visit_id0": 5000, "seed": 5101, "group_sizes": (2, 4),
     },
     {
         "name": "engref-rect", "file": "rect", "shape": "rectangle",
-        "width_deg": 2.6, "height_deg": 1.4, "min_rate": 0.2, "max_rate": 2.0,
+        "width_deg": 2.6, "height_deg": 1.4, "min_rate_arcsec_per_hr": 0.2, "max_rate_arcsec_per_hr": 2.0,
         "linking": {"min_detections_per_night": 3, "min_tracklet_span_min": 40.0,
                     "min_nights": 2, "window_days": 30.0},
         "visit_id0": 9000, "seed": 5102, "group_sizes": (3, 5),
@@ -271,8 +271,9 @@ def visit_plan(sv, objs):
         nights = sorted(rng.choice(25, size=5, replace=False))
         for nt in nights:
             day = math.floor(base) + int(nt)
-            # local night at -70.5 deg: roughly UTC 23:30 .. 09:00
-            t = day + 0.98 + float(rng.uniform(0.0, 0.05))
+            # local night at +19.3 deg: start 21:55-23:07 local mean time
+            # (UTC 20:38-21:50), so that the groups cross UTC midnight
+            t = day + 0.86 + float(rng.uniform(0.0, 0.05))
             for tgt in rng.choice(pool, size=3, replace=False):
                 k = int(rng.integers(*sv["group_sizes"]))
                 times = [t]
@@ -324,7 +325,7 @@ def full_geometry(obj, mjd, state):
 
 
 # =========================================================================
-# Linking (from the DESIGN.md / issue text)
+# Linking (from the text of DESIGN.md)
 # =========================================================================
 
 def discovery(dets, rules):
@@ -400,7 +401,7 @@ def build_survey(sv, objs):
                         break
                     if inside:
                         rate = geometry(oi, m)["rate"]
-                        for lim in (sv["min_rate"], sv["max_rate"]):
+                        for lim in (sv["min_rate_arcsec_per_hr"], sv["max_rate_arcsec_per_hr"]):
                             if lim > 0 and abs(rate - lim) < RATE_MARGIN_REL * lim:
                                 bad = f"object {objs[oi]['id']} rate {rate:.4f} near limit {lim}"
                 if bad:
@@ -437,7 +438,7 @@ def build_survey(sv, objs):
             log(f"{sv['name']}: redrew the depth of visit {v['visit_id']}: objects {close} within {MAG_MARGIN} mag")
         v["depth_mag"] = depth
         for oi, gm, mag in inf:
-            det = mag < depth and sv["min_rate"] <= gm["rate"] <= sv["max_rate"]
+            det = mag < depth and sv["min_rate_arcsec_per_hr"] <= gm["rate"] <= sv["max_rate_arcsec_per_hr"]
             events.append({"oi": oi, "visit": v, "gm": gm, "mag": mag, "detected": det})
     # Discoveries.
     disc = {}
@@ -477,12 +478,12 @@ def write_spec(sv):
         "# Invented survey for the engine reference check (make_engine_fixtures.py).\n"
         f'[survey]\nname = "{sv["name"]}"\nvisits = "visits_{sv["file"]}.csv"\n'
         'time_scale = "utc"\nreference_band = "r"\n\n'
-        "# Cerro Seine (tests/reference/site.toml), fictional\n"
+        "# Sorrel Peak (tests/reference/site.toml), invented\n"
         f'[site]\nlongitude_deg = {SITE["longitude_deg"]}\nlatitude_deg = {SITE["latitude_deg"]}\n'
         f'elevation_m = {SITE["elevation_m"]}\n\n'
-        f"[field]\n{field}fill_factor = 1.0\n\n"
+        f"[field]\n{field}live_fraction = 1.0\n\n"
         '[efficiency]\nmodel = "step"\npeak = 1.0\ntrailing = "none"\n\n'
-        f'[motion]\nmin_rate = {sv["min_rate"]}\nmax_rate = {sv["max_rate"]}\n\n'
+        f'[motion]\nmin_rate_arcsec_per_hr = {sv["min_rate_arcsec_per_hr"]}\nmax_rate_arcsec_per_hr = {sv["max_rate_arcsec_per_hr"]}\n\n'
         f'[linking]\nmin_detections_per_night = {lk["min_detections_per_night"]}\n'
         f'min_tracklet_span_min = {lk["min_tracklet_span_min"]}\n'
         f'min_nights = {lk["min_nights"]}\nwindow_days = {lk["window_days"]}\n'

@@ -49,7 +49,7 @@ OUT = os.path.join(HERE, "fixtures")
 K_GAUSS = 0.01720209895                 # AU^1.5 / day
 GM_SUN = K_GAUSS ** 2                   # AU^3 / day^2
 C_AU_PER_DAY = 173.1446326846693        # AU / day
-OBLIQUITY_RAD = math.radians(84381.448 / 3600.0)   # IAU 1976, as JPL uses
+OBLIQUITY_RAD = math.radians(84381.448 / 3600.0)   # IAU 1976 (Lieske et al. 1977, A&A 58, 1, from memory)
 # IAU 2009 Sun/planet mass ratios (from memory, IAU 2009 system of
 # astronomical constants).
 MASS_RATIOS = {
@@ -64,8 +64,8 @@ MASS_RATIOS = {
 }
 GM_BARY = GM_SUN * (1.0 + sum(1.0 / r for r in MASS_RATIOS.values()))
 
-# Fictional observatory "Cerro Seine".
-SITE = {"longitude_deg": -70.5, "latitude_deg": -30.2, "elevation_m": 2400.0}
+# Invented observing site "Sorrel Peak" (an invented mountain, far from any real observatory).
+SITE = {"longitude_deg": 19.3, "latitude_deg": 20.6, "elevation_m": 2350.0}
 SITE_LOCATION = EarthLocation.from_geodetic(
     lon=SITE["longitude_deg"] * u.deg,
     lat=SITE["latitude_deg"] * u.deg,
@@ -592,10 +592,10 @@ def fixture_ephemerides():
 def write_site_toml():
     path = os.path.join(HERE, "site.toml")
     with open(path, "w") as fh:
-        fh.write("# Fictional observatory \"Cerro Seine\" used by the reference fixtures.\n")
+        fh.write("# Invented observing site \"Sorrel Peak\" used by the reference fixtures.\n")
         fh.write("# Geodetic (WGS84) coordinates; longitude east-positive.\n")
         fh.write("[site]\n")
-        fh.write('name = "Cerro Seine"\n')
+        fh.write('name = "Sorrel Peak"\n')
         fh.write(f"longitude_deg = {SITE['longitude_deg']!r}\n")
         fh.write(f"latitude_deg = {SITE['latitude_deg']!r}\n")
         fh.write(f"elevation_m = {SITE['elevation_m']!r}\n")

@@ -83,7 +83,7 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
                    magnitude minus the visit's depth (mag). Lines: each survey's efficiency model for a \
                    source that does not trail. Points, in the survey's colour: the fraction of the simulated in-field events \
                    that were detected, per 0.1 mag, with 95% Wilson intervals; they sit to the right of \
-                   the line where fast movers lose signal to trailing, and the fill factor lowers them.";
+                   the line where fast movers lose signal to trailing, and the live fraction lowers them.";
     render("efficiency", title, caption, (style::WIDTH, style::HEIGHT), |root| {
         let area = titled(root, title)?;
         if curves.is_empty() {
