@@ -96,11 +96,37 @@ fn detectability_is_deterministic_across_threads_and_shards() {
         sharded.extend(csv_col(&d.path().join(format!("s{k}/detectability.csv")), "p_discover"));
     }
     assert_eq!(one, sharded);
-    let grid = csv_col(&d.path().join("t1/selection_grid.csv"), "trials");
-    assert_eq!(grid.iter().sum::<f64>(), 12.0 * 30.0, "every trial lands in one bin");
     let summary: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(d.path().join("t1/summary.json")).unwrap()).unwrap();
     assert!(summary["conclusion"].as_str().unwrap().contains("12 objects"));
+    // The population mode: every object lands in one cell of the selection function (or outside).
+    let msg = run_ok(&[
+        "detectability",
+        "--survey",
+        &p("wide.toml"),
+        "--population",
+        &p("catalog.csv"),
+        "--out",
+        &p("sf"),
+        "--format",
+        "csv",
+    ]);
+    assert!(msg.contains("selection_function"), "{msg}");
+    let n = csv_col(&d.path().join("sf/selection_function.csv"), "n_objects");
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join("sf/summary.json")).unwrap()).unwrap();
+    let outside = summary["objects_outside_grid"].as_f64().unwrap();
+    assert_eq!(n.iter().sum::<f64>() + outside, 12.0, "every object in one cell");
+    for (f, (lo, hi)) in csv_col(&d.path().join("sf/selection_function.csv"), "fraction")
+        .iter()
+        .zip(
+            csv_col(&d.path().join("sf/selection_function.csv"), "wilson_lo")
+                .into_iter()
+                .zip(csv_col(&d.path().join("sf/selection_function.csv"), "wilson_hi")),
+        )
+    {
+        assert!(lo <= *f && *f <= hi, "{lo} {f} {hi}");
+    }
 }
 
 #[test]
@@ -418,7 +444,12 @@ fn yield_and_compare_models_write_tables_and_conclusions() {
         assert!(msg.contains("near is favoured over far"), "{density}: {msg}");
         let ll = csv_col(&Path::new(&out).join("models.csv"), "log_likelihood");
         assert!(ll[0] > ll[1], "{density}: {ll:?}");
-        assert_eq!(csv_col(&Path::new(&out).join("marginals.csv"), "ks_p_value").len(), 6);
+        // 3 observables × 2 tests × 2 models, each p-value a Monte Carlo one: (1 + #)/(1 + 200).
+        let p = csv_col(&Path::new(&out).join("marginals.csv"), "p_value");
+        assert_eq!(p.len(), 12);
+        assert!(p.iter().all(|x| *x >= 1.0 / 201.0 && *x <= 1.0), "{p:?}");
+        let err = csv_col(&Path::new(&out).join("models.csv"), "log_likelihood_error");
+        assert!(err.iter().all(|e| e.is_finite() && *e >= 0.0), "{err:?}");
     }
 }
 
@@ -493,10 +524,158 @@ fn bad_input_exits_2_with_a_clear_message() {
             "missing.csv",
         ),
     ];
+    let compare = |extra: &[&str]| -> Vec<String> {
+        let mut v: Vec<String> = [
+            "compare-models",
+            "--survey",
+            &p("wide.toml"),
+            "--observed",
+            &p("catalog.csv"),
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        v.extend(extra.iter().map(|s| s.to_string()));
+        v.extend(["--out".to_string(), p("x")]);
+        v
+    };
+    let model = format!("a={}", p("catalog.csv"));
+    let model_b = format!("b={}", p("catalog.csv"));
+    let empty = format!("={}", p("catalog.csv"));
+    let mut cases = cases;
+    cases.extend([
+        (compare(&["--model", &model, "--model", &model]), "given twice"),
+        (compare(&["--model", &empty]), "needs a name"),
+        (compare(&["--model", &model, "--synthetic", "0"]), "--synthetic 0"),
+        (
+            compare(&["--model", &model, "--space", "a_au,a_au"]),
+            "`a_au` is named twice",
+        ),
+        (
+            compare(&["--model", &model, "--frame", "galactic"]),
+            "--frame `galactic`",
+        ),
+        (
+            compare(&["--model", &model, "--population-size", &format!("{}=10", "c")]),
+            "no --model is named `c`",
+        ),
+        (
+            compare(&[
+                "--model",
+                &model,
+                "--model",
+                &model_b,
+                "--density",
+                "binned",
+                "--prior-objects=-1",
+            ]),
+            "--prior-objects",
+        ),
+        (
+            vec![
+                "detectability".into(),
+                "--survey".into(),
+                p("wide.toml"),
+                "--objects".into(),
+                p("catalog.csv"),
+                "--clones".into(),
+                "100000000".into(),
+                "--out".into(),
+                p("x"),
+            ],
+            "--over-budget",
+        ),
+    ]);
     for (args, needle) in cases {
         let args: Vec<&str> = args.iter().map(String::as_str).collect();
         let o = seine(&args);
         assert_eq!(o.status.code(), Some(2), "{args:?}: {}", stderr(&o));
         assert!(stderr(&o).contains(needle), "{args:?}: {}", stderr(&o));
+        assert!(!d.path().join("x").exists(), "{args:?}: a refused run writes nothing");
     }
+    // yield with a plan and an unreadable population: refused before anything is built.
+    let plan = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep-plan.toml");
+    let o = seine(&[
+        "yield",
+        "--plan",
+        &plan.display().to_string(),
+        "--objects",
+        &p("missing.csv"),
+        "--out",
+        &p("y0"),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(!d.path().join("y0").exists(), "yield wrote something when it refused");
+}
+
+#[test]
+fn compare_models_refuses_mixed_frames_or_converts_them() {
+    let d = tempfile::tempdir().unwrap();
+    let p = |s: &str| d.path().join(s).display().to_string();
+    setup(d.path());
+    // The catalogue marked barycentric; the model (40 fresh-M copies of it) heliocentric.
+    let cat = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
+    let bary: String = cat
+        .lines()
+        .enumerate()
+        .map(|(k, l)| format!("{l},{}\n", if k == 0 { "frame" } else { "barycentric" }))
+        .collect();
+    std::fs::write(d.path().join("bary.csv"), bary).unwrap();
+    let mut model = String::from(cat.lines().next().unwrap());
+    for k in 0..40 {
+        for line in cat.lines().skip(1) {
+            let f: Vec<&str> = line.split(',').collect();
+            let id = f[0].parse::<i64>().unwrap() * 100 + k;
+            let m = (k as f64 * 9.0 + 3.0) % 360.0;
+            model.push_str(&format!(
+                "\n{id},{},{},{},{},{},{m},60400,{}",
+                f[1], f[2], f[3], f[4], f[5], f[8]
+            ));
+        }
+    }
+    std::fs::write(d.path().join("m.csv"), model + "\n").unwrap();
+    let args = |frame: &[&str], out: &str| -> Vec<String> {
+        let mut v: Vec<String> = [
+            "compare-models",
+            "--survey",
+            &p("wide.toml"),
+            "--observed",
+            &p("bary.csv"),
+            "--model",
+            &format!("m={}", p("m.csv")),
+            "--space",
+            "a_au,inc_deg",
+            "--synthetic",
+            "50",
+            "--bootstrap",
+            "20",
+            "--format",
+            "csv",
+            "--out",
+            &p(out),
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        v.extend(frame.iter().map(|s| s.to_string()));
+        v
+    };
+    let refused = seine(&args(&[], "mixed").iter().map(String::as_str).collect::<Vec<_>>());
+    assert_eq!(refused.status.code(), Some(2), "{}", stderr(&refused));
+    assert!(
+        stderr(&refused).contains("must share a frame") && stderr(&refused).contains("--frame"),
+        "{}",
+        stderr(&refused)
+    );
+    assert!(!d.path().join("mixed").exists());
+    let msg = run_ok(
+        &args(&["--frame", "heliocentric"], "converted")
+            .iter()
+            .map(String::as_str)
+            .collect::<Vec<_>>(),
+    );
+    assert!(msg.contains("heliocentric elements"), "{msg}");
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join("converted/summary.json")).unwrap()).unwrap();
+    assert_eq!(summary["frame"], "heliocentric");
 }

@@ -108,7 +108,7 @@ fn wilson_against_astropy_and_a_textbook() {
     let f = Fixture::load("wilson.csv");
     let (k, n, lo, hi) = (f.col("k"), f.col("n"), f.col("lower"), f.col("upper"));
     for i in 0..f.len() {
-        let (l, h) = wilson(k[i] as u64, n[i] as u64, Z95);
+        let (l, h) = wilson(k[i], n[i], Z95);
         assert!(
             (l - lo[i]).abs() < 1e-12 && (h - hi[i]).abs() < 1e-12,
             "{}/{}: [{l}, {h}] vs [{}, {}]",
@@ -126,7 +126,7 @@ fn wilson_against_astropy_and_a_textbook() {
         (0, 20, 0.0, 0.1611),
         (1, 29, 0.0061, 0.1718),
     ] {
-        let (a, b) = wilson(k, n, Z95);
+        let (a, b) = wilson(k as f64, n as f64, Z95);
         assert!(
             (a - l).abs() < 6e-5 && (b - h).abs() < 6e-5,
             "{k}/{n}: [{a:.4}, {b:.4}]"
@@ -159,41 +159,5 @@ fn kernel_density_against_scipy() {
     for (x, want) in e1.col("x").into_iter().zip(e1.col("density")) {
         let got = kde1.pdf(&[x]);
         assert!((got - want).abs() <= 1e-10 * want, "{x}: {got} vs {want}");
-    }
-}
-
-#[test]
-fn goodness_of_fit_is_uniform_for_the_true_model_and_rejects_a_wrong_one() {
-    // Calibration of the smoothed-bootstrap goodness of fit (the null itself; no outside number):
-    // catalogues drawn from the model's own density give uniform p; a shifted catalogue gives small p.
-    use rand::{RngExt, SeedableRng};
-    use seine::analysis::compare::gof_p;
-    use seine::analysis::likelihood::{Density, DensityKind};
-    let mut rng = rand_pcg::Pcg64::seed_from_u64(21);
-    let pts: Vec<Vec<f64>> = (0..300)
-        .map(|_| vec![rng.random::<f64>() * 2.0, rng.random::<f64>() + rng.random::<f64>()])
-        .collect();
-    let w = vec![1.0; pts.len()];
-    for kind in [
-        DensityKind::Kde,
-        DensityKind::Binned {
-            edges: vec![vec![0.0, 0.5, 1.0, 1.5, 2.0], vec![0.0, 0.5, 1.0, 1.5, 2.0]],
-            pseudo: 0.5,
-        },
-    ] {
-        let d = Density::fit(&kind, &pts, &w).unwrap();
-        let ps: Vec<f64> = (0..40)
-            .map(|r| {
-                let cat: Vec<Vec<f64>> = (0..15).map(|_| d.sample(&mut rng)).collect();
-                gof_p(&d, &cat, 150, r)
-            })
-            .collect();
-        let ks = common::ks_uniform_p(&ps);
-        let shifted: Vec<Vec<f64>> = (0..15)
-            .map(|_| vec![1.9 + 0.1 * rng.random::<f64>(), 1.9 + 0.1 * rng.random::<f64>()])
-            .collect();
-        let p_wrong = gof_p(&d, &shifted, 200, 999);
-        eprintln!("{kind:?}: KS p of goodness-of-fit p-values {ks:.3}; wrong catalogue p = {p_wrong}");
-        assert!(ks > 0.01 && p_wrong < 0.05, "KS p {ks}, wrong p {p_wrong}");
     }
 }

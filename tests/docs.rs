@@ -102,7 +102,7 @@ fn tutorial_likelihood_runs() {
     let d = run_doc("tutorial-likelihood.md");
     for f in [
         "detectability/detectability",
-        "detectability/selection_grid",
+        "selection/selection_function",
         "compare/models",
         "compare/marginals",
     ] {
@@ -117,6 +117,24 @@ fn tutorial_likelihood_runs() {
         "the catalogue: objects-table columns and the discovery's circumstances: {header:?}"
     );
     assert!(catalog.lines().count() > 3, "a catalogue of a few discoveries at least");
+    // The model that made the sky is favoured, beyond its model-sample error, and fits.
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join("likelihood/compare/summary.json")).unwrap())
+            .unwrap();
+    let m = summary["models"].as_array().unwrap();
+    let (a, b) = (&m[0], &m[1]);
+    assert_eq!(a["name"], "A");
+    let (la, lb) = (
+        a["log_likelihood"].as_f64().unwrap(),
+        b["log_likelihood"].as_f64().unwrap(),
+    );
+    let err = a["log_likelihood_error"]
+        .as_f64()
+        .unwrap()
+        .hypot(b["log_likelihood_error"].as_f64().unwrap());
+    assert!(la - lb > 2.0 * err, "A {la} vs B {lb} ± {err}");
+    assert!(a["gof_p"].as_f64().unwrap() > 0.01, "{a}");
+    assert!(a["log_likelihood_extended"].as_f64().is_some(), "{a}");
 }
 
 #[test]

@@ -79,23 +79,20 @@ fn distributions_and_fractions_have_units() {
         &["absolute magnitude H (mag)"],
     );
     let bins: Vec<FractionBin> = (0..8)
-        .map(|k| FractionBin {
-            lo: 4.0 + k as f64,
-            hi: 5.0 + k as f64,
-            n: 100 - k * 10,
-            k: 20 - 2 * k,
-        })
+        .map(|k| FractionBin::counts(4.0 + k as f64, 5.0 + k as f64, 100 - k * 10, 20 - 2 * k))
         .collect();
     check(
         &distributions::discovered_fraction("h_mag", &bins).unwrap(),
         &["absolute magnitude H (mag)", "discovered fraction (dimensionless)"],
     );
     let log_bins: Vec<FractionBin> = (0..6)
-        .map(|k| FractionBin {
-            lo: 10f64.powf(1.0 + k as f64 / 3.0),
-            hi: 10f64.powf(1.0 + (k + 1) as f64 / 3.0),
-            n: 50,
-            k: k as u64,
+        .map(|k| {
+            FractionBin::counts(
+                10f64.powf(1.0 + k as f64 / 3.0),
+                10f64.powf(1.0 + (k + 1) as f64 / 3.0),
+                50,
+                k as u64,
+            )
         })
         .collect();
     check(
@@ -132,18 +129,8 @@ fn survey_figures_have_units() {
         .map(|x| (x, 0.9 / (1.0 + (x / 0.2f64).exp())))
         .collect();
     let measured = vec![
-        FractionBin {
-            lo: -0.1,
-            hi: 0.0,
-            n: 100,
-            k: 48,
-        },
-        FractionBin {
-            lo: 0.0,
-            hi: 0.1,
-            n: 80,
-            k: 30,
-        },
+        FractionBin::counts(-0.1, 0.0, 100, 48),
+        FractionBin::counts(0.0, 0.1, 80, 30),
     ];
     let curve = EfficiencyCurve {
         survey: "Invented Survey A".into(),
@@ -233,24 +220,32 @@ fn analysis_figures_from_synthetic_tables() {
     );
 
     // Plans of unequal effort: the second panel divides by their hours.
-    let rows: Vec<YieldRow> = [
+    let rows: Vec<PlanYield> = [
         ("Plan A", 1.0, 40, 300.0),
         ("Plan B", 3.0, 55, 100.0),
         ("Plan C", 14.0, 20, 25.0),
     ]
     .into_iter()
-    .map(|(p, c, k, hours)| YieldRow {
-        plan: p.into(),
-        population: "distant slow movers".into(),
-        cadence_days: c,
-        n_objects: 1000,
-        n_discovered: k,
-        effort: Some(Effort {
-            visits: (hours * 60.0) as u64,
-            hours,
-            telescope_time: true,
-            area_sq_deg: 500.0,
-        }),
+    .map(|(p, c, k, hours)| {
+        let f = seine::analysis::binomial::Proportion::new(k, 1000);
+        PlanYield {
+            row: CadenceRow {
+                plan: p.into(),
+                population: "distant slow movers".into(),
+                cadence_days: c,
+                n_objects: 1000,
+                n_discovered: k,
+                fraction: f.fraction,
+                wilson_lo: f.lower,
+                wilson_hi: f.upper,
+            },
+            effort: Some(Effort {
+                visits: (hours * 60.0) as u64,
+                hours,
+                telescope_time: true,
+                area_sq_deg: 500.0,
+            }),
+        }
     })
     .collect();
     let f = cadence::yield_vs_cadence(&rows).unwrap();

@@ -1,59 +1,239 @@
-//! Binomial proportions: the estimate, its standard error and the Wilson score interval
-//! (Wilson 1927, J. Am. Stat. Assoc. 22, 209), the interval used by astropy's
-//! `binom_conf_interval(..., interval='wilson')`.
+//! The one statistics module of the analyses and the report: bin edges, the bin of a value,
+//! histograms (plain and weighted), weighted proportions with Kish's effective sample size and
+//! Wilson score intervals, and quantiles. Formulas and sources in methods.md ("Weighted
+//! proportions").
 
-/// z of the two-sided 95% normal interval, √2 erf⁻¹(0.95), as astropy computes it.
+/// z of the two-sided 95% normal interval, √2 erf⁻¹(0.95), as astropy computes it. The one z
+/// of every interval the tool prints, the report's included.
 pub const Z95: f64 = 1.959_963_984_540_054;
 
-/// A proportion k/n with its binomial standard error and 95% Wilson interval.
+/// `n + 1` equally spaced edges from `lo` to `hi`.
+pub fn lin_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
+    (0..=n).map(|k| lo + (hi - lo) * k as f64 / n as f64).collect()
+}
+
+/// `n + 1` logarithmically spaced edges from `lo` to `hi` (both > 0).
+pub fn log_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
+    let (a, b) = (lo.ln(), hi.ln());
+    (0..=n).map(|k| (a + (b - a) * k as f64 / n as f64).exp()).collect()
+}
+
+/// The bin of `x` among `edges`: bins are [e_k, e_k+1), the last one with its top edge;
+/// None outside (and for NaN).
+pub fn bin_index(edges: &[f64], x: f64) -> Option<usize> {
+    let n = edges.len().checked_sub(1).filter(|n| *n > 0)?;
+    if !(x >= edges[0] && x <= edges[n]) {
+        return None;
+    }
+    Some((edges.partition_point(|e| *e <= x) - 1).min(n - 1))
+}
+
+/// Row-major index of a point's cell in a grid of per-dimension edges, None outside.
+pub fn grid_index(edges: &[Vec<f64>], x: &[f64]) -> Option<usize> {
+    let mut idx = 0;
+    for (e, v) in edges.iter().zip(x) {
+        idx = idx * (e.len() - 1) + bin_index(e, *v)?;
+    }
+    Some(idx)
+}
+
+/// The (lo, hi) ranges of cell `cell` of a row-major grid.
+pub fn grid_cell(edges: &[Vec<f64>], mut cell: usize) -> Vec<(f64, f64)> {
+    let mut out = vec![(0.0, 0.0); edges.len()];
+    for (slot, e) in out.iter_mut().zip(edges).rev() {
+        let m = e.len() - 1;
+        *slot = (e[cell % m], e[cell % m + 1]);
+        cell /= m;
+    }
+    out
+}
+
+/// Counts of `xs` in the bins of `edges` (see `bin_index`).
+pub fn histogram(xs: &[f64], edges: &[f64]) -> Vec<u64> {
+    let mut n = vec![0u64; edges.len().saturating_sub(1)];
+    for &x in xs {
+        if let Some(k) = bin_index(edges, x) {
+            n[k] += 1;
+        }
+    }
+    n
+}
+
+/// Summed weights of `xs` in the bins of `edges`.
+pub fn weighted_histogram(xs: &[f64], weights: &[f64], edges: &[f64]) -> Vec<f64> {
+    let mut n = vec![0.0; edges.len().saturating_sub(1)];
+    for (&x, &w) in xs.iter().zip(weights) {
+        if let Some(k) = bin_index(edges, x) {
+            n[k] += w;
+        }
+    }
+    n
+}
+
+/// Kish's effective sample size (Σw)²/Σw² (Kish 1965, *Survey Sampling*, §11.7).
+pub fn kish_n(sum_w: f64, sum_w2: f64) -> f64 {
+    if sum_w2 > 0.0 { sum_w * sum_w / sum_w2 } else { 0.0 }
+}
+
+/// Kish's effective sample size of a list of weights.
+pub fn kish_n_of(weights: &[f64]) -> f64 {
+    kish_n(weights.iter().sum(), weights.iter().map(|w| w * w).sum())
+}
+
+/// The sums a weighted proportion needs; they add over objects, bins, chunks and shards.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Tally {
+    /// Objects (trials) and successes, unweighted.
+    pub n: u64,
+    pub k: u64,
+    /// Σw and Σw² over all, and over the successes.
+    pub w: f64,
+    pub w2: f64,
+    pub w_hit: f64,
+    pub w2_hit: f64,
+}
+
+impl Tally {
+    /// An unweighted tally of k successes in n trials.
+    pub fn counts(k: u64, n: u64) -> Self {
+        Tally {
+            n,
+            k,
+            w: n as f64,
+            w2: n as f64,
+            w_hit: k as f64,
+            w2_hit: k as f64,
+        }
+    }
+
+    /// Count one object of weight `w`.
+    pub fn add(&mut self, w: f64, hit: bool) {
+        self.n += 1;
+        self.w += w;
+        self.w2 += w * w;
+        if hit {
+            self.k += 1;
+            self.w_hit += w;
+            self.w2_hit += w * w;
+        }
+    }
+
+    pub fn absorb(&mut self, o: &Tally) {
+        self.n += o.n;
+        self.k += o.k;
+        self.w += o.w;
+        self.w2 += o.w2;
+        self.w_hit += o.w_hit;
+        self.w2_hit += o.w2_hit;
+    }
+
+    pub fn proportion(&self) -> Proportion {
+        Proportion::of(self)
+    }
+}
+
+/// A (weighted) proportion: the estimate, its effective sample size, standard error and 95%
+/// Wilson interval. With unit weights these are the binomial k/n, n, √(p(1 − p)/n) and the
+/// ordinary Wilson interval.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Proportion {
+    /// Trials and successes, unweighted.
     pub k: u64,
     pub n: u64,
+    /// Σw(success)/Σw.
     pub fraction: f64,
+    /// The effective sample size the error and interval use: Kish's n, lowered to the
+    /// linearization one where the weights make the fraction noisier (methods.md).
+    pub n_eff: f64,
     pub std_error: f64,
     pub lower: f64,
     pub upper: f64,
 }
 
 impl Proportion {
-    /// k successes in n trials; n = 0 gives NaN estimates and the uninformative [0, 1].
+    /// k successes in n unweighted trials; n = 0 gives NaN estimates and the uninformative [0, 1].
     pub fn new(k: u64, n: u64) -> Self {
-        let (lower, upper) = wilson(k, n, Z95);
-        if n == 0 {
+        Self::of(&Tally::counts(k, n))
+    }
+
+    /// The weighted proportion of a tally (methods.md, "Weighted proportions").
+    pub fn of(t: &Tally) -> Self {
+        if !(t.w > 0.0) {
             return Proportion {
-                k,
-                n,
+                k: t.k,
+                n: t.n,
                 fraction: f64::NAN,
+                n_eff: 0.0,
                 std_error: f64::NAN,
-                lower,
-                upper,
+                lower: 0.0,
+                upper: 1.0,
             };
         }
-        let p = k as f64 / n as f64;
+        let p = (t.w_hit / t.w).clamp(0.0, 1.0);
+        let n_eff = effective_n(t, p);
+        let (lower, upper) = wilson(p * n_eff, n_eff, Z95);
         Proportion {
-            k,
-            n,
+            k: t.k,
+            n: t.n,
             fraction: p,
-            std_error: (p * (1.0 - p) / n as f64).sqrt(),
+            n_eff,
+            std_error: (p * (1.0 - p) / n_eff).sqrt(),
             lower,
             upper,
         }
     }
 }
 
-/// Wilson score interval for k successes in n trials at normal quantile z:
-/// centre (k + z²/2)/(n + z²), half-width z √n/(n + z²) √(p(1 − p) + z²/(4n)), clipped to [0, 1].
-pub fn wilson(k: u64, n: u64, z: f64) -> (f64, f64) {
-    if n == 0 {
+/// min(Kish's n, p(1 − p)/V) with V = Σw²(d − p)²/(Σw)², the linearization variance of the
+/// ratio Σwd/Σw; Kish's n alone where p is 0 or 1 (V = 0).
+fn effective_n(t: &Tally, p: f64) -> f64 {
+    let kish = kish_n(t.w, t.w2);
+    let v = (t.w2_hit * (1.0 - 2.0 * p) + p * p * t.w2) / (t.w * t.w);
+    let linear = p * (1.0 - p) / v;
+    if v > 0.0 && linear.is_finite() {
+        kish.min(linear)
+    } else {
+        kish
+    }
+}
+
+/// Wilson score interval for k successes in n trials at normal quantile z (effective counts may
+/// be fractional): centre (k + z²/2)/(n + z²), half-width z √n/(n + z²) √(p(1 − p) + z²/(4n)),
+/// clipped to [0, 1]; [0, 1] for n = 0.
+pub fn wilson(k: f64, n: f64, z: f64) -> (f64, f64) {
+    if !(n > 0.0) {
         return (0.0, 1.0);
     }
-    let (k, n) = (k as f64, n as f64);
-    let p = k / n;
+    let p = (k / n).clamp(0.0, 1.0);
     let z2 = z * z;
     let centre = (k + z2 / 2.0) / (n + z2);
     let half = z * n.sqrt() / (n + z2) * (p * (1.0 - p) + z2 / (4.0 * n)).sqrt();
     ((centre - half).max(0.0), (centre + half).min(1.0))
+}
+
+/// The q-quantile of sorted values: the smallest value whose empirical CDF reaches q (type 1 of
+/// Hyndman & Fan 1996); NaN for no values.
+pub fn quantile_sorted(sorted: &[f64], q: f64) -> f64 {
+    if sorted.is_empty() {
+        return f64::NAN;
+    }
+    let k = (q * sorted.len() as f64).ceil() as usize;
+    sorted[k.clamp(1, sorted.len()) - 1]
+}
+
+/// The weighted q-quantile: the smallest value whose cumulative share of the weight reaches q.
+pub fn weighted_quantile(values: &[f64], weights: &[f64], q: f64) -> f64 {
+    let mut order: Vec<usize> = (0..values.len()).filter(|i| values[*i].is_finite()).collect();
+    order.sort_by(|a, b| values[*a].total_cmp(&values[*b]));
+    let total: f64 = order.iter().map(|i| weights[*i]).sum();
+    let mut acc = 0.0;
+    for &i in &order {
+        acc += weights[i];
+        if acc >= q * total {
+            return values[i];
+        }
+    }
+    order.last().map_or(f64::NAN, |i| values[*i])
 }
 
 #[cfg(test)]
@@ -62,12 +242,52 @@ mod tests {
 
     #[test]
     fn wilson_brackets_the_estimate() {
-        for n in 1..40 {
+        for n in 1..40u64 {
             for k in 0..=n {
-                let (lo, hi) = wilson(k, n, Z95);
+                let (lo, hi) = wilson(k as f64, n as f64, Z95);
                 let p = k as f64 / n as f64;
                 assert!(lo <= p + 1e-15 && p <= hi + 1e-15, "{k}/{n}: [{lo}, {hi}]");
             }
         }
+    }
+
+    #[test]
+    fn unit_weights_are_the_binomial_proportion() {
+        let mut t = Tally::default();
+        for i in 0..50 {
+            t.add(1.0, i % 7 == 0);
+        }
+        let (p, q) = (t.proportion(), Proportion::new(8, 50));
+        assert_eq!(p.n_eff, 50.0);
+        assert!((p.fraction - 0.16).abs() < 1e-15 && (p.upper - q.upper).abs() < 1e-15);
+    }
+
+    #[test]
+    fn rescaled_weights_change_nothing() {
+        let (mut a, mut b) = (Tally::default(), Tally::default());
+        for i in 0..40 {
+            let w = 1.0 + (i % 5) as f64;
+            a.add(w, i % 3 == 0);
+            b.add(1e-6 * w, i % 3 == 0);
+        }
+        let (pa, pb) = (a.proportion(), b.proportion());
+        assert!((pa.fraction - pb.fraction).abs() < 1e-12 && (pa.n_eff - pb.n_eff).abs() < 1e-9);
+    }
+
+    #[test]
+    fn quantiles_invert_the_ecdf() {
+        let v = [1.0, 2.0, 3.0, 4.0];
+        assert_eq!(quantile_sorted(&v, 0.5), 2.0);
+        assert_eq!(quantile_sorted(&v, 0.51), 3.0);
+        assert_eq!(quantile_sorted(&v, 0.0), 1.0);
+        assert_eq!(weighted_quantile(&[3.0, 1.0, 2.0], &[1.0, 1.0, 2.0], 0.5), 2.0);
+    }
+
+    #[test]
+    fn bins_are_half_open_with_the_top_edge_inside() {
+        let e = [0.0, 1.0, 2.0];
+        assert_eq!(histogram(&[0.0, 0.5, 1.0, 2.0, 3.0, f64::NAN], &e), vec![2, 2]);
+        assert_eq!(grid_index(&[e.to_vec(), e.to_vec()], &[1.5, 0.2]), Some(2));
+        assert_eq!(grid_cell(&[e.to_vec(), e.to_vec()], 2), vec![(1.0, 2.0), (0.0, 1.0)]);
     }
 }

@@ -1,69 +1,155 @@
-//! Comparing model populations with an observed catalogue: forward-model each model through
-//! the surveys, build its detected distribution in an observable space, and score the
-//! catalogue by log-likelihood (kernel density or bins), the likelihood ratio between models,
-//! a goodness-of-fit p-value per model, and two-sample KS and Anderson–Darling tests on the
-//! marginals.
+//! Comparing model populations with an observed catalogue (`seine compare-models`): each model
+//! runs through the surveys, its detected objects give a density in the observable space (one
+//! bandwidth for all models), and the catalogue is scored by ln L with its model-sample error
+//! (Poisson bootstrap), the extended likelihood where a model's size is known, a calibrated
+//! goodness of fit and marginal tests whose p-values come from synthetic catalogues resampled
+//! from the model's own detected objects (leave-the-catalogue-out). Derivations in methods.md,
+//! "Model comparison".
 //!
-//! Goodness of fit: the fraction of same-size synthetic catalogues, drawn from the model's
-//! detected density itself (a smoothed bootstrap), whose log-likelihood under that density is
-//! below the observed one. Drawing from the density rather than re-using the detected points
-//! keeps a synthetic point from scoring its own kernel. Synthetic catalogue t of model m draws
-//! from `run_stream(seed ^ splitmix64(m), Analysis, t)`.
+//! Streams (all `Analysis`, seeded by the run seed and the model's index m): synthetic catalogue
+//! t of model m from `run_stream(seed ^ splitmix64(2m + 1), Analysis, t)`; the bootstrap
+//! multiplicities of model object `id` from `object_stream(seed ^ splitmix64(2m + 2), id,
+//! Analysis)`.
 
-use std::f64::consts::TAU;
-
+use rand::RngExt;
+use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
-use super::likelihood::{Density, DensityKind};
-use super::two_sample::{AndersonDarling, Ks, anderson_ksamp, ks_two_sample};
+use super::binomial::{Tally, kish_n_of};
+use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
+use super::marginals::{Statistic, WeightedEcdf};
+use super::space::{Coordinate, Space};
 use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
+use crate::orbit::Center;
+use crate::population::recenter::{recenter_table, table_frame};
 use crate::rng::{Purpose, object_stream, run_stream, splitmix64};
 
-/// Observable quantities the space can be built from.
-pub const OBSERVABLES: [&str; 9] = [
-    "a_au",
-    "e",
-    "q_au",
-    "Q_au",
-    "inc_deg",
-    "node_deg",
-    "argperi_deg",
-    "varpi_deg",
-    "h_mag",
-];
+/// The density choice of a comparison.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum DensityChoice {
+    /// Kernels shaped by the space, one bandwidth for all models.
+    Kernel,
+    /// Equal-width bins per working coordinate with a prior worth `prior_objects` objects.
+    Binned { bins: usize, prior_objects: f64 },
+}
 
-/// Value of an observable for row i of a table.
-pub fn observable(t: &ObjectTable, i: usize, name: &str) -> Result<f64> {
-    let el = &t.elements[i];
-    Ok(match name {
-        "a_au" => el.a_au,
-        "e" => el.e,
-        "q_au" => el.q_au(),
-        "Q_au" => el.aphelion_au(),
-        "inc_deg" => el.inc.to_degrees(),
-        "node_deg" => el.node.to_degrees(),
-        "argperi_deg" => el.argperi.to_degrees(),
-        "varpi_deg" => (el.node + el.argperi).rem_euclid(TAU).to_degrees(),
-        "h_mag" => t.h_mag[i],
-        other => {
+/// One model population: its name, objects and, for the extended likelihood, the number of real
+/// objects it stands for.
+#[derive(Debug, Clone)]
+pub struct Model {
+    pub name: String,
+    pub objects: ObjectTable,
+    pub population_size: Option<f64>,
+}
+
+/// Everything a comparison needs besides the surveys.
+#[derive(Debug, Clone)]
+pub struct CompareOptions {
+    pub observed: ObjectTable,
+    pub models: Vec<Model>,
+    pub space: Space,
+    pub density: DensityChoice,
+    pub synthetic: u64,
+    pub bootstrap: u64,
+    pub seed: u64,
+    /// Convert every table to this frame; None refuses mixed frames.
+    pub frame: Option<Center>,
+}
+
+/// Most bootstrap replicates and synthetic catalogues a run takes.
+pub const MAX_REPLICATES: u64 = 1_000_000;
+
+impl CompareOptions {
+    /// Every check of the options, before any work.
+    pub fn validate(&self) -> Result<()> {
+        if self.models.is_empty() {
+            return Err(Error::input("--model: expected at least one model NAME=OBJECTS"));
+        }
+        let mut names = std::collections::HashSet::new();
+        for m in &self.models {
+            if m.name.trim().is_empty() {
+                return Err(Error::input(
+                    "--model: a model needs a name (NAME=OBJECTS, NAME not empty)",
+                ));
+            }
+            if !names.insert(m.name.as_str()) {
+                return Err(Error::input(format!(
+                    "--model: the name `{}` is given twice; each model needs its own name",
+                    m.name
+                )));
+            }
+            if let Some(n) = m.population_size.filter(|n| !(*n > 0.0 && n.is_finite())) {
+                return Err(Error::input(format!(
+                    "--population-size {}={n}: expected a positive number of objects",
+                    m.name
+                )));
+            }
+        }
+        if !(1..=MAX_REPLICATES).contains(&self.synthetic) {
             return Err(Error::input(format!(
-                "--space: unknown observable `{other}`; expected one of {}",
-                OBSERVABLES.join(", ")
+                "--synthetic {}: expected 1 to {MAX_REPLICATES} synthetic catalogues (the goodness-of-fit \
+                 p-value is (1 + count)/(1 + synthetic))",
+                self.synthetic
             )));
         }
-    })
+        if !(2..=MAX_REPLICATES).contains(&self.bootstrap) {
+            return Err(Error::input(format!(
+                "--bootstrap {}: expected 2 to {MAX_REPLICATES} replicates",
+                self.bootstrap
+            )));
+        }
+        if let DensityChoice::Binned { bins, prior_objects } = self.density {
+            let cells = (bins as f64).powi(self.space.dim() as i32);
+            if bins == 0 || cells > 1e8 {
+                return Err(Error::input(format!(
+                    "--bins {bins}: expected 1 or more, with at most 10^8 cells in all ({} dimensions)",
+                    self.space.dim()
+                )));
+            }
+            if !(prior_objects >= 0.0 && prior_objects.is_finite()) {
+                return Err(Error::input(format!(
+                    "--prior-objects {prior_objects}: expected a number ≥ 0"
+                )));
+            }
+        }
+        if self.observed.is_empty() {
+            return Err(Error::input("--observed: the catalogue has no objects"));
+        }
+        Ok(())
+    }
+
+    /// Bring the catalogue and the models to one frame: refuse mixed frames unless `frame`
+    /// says which to convert to.
+    pub fn align_frames(&mut self) -> Result<Center> {
+        let mut tables: Vec<(String, &mut ObjectTable)> = vec![("--observed".to_string(), &mut self.observed)];
+        for m in &mut self.models {
+            tables.push((format!("model `{}`", m.name), &mut m.objects));
+        }
+        if let Some(to) = self.frame {
+            for (what, t) in tables {
+                recenter_table(t, to, &what)?;
+            }
+            return Ok(to);
+        }
+        let frames: Vec<(String, Option<Center>)> = tables.iter().map(|(w, t)| (w.clone(), table_frame(t))).collect();
+        let first = frames[0].1;
+        if let Some((what, f)) = frames.iter().find(|(_, f)| f.is_none() || *f != first) {
+            let say = |f: &Option<Center>| f.map_or("mixed heliocentric and barycentric", |c| c.name());
+            return Err(Error::input(format!(
+                "{what} has {} elements but --observed has {}: the elements must share a frame \
+                 (at a = 500 AU they differ by several per cent in a); give --frame heliocentric or \
+                 --frame barycentric to convert every table",
+                say(f),
+                say(&first)
+            )));
+        }
+        Ok(first.unwrap_or_default())
+    }
 }
 
-/// Points of rows `rows` in the space.
-pub fn points(t: &ObjectTable, rows: &[usize], space: &[String]) -> Result<Vec<Vec<f64>>> {
-    rows.iter()
-        .map(|&i| space.iter().map(|n| observable(t, i, n)).collect())
-        .collect()
-}
-
-/// Rows of a model population that the surveys discover (engine, `Observe` streams).
+/// Rows of a population that the surveys discover (engine, `Observe` streams, as `observe`).
 pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<usize> {
     let found: Vec<bool> = (0..t.len())
         .into_par_iter()
@@ -76,23 +162,84 @@ pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> 
     (0..t.len()).filter(|i| found[*i]).collect()
 }
 
-/// Goodness of fit: the fraction of `synthetic` same-size catalogues drawn from the density
-/// whose log-likelihood is below the observed one (catalogue t from
-/// `run_stream(stream_seed, Analysis, t)`); NaN without synthetic catalogues.
-pub fn gof_p(density: &Density, observed: &[Vec<f64>], synthetic: u64, stream_seed: u64) -> f64 {
-    if synthetic == 0 {
-        return f64::NAN;
-    }
-    let ll = density.log_likelihood(observed);
-    let below = (0..synthetic)
-        .into_par_iter()
-        .filter(|t| {
-            let mut rng = run_stream(stream_seed, Purpose::Analysis, *t);
-            let cat: Vec<Vec<f64>> = (0..observed.len()).map(|_| density.sample(&mut rng)).collect();
-            density.log_likelihood(&cat) < ll
+/// A model's detected sample: rows, points, weights, and the weighted detected fraction.
+#[derive(Debug, Clone)]
+pub struct Detected {
+    pub rows: Vec<usize>,
+    pub points: Vec<Vec<f64>>,
+    pub weights: Vec<f64>,
+    pub fraction: Tally,
+}
+
+impl Detected {
+    pub fn of(model: &Model, space: &Space, surveys: &[PreparedSurvey], seed: u64) -> Result<Self> {
+        let t = &model.objects;
+        let rows = detected_rows(t, surveys, seed);
+        if rows.len() < 2 {
+            return Err(Error::input(format!(
+                "model `{}`: only {} of {} objects detected; a detected distribution needs at least two \
+                 (simulate more objects)",
+                model.name,
+                rows.len(),
+                t.len()
+            )));
+        }
+        let mut fraction = Tally::default();
+        let mut is_det = vec![false; t.len()];
+        rows.iter().for_each(|r| is_det[*r] = true);
+        for i in 0..t.len() {
+            fraction.add(t.weight[i], is_det[i]);
+        }
+        let weights: Vec<f64> = rows.iter().map(|&i| t.weight[i]).collect();
+        if !(weights.iter().sum::<f64>() > 0.0) {
+            return Err(Error::input(format!(
+                "model `{}`: its detected objects all have weight 0",
+                model.name
+            )));
+        }
+        Ok(Detected {
+            points: space.points(t, &rows),
+            rows,
+            weights,
+            fraction,
         })
-        .count();
-    below as f64 / synthetic as f64
+    }
+}
+
+/// The estimator shared by every model: the kernel with one bandwidth, or one grid.
+pub fn shared_estimator(
+    space: &Space,
+    density: DensityChoice,
+    catalogue: &[Vec<f64>],
+    n_catalogue: f64,
+    detected: &[Detected],
+) -> Result<Estimator> {
+    let coords = space.coordinates();
+    match density {
+        DensityChoice::Kernel => {
+            let samples: Vec<(&[Vec<f64>], &[f64])> = detected
+                .iter()
+                .map(|d| (d.points.as_slice(), d.weights.as_slice()))
+                .collect();
+            let bw = Bandwidth::shared(&coords, &samples, n_catalogue)?;
+            Ok(Estimator::Kernel(Kernel::new(&coords, &bw)?))
+        }
+        DensityChoice::Binned { bins, prior_objects } => {
+            let mut values: Vec<&[Vec<f64>]> = vec![catalogue];
+            values.extend(detected.iter().map(|d| d.points.as_slice()));
+            Ok(Estimator::Binned(Grid::new(&coords, bins, &values, prior_objects)?))
+        }
+    }
+}
+
+/// One marginal test of one model.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MarginalTest {
+    pub observable: &'static str,
+    pub statistic: Statistic,
+    pub value: f64,
+    pub p_value: f64,
+    pub p_error: f64,
 }
 
 /// One model's score.
@@ -101,61 +248,396 @@ pub struct ModelScore {
     pub name: String,
     pub n_objects: usize,
     pub n_detected: usize,
-    pub weighted_detected_fraction: f64,
+    /// The weighted detected fraction of the model's objects.
+    pub detected: super::binomial::Proportion,
     pub log_likelihood: f64,
+    /// Model-sample error of ln L (Poisson bootstrap).
+    pub log_likelihood_error: f64,
+    /// With a population size: ν, its error, the Poisson term and the extended ln L with its error.
+    pub extended: Option<Extended>,
     pub gof_p: f64,
     pub gof_p_error: f64,
-    /// Per observable: KS and Anderson–Darling of the observed vs the detected marginal.
-    pub marginals: Vec<(String, Ks, AndersonDarling)>,
-    /// The detected points (for tables and figures).
-    pub detected: Vec<Vec<f64>>,
-    pub detected_ids: Vec<i64>,
+    pub marginals: Vec<MarginalTest>,
+    /// The detected objects (observables in the space's order) and their ids and weights.
+    pub points: Vec<Vec<f64>>,
+    pub ids: Vec<i64>,
+    pub weights: Vec<f64>,
 }
 
-/// Score one model against the observed points.
-#[allow(clippy::too_many_arguments)]
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Extended {
+    pub expected: f64,
+    pub expected_error: f64,
+    pub log_poisson: f64,
+    pub log_likelihood: f64,
+    pub log_likelihood_error: f64,
+}
+
+/// Score one model (index `m` among the models) against the catalogue points.
 pub fn score_model(
-    name: &str,
-    model: &ObjectTable,
-    surveys: &[PreparedSurvey],
-    observed: &[Vec<f64>],
-    space: &[String],
-    kind: &DensityKind,
-    synthetic: u64,
-    seed: u64,
-    model_index: u64,
+    m: usize,
+    model: &Model,
+    det: &Detected,
+    estimator: &Estimator,
+    catalogue: &[Vec<f64>],
+    opts: &CompareOptions,
 ) -> Result<ModelScore> {
-    let rows = detected_rows(model, surveys, seed);
-    if rows.len() < 2 {
-        return Err(Error::input(format!(
-            "model `{name}`: only {} of {} objects detected; a detected distribution needs at least two",
-            rows.len(),
-            model.len()
-        )));
+    let density = ModelDensity::new(estimator, &det.points, &det.weights)
+        .map_err(|e| Error::input(format!("model `{}`: {e}", model.name)))?;
+    let at: Vec<At> = catalogue.iter().map(|x| density.at(x)).collect();
+    let ll: f64 = at.iter().map(|a| density.pdf_from_sums(a, density.sums(a)).ln()).sum();
+    let boot = bootstrap(m, model, det, &density, &at, opts);
+    let nu = |f: f64| model.population_size.map(|n| n * f);
+    let extended = nu(det.fraction.w_hit / det.fraction.w).map(|expected| {
+        let n = catalogue.len() as f64;
+        let log_poisson = n * expected.ln() - expected - statrs::function::gamma::ln_gamma(n + 1.0);
+        let ext: Vec<f64> = boot
+            .iter()
+            .map(|(l, f)| {
+                let e = nu(*f).unwrap_or(f64::NAN);
+                l + n * e.ln() - e
+            })
+            .collect();
+        Extended {
+            expected,
+            expected_error: std_dev(&boot.iter().filter_map(|(_, f)| nu(*f)).collect::<Vec<_>>()),
+            log_poisson,
+            log_likelihood: ll + log_poisson,
+            log_likelihood_error: std_dev(&ext),
+        }
+    });
+    let ll_error = std_dev(&boot.iter().map(|b| b.0).collect::<Vec<_>>());
+    let syn = synthetic_catalogues(m, det, &density, catalogue.len(), opts);
+    let (gof_p, gof_p_error) = lower_tail_p(ll, &syn.log_likelihood, ll_error);
+    let marginals = marginal_tests(&opts.space, det, catalogue, &syn);
+    Ok(ModelScore {
+        name: model.name.clone(),
+        n_objects: model.objects.len(),
+        n_detected: det.rows.len(),
+        detected: det.fraction.proportion(),
+        log_likelihood: ll,
+        log_likelihood_error: ll_error,
+        extended,
+        gof_p,
+        gof_p_error,
+        marginals,
+        points: det.points.clone(),
+        ids: det.rows.iter().map(|&i| model.objects.ids[i]).collect(),
+        weights: det.weights.clone(),
+    })
+}
+
+fn std_dev(x: &[f64]) -> f64 {
+    let n = x.len() as f64;
+    if n < 2.0 {
+        return f64::NAN;
     }
-    let pts = points(model, &rows, space)?;
-    let w: Vec<f64> = rows.iter().map(|&i| model.weight[i]).collect();
-    let density = Density::fit(kind, &pts, &w).map_err(|e| Error::input(format!("model `{name}`: {e}")))?;
-    let ll = density.log_likelihood(observed);
-    let p = gof_p(&density, observed, synthetic, seed ^ splitmix64(model_index));
-    let marginals = (0..space.len())
-        .map(|d| {
-            let o: Vec<f64> = observed.iter().map(|x| x[d]).collect();
-            let m: Vec<f64> = pts.iter().map(|x| x[d]).collect();
-            (space[d].clone(), ks_two_sample(&o, &m), anderson_ksamp(&[&o, &m]))
+    let mean = x.iter().sum::<f64>() / n;
+    (x.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt()
+}
+
+/// A Poisson(1) count by inversion.
+fn poisson1(rng: &mut Pcg64) -> u8 {
+    let u: f64 = rng.random();
+    let (mut k, mut p) = (0u8, (-1.0f64).exp());
+    let mut cdf = p;
+    while u > cdf && k < 30 {
+        k += 1;
+        p /= k as f64;
+        cdf += p;
+    }
+    k
+}
+
+/// Per bootstrap replicate: (ln L, weighted detected fraction) with Poisson(1) multiplicities of
+/// every model object.
+fn bootstrap(
+    m: usize,
+    model: &Model,
+    det: &Detected,
+    density: &ModelDensity,
+    at: &[At],
+    opts: &CompareOptions,
+) -> Vec<(f64, f64)> {
+    let b = opts.bootstrap as usize;
+    let t = &model.objects;
+    let seed = opts.seed ^ splitmix64(2 * m as u64 + 2);
+    let mult = |i: usize| -> Vec<u8> {
+        let mut rng = object_stream(seed, t.ids[i], Purpose::Analysis);
+        (0..b).map(|_| poisson1(&mut rng)).collect()
+    };
+    // The detected objects' multiplicities, row-major (object, replicate).
+    let det_mult: Vec<u8> = det.rows.par_iter().flat_map_iter(|&i| mult(i)).collect();
+    let (mut w_det, mut w2_det) = (vec![0.0; b], vec![0.0; b]);
+    // Σ m w over all objects, for ν; only the extended likelihood needs it.
+    let w_all: Vec<f64> = if model.population_size.is_some() {
+        (0..t.len())
+            .into_par_iter()
+            .fold(
+                || vec![0.0; b],
+                |mut acc, i| {
+                    for (r, k) in mult(i).into_iter().enumerate() {
+                        acc[r] += k as f64 * t.weight[i];
+                    }
+                    acc
+                },
+            )
+            .reduce(|| vec![0.0; b], |a, c| a.iter().zip(&c).map(|(x, y)| x + y).collect())
+    } else {
+        vec![f64::NAN; b]
+    };
+    for (j, w) in det.weights.iter().enumerate() {
+        for r in 0..b {
+            let k = det_mult[j * b + r] as f64;
+            w_det[r] += k * w;
+            w2_det[r] += k * w * w;
+        }
+    }
+    let per_point: Vec<Vec<f64>> = at
+        .par_iter()
+        .map(|a| {
+            let mut s = vec![0.0; b];
+            for (j, w) in det.weights.iter().enumerate() {
+                let k = density.kernel(a, j);
+                if k == 0.0 {
+                    continue;
+                }
+                let wk = w * k;
+                for (r, acc) in s.iter_mut().enumerate() {
+                    *acc += det_mult[j * b + r] as f64 * wk;
+                }
+            }
+            (0..b)
+                .map(|r| {
+                    let sums = Sums {
+                        s: s[r],
+                        w: w_det[r],
+                        w2: w2_det[r],
+                    };
+                    density.pdf_from_sums(a, sums).ln()
+                })
+                .collect()
         })
         .collect();
-    let total_w: f64 = model.weight.iter().sum();
-    Ok(ModelScore {
-        name: name.into(),
-        n_objects: model.len(),
-        n_detected: rows.len(),
-        weighted_detected_fraction: w.iter().sum::<f64>() / total_w,
-        log_likelihood: ll,
-        gof_p: p,
-        gof_p_error: (p * (1.0 - p) / synthetic.max(1) as f64).sqrt(),
-        marginals,
-        detected: pts,
-        detected_ids: rows.iter().map(|&i| model.ids[i]).collect(),
+    (0..b)
+        .map(|r| (per_point.iter().map(|p| p[r]).sum(), w_det[r] / w_all[r]))
+        .collect()
+}
+
+/// The synthetic catalogues of a model: their ln L and marginal statistics.
+struct Synthetic {
+    log_likelihood: Vec<f64>,
+    /// [catalogue][dimension] → the pair of statistics.
+    marginals: Vec<Vec<[f64; 2]>>,
+}
+
+/// `synthetic` catalogues of n detected model objects drawn by weight, each scored under the
+/// model's density and ECDFs without the catalogue's own objects.
+fn synthetic_catalogues(
+    m: usize,
+    det: &Detected,
+    density: &ModelDensity,
+    n: usize,
+    opts: &CompareOptions,
+) -> Synthetic {
+    let seed = opts.seed ^ splitmix64(2 * m as u64 + 1);
+    let mut cumulative = Vec::with_capacity(det.weights.len());
+    let mut acc = 0.0;
+    for w in &det.weights {
+        acc += w;
+        cumulative.push(acc);
+    }
+    let picks: Vec<Vec<usize>> = (0..opts.synthetic)
+        .into_par_iter()
+        .map(|t| {
+            let mut rng = run_stream(seed, Purpose::Analysis, t);
+            (0..n)
+                .map(|_| {
+                    let u = rng.random::<f64>() * acc;
+                    cumulative.partition_point(|c| *c <= u).min(cumulative.len() - 1)
+                })
+                .collect()
+        })
+        .collect();
+    // Full kernel sums at every model object a catalogue uses, computed once.
+    let mut used: Vec<usize> = picks.iter().flatten().copied().collect();
+    used.sort_unstable();
+    used.dedup();
+    let mut full = vec![f64::NAN; det.weights.len()];
+    let sums: Vec<f64> = used
+        .par_iter()
+        .map(|&j| density.sums(&density.at(&det.points[j])).s)
+        .collect();
+    for (j, s) in used.iter().zip(sums) {
+        full[*j] = s;
+    }
+    let ecdfs: Vec<WeightedEcdf> = (0..opts.space.dim())
+        .map(|d| {
+            let v: Vec<f64> = det.points.iter().map(|p| p[d]).collect();
+            WeightedEcdf::new(&v, &det.weights, opts.space.coordinates()[d] == Coordinate::Angle)
+        })
+        .collect();
+    let scored: Vec<(f64, Vec<[f64; 2]>)> = picks
+        .par_iter()
+        .map(|pick| {
+            let mut distinct = pick.clone();
+            distinct.sort_unstable();
+            distinct.dedup();
+            let (dw, dw2): (f64, f64) = distinct
+                .iter()
+                .map(|j| det.weights[*j])
+                .fold((0.0, 0.0), |(a, b), w| (a + w, b + w * w));
+            let ll = pick
+                .iter()
+                .map(|&j| {
+                    let at = density.at(&det.points[j]);
+                    let own: f64 = distinct.iter().map(|&k| det.weights[k] * density.kernel(&at, k)).sum();
+                    let sums = Sums {
+                        s: full[j] - own,
+                        w: density.total.w - dw,
+                        w2: density.total.w2 - dw2,
+                    };
+                    density.pdf_from_sums(&at, sums).ln()
+                })
+                .sum();
+            let marg = ecdfs
+                .iter()
+                .enumerate()
+                .map(|(d, e)| {
+                    let values: Vec<f64> = pick.iter().map(|&j| det.points[j][d]).collect();
+                    let removed: Vec<(f64, f64)> =
+                        distinct.iter().map(|&k| (det.points[k][d], det.weights[k])).collect();
+                    e.statistics(&values, &removed)
+                })
+                .collect();
+            (ll, marg)
+        })
+        .collect();
+    Synthetic {
+        log_likelihood: scored.iter().map(|s| s.0).collect(),
+        marginals: scored.into_iter().map(|s| s.1).collect(),
+    }
+}
+
+/// p = (1 + #{T* ≤ T})/(1 + N) and its error: the synthetic count's binomial error combined with
+/// the model-sample error of T through the null density at T (methods.md).
+pub fn lower_tail_p(t_obs: f64, null: &[f64], t_error: f64) -> (f64, f64) {
+    let n = null.len() as f64;
+    let below = null.iter().filter(|t| **t <= t_obs).count() as f64;
+    let p = (1.0 + below) / (1.0 + n);
+    let counting = p * (1.0 - p) / n;
+    let slope = null_density(null, t_obs) * t_error;
+    (
+        p,
+        (counting + if slope.is_finite() { slope * slope } else { 0.0 }).sqrt(),
+    )
+}
+
+/// A Gaussian kernel density of finite samples at x, Silverman's rule (Silverman 1986, eq. 3.31).
+fn null_density(samples: &[f64], x: f64) -> f64 {
+    let mut v: Vec<f64> = samples.iter().copied().filter(|s| s.is_finite()).collect();
+    if v.len() < 2 || !x.is_finite() {
+        return 0.0;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len() as f64;
+    let sd = std_dev(&v);
+    let iqr = super::binomial::quantile_sorted(&v, 0.75) - super::binomial::quantile_sorted(&v, 0.25);
+    let scale = if iqr > 0.0 { sd.min(iqr / 1.34) } else { sd };
+    let h = 0.9 * scale * n.powf(-0.2);
+    if !(h > 0.0) {
+        return 0.0;
+    }
+    v.iter().map(|s| (-0.5 * ((x - s) / h).powi(2)).exp()).sum::<f64>() / (n * h * (std::f64::consts::TAU).sqrt())
+}
+
+/// The marginal statistics of the catalogue against the model's ECDFs, with Monte Carlo p-values.
+fn marginal_tests(space: &Space, det: &Detected, catalogue: &[Vec<f64>], syn: &Synthetic) -> Vec<MarginalTest> {
+    let n_syn = syn.marginals.len() as f64;
+    let mut out = Vec::new();
+    for (d, obs) in space.observables.iter().enumerate() {
+        let angle = obs.coordinate() == Coordinate::Angle;
+        let v: Vec<f64> = det.points.iter().map(|p| p[d]).collect();
+        let ecdf = WeightedEcdf::new(&v, &det.weights, angle);
+        let cat: Vec<f64> = catalogue.iter().map(|x| x[d]).collect();
+        let observed = ecdf.statistics(&cat, &[]);
+        for (k, statistic) in Statistic::pair(angle).into_iter().enumerate() {
+            let above = syn.marginals.iter().filter(|s| s[d][k] >= observed[k]).count() as f64;
+            let p = (1.0 + above) / (1.0 + n_syn);
+            out.push(MarginalTest {
+                observable: obs.name(),
+                statistic,
+                value: observed[k],
+                p_value: p,
+                p_error: (p * (1.0 - p) / n_syn).sqrt(),
+            });
+        }
+    }
+    out
+}
+
+/// The result of a comparison.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Comparison {
+    pub n_observed: usize,
+    pub space: Vec<&'static str>,
+    pub density: &'static str,
+    pub frame: Center,
+    /// Scott's factor h, and the kernel's per-coordinate widths (σ in working units; for angles
+    /// 1/√κ in degrees), for the record.
+    pub bandwidth_factor: f64,
+    pub bandwidth: Vec<f64>,
+    pub models: Vec<ModelScore>,
+}
+
+/// Run a comparison: frames aligned, every model through the surveys, scored.
+pub fn compare_models(surveys: &[PreparedSurvey], mut opts: CompareOptions) -> Result<Comparison> {
+    opts.validate()?;
+    let frame = opts.align_frames()?;
+    let all: Vec<usize> = (0..opts.observed.len()).collect();
+    let catalogue = opts.space.points(&opts.observed, &all);
+    let n_catalogue = kish_n_of(&opts.observed.weight);
+    let detected = opts
+        .models
+        .iter()
+        .map(|m| Detected::of(m, &opts.space, surveys, opts.seed))
+        .collect::<Result<Vec<_>>>()?;
+    let estimator = shared_estimator(&opts.space, opts.density, &catalogue, n_catalogue, &detected)?;
+    let models = opts
+        .models
+        .iter()
+        .zip(&detected)
+        .enumerate()
+        .map(|(m, (model, det))| score_model(m, model, det, &estimator, &catalogue, &opts))
+        .collect::<Result<Vec<_>>>()?;
+    let (factor, widths) = match &estimator {
+        Estimator::Kernel(k) => (k.bandwidth.factor, kernel_widths(&opts.space, &k.bandwidth)),
+        Estimator::Binned(_) => (f64::NAN, Vec::new()),
+    };
+    Ok(Comparison {
+        n_observed: catalogue.len(),
+        space: opts.space.names(),
+        density: estimator.name(),
+        frame,
+        bandwidth_factor: factor,
+        bandwidth: widths,
+        models,
     })
+}
+
+fn kernel_widths(space: &Space, bw: &Bandwidth) -> Vec<f64> {
+    let (mut lin, mut ang) = (0, 0);
+    space
+        .coordinates()
+        .iter()
+        .map(|c| {
+            if *c == Coordinate::Angle {
+                ang += 1;
+                (1.0 / bw.kappa[ang - 1].sqrt()).to_degrees()
+            } else {
+                lin += 1;
+                bw.covariance[(lin - 1, lin - 1)].sqrt()
+            }
+        })
+        .collect()
 }

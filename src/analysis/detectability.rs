@@ -1,7 +1,9 @@
 //! Per-object detectability: how likely the surveys were to discover an object with this
 //! object's a, e, i and H when the angles that were not observed are redrawn (M always, Ω and
-//! ω as chosen), and the selection function on a grid of (a, q, i, H) bins, marginalized over
-//! the redrawn angles, for likelihood fits.
+//! ω as chosen): the weight of a catalogue object in a fit that conditions on its orbit. The
+//! selection function of a population over (a, q, i, H) cells is `selection.rs` (a cell grid
+//! built from catalogue objects would be biased high: the found objects are the findable ones).
+//! This module also owns `detectability.*` (write and read).
 
 use std::f64::consts::TAU;
 
@@ -9,11 +11,11 @@ use rand::RngExt;
 use rayon::prelude::*;
 
 use super::binomial::Proportion;
-use super::likelihood::bin_of;
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
+use crate::io::out_dir::{OutDir, col};
 use crate::orbit::Elements;
 
 /// Which angles besides the mean anomaly are redrawn uniformly in each trial.
@@ -113,71 +115,77 @@ fn one_object(
     }
 }
 
-/// Bin edges of the selection-function grid, per quantity.
-#[derive(Debug, Clone, PartialEq)]
-pub struct GridEdges {
-    pub a_au: Vec<f64>,
-    pub q_au: Vec<f64>,
-    pub inc_deg: Vec<f64>,
-    pub h_mag: Vec<f64>,
-}
+/// Most trials (objects × clones) one run takes without `--over-budget`: 10^8, about a quarter
+/// of an hour at the engine's speed on a small survey (performance.md).
+pub const MAX_TRIALS: u64 = 100_000_000;
 
-impl Default for GridEdges {
-    fn default() -> Self {
-        GridEdges {
-            a_au: vec![0.0, 30.0, 50.0, 100.0, 250.0, 1000.0, 1e5],
-            q_au: vec![0.0, 30.0, 40.0, 50.0, 75.0, 100.0, 1e5],
-            inc_deg: vec![0.0, 10.0, 20.0, 30.0, 45.0, 90.0, 180.0],
-            h_mag: vec![-5.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 20.0],
-        }
+/// Refuse a run of more than `MAX_TRIALS` trials unless the user said it is meant.
+pub fn check_budget(objects: usize, clones: u64, over_budget: bool) -> Result<()> {
+    if clones == 0 {
+        return Err(Error::input("--clones: expected at least 1"));
     }
-}
-
-/// One non-empty bin of the selection function.
-#[derive(Debug, Clone, PartialEq)]
-pub struct GridBin {
-    /// (lo, hi) of a_au, q_au, inc_deg, h_mag.
-    pub edges: [(f64, f64); 4],
-    pub n_objects: u64,
-    pub result: Proportion,
-}
-
-/// Sum the trials of each object into its (a, q, i, H) bin; objects outside the grid are
-/// counted in the second value. Bins without objects are left out.
-pub fn selection_grid(objects: &ObjectTable, per_object: &[ObjectDetectability], g: &GridEdges) -> (Vec<GridBin>, u64) {
-    let dims = [&g.a_au, &g.q_au, &g.inc_deg, &g.h_mag];
-    let edges: Vec<Vec<f64>> = dims.iter().map(|d| d.to_vec()).collect();
-    let mut acc: std::collections::BTreeMap<usize, (u64, u64, u64)> = Default::default();
-    let mut outside = 0;
-    for d in per_object {
-        let el = &objects.elements[d.row];
-        let x = [el.a_au, el.q_au(), el.inc.to_degrees(), objects.h_mag[d.row]];
-        match bin_of(&edges, &x) {
-            Some(b) => {
-                let e = acc.entry(b).or_default();
-                e.0 += 1;
-                e.1 += d.discovered.n;
-                e.2 += d.discovered.k;
-            }
-            None => outside += 1,
-        }
+    let trials = (objects as u64).saturating_mul(clones);
+    if trials > MAX_TRIALS && !over_budget {
+        return Err(Error::input(format!(
+            "--clones {clones}: {objects} objects × {clones} clones = {trials} trials, more than the \
+             {MAX_TRIALS} one run takes; use fewer clones, --shard K/N, or --over-budget if it is meant"
+        )));
     }
-    let bins = acc
-        .into_iter()
-        .map(|(b, (n_obj, n, k))| {
-            let mut rest = b;
-            let mut ranges = [(0.0, 0.0); 4];
-            for (slot, e) in ranges.iter_mut().zip(&edges).rev() {
-                let m = e.len() - 1;
-                *slot = (e[rest % m], e[rest % m + 1]);
-                rest /= m;
-            }
-            GridBin {
-                edges: ranges,
-                n_objects: n_obj,
-                result: Proportion::new(k, n),
-            }
-        })
-        .collect();
-    (bins, outside)
+    Ok(())
+}
+
+pub const TABLE: &str = "detectability";
+
+/// Write `detectability.*`: one row per object with its trials, discoveries, chance and interval.
+pub fn write(
+    out: &OutDir,
+    objects: &ObjectTable,
+    res: &[ObjectDetectability],
+    survey_keys: &[String],
+) -> Result<std::path::PathBuf> {
+    let el = |f: fn(&Elements) -> f64| res.iter().map(|d| f(&objects.elements[d.row])).collect::<Vec<f64>>();
+    let p = |f: fn(&Proportion) -> f64| res.iter().map(|d| f(&d.discovered)).collect::<Vec<f64>>();
+    let mut cols = vec![
+        col("id", res.iter().map(|d| objects.ids[d.row]).collect::<Vec<i64>>()),
+        col("a_au", el(|e| e.a_au)),
+        col("e", el(|e| e.e)),
+        col("q_au", el(|e| e.q_au())),
+        col("inc_deg", el(|e| e.inc.to_degrees())),
+        col("h_mag", res.iter().map(|d| objects.h_mag[d.row]).collect::<Vec<f64>>()),
+        col("trials", res.iter().map(|d| d.discovered.n).collect::<Vec<u64>>()),
+        col("discovered", res.iter().map(|d| d.discovered.k).collect::<Vec<u64>>()),
+        col("secured", res.iter().map(|d| d.secured).collect::<Vec<u64>>()),
+        col("p_discover", p(|x| x.fraction)),
+        col("p_std_error", p(|x| x.std_error)),
+        col("p_wilson_lo", p(|x| x.lower)),
+        col("p_wilson_hi", p(|x| x.upper)),
+    ];
+    for (s, key) in survey_keys.iter().enumerate() {
+        let name = format!("discovered_{key}");
+        cols.push(col(&name, res.iter().map(|d| d.by_survey[s]).collect::<Vec<u64>>()));
+    }
+    out.write(TABLE, cols)
+}
+
+/// One plain sentence with the numbers.
+pub fn conclusion(res: &[ObjectDetectability], objects: &ObjectTable, k: u64) -> String {
+    let Some(best) = res
+        .iter()
+        .max_by(|x, y| x.discovered.fraction.total_cmp(&y.discovered.fraction))
+    else {
+        return "seine detectability: no objects in this shard".into();
+    };
+    let mut p: Vec<f64> = res.iter().map(|d| d.discovered.fraction).collect();
+    p.sort_by(f64::total_cmp);
+    let low = p.iter().filter(|x| **x < 0.01).count();
+    format!(
+        "seine detectability: {} objects × {k} trials. Median chance of discovery {:.2}%; {low} objects below 1%; \
+         highest: id {} at {:.2}% (95% Wilson {:.2}%–{:.2}%).",
+        res.len(),
+        100.0 * super::binomial::quantile_sorted(&p, 0.5),
+        objects.ids[best.row],
+        100.0 * best.discovered.fraction,
+        100.0 * best.discovered.lower,
+        100.0 * best.discovered.upper
+    )
 }

@@ -5,11 +5,13 @@
 //! Each object is run once through all surveys (its `Observe` stream, as `seine observe`);
 //! the engine gives every survey its own verdict. Fractions: per H or a bin, discoveries
 //! over the objects in that bin; per distance bin, discoveries at that distance over the
-//! whole population (the distance exists only for a discovery). Counts are unweighted.
+//! whole population (the distance exists only for a discovery). Every fraction is weighted by
+//! the objects' weights (importance sampling), with its interval at the effective n
+//! (`binomial.rs`); raw counts are kept beside.
 
 use rayon::prelude::*;
 
-use super::binomial::Proportion;
+use super::binomial::{Proportion, Tally};
 use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
@@ -34,7 +36,9 @@ pub struct YieldRow {
     pub hi: f64,
     pub n_objects: u64,
     pub discovered: Proportion,
+    /// Objects seen again (secured), counted and weighted.
     pub secured: u64,
+    pub secured_fraction: f64,
     /// This survey's discovered fraction over the best single survey's in the bin.
     pub ratio_to_best: f64,
 }
@@ -72,8 +76,14 @@ fn per_survey(out: &ObjectOutcome, surveys: &[PreparedSurvey]) -> Vec<Verdict> {
     v
 }
 
-/// The yield table over the given bin edges (distance at discovery, H, a).
-pub fn yields(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64, edges: &[Vec<f64>; 3]) -> Vec<YieldRow> {
+/// The yield table over the given bin edges (distance at discovery, H, a), and each survey's
+/// totals (then "any").
+pub fn yields(
+    objects: &ObjectTable,
+    surveys: &[PreparedSurvey],
+    seed: u64,
+    edges: &[Vec<f64>; 3],
+) -> (Vec<YieldRow>, Vec<(Tally, Tally)>) {
     let v = verdicts(objects, surveys, seed);
     let mut names: Vec<String> = surveys.iter().map(|s| s.survey.name.clone()).collect();
     names.push("any".into());
@@ -98,7 +108,7 @@ pub fn yields(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64, edge
             rows.extend(block);
         }
     }
-    rows
+    (rows, totals_of(objects, &v))
 }
 
 fn bin_row(
@@ -111,7 +121,7 @@ fn bin_row(
     quantity: &'static str,
 ) -> YieldRow {
     let inside = |x: f64| x >= lo && x < hi;
-    let (mut n, mut k, mut secured) = (0u64, 0u64, 0u64);
+    let (mut found, mut secured) = (Tally::default(), Tally::default());
     for (i, vi) in v.iter().enumerate() {
         let x = match q {
             0 => vi[s].r_au,
@@ -119,21 +129,40 @@ fn bin_row(
             _ => objects.elements[i].a_au,
         };
         // Distance bins count the whole population in the denominator.
-        let counted = q == 0 || inside(x);
-        n += counted as u64;
-        if counted && vi[s].discovered && inside(x) {
-            k += 1;
-            secured += vi[s].secured as u64;
+        if q == 0 || inside(x) {
+            let hit = vi[s].discovered && inside(x);
+            found.add(objects.weight[i], hit);
+            secured.add(objects.weight[i], hit && vi[s].secured);
         }
     }
+    let t = secured.proportion();
     YieldRow {
         survey: name.into(),
         quantity,
         lo,
         hi,
-        n_objects: n,
-        discovered: Proportion::new(k, n),
-        secured,
+        n_objects: found.n,
+        discovered: found.proportion(),
+        secured: t.k,
+        secured_fraction: t.fraction,
         ratio_to_best: f64::NAN,
     }
+}
+
+/// Each survey's (and "any"'s) totals over the whole population: the discovered and the
+/// secured objects, weighted.
+pub fn totals(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<(Tally, Tally)> {
+    totals_of(objects, &verdicts(objects, surveys, seed))
+}
+
+fn totals_of(objects: &ObjectTable, v: &[Vec<Verdict>]) -> Vec<(Tally, Tally)> {
+    let k = v.first().map_or(0, Vec::len);
+    let mut out = vec![(Tally::default(), Tally::default()); k];
+    for (i, vi) in v.iter().enumerate() {
+        for (s, t) in out.iter_mut().enumerate() {
+            t.0.add(objects.weight[i], vi[s].discovered);
+            t.1.add(objects.weight[i], vi[s].secured);
+        }
+    }
+    out
 }

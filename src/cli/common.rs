@@ -202,45 +202,7 @@ pub fn load_surveys(
     Ok(surveys)
 }
 
-/// Where the analysis commands write: `DIR/<stem>.<ext>` tables and `DIR/summary.json`.
-pub struct OutDir {
-    pub dir: std::path::PathBuf,
-    pub format: seine::io::table::Format,
-    pub provenance: seine::io::Provenance,
-}
-
-impl OutDir {
-    pub fn table(&self, stem: &str) -> std::path::PathBuf {
-        self.dir.join(format!("{stem}.{}", self.format.extension()))
-    }
-
-    /// Write a table built from columns (all of one length).
-    pub fn write(&self, stem: &str, columns: Vec<polars::prelude::Column>) -> Result<std::path::PathBuf> {
-        let height = columns.first().map_or(0, |c| c.len());
-        let mut df = polars::prelude::DataFrame::new(height, columns).map_err(|e| Error::io(e.to_string()))?;
-        let path = self.table(stem);
-        seine::io::table::write_table(&mut df, &path, &self.provenance)?;
-        Ok(path)
-    }
-
-    /// Write `summary.json`: the command's numbers, its conclusion and the provenance.
-    pub fn summary(&self, mut value: serde_json::Value, conclusion: &str) -> Result<std::path::PathBuf> {
-        value["conclusion"] = conclusion.into();
-        value["provenance"] = serde_json::to_value(&self.provenance).map_err(|e| Error::io(e.to_string()))?;
-        let path = self.dir.join("summary.json");
-        let text = serde_json::to_string_pretty(&value).map_err(|e| Error::io(e.to_string()))?;
-        seine::io::table::write_atomic(&path, text.as_bytes())?;
-        Ok(path)
-    }
-}
-
-/// A column of named values.
-pub fn col<T>(name: &str, v: Vec<T>) -> polars::prelude::Column
-where
-    polars::prelude::Series: polars::prelude::NamedFrom<Vec<T>, [T]>,
-{
-    <polars::prelude::Series as polars::prelude::NamedFrom<Vec<T>, [T]>>::new(name.into(), v).into()
-}
+pub use seine::io::out_dir::{OutDir, col};
 
 /// Comma-separated increasing bin edges for `option`.
 pub fn parse_edges(option: &str, s: &str) -> Result<Vec<f64>> {
@@ -312,15 +274,4 @@ impl RunArgs {
             eprintln!("wrote {}", list.join(", "));
         }
     }
-}
-
-/// The columns of a list of proportions: discovered, fraction, std_error, wilson_lo, wilson_hi.
-pub fn proportion_columns(p: &[seine::analysis::binomial::Proportion]) -> Vec<polars::prelude::Column> {
-    vec![
-        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
-        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
-        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
-        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
-        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
-    ]
 }

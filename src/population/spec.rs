@@ -95,6 +95,8 @@ pub struct ImportSection {
     /// Rotate the node of each clone by a uniform random angle.
     #[serde(default)]
     pub rotate_node: bool,
+    /// Keep each particle's resonant angle with Neptune (p:q) when M is redrawn.
+    pub resonance: Option<super::resonance::Resonance>,
 }
 
 /// How the orbit's size and shape are drawn.
@@ -170,6 +172,7 @@ pub struct CloneSpec {
     pub clones: u64,
     pub h: Option<Distribution>,
     pub rotate_node: bool,
+    pub resonance: Option<super::resonance::Resonance>,
 }
 
 /// What a spec asks for.
@@ -307,12 +310,16 @@ fn resolve_import(path: &Path, import: ImportSection) -> Result<CloneSpec> {
         ));
     }
     let h = checked(path, "import.h_mag", import.h_mag)?;
+    if let Some(p) = import.resonance.as_ref().and_then(|r| r.problem()) {
+        return Err(key_error(path, "import.resonance", p));
+    }
     let base = path.parent().unwrap_or(Path::new(""));
     Ok(CloneSpec {
         objects: base.join(import.objects),
         clones: import.clones,
         h,
         rotate_node: import.rotate_node,
+        resonance: import.resonance,
     })
 }
 

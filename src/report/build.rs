@@ -8,8 +8,10 @@ use std::path::{Path, PathBuf};
 
 use super::figure::Figure;
 use super::figures::{bias, cadence, cluster, distributions, rose, sky, survey as survey_fig};
-use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, median_revisit_days, summary_bins};
-use super::tables::{EfficiencyCurve, FractionBin, YieldRow};
+use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, fraction_bins};
+use super::tables::{CadenceRow, EfficiencyCurve, FractionBin, PlanYield};
+use crate::analysis::binomial::{Proportion, Tally};
+use crate::analysis::yield_tables::{median_revisit_days, population_name};
 use crate::error::Result;
 use crate::survey::Survey;
 
@@ -74,6 +76,7 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<(Vec<Section>, Vec<Skipped>)
         add(found_section(dir, inp, run), &run.dir, &mut skipped);
     }
     add(bias_section(dir, inp), dir, &mut skipped);
+    out.extend(comparison_section(dir, inp));
     out.insert(0, overview(dir, inp, &skipped));
     let out = out
         .into_iter()
@@ -110,8 +113,18 @@ fn slug(s: &str) -> String {
     t.trim_matches('_').to_string()
 }
 
-fn pct(k: u64, n: u64) -> String {
-    format!("{:.2}%", 100.0 * k as f64 / n.max(1) as f64)
+/// A weighted fraction as a percentage.
+fn pct(p: &Proportion) -> String {
+    format!("{:.2}%", 100.0 * p.fraction)
+}
+
+/// The weighted discovered fraction of an observe run's objects.
+fn run_fraction(r: &ObserveRun) -> Proportion {
+    let mut t = Tally::default();
+    for (w, d) in r.objects.weight.iter().zip(&r.objects.detected) {
+        t.add(*w, *d);
+    }
+    t.proportion()
 }
 
 fn header(cols: &[&str]) -> Vec<String> {
@@ -120,7 +133,9 @@ fn header(cols: &[&str]) -> Vec<String> {
 
 fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
     let mut runs = Table {
-        caption: "Observe runs: objects carried through the surveys and what was found.".into(),
+        caption: "Observe runs: objects carried through the surveys and what was found (fraction \
+                  weighted by the objects' weights)."
+            .into(),
         header: header(&["run", "objects", "discovered", "fraction", "secured", "surveys"]),
         ..Default::default()
     };
@@ -137,7 +152,7 @@ fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
             label(dir, &r.dir),
             n.to_string(),
             k.to_string(),
-            pct(k, n),
+            pct(&run_fraction(r)),
             secured.to_string(),
             names.join(", "),
         ]);
@@ -191,17 +206,15 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
         .runs
         .iter()
         .map(|r| {
-            let (n, k) = (
-                r.summary["n_objects"].as_u64().unwrap_or(0),
-                r.summary["n_detected"].as_u64().unwrap_or(0),
-            );
-            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+            let p = run_fraction(r);
             format!(
-                "Run {}: {k} of {n} objects discovered ({}, 95% interval {:.3}%–{:.3}%).",
+                "Run {}: {} of {} objects discovered ({} weighted, 95% interval {:.3}%–{:.3}%).",
                 label(dir, &r.dir),
-                pct(k, n),
-                100.0 * lo,
-                100.0 * hi
+                p.k,
+                p.n,
+                pct(&p),
+                100.0 * p.lower,
+                100.0 * p.upper
             )
         })
         .collect();
@@ -272,12 +285,7 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
     let edges: Vec<f64> = (0..=40).map(|j| -2.0 + 0.1 * j as f64).collect();
     let mut measured: Vec<FractionBin> = edges
         .windows(2)
-        .map(|w| FractionBin {
-            lo: w[0],
-            hi: w[1],
-            n: 0,
-            k: 0,
-        })
+        .map(|w| FractionBin::counts(w[0], w[1], 0, 0))
         .collect();
     let mut outside_rates = 0;
     for det in inp.runs.iter().filter_map(|r| r.detections.as_ref()) {
@@ -291,8 +299,7 @@ fn efficiency_curve(inp: &Inputs, s: &Survey) -> EfficiencyCurve {
             }
             let k = edges.partition_point(|&e| e <= det.mag[i] - d);
             if k > 0 && k < edges.len() {
-                measured[k - 1].n += 1;
-                measured[k - 1].k += det.detected[i] as u64;
+                measured[k - 1].tally.add(1.0, det.detected[i]);
             }
         }
     }
@@ -389,7 +396,7 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
         )?,
     ];
     for q in ["a_au", "h_mag"] {
-        figures.push(distributions::discovered_fraction(q, &summary_bins(&run.summary, q))?);
+        figures.push(distributions::discovered_fraction(q, &fraction_bins(run, q))?);
     }
     let surveys = surveys_of(inp, run);
     let found: Vec<(f64, f64)> = o.discovery_radec_deg.iter().flatten().copied().collect();
@@ -403,8 +410,8 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
     for f in &mut figures {
         f.stem = format!("{prefix}{}", f.stem);
     }
-    let mut tables = vec![fraction_table(&run.summary)];
-    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected)));
+    let mut tables = vec![fraction_table(run)];
+    tables.extend(o.parent_id.as_ref().map(|p| parent_table(p, &o.detected, &o.weight)));
     if let Some((path, rows)) = run.discoveries.as_ref().filter(|(_, rows)| !rows.is_empty()) {
         tables.push(first_discoveries(dir, path, rows));
     }
@@ -507,32 +514,30 @@ fn first_discoveries(dir: &Path, path: &Path, rows: &[crate::engine::discoveries
     }
 }
 
-/// The fraction of each particle's clones that were discovered: the particle's detection
-/// probability, the per-object weight of a likelihood fit (first 25 particles).
-fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
-    let mut by: BTreeMap<i64, (u64, u64)> = Default::default();
-    for (p, d) in parent.iter().zip(detected) {
-        let e = by.entry(*p).or_default();
-        e.0 += 1;
-        e.1 += *d as u64;
+/// The fraction of each particle's clones that were discovered (weighted): the particle's
+/// detection probability, the per-object weight of a likelihood fit (first 25 particles).
+fn parent_table(parent: &[i64], detected: &[bool], weight: &[f64]) -> Table {
+    let mut by: std::collections::BTreeMap<i64, Tally> = Default::default();
+    for ((p, d), w) in parent.iter().zip(detected).zip(weight) {
+        by.entry(*p).or_default().add(*w, *d);
     }
     let rows = by
         .iter()
         .take(25)
-        .map(|(p, &(n, k))| {
-            let (lo, hi) = super::stats::wilson(k, n, 1.96);
+        .map(|(p, t)| {
+            let f = t.proportion();
             vec![
                 p.to_string(),
-                n.to_string(),
-                k.to_string(),
-                format!("{:.3}", k as f64 / n as f64),
-                format!("{lo:.3}–{hi:.3}"),
+                t.n.to_string(),
+                t.k.to_string(),
+                format!("{:.3}", f.fraction),
+                format!("{:.3}–{:.3}", f.lower, f.upper),
             ]
         })
         .collect();
     Table {
         caption: format!(
-            "Detection probability per simulation particle: the fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
+            "Detection probability per simulation particle: the (weighted) fraction of its clones discovered, with 95% Wilson intervals ({} particles{}).",
             by.len(),
             if by.len() > 25 { ", the first 25 shown" } else { "" }
         ),
@@ -542,23 +547,25 @@ fn parent_table(parent: &[i64], detected: &[bool]) -> Table {
     }
 }
 
-fn fraction_table(summary: &serde_json::Value) -> Table {
-    let rows = summary_bins(summary, "q_au")
+fn fraction_table(run: &ObserveRun) -> Table {
+    let rows = fraction_bins(run, "q_au")
         .iter()
-        .filter(|b| b.n > 0)
+        .filter(|b| b.n() > 0)
         .map(|b| {
-            let (lo, hi) = super::stats::wilson(b.k, b.n, 1.96);
+            let p = b.proportion();
             vec![
                 format!("{:.0}–{:.0}", b.lo, b.hi),
-                b.n.to_string(),
-                b.k.to_string(),
-                pct(b.k, b.n),
-                format!("{:.3}%–{:.3}%", 100.0 * lo, 100.0 * hi),
+                p.n.to_string(),
+                p.k.to_string(),
+                pct(&p),
+                format!("{:.3}%–{:.3}%", 100.0 * p.lower, 100.0 * p.upper),
             ]
         })
         .collect();
     Table {
-        caption: "Discovered fraction by perihelion distance q (from summary.json), with 95% Wilson intervals.".into(),
+        caption: "Discovered fraction by perihelion distance q (bins of summary.json; fractions weighted by the \
+                  objects' weights), with 95% Wilson intervals at the effective number of objects."
+            .into(),
         header: header(&["q (AU)", "objects", "discovered", "fraction", "95% interval"]),
         rows,
         link: None,
@@ -589,20 +596,27 @@ fn cadence_groups(inp: &Inputs) -> Vec<Vec<&ObserveRun>> {
 }
 
 /// The yield rows of cadence-variant runs.
-fn variant_rows(inp: &Inputs, group: &[&ObserveRun]) -> Vec<YieldRow> {
+fn variant_rows(inp: &Inputs, group: &[&ObserveRun]) -> Vec<PlanYield> {
     group
         .iter()
         .filter_map(|r| {
             let s = surveys_of(inp, r).into_iter().next()?;
-            Some(YieldRow {
+            let p = run_fraction(r);
+            let row = CadenceRow {
                 plan: s.name.clone(),
                 population: r
                     .objects_input
                     .as_ref()
-                    .map_or("objects".into(), |(p, _)| inputs::population_name(p)),
+                    .map_or("objects".into(), |(path, _)| population_name(path)),
                 cadence_days: median_revisit_days(s)?,
-                n_objects: r.summary["n_objects"].as_u64()?,
-                n_discovered: r.summary["n_detected"].as_u64()?,
+                n_objects: p.n,
+                n_discovered: p.k,
+                fraction: p.fraction,
+                wilson_lo: p.lower,
+                wilson_hi: p.upper,
+            };
+            Some(PlanYield {
+                row,
                 effort: Some(effort_of(s)),
             })
         })
@@ -611,7 +625,7 @@ fn variant_rows(inp: &Inputs, group: &[&ObserveRun]) -> Vec<YieldRow> {
 
 /// The cadence comparison of `source` (a yield directory or a group of runs); `stem` tells
 /// its figure apart from others (empty for the report directory's own).
-fn yield_section(source: &str, stem: &str, rows: &[YieldRow]) -> Result<Section> {
+fn yield_section(source: &str, stem: &str, rows: &[PlanYield]) -> Result<Section> {
     let mut f = cadence::yield_vs_cadence(rows)?;
     if !stem.is_empty() {
         f.stem = format!("{}_{stem}", f.stem);
@@ -629,10 +643,10 @@ fn yield_section(source: &str, stem: &str, rows: &[YieldRow]) -> Result<Section>
     })
 }
 
-fn yield_table(rows: &[YieldRow]) -> Table {
+fn yield_table(rows: &[PlanYield]) -> Table {
     let dash = || "–".to_string();
     Table {
-        caption: "Yield per plan, with 95% Wilson intervals on the discovered fraction; each plan's \
+        caption: "Yield per plan, with 95% Wilson intervals on the (weighted) discovered fraction; each plan's \
                   visits, hours (telescope time, or open shutter †) and area covered, and the \
                   discoveries per 100 hours."
             .into(),
@@ -651,9 +665,8 @@ fn yield_table(rows: &[YieldRow]) -> Table {
         ]),
         rows: rows
             .iter()
-            .map(|r| {
-                let (lo, hi) = super::stats::wilson(r.n_discovered, r.n_objects, 1.96);
-                let e = r.effort.as_ref();
+            .map(|PlanYield { row: r, effort }| {
+                let e = effort.as_ref();
                 vec![
                     r.plan.clone(),
                     r.population.clone(),
@@ -665,10 +678,11 @@ fn yield_table(rows: &[YieldRow]) -> Table {
                     e.map_or_else(dash, |e| format!("{:.0}", e.area_sq_deg)),
                     r.n_objects.to_string(),
                     r.n_discovered.to_string(),
-                    pct(r.n_discovered, r.n_objects),
-                    format!("{:.2}%–{:.2}%", 100.0 * lo, 100.0 * hi),
-                    e.filter(|e| e.hours > 0.0)
-                        .map_or_else(dash, |e| format!("{:.2}", 100.0 * r.n_discovered as f64 / e.hours)),
+                    format!("{:.2}%", 100.0 * r.fraction),
+                    format!("{:.2}%–{:.2}%", 100.0 * r.wilson_lo, 100.0 * r.wilson_hi),
+                    e.filter(|e| e.hours > 0.0).map_or_else(dash, |e| {
+                        format!("{:.2}", 100.0 * r.fraction * r.n_objects as f64 / e.hours)
+                    }),
                 ]
             })
             .collect(),
@@ -751,4 +765,45 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
             .collect(),
         link: None,
     }
+}
+
+/// Model comparisons: each model's ln L with its model-sample error, Δ to the best and the
+/// goodness of fit, as `seine compare-models` wrote them.
+fn comparison_section(dir: &Path, inp: &Inputs) -> Option<Section> {
+    if inp.comparisons.is_empty() {
+        return None;
+    }
+    let tables = inp
+        .comparisons
+        .iter()
+        .map(|(file, rows)| Table {
+            caption: format!(
+                "Model comparison from {}: ln L of the catalogue under each model's detected density, \
+                 ± its model-sample error (bootstrap over the model's objects); Δ to the best model; \
+                 goodness of fit p (lower tail, from synthetic catalogues of the model's own detected objects).",
+                label(dir, Path::new(file))
+            ),
+            header: header(&["model", "objects", "detected", "ln L", "Δ ln L", "goodness of fit p"]),
+            rows: rows
+                .iter()
+                .map(|r| {
+                    vec![
+                        r.model.clone(),
+                        r.n_objects.to_string(),
+                        r.n_detected.to_string(),
+                        format!("{:.2} ± {:.2}", r.log_likelihood, r.log_likelihood_error),
+                        format!("{:.2} ± {:.2}", r.delta, r.delta_error),
+                        format!("{:.3} ± {:.3}", r.gof_p, r.gof_p_error),
+                    ]
+                })
+                .collect(),
+            link: None,
+        })
+        .collect();
+    Some(Section {
+        title: "Model comparison".into(),
+        intro: "Which model population explains the catalogue once both are seen through the surveys.".into(),
+        tables,
+        ..Default::default()
+    })
 }

@@ -2,17 +2,18 @@
 //! plan coverage reports and the analysis tables, by the file names documented in `mod.rs`.
 //! Everything is read into the tidy tables of `tables.rs`.
 
-use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
-use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, RoseBin, YieldRow};
+use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, PlanYield, RoseBin};
+use crate::analysis::comparison::{self, ModelRow};
+use crate::analysis::yield_tables;
 use crate::engine::discoveries::{self, Discovery};
 use crate::error::{Error, Result, io_at};
 use crate::io::objects::ObjectTable;
 use crate::io::provenance::{Provenance, read_provenance};
-use crate::io::table::{Columns, read_parquet_metadata, read_table};
+use crate::io::table::{Columns, read_table};
 use crate::survey::Survey;
 
 /// One `observe` output directory.
@@ -54,7 +55,7 @@ impl Skipped {
 /// (from its summary's provenance) for their effort.
 pub struct YieldSet {
     pub dir: PathBuf,
-    pub rows: Vec<YieldRow>,
+    pub rows: Vec<PlanYield>,
 }
 
 /// The per-object columns the figures use.
@@ -67,6 +68,8 @@ pub struct Observed {
     pub r_au: Vec<f64>,
     pub varpi_deg: Vec<f64>,
     pub node_deg: Vec<f64>,
+    /// The objects' weights (importance sampling; 1 when the table has none).
+    pub weight: Vec<f64>,
     pub detected: Vec<bool>,
     pub discovery_r_au: Vec<Option<f64>>,
     pub discovery_radec_deg: Vec<Option<(f64, f64)>>,
@@ -100,6 +103,8 @@ pub struct Inputs {
     pub roses: Vec<(String, Vec<RoseBin>, String)>,
     pub null_tests: Vec<NullTest>,
     pub yields: Vec<YieldSet>,
+    /// Model comparisons (`models.*` of `seine compare-models`): the file and its rows.
+    pub comparisons: Vec<(String, Vec<ModelRow>)>,
     /// Inputs that could not be read, each with the reason.
     pub skipped: Vec<Skipped>,
 }
@@ -112,6 +117,7 @@ impl Inputs {
             && self.roses.is_empty()
             && self.null_tests.is_empty()
             && self.yields.is_empty()
+            && self.comparisons.is_empty()
     }
 
     /// Keep what `read` gives; an input error is noted against `path` and the scan goes on.
@@ -192,7 +198,7 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
              or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
-             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*), here or one directory down",
+             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*, models.*), here or one directory down",
             dir.display()
         )));
     }
@@ -213,6 +219,10 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         inputs.null_tests.extend(read_null_tests(f)?);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.push(read_yield_set(f)?);
+    } else if comparison::find(f.parent().unwrap_or(Path::new("."))).as_deref() == Some(f) {
+        inputs
+            .comparisons
+            .push((f.display().to_string(), comparison::read_models(f)?));
     }
     Ok(())
 }
@@ -322,6 +332,7 @@ fn read_observed(path: &Path) -> Result<Observed> {
         r_au: el.iter().map(|e| e.to_state().0.norm()).collect(),
         varpi_deg: el.iter().map(|e| e.varpi().to_degrees()).collect(),
         node_deg: el.iter().map(|e| e.node.to_degrees().rem_euclid(360.0)).collect(),
+        weight: t.weight.clone(),
         detected: bools(&c, "detected")?,
         discovery_r_au: nullable(&t.frame, path, "discovery_r_au")?,
         discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
@@ -364,28 +375,36 @@ fn is_survey_spec(p: &Path) -> bool {
     std::fs::read_to_string(p).is_ok_and(|t| t.contains("[survey]"))
 }
 
-/// The discovered-fraction bins of one quantity from `summary.json` (`bins[].quantity`).
-pub fn summary_bins(summary: &serde_json::Value, quantity: &str) -> Vec<FractionBin> {
-    let Some(b) = summary["bins"]
+/// The weighted discovered-fraction bins of `a_au`, `h_mag` or `q_au`, over the bin edges of
+/// the run's `summary.json` (`bins[].quantity`), from the objects and their weights.
+pub fn fraction_bins(run: &ObserveRun, quantity: &str) -> Vec<FractionBin> {
+    let o = &run.objects;
+    let values = match quantity {
+        "a_au" => &o.a_au,
+        "h_mag" => &o.h_mag,
+        "q_au" => &o.q_au,
+        _ => return Vec::new(),
+    };
+    let Some(b) = run.summary["bins"]
         .as_array()
         .and_then(|a| a.iter().find(|b| b["quantity"] == quantity))
     else {
         return Vec::new();
     };
-    let nums = |k: &str| -> Vec<f64> {
-        b[k].as_array()
-            .map(|a| a.iter().filter_map(|x| x.as_f64()).collect())
-            .unwrap_or_default()
-    };
-    let (edges, n, k) = (nums("edges"), nums("n"), nums("detected"));
-    (0..n.len().min(k.len()).min(edges.len().saturating_sub(1)))
-        .map(|j| FractionBin {
-            lo: edges[j],
-            hi: edges[j + 1],
-            n: n[j] as u64,
-            k: k[j] as u64,
-        })
-        .collect()
+    let edges: Vec<f64> = b["edges"]
+        .as_array()
+        .map(|a| a.iter().filter_map(|x| x.as_f64()).collect())
+        .unwrap_or_default();
+    let mut bins: Vec<FractionBin> = edges
+        .windows(2)
+        .map(|w| FractionBin::counts(w[0], w[1], 0, 0))
+        .collect();
+    for i in 0..values.len() {
+        if let Some(k) = crate::analysis::binomial::bin_index(&edges, values[i]) {
+            bins[k].tally.add(o.weight[i], o.detected[i]);
+        }
+    }
+    bins
 }
 
 /// `bias_map*.csv`: columns `X_min, X_max, Y_min, Y_max` for two quantities and a value
@@ -565,38 +584,22 @@ fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
     Ok(tests)
 }
 
-/// `yield_cadence.csv` (or `.parquet`, as `seine yield` writes it): `plan, cadence_days,
-/// n_objects, n_discovered`, optional `population`; with the effort of each plan from the
-/// survey specs in the provenance of `summary.json` beside it, when there is one.
+/// `yield_cadence.*` (read by `analysis::yield_tables`), with the effort of each plan from
+/// the survey specs in the provenance of `summary.json` beside it, when there is one.
 fn read_yield_set(path: &Path) -> Result<YieldSet> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    let (plan, cad, n, k) = (
-        c.str("plan")?,
-        c.f64("cadence_days")?,
-        c.i64("n_objects")?,
-        c.i64("n_discovered")?,
-    );
     let dir = path.parent().unwrap_or(Path::new("")).to_path_buf();
     let (surveys, objects) = yield_context(&dir);
-    let found = objects.as_deref().map(population_name);
+    let found = objects.as_deref().map(yield_tables::population_name);
     let stem = objects
         .as_deref()
         .and_then(|p| p.file_stem())
         .map(|s| s.to_string_lossy().into_owned());
-    let pop = if c.has("population") {
-        c.str("population")?
-    } else {
-        vec!["population".to_string(); plan.len()]
-    };
-    let rows = (0..plan.len())
-        .map(|i| YieldRow {
-            plan: plan[i].clone(),
-            population: population_label(&pop[i], stem.as_deref(), found.as_deref()),
-            cadence_days: cad[i],
-            n_objects: n[i].max(0) as u64,
-            n_discovered: k[i].max(0) as u64,
-            effort: surveys.iter().find(|s| s.name == plan[i]).map(effort_of),
+    let rows = yield_tables::read_cadence(path)?
+        .into_iter()
+        .map(|mut row| {
+            row.population = population_label(&row.population, stem.as_deref(), found.as_deref());
+            let effort = surveys.iter().find(|s| s.name == row.plan).map(effort_of);
+            PlanYield { row, effort }
         })
         .collect();
     Ok(YieldSet { dir, rows })
@@ -622,21 +625,6 @@ fn yield_context(dir: &Path) -> (Vec<Survey>, Option<PathBuf>) {
         .map(|i| PathBuf::from(&i.path))
         .find(|p| matches!(name_of(p).rsplit('.').next(), Some("parquet" | "csv")));
     (surveys, objects)
-}
-
-/// A population's name: the `name` of the spec that drew it (stored in the table by `seine
-/// draw`, or a spec `STEM.toml` beside it), else its file name.
-pub fn population_name(objects: &Path) -> String {
-    let stored = read_parquet_metadata(objects)
-        .ok()
-        .and_then(|kv| kv.into_iter().find(|(k, _)| k == "seine.population_spec"))
-        .map(|(_, text)| text);
-    let beside = || std::fs::read_to_string(objects.with_extension("toml")).ok();
-    stored
-        .or_else(beside)
-        .and_then(|text| text.parse::<toml::Table>().ok())
-        .and_then(|t| t.get("population")?.get("name")?.as_str().map(String::from))
-        .unwrap_or_else(|| name_of(objects))
 }
 
 /// The label of a yield row's population: the written one, unless it is only the bare stem
@@ -673,26 +661,4 @@ pub fn effort_of(s: &Survey) -> Effort {
         telescope_time: telescope_hours.is_some(),
         area_sq_deg,
     }
-}
-
-/// The median interval, in nights, between successive distinct nights on which a field (a
-/// pointing centre, to 1″) was visited; fields visited on one night only add nothing.
-pub fn median_revisit_days(s: &Survey) -> Option<f64> {
-    let v = &s.visits;
-    let mut by_field: HashMap<(i64, i64), Vec<i64>> = HashMap::new();
-    for i in 0..v.len() {
-        let key = (
-            (v.ra_deg[i] * 3600.0).round() as i64,
-            (v.dec_deg[i] * 3600.0).round() as i64,
-        );
-        by_field.entry(key).or_default().push(v.night[i]);
-    }
-    let mut gaps: Vec<i64> = Vec::new();
-    for nights in by_field.values_mut() {
-        nights.sort_unstable();
-        nights.dedup();
-        gaps.extend(nights.windows(2).map(|w| w[1] - w[0]));
-    }
-    gaps.sort_unstable();
-    (!gaps.is_empty()).then(|| gaps[gaps.len() / 2] as f64)
 }

@@ -1,42 +1,8 @@
-//! Small statistics the figures need: bin edges, histogram counts, binomial intervals, and the
-//! axis label of a quantity named by the project's units-in-names convention.
+//! What the figures need besides the statistics of `analysis::binomial` (bin edges, histograms,
+//! weighted proportions and Wilson intervals, re-exported or used from there): the finite range
+//! of values and the axis label of a quantity named by the units-in-names convention.
 
-/// `n + 1` equally spaced edges from `lo` to `hi`.
-pub fn lin_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
-    (0..=n).map(|k| lo + (hi - lo) * k as f64 / n as f64).collect()
-}
-
-/// `n + 1` logarithmically spaced edges from `lo` to `hi` (both > 0).
-pub fn log_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
-    let (a, b) = (lo.ln(), hi.ln());
-    (0..=n).map(|k| (a + (b - a) * k as f64 / n as f64).exp()).collect()
-}
-
-/// Counts of `xs` in the bins [e_k, e_k+1); values outside the edges are not counted.
-pub fn histogram(xs: &[f64], edges: &[f64]) -> Vec<u64> {
-    let mut n = vec![0u64; edges.len().saturating_sub(1)];
-    for &x in xs {
-        let k = edges.partition_point(|&e| e <= x);
-        if k > 0 && k < edges.len() {
-            n[k - 1] += 1;
-        }
-    }
-    n
-}
-
-/// The Wilson score interval of k successes in n trials at `z` standard deviations
-/// (Wilson 1927, J. Am. Stat. Assoc. 22, 209). It stays inside [0, 1] and is sensible at
-/// k = 0 and k = n, where the normal approximation collapses to zero width.
-pub fn wilson(k: u64, n: u64, z: f64) -> (f64, f64) {
-    if n == 0 {
-        return (0.0, 1.0);
-    }
-    let (k, n) = (k as f64, n as f64);
-    let z2 = z * z;
-    let centre = (k + z2 / 2.0) / (n + z2);
-    let half = z / (n + z2) * (k * (n - k) / n + z2 / 4.0).sqrt();
-    ((centre - half).max(0.0), (centre + half).min(1.0))
-}
+pub use crate::analysis::binomial::{histogram, lin_edges, log_edges};
 
 /// The robust range [min, max] of finite values, or None when there are none.
 pub fn finite_range(xs: &[f64]) -> Option<(f64, f64)> {
@@ -106,20 +72,6 @@ pub fn symbol(name: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn wilson_matches_a_worked_example() {
-        // From memory: Newcombe (1998), Stat. Med. 17, 857, example 81/263 → Wilson 95% CI 0.2553–0.3662.
-        let (lo, hi) = wilson(81, 263, 1.959964);
-        assert!((lo - 0.2553).abs() < 5e-4 && (hi - 0.3662).abs() < 5e-4, "{lo} {hi}");
-        assert_eq!(wilson(0, 0, 1.96), (0.0, 1.0));
-        assert!(wilson(0, 10, 1.96).1 > 0.2);
-    }
-
-    #[test]
-    fn histogram_counts_half_open_bins() {
-        assert_eq!(histogram(&[0.0, 0.5, 1.0, 2.0, 3.0], &[0.0, 1.0, 2.0]), vec![2, 1]);
-    }
 
     #[test]
     fn labels_carry_units() {

@@ -2,13 +2,32 @@
 //! names; `inputs.rs` fills them from files with documented names (see `mod.rs`), and tests fill
 //! them with synthetic values.
 
-/// Trials and successes in one bin [lo, hi) of a quantity.
+use crate::analysis::binomial::{Proportion, Tally};
+
+/// Objects and discoveries in one bin [lo, hi) of a quantity, with their weights.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FractionBin {
     pub lo: f64,
     pub hi: f64,
-    pub n: u64,
-    pub k: u64,
+    pub tally: Tally,
+}
+
+impl FractionBin {
+    /// A bin of k successes in n unweighted trials.
+    pub fn counts(lo: f64, hi: f64, n: u64, k: u64) -> Self {
+        FractionBin {
+            lo,
+            hi,
+            tally: Tally::counts(k, n),
+        }
+    }
+    pub fn n(&self) -> u64 {
+        self.tally.n
+    }
+    /// The weighted fraction with its 95% interval at the effective n.
+    pub fn proportion(&self) -> Proportion {
+        self.tally.proportion()
+    }
 }
 
 /// One cell of a two-dimensional map: its rectangle in (x, y) and its value.
@@ -63,16 +82,13 @@ pub struct NullTest {
     pub naive_samples: Vec<f64>,
 }
 
-/// What one plan found of one population.
+/// What one plan found of one population (`yield_cadence.*`).
+pub use crate::analysis::yield_tables::CadenceRow;
+
+/// A plan's yield with what it cost: the unit of the equal-effort comparison.
 #[derive(Debug, Clone, PartialEq)]
-pub struct YieldRow {
-    pub plan: String,
-    pub population: String,
-    /// The cadence on the x axis: the median interval between successive nights on which a
-    /// field was visited, days.
-    pub cadence_days: f64,
-    pub n_objects: u64,
-    pub n_discovered: u64,
+pub struct PlanYield {
+    pub row: CadenceRow,
     /// What the plan cost, when its survey is known.
     pub effort: Option<Effort>,
 }

@@ -9,25 +9,24 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::wilson;
 use crate::report::style;
-use crate::report::tables::YieldRow;
+use crate::report::tables::PlanYield;
 
 /// One panel's quantity: a value and its 95% interval per row, or none (no effort known).
-type Measure = fn(&YieldRow) -> Option<(f64, f64, f64)>;
+type Measure = fn(&PlanYield) -> Option<(f64, f64, f64)>;
 
-/// The discovered fraction and its Wilson interval.
-fn fraction(r: &YieldRow) -> Option<(f64, f64, f64)> {
-    let (lo, hi) = wilson(r.n_discovered, r.n_objects, 1.96);
-    Some((r.n_discovered as f64 / r.n_objects.max(1) as f64, lo, hi))
+/// The (weighted) discovered fraction and its Wilson interval.
+fn fraction(r: &PlanYield) -> Option<(f64, f64, f64)> {
+    Some((r.row.fraction, r.row.wilson_lo, r.row.wilson_hi))
 }
 
-/// Discoveries per 100 hours of the plan's time, with the fraction's interval carried over.
-fn per_100_hours(r: &YieldRow) -> Option<(f64, f64, f64)> {
+/// Discoveries per 100 hours of the plan's time (the fraction times the objects injected),
+/// with the fraction's interval carried over.
+fn per_100_hours(r: &PlanYield) -> Option<(f64, f64, f64)> {
     let hours = r.effort.as_ref()?.hours;
     (hours > 0.0).then(|| {
         let (f, lo, hi) = fraction(r).expect("always");
-        let scale = 100.0 * r.n_objects as f64 / hours;
+        let scale = 100.0 * r.row.n_objects as f64 / hours;
         (f * scale, lo * scale, hi * scale)
     })
 }
@@ -35,12 +34,12 @@ fn per_100_hours(r: &YieldRow) -> Option<(f64, f64, f64)> {
 /// The discovered fraction of each (plan, population) against the plan's cadence, and the
 /// discoveries per 100 hours of telescope time; points labelled by plan (beside the point,
 /// clear of its error bar) and coloured by population.
-pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
+pub fn yield_vs_cadence(rows: &[PlanYield]) -> Result<Figure> {
     let title = "Yield against cadence";
     let mut pops: Vec<&str> = Vec::new();
     for r in rows {
-        if !pops.contains(&r.population.as_str()) {
-            pops.push(&r.population);
+        if !pops.contains(&r.row.population.as_str()) {
+            pops.push(&r.row.population);
         }
     }
     let with_effort = rows.iter().filter(|r| per_100_hours(r).is_some()).count();
@@ -55,7 +54,7 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
          that spend different time. Bars are 95% Wilson intervals; each plan's visits, hours and \
          area are in the table beside. Colours: the population, named in the legend.",
         rows.iter()
-            .map(|r| r.plan.as_str())
+            .map(|r| r.row.plan.as_str())
             .collect::<std::collections::BTreeSet<_>>()
             .len(),
         if open_shutter {
@@ -92,16 +91,16 @@ pub fn yield_vs_cadence(rows: &[YieldRow]) -> Result<Figure> {
 }
 
 /// Revisit intervals run from hours-apart nights to a year: a logarithmic axis with room.
-fn x_range(rows: &[YieldRow]) -> (f64, f64) {
+fn x_range(rows: &[PlanYield]) -> (f64, f64) {
     let (lo, hi) = rows
         .iter()
-        .map(|r| r.cadence_days.max(0.1))
+        .map(|r| r.row.cadence_days.max(0.1))
         .fold((f64::MAX, f64::MIN), |(a, b), x| (a.min(x), b.max(x)));
     (lo / 2.0, hi * 2.5)
 }
 
 struct Panel<'a> {
-    rows: &'a [YieldRow],
+    rows: &'a [PlanYield],
     pops: &'a [&'a str],
     x: (f64, f64),
 }
@@ -116,20 +115,19 @@ impl Panel<'_> {
         let mut items = Vec::new();
         for (k, pop) in self.pops.iter().enumerate() {
             let c = style::series(k);
-            let mine: Vec<(&YieldRow, (f64, f64, f64))> = self
+            let mine: Vec<(&PlanYield, (f64, f64, f64))> = self
                 .rows
                 .iter()
-                .filter(|r| r.population == *pop)
+                .filter(|r| r.row.population == *pop)
                 .filter_map(|r| measure(r).map(|m| (r, m)))
                 .collect();
-            chart
-                .draw_series(mine.iter().map(|(r, (v, lo, hi))| {
-                    ErrorBar::new_vertical(r.cadence_days, *lo, *v, *hi, c.stroke_width(2), 8)
-                }))?;
+            chart.draw_series(mine.iter().map(|(r, (v, lo, hi))| {
+                ErrorBar::new_vertical(r.row.cadence_days, *lo, *v, *hi, c.stroke_width(2), 8)
+            }))?;
             chart
                 .draw_series(
                     mine.iter()
-                        .map(|(r, (v, _, _))| Circle::new((r.cadence_days, *v), 5, c.filled())),
+                        .map(|(r, (v, _, _))| Circle::new((r.row.cadence_days, *v), 5, c.filled())),
                 )?
                 .label(pop.to_string())
                 .legend(move |(x, y)| Circle::new((x + 11, y), 5, c.filled()));
@@ -140,8 +138,8 @@ impl Panel<'_> {
         let obstacles: Vec<Rect> = items
             .iter()
             .flat_map(|(r, (v, lo, hi))| {
-                let (x, y) = px(r.cadence_days, *v);
-                let (top, bottom) = (px(r.cadence_days, *hi).1, px(r.cadence_days, *lo).1);
+                let (x, y) = px(r.row.cadence_days, *v);
+                let (top, bottom) = (px(r.row.cadence_days, *hi).1, px(r.row.cadence_days, *lo).1);
                 [
                     Rect::new(x - 6, top - 1, x + 6, bottom + 1),
                     Rect::new(x - 7, y - 7, x + 7, y + 7),
@@ -155,10 +153,10 @@ impl Panel<'_> {
         let labels: Vec<(f64, f64, String, (i32, i32, HPos))> = items
             .iter()
             .map(|(r, (v, _, _))| {
-                let text = format!("{} ({}/{})", r.plan, r.n_discovered, r.n_objects);
-                let at = px(r.cadence_days, *v);
+                let text = format!("{} ({}/{})", r.row.plan, r.row.n_discovered, r.row.n_objects);
+                let at = px(r.row.cadence_days, *v);
                 let spot = place_label(at, text.chars().count(), font, &bounds, &obstacles, &mut placed);
-                (r.cadence_days, *v, text, spot)
+                (r.row.cadence_days, *v, text, spot)
             })
             .collect();
         for (x, y, text, (dx, dy, h)) in labels {

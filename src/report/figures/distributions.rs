@@ -8,7 +8,7 @@ use plotters::prelude::*;
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol, wilson};
+use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol};
 use crate::report::style;
 use crate::report::tables::FractionBin;
 
@@ -89,21 +89,22 @@ where
     axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
 
-/// The discovered fraction k/n per bin with Wilson 95% intervals; bins with no objects are
-/// left out rather than drawn as zero.
+/// The discovered fraction per bin (weighted by the objects' weights) with 95% Wilson intervals
+/// at the effective n; bins with no objects are left out rather than drawn as zero.
 pub fn discovered_fraction(quantity: &str, bins: &[FractionBin]) -> Result<Figure> {
     let sym = symbol(quantity);
     let title = format!("Discovered fraction against {sym}");
-    let (n, k): (u64, u64) = bins.iter().fold((0, 0), |(n, k), b| (n + b.n, k + b.k));
+    let (n, k): (u64, u64) = bins.iter().fold((0, 0), |(n, k), b| (n + b.tally.n, k + b.tally.k));
     let caption = format!(
-        "Fraction of injected objects that were discovered, in bins of {} ({k} of {n} objects). \
-         Points at the bin centres; bars are 95% Wilson score intervals (Wilson 1927); horizontal \
+        "Fraction of injected objects that were discovered, weighted by the objects' weights, in bins \
+         of {} ({k} of {n} objects). Points at the bin centres; bars are 95% Wilson score intervals \
+         (Wilson 1927) at Kish's effective number of objects (Kish 1965); horizontal \
          bars show the bin widths. Empty bins are omitted; bars that leave the plot are cut at \
          its top and marked with a triangle.",
         label(quantity)
     );
     let stem = format!("fraction_{quantity}");
-    let used: Vec<&FractionBin> = bins.iter().filter(|b| b.n > 0).collect();
+    let used: Vec<&FractionBin> = bins.iter().filter(|b| b.n() > 0).collect();
     render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
         let area = titled(root, &title)?;
         let (Some(first), Some(last)) = (used.first(), used.last()) else {
@@ -130,8 +131,8 @@ pub fn discovered_fraction(quantity: &str, bins: &[FractionBin]) -> Result<Figur
 /// The axis reaches the upper interval limits of the well-filled bins (20 or more objects)
 /// and every point estimate, so that a few nearly empty bins cannot flatten the rest.
 fn axis_top(bins: &[&FractionBin]) -> f64 {
-    let full = bins.iter().filter(|b| b.n >= 20).map(|b| wilson(b.k, b.n, 1.96).1);
-    let points = bins.iter().map(|b| b.k as f64 / b.n as f64);
+    let full = bins.iter().filter(|b| b.n() >= 20).map(|b| b.proportion().upper);
+    let points = bins.iter().map(|b| b.proportion().fraction);
     full.chain(points).fold(0.0, f64::max)
 }
 
@@ -153,19 +154,18 @@ where
     let c = style::series(1);
     let centre = |b: &FractionBin| if log { (b.lo * b.hi).sqrt() } else { 0.5 * (b.lo + b.hi) };
     chart.draw_series(bins.iter().map(|b| {
-        let (lo, hi) = wilson(b.k, b.n, 1.96);
-        let f = b.k as f64 / b.n as f64;
-        ErrorBar::new_vertical(centre(b), lo, f, hi.min(top), c.stroke_width(2), 8)
+        let p = b.proportion();
+        ErrorBar::new_vertical(centre(b), p.lower, p.fraction, p.upper.min(top), c.stroke_width(2), 8)
     }))?;
-    let cut = bins.iter().filter(|b| wilson(b.k, b.n, 1.96).1 > top);
+    let cut = bins.iter().filter(|b| b.proportion().upper > top);
     chart.draw_series(cut.map(|b| TriangleMarker::new((centre(b), top), 7, c.filled())))?;
     chart.draw_series(bins.iter().map(|b| {
-        let f = b.k as f64 / b.n as f64;
+        let f = b.proportion().fraction;
         PathElement::new(vec![(b.lo, f), (b.hi, f)], c.mix(0.5).stroke_width(1))
     }))?;
     chart.draw_series(
         bins.iter()
-            .map(|b| Circle::new((centre(b), b.k as f64 / b.n as f64), 4, c.filled())),
+            .map(|b| Circle::new((centre(b), b.proportion().fraction), 4, c.filled())),
     )?;
     Ok(())
 }

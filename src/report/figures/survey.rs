@@ -8,7 +8,7 @@ use plotters::prelude::*;
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, histogram, lin_edges, wilson};
+use crate::report::stats::{finite_range, histogram, lin_edges};
 use crate::report::style;
 use crate::report::tables::EfficiencyCurve;
 
@@ -187,22 +187,22 @@ pub fn efficiency(curves: &[EfficiencyCurve]) -> Result<Figure> {
             let pts: Vec<_> = c
                 .measured
                 .iter()
-                .filter(|b| b.n > 0 && b.lo >= -2.0 && b.hi <= 2.0)
+                .filter(|b| b.n() > 0 && b.lo >= -2.0 && b.hi <= 2.0)
                 .collect();
             chart.draw_series(pts.iter().map(|b| {
-                let (lo, hi) = wilson(b.k, b.n, 1.96);
+                let p = b.proportion();
                 ErrorBar::new_vertical(
                     0.5 * (b.lo + b.hi),
-                    lo,
-                    b.k as f64 / b.n as f64,
-                    hi,
+                    p.lower,
+                    p.fraction,
+                    p.upper,
                     col.mix(0.8).stroke_width(1),
                     5,
                 )
             }))?;
             chart.draw_series(
                 pts.iter()
-                    .map(|b| Circle::new((0.5 * (b.lo + b.hi), b.k as f64 / b.n as f64), 3, col.filled())),
+                    .map(|b| Circle::new((0.5 * (b.lo + b.hi), b.proportion().fraction), 3, col.filled())),
             )?;
         }
         axes::legend(&mut chart, SeriesLabelPosition::UpperRight)

@@ -1,0 +1,175 @@
+//! The selection function of a population: P(discovered | cell of a, q, i, H), from a population
+//! sample run once through the surveys (each object its own trial, on its `Observe` stream as
+//! `seine observe`), as the weighted fraction of the cell's objects discovered with its interval
+//! at the effective n. Owns `selection_function.*` (write and read). See methods.md,
+//! "Detectability".
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use rayon::prelude::*;
+
+use super::binomial::{Proportion, Tally, grid_cell, grid_index};
+use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
+use crate::error::Result;
+use crate::io::objects::ObjectTable;
+use crate::io::out_dir::{OutDir, col, proportion_columns};
+use crate::io::table::{Columns, read_table};
+use crate::rng::{Purpose, object_stream};
+
+pub const TABLE: &str = "selection_function";
+
+/// Cell edges per quantity.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GridEdges {
+    pub a_au: Vec<f64>,
+    pub q_au: Vec<f64>,
+    pub inc_deg: Vec<f64>,
+    pub h_mag: Vec<f64>,
+}
+
+impl Default for GridEdges {
+    fn default() -> Self {
+        GridEdges {
+            a_au: vec![0.0, 30.0, 50.0, 100.0, 250.0, 1000.0, 1e5],
+            q_au: vec![0.0, 30.0, 40.0, 50.0, 75.0, 100.0, 1e5],
+            inc_deg: vec![0.0, 10.0, 20.0, 30.0, 45.0, 90.0, 180.0],
+            h_mag: vec![-5.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 20.0],
+        }
+    }
+}
+
+impl GridEdges {
+    fn all(&self) -> Vec<Vec<f64>> {
+        vec![
+            self.a_au.clone(),
+            self.q_au.clone(),
+            self.inc_deg.clone(),
+            self.h_mag.clone(),
+        ]
+    }
+}
+
+/// One non-empty cell.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Cell {
+    /// (lo, hi) of a_au, q_au, inc_deg, h_mag.
+    pub edges: Vec<(f64, f64)>,
+    pub tally: Tally,
+}
+
+impl Cell {
+    pub fn proportion(&self) -> Proportion {
+        self.tally.proportion()
+    }
+}
+
+/// The selection function over the cells holding population objects, and the number of objects
+/// outside the grid.
+pub fn selection_function(
+    population: &ObjectTable,
+    surveys: &[PreparedSurvey],
+    seed: u64,
+    g: &GridEdges,
+) -> (Vec<Cell>, u64) {
+    let found: Vec<bool> = (0..population.len())
+        .into_par_iter()
+        .map_init(Vec::new, |scratch, i| {
+            let rng = object_stream(seed, population.ids[i], Purpose::Observe);
+            let modes = (Candidates::Indexed, Record::UntilDiscovery);
+            observe_object(population, i, surveys, modes, rng, scratch).discovered()
+        })
+        .collect();
+    let edges = g.all();
+    let mut cells: BTreeMap<usize, Tally> = BTreeMap::new();
+    let mut outside = 0;
+    for (i, hit) in found.iter().enumerate() {
+        let el = &population.elements[i];
+        let x = [el.a_au, el.q_au(), el.inc.to_degrees(), population.h_mag[i]];
+        match grid_index(&edges, &x) {
+            Some(c) => cells.entry(c).or_default().add(population.weight[i], *hit),
+            None => outside += 1,
+        }
+    }
+    let cells = cells
+        .into_iter()
+        .map(|(c, tally)| Cell {
+            edges: grid_cell(&edges, c),
+            tally,
+        })
+        .collect();
+    (cells, outside)
+}
+
+const EDGE_COLUMNS: [(&str, &str); 4] = [
+    ("a_lo_au", "a_hi_au"),
+    ("q_lo_au", "q_hi_au"),
+    ("inc_lo_deg", "inc_hi_deg"),
+    ("h_lo_mag", "h_hi_mag"),
+];
+
+/// Write `selection_function.*`: one row per non-empty cell.
+pub fn write(out: &OutDir, cells: &[Cell]) -> Result<PathBuf> {
+    let mut cols = Vec::new();
+    for (k, (lo, hi)) in EDGE_COLUMNS.iter().enumerate() {
+        cols.push(col(lo, cells.iter().map(|c| c.edges[k].0).collect::<Vec<f64>>()));
+        cols.push(col(hi, cells.iter().map(|c| c.edges[k].1).collect::<Vec<f64>>()));
+    }
+    cols.push(col("n_objects", cells.iter().map(|c| c.tally.n).collect::<Vec<u64>>()));
+    cols.push(col("weight_sum", cells.iter().map(|c| c.tally.w).collect::<Vec<f64>>()));
+    cols.extend(proportion_columns(
+        &cells.iter().map(Cell::proportion).collect::<Vec<_>>(),
+    ));
+    out.write(TABLE, cols)
+}
+
+/// Read `selection_function.*` back into cells (the sums a tally needs are the written ones:
+/// n, k, Σw and the effective n, enough to recompute the fraction and interval).
+pub fn read(path: &Path) -> Result<Vec<(Vec<(f64, f64)>, Proportion)>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let mut edges: Vec<(Vec<f64>, Vec<f64>)> = Vec::new();
+    for (lo, hi) in EDGE_COLUMNS {
+        edges.push((c.f64(lo)?, c.f64(hi)?));
+    }
+    let (n, k, f, ne, se, lo, hi) = (
+        c.i64("n_objects")?,
+        c.i64("discovered")?,
+        c.f64("fraction")?,
+        c.f64("n_eff")?,
+        c.f64("std_error")?,
+        c.f64("wilson_lo")?,
+        c.f64("wilson_hi")?,
+    );
+    Ok((0..n.len())
+        .map(|i| {
+            let e = edges.iter().map(|(a, b)| (a[i], b[i])).collect();
+            let p = Proportion {
+                k: k[i].max(0) as u64,
+                n: n[i].max(0) as u64,
+                fraction: f[i],
+                n_eff: ne[i],
+                std_error: se[i],
+                lower: lo[i],
+                upper: hi[i],
+            };
+            (e, p)
+        })
+        .collect())
+}
+
+/// One plain sentence with the numbers.
+pub fn conclusion(population: usize, cells: &[Cell], outside: u64) -> String {
+    let mut total = Tally::default();
+    cells.iter().for_each(|c| total.absorb(&c.tally));
+    let p = total.proportion();
+    format!(
+        "seine detectability --population: {population} objects in {} cells of (a, q, i, H) ({outside} outside the grid); \
+         {:.3}% discovered overall (weighted; 95% interval {:.3}%–{:.3}%). selection_function.* holds \
+         P(discovered | cell) for likelihood fits of populations.",
+        cells.len(),
+        100.0 * p.fraction,
+        100.0 * p.lower,
+        100.0 * p.upper
+    )
+}

@@ -1,0 +1,72 @@
+//! Where the analysis commands write: `DIR/<stem>.<ext>` tables (Parquet or CSV, with the
+//! provenance) and `DIR/summary.json` (the command's numbers, its conclusion, the provenance).
+
+use std::path::{Path, PathBuf};
+
+use polars::prelude::{Column, DataFrame, NamedFrom, Series};
+
+use super::Provenance;
+use super::table::{Format, write_atomic, write_table};
+use crate::analysis::binomial::Proportion;
+use crate::error::{Error, Result};
+
+/// Where the analysis commands write: `DIR/<stem>.<ext>` tables and `DIR/summary.json`.
+pub struct OutDir {
+    pub dir: PathBuf,
+    pub format: Format,
+    pub provenance: Provenance,
+}
+
+impl OutDir {
+    pub fn new(dir: &Path, format: Format, provenance: Provenance) -> Self {
+        OutDir {
+            dir: dir.to_path_buf(),
+            format,
+            provenance,
+        }
+    }
+
+    pub fn table(&self, stem: &str) -> PathBuf {
+        self.dir.join(format!("{stem}.{}", self.format.extension()))
+    }
+
+    /// Write a table built from columns (all of one length).
+    pub fn write(&self, stem: &str, columns: Vec<Column>) -> Result<PathBuf> {
+        let height = columns.first().map_or(0, |c| c.len());
+        let mut df = DataFrame::new(height, columns).map_err(|e| Error::io(e.to_string()))?;
+        let path = self.table(stem);
+        write_table(&mut df, &path, &self.provenance)?;
+        Ok(path)
+    }
+
+    /// Write `summary.json`: the command's numbers, its conclusion and the provenance.
+    pub fn summary(&self, mut value: serde_json::Value, conclusion: &str) -> Result<PathBuf> {
+        value["conclusion"] = conclusion.into();
+        value["provenance"] = serde_json::to_value(&self.provenance).map_err(|e| Error::io(e.to_string()))?;
+        let path = self.dir.join("summary.json");
+        let text = serde_json::to_string_pretty(&value).map_err(|e| Error::io(e.to_string()))?;
+        write_atomic(&path, text.as_bytes())?;
+        Ok(path)
+    }
+}
+
+/// A column of named values.
+pub fn col<T>(name: &str, v: Vec<T>) -> Column
+where
+    Series: NamedFrom<Vec<T>, [T]>,
+{
+    <Series as NamedFrom<Vec<T>, [T]>>::new(name.into(), v).into()
+}
+
+/// The columns of a list of proportions: `discovered` (count), `fraction` (weighted), `n_eff`,
+/// `std_error`, `wilson_lo`, `wilson_hi`.
+pub fn proportion_columns(p: &[Proportion]) -> Vec<Column> {
+    vec![
+        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
+        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
+        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
+        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
+        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
+        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
+    ]
+}
