@@ -44,7 +44,7 @@ fn sun_altitude_matches_astropy() {
     let site = fixture_site();
     let mut worst: f64 = 0.0;
     for row in read_csv("sun_altaz.csv") {
-        let alt = sun_altitude(&site, row[0]) / DEG;
+        let alt = sun_altitude(&site, row[0]).unwrap() / DEG;
         worst = worst.max((alt - row[1]).abs());
     }
     assert!(worst < 0.01, "worst Sun altitude difference {worst}°");
@@ -80,7 +80,7 @@ fn twilight_times_match_astropy() {
     let site = fixture_site();
     let mut worst: f64 = 0.0;
     for row in read_csv("twilight.csv") {
-        let (dusk, dawn) = dark_interval(&site, row[0] as i64, -18.0, |t| sun_altitude(&site, t)).unwrap();
+        let (dusk, dawn) = dark_interval(&site, row[0] as i64, -18.0, |t| sun_altitude(&site, t)).unwrap().unwrap();
         worst = worst.max((dusk - row[1]).abs()).max((dawn - row[2]).abs());
     }
     assert!(
@@ -540,7 +540,7 @@ fn no_random_plan_breaks_its_limits() {
             let dir = unit_vector(v.ra_deg[i] * DEG, v.dec_deg[i] * DEG);
             for dt in [-0.5, 0.0, 0.5] {
                 let t = v.mjd[i] + dt * exp / 86400.0;
-                let sky = LocalSky::new(&site, t, &grid.at(to_tdb_mjd(t, TimeScale::Utc).unwrap()));
+                let sky = LocalSky::new(&site, t, &grid.at(to_tdb_mjd(t, TimeScale::Utc).unwrap())).unwrap();
                 let (sun, alt, el) = (
                     sky.sun_altitude() / DEG,
                     sky.altitude(&dir),

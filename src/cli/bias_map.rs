@@ -25,9 +25,18 @@ pub struct GridArgs {
     /// Map axes: varpi-node (ϖ, Ω) or argperi-node (ω, Ω).
     #[arg(long, default_value = "varpi-node")]
     pub axes: String,
+    /// Run past the budget of trials and memory (configuration.md, "Budgets"): it is meant.
+    #[arg(long)]
+    pub over_budget: bool,
 }
 
 impl GridArgs {
+    /// Refuse maps of `objects` objects on `grid` past the budget (unless --over-budget).
+    pub fn check_budget(&self, objects: usize, grid: &MapGrid) -> Result<()> {
+        let cells = grid.n_x as f64 * grid.n_node as f64;
+        seine::budget::check_bias_maps(objects, cells, grid.per_cell, self.over_budget)
+    }
+
     pub fn grid(&self) -> Result<MapGrid> {
         let bad = || {
             Error::input(format!(
@@ -89,6 +98,7 @@ pub fn run(a: Args) -> Result<()> {
     prov.add_input(&a.objects)?;
     let rows = shard_rows(objects.len(), a.shard.resolve()?);
     let (lo, hi) = (rows.start, rows.end);
+    a.grid.check_budget(hi - lo, &grid)?;
     let out = a.run.out_dir(prov)?;
     let maps = bias_maps(&objects, lo..hi, &surveys, grid, a.run.seed);
     let table = out.write("bias_map", map_columns(&maps))?;
