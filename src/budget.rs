@@ -106,7 +106,12 @@ pub fn check_disk(path: &Path, bytes: f64) -> Result<()> {
 /// `MAP_TRIALS` and its maps (two 8-byte counts per cell and object) within memory.
 pub fn check_bias_maps(objects: usize, cells: f64, per_cell: u64, over_budget: bool) -> Result<()> {
     let option = format!("--grid ({cells} cells) and --per-cell {per_cell} for {objects} objects");
-    check(MAP_TRIALS, objects as f64 * cells * per_cell as f64, &option, over_budget)?;
+    check(
+        MAP_TRIALS,
+        objects as f64 * cells * per_cell as f64,
+        &option,
+        over_budget,
+    )?;
     check_memory(16.0 * objects as f64 * cells, &option, over_budget)
 }
 
@@ -119,9 +124,16 @@ fn available_memory_bytes() -> Option<f64> {
 
 /// Free bytes of the file system holding `path` (or its nearest existing ancestor).
 fn free_disk_bytes(path: &Path) -> Option<f64> {
-    let mut dir = if path.as_os_str().is_empty() { Path::new(".") } else { path };
+    let mut dir = if path.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        path
+    };
     while !dir.exists() {
-        dir = dir.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+        dir = dir
+            .parent()
+            .filter(|p| !p.as_os_str().is_empty())
+            .unwrap_or(Path::new("."));
     }
     let out = std::process::Command::new("df").arg("-Pk").arg(dir).output().ok()?;
     let text = String::from_utf8(out.stdout).ok()?;

@@ -290,7 +290,10 @@ fn example(rel: &str) -> Vec<u8> {
 fn parquet_objects() -> Vec<u8> {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("o.parquet");
-    let mut df = seine::io::table::read_table(&Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/populations/particles.csv")).unwrap();
+    let mut df = seine::io::table::read_table(
+        &Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/populations/particles.csv"),
+    )
+    .unwrap();
     seine::io::write_table(&mut df, &path, &seine::io::Provenance::current()).unwrap();
     std::fs::read(&path).unwrap()
 }

@@ -416,17 +416,24 @@ fn values_outside_their_plausible_range_are_refused() {
 #[test]
 fn extreme_distribution_parameters_draw_what_they_describe() {
     let dir = tempfile::tempdir().unwrap();
-    let spec = POPULATION
-        .replace(
-            "inc_deg = { dist = \"isotropic\" }",
-            "inc_deg = { dist = \"truncated-normal\", mean = 0.0, sigma = 3.0, lo = 30.0, hi = 40.0 }\n\
+    let spec = POPULATION.replace(
+        "inc_deg = { dist = \"isotropic\" }",
+        "inc_deg = { dist = \"truncated-normal\", mean = 0.0, sigma = 3.0, lo = 30.0, hi = 40.0 }\n\
              node_deg = { dist = \"von-mises\", mean = 100.0, kappa = 1e20 }",
-        );
+    );
     let pop = common::write(dir.path(), "pop.toml", &spec);
     let out = dir.path().join("o.csv");
     let started = std::time::Instant::now();
     let o = common::seine(&[
-        "draw", "--quiet", "--spec", pop.to_str().unwrap(), "--count", "2000", "--seed", "1", "--out",
+        "draw",
+        "--quiet",
+        "--spec",
+        pop.to_str().unwrap(),
+        "--count",
+        "2000",
+        "--seed",
+        "1",
+        "--out",
         out.to_str().unwrap(),
     ]);
     assert!(o.status.success(), "{}", common::stderr(&o));
@@ -441,7 +448,15 @@ fn extreme_distribution_parameters_draw_what_they_describe() {
     let spec = POPULATION.replace("{ dist = \"isotropic\" }", "{ dist = \"sin-gaussian\", sigma = 1e6 }");
     let pop = common::write(dir.path(), "pop2.toml", &spec);
     let o = common::seine(&[
-        "draw", "--quiet", "--spec", pop.to_str().unwrap(), "--count", "2000", "--seed", "1", "--out",
+        "draw",
+        "--quiet",
+        "--spec",
+        pop.to_str().unwrap(),
+        "--count",
+        "2000",
+        "--seed",
+        "1",
+        "--out",
         out.to_str().unwrap(),
     ]);
     assert!(o.status.success(), "{}", common::stderr(&o));
@@ -489,7 +504,16 @@ fn interrupted_draw_leaves_nothing() {
     let pop = common::write(dir.path(), "pop.toml", POPULATION);
     let out = dir.path().join("o.parquet");
     let child = Command::new(env!("CARGO_BIN_EXE_seine"))
-        .args(["draw", "--quiet", "--spec", pop.to_str().unwrap(), "--count", "20000000", "--seed", "1"])
+        .args([
+            "draw",
+            "--quiet",
+            "--spec",
+            pop.to_str().unwrap(),
+            "--count",
+            "20000000",
+            "--seed",
+            "1",
+        ])
         .arg("--out")
         .arg(&out)
         .stderr(std::process::Stdio::piped())
@@ -517,7 +541,18 @@ fn merges_check_their_shards() {
     std::fs::write(c.dir.path().join("pop.toml"), POPULATION).unwrap();
     let spec = c.p("pop.toml");
     let draw = |shard: Option<&str>, seed: &str, out: &str| {
-        let mut a = args(&["draw", "--quiet", "--spec", &spec, "--count", "30", "--seed", seed, "--out", &c.p(out)]);
+        let mut a = args(&[
+            "draw",
+            "--quiet",
+            "--spec",
+            &spec,
+            "--count",
+            "30",
+            "--seed",
+            seed,
+            "--out",
+            &c.p(out),
+        ]);
         if let Some(s) = shard {
             a.extend(["--shard".to_string(), s.to_string()]);
         }
@@ -536,9 +571,18 @@ fn merges_check_their_shards() {
         a
     };
     c.fails(&merge(&["s0.parquet", "s1.parquet"], "m.parquet"), &["3 shards"]);
-    c.fails(&merge(&["s0.parquet", "s1.parquet", "s1.parquet"], "m.parquet"), &["s1.parquet", "twice"]);
-    c.fails(&merge(&["s0.parquet", "s1.parquet", "other_seed.parquet"], "m.parquet"), &["other_seed.parquet", "same draw"]);
-    c.fails(&merge(&["s0.parquet", "s1.parquet", "s2.parquet"], "s1.parquet"), &["s1.parquet", "one of the inputs"]);
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "s1.parquet"], "m.parquet"),
+        &["s1.parquet", "twice"],
+    );
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "other_seed.parquet"], "m.parquet"),
+        &["other_seed.parquet", "same draw"],
+    );
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "s2.parquet"], "s1.parquet"),
+        &["s1.parquet", "one of the inputs"],
+    );
     // Any order given: the shards are put in shard order, the result is the whole draw.
     let o = Command::new(env!("CARGO_BIN_EXE_seine"))
         .args(merge(&["s2.parquet", "s0.parquet", "s1.parquet"], "m.parquet"))
@@ -552,7 +596,10 @@ fn merges_check_their_shards() {
     assert_eq!(m.ids, whole.ids);
     assert_eq!(m.elements, whole.elements);
     // An observe output merged into itself.
-    let o = Command::new(env!("CARGO_BIN_EXE_seine")).args(c.observe(&["--shard", "0/1"])).output().unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args(c.observe(&["--shard", "0/1"]))
+        .output()
+        .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     let out = c.p("out");
     c.fails(&args(&["merge", &out, "--out", &out]), &["one of the inputs"]);
@@ -567,19 +614,59 @@ fn runs_over_budget_are_refused() {
     let (spec, survey, objects) = (c.p("pop.toml"), c.p("survey.toml"), c.p("objects.csv"));
     let out = c.p("out");
     c.fails(
-        &args(&["draw", "--spec", &spec, "--count", "1000000000000", "--seed", "1", "--out", &c.p("o.parquet")]),
+        &args(&[
+            "draw",
+            "--spec",
+            &spec,
+            "--count",
+            "1000000000000",
+            "--seed",
+            "1",
+            "--out",
+            &c.p("o.parquet"),
+        ]),
         &["--count", "objects drawn", "--over-budget"],
     );
     c.fails(
-        &args(&["bias-map", "--survey", &survey, "--objects", &objects, "--out", &out, "--grid", "100000,100000"]),
+        &args(&[
+            "bias-map",
+            "--survey",
+            &survey,
+            "--objects",
+            &objects,
+            "--out",
+            &out,
+            "--grid",
+            "100000,100000",
+        ]),
         &["--grid", "--over-budget"],
     );
     c.fails(
-        &args(&["cluster-test", "--survey", &survey, "--catalog", &objects, "--out", &out, "--trials", "10000000000"]),
+        &args(&[
+            "cluster-test",
+            "--survey",
+            &survey,
+            "--catalog",
+            &objects,
+            "--out",
+            &out,
+            "--trials",
+            "10000000000",
+        ]),
         &["--trials", "--over-budget"],
     );
     c.fails(
-        &args(&["hideout", "--survey", &survey, "--prior", &spec, "--count", "1000000000000", "--out", &out]),
+        &args(&[
+            "hideout",
+            "--survey",
+            &survey,
+            "--prior",
+            &spec,
+            "--count",
+            "1000000000000",
+            "--out",
+            &out,
+        ]),
         &["--count", "--over-budget"],
     );
 }
@@ -592,14 +679,30 @@ fn negative_option_values() {
     std::fs::write(c.dir.path().join("pop.toml"), POPULATION).unwrap();
     let spec = c.p("pop.toml");
     for (opt, v) in [("--count", "-5"), ("--seed", "-1")] {
-        let mut a = args(&["draw", "--spec", &spec, "--count", "10", "--seed", "1", "--out", &c.p("o.csv")]);
+        let mut a = args(&[
+            "draw",
+            "--spec",
+            &spec,
+            "--count",
+            "10",
+            "--seed",
+            "1",
+            "--out",
+            &c.p("o.csv"),
+        ]);
         let i = a.iter().position(|x| x == opt).unwrap();
         a[i + 1] = v.to_string();
         c.fails(&a, &[opt, v, "negative"]);
     }
     std::fs::write(c.dir.path().join("epochs.csv"), "mjd\n61000.5\n").unwrap();
     let o = Command::new(env!("CARGO_BIN_EXE_seine"))
-        .args(["ephemeris", "--objects", &c.p("objects.csv"), "--epochs", &c.p("epochs.csv")])
+        .args([
+            "ephemeris",
+            "--objects",
+            &c.p("objects.csv"),
+            "--epochs",
+            &c.p("epochs.csv"),
+        ])
         .args(["--out", &c.p("eph.csv"), "--site", "-70.5,-30.2,2000"])
         .output()
         .unwrap();

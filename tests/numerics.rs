@@ -76,7 +76,18 @@ fn kepler_is_total() {
 fn truncated_normal_matches_scipy_in_far_tails() {
     let f = common::Fixture::load("truncnorm_tails.csv");
     let case = f.col("case");
-    let cols = ["mean", "sigma", "lo", "hi", "p", "quantile", "pdf_at_quantile", "dist_mean", "dist_std"].map(|c| f.col(c));
+    let cols = [
+        "mean",
+        "sigma",
+        "lo",
+        "hi",
+        "p",
+        "quantile",
+        "pdf_at_quantile",
+        "dist_mean",
+        "dist_std",
+    ]
+    .map(|c| f.col(c));
     let [mean, sigma, lo, hi, p, quantile, pdf, dist_mean, dist_std] = &cols;
     let n = 40_000;
     let mut k = 0;
@@ -92,7 +103,11 @@ fn truncated_normal_matches_scipy_in_far_tails() {
         assert!(x.iter().all(|v| *v >= lo[k] && *v <= hi[k]), "{d:?}");
         let (m, _) = mean_sd(&x);
         let tol_mean = 5.0 * dist_std[k] / (n as f64).sqrt();
-        assert!((m - dist_mean[k]).abs() < tol_mean, "{d:?}: mean {m}, scipy {}", dist_mean[k]);
+        assert!(
+            (m - dist_mean[k]).abs() < tol_mean,
+            "{d:?}: mean {m}, scipy {}",
+            dist_mean[k]
+        );
         x.sort_by(f64::total_cmp);
         let mut j = k;
         while j < f.len() && case[j] == case[k] {
@@ -107,7 +122,11 @@ fn truncated_normal_matches_scipy_in_far_tails() {
             let c = d.cdf(quantile[j]).unwrap();
             assert!((c - p[j]).abs() < 1e-9, "{d:?}: cdf {c} at scipy's quantile {}", p[j]);
             let dens = d.pdf(quantile[j]).unwrap();
-            assert!((dens / pdf[j] - 1.0).abs() < 1e-9, "{d:?}: pdf {dens}, scipy {}", pdf[j]);
+            assert!(
+                (dens / pdf[j] - 1.0).abs() < 1e-9,
+                "{d:?}: pdf {dens}, scipy {}",
+                pdf[j]
+            );
             j += 1;
         }
         k = j;
@@ -149,7 +168,10 @@ fn von_mises_at_extreme_concentration() {
         let (m, sd) = mean_sd(&dev);
         let expect = 1.0 - von_mises_mean_resultant_length(kappa);
         let tol = 5.0 * sd / (n as f64).sqrt();
-        assert!((m - expect).abs() < tol, "κ = {kappa}: E[1 − cos] = {m}, expected {expect} ± {tol}");
+        assert!(
+            (m - expect).abs() < tol,
+            "κ = {kappa}: E[1 − cos] = {m}, expected {expect} ± {tol}"
+        );
     }
 }
 
@@ -163,7 +185,10 @@ fn sin_gaussian_at_extreme_width() {
     let (m, sd) = mean_sd(&x);
     let iso_sd = (PI * PI / 4.0 - 2.0).sqrt().to_degrees();
     assert!((m - 90.0).abs() < 5.0 * iso_sd / (n as f64).sqrt(), "mean {m}");
-    assert!((sd / iso_sd - 1.0).abs() < 5.0 / (2.0 * n as f64).sqrt(), "sd {sd}, isotropic {iso_sd}");
+    assert!(
+        (sd / iso_sd - 1.0).abs() < 5.0 / (2.0 * n as f64).sqrt(),
+        "sd {sd}, isotropic {iso_sd}"
+    );
     for sigma in [50.0, 57.0, 58.0, 70.0, 1e6] {
         let d = Distribution::SinGaussian { sigma };
         let mut x = samples(&d, 20_000, 13);

@@ -41,6 +41,9 @@ pub fn sentence(e: &clap::Error, args: &[String]) -> String {
     // The parser's first line, without its "error: " prefix, and a pointer to --help.
     let text = e.render().to_string();
     let first = text.lines().next().unwrap_or("").trim_start_matches("error: ").trim();
-    let command = args.get(1).filter(|a| !a.starts_with('-')).map_or("seine".into(), |c| format!("seine {c}"));
+    let command = args
+        .get(1)
+        .filter(|a| !a.starts_with('-'))
+        .map_or("seine".into(), |c| format!("seine {c}"));
     format!("{first} (see `{command} --help`)")
 }

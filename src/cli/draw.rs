@@ -129,7 +129,13 @@ fn draw(a: &Args, pop: &Population, shard: Option<(u64, u64)>, prov: Provenance,
     ))
 }
 
-fn clone(a: &Args, cloner: &Cloner, shard: Option<(u64, u64)>, mut prov: Provenance, text: &str) -> Result<(u64, String)> {
+fn clone(
+    a: &Args,
+    cloner: &Cloner,
+    shard: Option<(u64, u64)>,
+    mut prov: Provenance,
+    text: &str,
+) -> Result<(u64, String)> {
     let total = cloner.count();
     if let Some(stamp) = prov.shard.as_mut() {
         stamp.total_rows = total;

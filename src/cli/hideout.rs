@@ -114,7 +114,9 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
         return Err(Error::input("--count 0: expected at least one prior draw"));
     }
     if a.n_fields == 0 {
-        return Err(Error::input("--n-fields 0: expected at least 1 field in the ranked list"));
+        return Err(Error::input(
+            "--n-fields 0: expected at least 1 field in the ranked list",
+        ));
     }
     let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
     let draws = seine::shard::shard_ids(a.count, shard.map(|(k, n)| (k as u64, n as u64)));

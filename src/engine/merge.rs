@@ -221,7 +221,10 @@ pub fn merge_tables(inputs: &[PathBuf], out: &Path, mut provenance: Provenance) 
 /// The tables in merge order, each with the rows its shard stamp implies (None: unstamped).
 fn order_table_shards(inputs: &[PathBuf]) -> Result<Vec<(PathBuf, Option<u64>)>> {
     let provs: Vec<Option<Provenance>> = inputs.iter().map(|p| read_provenance(p).ok()).collect();
-    let stamped = provs.iter().filter(|p| p.as_ref().is_some_and(|p| p.shard.is_some())).count();
+    let stamped = provs
+        .iter()
+        .filter(|p| p.as_ref().is_some_and(|p| p.shard.is_some()))
+        .count();
     if stamped == 0 {
         return Ok(inputs.iter().map(|p| (p.clone(), None)).collect());
     }
@@ -240,7 +243,11 @@ fn order_table_shards(inputs: &[PathBuf]) -> Result<Vec<(PathBuf, Option<u64>)>>
     let mut by_index: Vec<Option<PathBuf>> = vec![None; s0.count as usize];
     for (i, path) in inputs.iter().enumerate() {
         let (p, s) = stamp_of(i).ok_or_else(|| not_a_shard(path))?;
-        let same_run = p.inputs.iter().map(|h| &h.sha256).eq(p0.inputs.iter().map(|h| &h.sha256))
+        let same_run = p
+            .inputs
+            .iter()
+            .map(|h| &h.sha256)
+            .eq(p0.inputs.iter().map(|h| &h.sha256))
             && p.seed == p0.seed
             && (s.count, s.total_rows) == (s0.count, s0.total_rows)
             && s.index < s.count;
@@ -262,8 +269,10 @@ fn order_table_shards(inputs: &[PathBuf]) -> Result<Vec<(PathBuf, Option<u64>)>>
             )));
         }
     }
-    let missing: Vec<String> =
-        (0..s0.count).filter(|k| by_index[*k as usize].is_none()).map(|k| k.to_string()).collect();
+    let missing: Vec<String> = (0..s0.count)
+        .filter(|k| by_index[*k as usize].is_none())
+        .map(|k| k.to_string())
+        .collect();
     if !missing.is_empty() {
         return Err(Error::input(format!(
             "merge: expected each of the {} shards of the draw exactly once; missing: [{}]",

@@ -74,7 +74,12 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
 /// (the reader gives a byte offset, the row is counted here).
 fn unreadable(path: &Path, format: Format, e: &PolarsError) -> Error {
     let text = e.to_string();
-    let first = text.lines().map(str::trim).find(|l| !l.is_empty()).unwrap_or("").to_string();
+    let first = text
+        .lines()
+        .map(str::trim)
+        .find(|l| !l.is_empty())
+        .unwrap_or("")
+        .to_string();
     let row = (format == Format::Csv)
         .then(|| csv_row_of_offset(path, &text))
         .flatten()

@@ -70,15 +70,20 @@ pub fn eccentric_anomaly(mean_anomaly: f64, e: f64) -> f64 {
             let d3 = -f / (f1 + 0.5 * d2 * f2 + d2 * d2 * f3 / 6.0);
             x + d3
         };
+        // The quartic step leaves an error of order step⁴, Newton's of order step²/E here:
+        // a step below 1e-6 rad (quartic) or 1e-9 of E (Newton) is final. Tested before the
+        // bracket, so that a last step a rounding outside it ends the search instead of
+        // restarting it by bisection.
+        let tol = if small { 1e-9 * x.abs() } else { 1e-6 };
+        if (next - x).abs() < tol {
+            x = next.clamp(lo, hi);
+            break;
+        }
         if !(next >= lo && next <= hi) {
             next = 0.5 * (lo + hi);
         }
-        let step = (next - x).abs();
         x = next;
-        // The quartic step leaves an error of order step⁴, Newton's of order step²/E here:
-        // a step below 1e-6 rad (quartic) or 1e-9 of E (Newton) is final.
-        let tol = if small { 1e-9 * x.abs() } else { 1e-6 };
-        if step < tol || hi - lo <= 1e-15 * hi {
+        if hi - lo <= 1e-15 * hi {
             break;
         }
     }

@@ -14,10 +14,10 @@
 use nalgebra::Vector3;
 
 use super::horizon::precession_matrix;
+use crate::error::Result;
 use crate::orbit::constants::{AU_KM, DEG};
 use crate::sky::frames::{separation, unit_vector};
 use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
-use crate::error::Result;
 
 const EARTH_RADIUS_KM: f64 = 6378.14;
 

@@ -180,7 +180,9 @@ pub fn survey_coverage(s: &Survey) -> Result<(Coverage, Vec<NightLog>)> {
     let sun_altitude = |site, utc: f64| -> Result<f64> {
         let tdb = to_tdb_mjd(utc, TimeScale::Utc)?;
         // `at` evaluates directly outside the grid; no grid means no visits, hence no night.
-        let earth = grid.as_ref().map_or_else(|| crate::sky::earth::earth_sun_exact(tdb), |g| g.at(tdb));
+        let earth = grid
+            .as_ref()
+            .map_or_else(|| crate::sky::earth::earth_sun_exact(tdb), |g| g.at(tdb));
         Ok(LocalSky::new(site, utc, &earth)?.sun_altitude())
     };
     let nights = by_night

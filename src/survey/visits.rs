@@ -104,7 +104,11 @@ impl Visits {
         let rotation = cols.f64_or("rotation_deg", 0.0)?;
         let exposure = cols.f64_or("exposure_s", 0.0)?;
         let seeing = cols.f64_or("seeing_arcsec", 1.0)?;
-        for (name, v) in [("rotation_deg", &rotation), ("exposure_s", &exposure), ("seeing_arcsec", &seeing)] {
+        for (name, v) in [
+            ("rotation_deg", &rotation),
+            ("exposure_s", &exposure),
+            ("seeing_arcsec", &seeing),
+        ] {
             check_column(&cols, name, v)?;
         }
         if cols.has("block") && !cols.has("efficiency_class") {
