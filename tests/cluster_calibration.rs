@@ -287,7 +287,13 @@ fn engine_case(
         .filter(|i| (keep.0..keep.1).contains(&probe[*i].mean_p()))
         .take(n)
         .collect();
-    assert_eq!(rows.len(), n, "{name}: too few objects with mean chance in {keep:?}");
+    let mut means: Vec<f64> = probe.iter().map(BiasMap::mean_p).collect();
+    means.sort_by(f64::total_cmp);
+    assert_eq!(
+        rows.len(),
+        n,
+        "{name}: too few objects with mean chance in {keep:?}: {means:.4?}"
+    );
     let chosen = subset(table, &rows);
     let fine = MapGrid {
         axes: MapAxes::VarpiNode,
@@ -382,12 +388,12 @@ fn objects_seen_only_near_perihelion_every_p_value_is_uniform() {
 
 #[test]
 fn rarely_detectable_objects_every_p_value_is_uniform() {
-    // Objects the quarter survey finds less than one time in 200: the maps stop at few
-    // discoveries or at the trial cap; the hard case of the issue.
+    // Objects the quarter survey finds less than one time in 125 (mean chance 0.01–0.8%):
+    // maps of tens of thousands of trials, the hard case of the issue.
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![quarter(dir.path())];
-    let table = objects(120, 9, (0.4, 0.6), (6.0, 7.5));
-    let case = engine_case("rare", &table, &surveys, 8, (0.0003, 0.005), 12, vec![]);
+    let table = objects(400, 9, (0.4, 0.6), (5.5, 8.0));
+    let case = engine_case("rare", &table, &surveys, 8, (0.0001, 0.008), 10, vec![]);
     let (names, p, _) = case.nulls();
     check_uniform(case.name, &names, &p);
 }
@@ -442,8 +448,8 @@ fn quoted_errors_cover_the_noise_of_maps_and_catalogues() {
     // common practice, no source).
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![quarter(dir.path())];
-    let table = objects(120, 9, (0.4, 0.6), (6.0, 7.5));
-    let case = engine_case("rare", &table, &surveys, 8, (0.0003, 0.005), 12, vec![]);
+    let table = objects(400, 9, (0.4, 0.6), (5.5, 8.0));
+    let case = engine_case("rare", &table, &surveys, 8, (0.0001, 0.008), 10, vec![]);
     let mut sky = Pcg64::seed_from_u64(31);
     let angles: Vec<_> = case.truths.iter().map(|t| t.draw(&mut sky)).collect();
     let cat = case.catalogue(&angles);
