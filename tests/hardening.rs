@@ -571,12 +571,15 @@ fn runs_over_budget_are_refused() {
         &["--count", "objects drawn", "--over-budget"],
     );
     c.fails(
-        &args(&["bias-map", "--survey", &survey, "--objects", &objects, "--out", &out, "--grid", "100000,100000"]),
+        &args(&[
+            "bias-map", "--survey", &survey, "--objects", &objects, "--out", &out, "--grid", "100000,100000", "--per-cell",
+            "1",
+        ]),
         &["--grid", "--over-budget"],
     );
     c.fails(
         &args(&["cluster-test", "--survey", &survey, "--catalog", &objects, "--out", &out, "--trials", "10000000000"]),
-        &["--trials", "--over-budget"],
+        &["--trials"],
     );
     c.fails(
         &args(&["hideout", "--survey", &survey, "--prior", &spec, "--count", "1000000000000", "--out", &out]),
