@@ -43,7 +43,8 @@ pub const CLUSTER_TRIALS: Limit = Limit {
     unit: "draws",
     max: 1e9,
 };
-/// Objects × cells × trials per cell of a bias map (each an engine run of one orbit).
+/// Objects × cells × trials per cell of a bias map with a fixed --per-cell (each trial an
+/// engine run of one orbit).
 pub const MAP_TRIALS: Limit = Limit {
     what: "bias-map trials (objects × cells × trials per cell)",
     unit: "trials",
@@ -102,16 +103,20 @@ pub fn check_disk(path: &Path, bytes: f64) -> Result<()> {
     Ok(())
 }
 
-/// A bias-map run (`bias-map`, or `cluster-test` computing its maps): its trials within
-/// `MAP_TRIALS` and its maps (two 8-byte counts per cell and object) within memory.
-pub fn check_bias_maps(objects: usize, cells: f64, per_cell: u64, over_budget: bool) -> Result<()> {
-    let option = format!("--grid ({cells} cells) and --per-cell {per_cell} for {objects} objects");
-    check(
-        MAP_TRIALS,
-        objects as f64 * cells * per_cell as f64,
-        &option,
-        over_budget,
-    )?;
+/// A bias-map run (`bias-map`, or `cluster-test` computing its maps): with a fixed number of
+/// trials per object, those within `MAP_TRIALS` (adaptive maps stop at their discoveries, and
+/// their cap per object bounds them); and the maps (two 8-byte counts per cell and object)
+/// within memory.
+pub fn check_bias_maps(objects: usize, cells: f64, fixed_trials: Option<u64>, over_budget: bool) -> Result<()> {
+    let option = format!("--grid ({cells} cells) for {objects} objects");
+    if let Some(t) = fixed_trials {
+        check(
+            MAP_TRIALS,
+            objects as f64 * t as f64,
+            &format!("{option} and --per-cell"),
+            over_budget,
+        )?;
+    }
     check_memory(16.0 * objects as f64 * cells, &option, over_budget)
 }
 

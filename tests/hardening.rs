@@ -638,6 +638,8 @@ fn runs_over_budget_are_refused() {
             &out,
             "--grid",
             "100000,100000",
+            "--per-cell",
+            "1",
         ]),
         &["--grid", "--over-budget"],
     );
@@ -653,7 +655,7 @@ fn runs_over_budget_are_refused() {
             "--trials",
             "10000000000",
         ]),
-        &["--trials", "--over-budget"],
+        &["--trials"],
     );
     c.fails(
         &args(&[
