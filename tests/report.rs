@@ -7,8 +7,10 @@ mod common;
 
 use std::path::Path;
 
+use seine::analysis::binomial::Tally;
+use seine::analysis::{comparison, detectability as det, selection};
 use seine::report::figure::{Figure, xml_escape};
-use seine::report::figures::{bias, cadence, cluster, distributions, rose, sky, survey};
+use seine::report::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey};
 use seine::report::tables::*;
 
 /// Well-formedness without an XML library: every opened element is closed in order.
@@ -545,4 +547,268 @@ fn cadence_comparisons_only_of_runs_of_one_population() {
     unique.sort();
     unique.dedup();
     assert_eq!(unique.len(), srcs.len(), "a figure is shown twice: {srcs:?}");
+}
+
+/// A selection cell over (a, q, i, H) with `k` of `n` objects of weight `w` discovered.
+fn sel_cell(edges: [(f64, f64); 4], n: u64, k: u64, w: f64) -> SelectionCell {
+    let mut tally = Tally::default();
+    for j in 0..n {
+        tally.add(w, j < k);
+    }
+    SelectionCell {
+        edges: edges.to_vec(),
+        tally,
+    }
+}
+
+#[test]
+fn selection_maps_add_weighted_tallies_and_name_their_intervals() {
+    let (a1, a2) = ((30.0, 50.0), (50.0, 100.0));
+    let (q1, q2) = ((30.0, 40.0), (40.0, 50.0));
+    let (i, h1, h2) = ((0.0, 10.0), (4.0, 5.0), (5.0, 6.0));
+    let cells = vec![
+        sel_cell([a1, q1, i, h1], 10, 5, 1.0),
+        sel_cell([a1, q1, i, h2], 30, 3, 3.0),
+        sel_cell([a2, q2, i, h1], 8, 0, 1.0),
+    ];
+    let aq = selection::project(&cells, &[0, 1]);
+    assert_eq!(aq.len(), 2);
+    // The two H cells of (a1, q1) added with their weights: (5·1 + 3·3)/(10·1 + 30·3).
+    let p = aq[0].proportion();
+    assert_eq!((aq[0].edges.clone(), p.n, p.k), (vec![a1, q1], 40, 8));
+    assert!((p.fraction - 14.0 / 100.0).abs() < 1e-12, "{}", p.fraction);
+    assert!(p.n_eff < 40.0, "unequal weights lower the effective n: {}", p.n_eff);
+    let f = detectability::selection_map("a_au", "q_au", &aq, "test disk").unwrap();
+    check(
+        &f,
+        &[
+            "30–50",
+            "50–100",
+            "40–50",
+            "14%",
+            "n=40",
+            "semi-major axis a (AU)",
+            "perihelion distance q (AU)",
+        ],
+    );
+    assert_eq!(f.stem, "selection_a_au_q_au");
+    assert!(f.caption.contains("test disk: 8 of 48 objects"), "{}", f.caption);
+}
+
+#[test]
+fn model_curves_follow_the_weights_and_angles_are_drawn_on_a_circle() {
+    // Three objects of weight 0 in the low bin and one of weight 2 in the high one: all of the
+    // model's expected catalogue falls in the high bin.
+    let m = WeightedSample {
+        name: "A".into(),
+        values: vec![1.0, 1.0, 1.0, 9.0],
+        weights: vec![0.0, 0.0, 0.0, 2.0],
+    };
+    assert_eq!(models::expected_counts(&m, &[0.0, 5.0, 10.0], 4.0), vec![0.0, 4.0]);
+    let cat = WeightedSample {
+        name: "catalogue".into(),
+        values: vec![10.0, 350.0, 20.0, 185.0],
+        weights: vec![1.0; 4],
+    };
+    let wide = WeightedSample {
+        name: "wide".into(),
+        values: ramp(300, 0.0, 360.0),
+        weights: vec![1.0; 300],
+    };
+    let f = models::marginal("varpi_deg", &cat, &[wide.clone()]).unwrap();
+    check(
+        &f,
+        &["90°", "180°", "catalogue (4 objects)", "wide (300 detected objects)"],
+    );
+    assert!(f.caption.contains("on a circle"), "{}", f.caption);
+    let line = WeightedSample {
+        values: ramp(300, 30.0, 300.0),
+        ..wide
+    };
+    let f = models::marginal(
+        "a_au",
+        &WeightedSample {
+            values: vec![35.0, 60.0, 61.0, 200.0],
+            ..cat
+        },
+        &[line],
+    )
+    .unwrap();
+    check(
+        &f,
+        &["semi-major axis a (AU)", "objects per bin", "catalogue (4 objects)"],
+    );
+
+    let fit = FitNull {
+        model: "A".into(),
+        observed: -250.0,
+        observed_error: 1.5,
+        p: 0.001,
+        p_error: 0.001,
+        samples: ramp(500, -60.0, -40.0),
+    };
+    let f = models::goodness_of_fit(&fit).unwrap();
+    // Far below the null: an arrow at the left edge says where, the null keeps its width.
+    check(
+        &f,
+        &[
+            "ln L of a catalogue (nats)",
+            "◀ catalogue: ln L = -250.0",
+            "catalogue, p = 0.001",
+        ],
+    );
+}
+
+#[test]
+fn detectability_and_model_comparison_runs_get_their_own_sections() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path();
+    let run = small_observe(d);
+    let s = |p: &Path| p.to_str().unwrap().to_string();
+    let survey = s(&d.join("synoptic.survey.toml"));
+    let catalogue = s(&run.join("discoveries.parquet"));
+    let objects = s(&d.join("objects.parquet"));
+    let other = d.join("other.parquet");
+    // A second draw of the bright population: a model the survey detects enough of.
+    let pop = common::bright_population(d);
+    run_ok(&[
+        "draw",
+        "--spec",
+        &s(&pop),
+        "--count",
+        "3000",
+        "--seed",
+        "9",
+        "--out",
+        &s(&other),
+    ]);
+    run_ok(&[
+        "detectability",
+        "--survey",
+        &survey,
+        "--objects",
+        &catalogue,
+        "--clones",
+        "40",
+        "--out",
+        &s(&d.join("det")),
+        "--quiet",
+    ]);
+    run_ok(&[
+        "detectability",
+        "--survey",
+        &survey,
+        "--population",
+        &objects,
+        "--out",
+        &s(&d.join("sel")),
+        "--quiet",
+    ]);
+    // Two comparisons of the same kind under one directory, in different spaces.
+    let models = [format!("plain={objects}"), format!("other={}", s(&other))];
+    for (out, space) in [("cmp-a", "a_au,q_au,inc_deg,varpi_deg"), ("cmp-b", "q_au,node_deg")] {
+        run_ok(&[
+            "compare-models",
+            "--survey",
+            &survey,
+            "--observed",
+            &catalogue,
+            "--model",
+            &models[0],
+            "--model",
+            &models[1],
+            "--space",
+            space,
+            "--frame",
+            "heliocentric",
+            "--synthetic",
+            "100",
+            "--bootstrap",
+            "10",
+            "--out",
+            &s(&d.join(out)),
+            "--quiet",
+        ]);
+    }
+
+    // What the report reads is what the commands wrote, through the modules that wrote it.
+    let n_cat = seine::io::read_table(&run.join("discoveries.parquet"))
+        .unwrap()
+        .height();
+    let chances = det::read(&det::find(&d.join("det")).unwrap()).unwrap();
+    assert_eq!(chances.len(), n_cat);
+    assert!(
+        chances
+            .iter()
+            .all(|r| r.discovered.n == 40 && r.discovered.lower <= r.discovered.fraction)
+    );
+    let cells = selection::read(&selection::find(&d.join("sel")).unwrap()).unwrap();
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("sel/summary.json")).unwrap()).unwrap();
+    let inside: u64 = cells.iter().map(|c| c.tally.n).sum();
+    assert_eq!(inside + summary["objects_outside_grid"].as_u64().unwrap(), 3000);
+    let cmp = comparison::read(&d.join("cmp-a")).unwrap();
+    assert_eq!(cmp.space, ["a_au", "q_au", "inc_deg", "varpi_deg"]);
+    assert_eq!(cmp.catalogue.as_ref().unwrap().ids.len(), n_cat);
+    for (m, (name, null)) in cmp.models.iter().zip(cmp.null.as_ref().unwrap()) {
+        assert_eq!((&m.model, null.len()), (name, 100));
+        let det = cmp.detected.iter().find(|s| s.model == m.model).unwrap();
+        assert_eq!(det.ids.len() as u64, m.n_detected);
+        let below = null.iter().filter(|l| **l <= m.log_likelihood).count() as f64;
+        assert!((m.gof_p - (1.0 + below) / 101.0).abs() < 1e-9, "{} vs {below}", m.gof_p);
+    }
+
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    for title in [
+        "Chance of discovery of each object: det",
+        "Selection function: sel",
+        "Model comparison: cmp-a",
+        "Model comparison: cmp-b",
+    ] {
+        assert!(html.contains(&format!("<h2>{title}</h2>")), "{title} missing");
+    }
+    for f in [
+        "det_chance_q_au",
+        "det_chance_h_mag",
+        "sel_selection_a_au_q_au",
+        "sel_selection_a_au_inc_deg",
+        "sel_selection_a_au_h_mag",
+        "cmp_a_model_marginal_varpi_deg",
+        "cmp_a_model_marginal_a_au",
+        "cmp_a_goodness_of_fit_plain",
+        "cmp_b_model_marginal_node_deg",
+        "cmp_b_goodness_of_fit_other",
+    ] {
+        assert!(html.contains(&format!("src=\"figures/{f}.svg\"")), "{f} missing");
+    }
+    assert!(!html.contains("cmp_b_model_marginal_a_au"), "cmp-b has no a");
+    assert!(
+        html.contains("Kuiper V") && html.contains("Anderson–Darling A²"),
+        "marginal tests not listed"
+    );
+
+    // A comparison directory alone is a report of its own, named by the directory.
+    run_ok(&["report", &s(&d.join("cmp-b"))]);
+    let html = std::fs::read_to_string(d.join("cmp-b/index.html")).unwrap();
+    assert!(
+        html.contains("<h2>Model comparison: cmp-b</h2>"),
+        "not named by its directory"
+    );
+    assert!(html.contains("src=\"figures/cmp_b_goodness_of_fit_plain.svg\""));
+}
+
+#[test]
+fn an_inconsistent_selection_table_is_refused_by_name_and_row() {
+    let tmp = tempfile::tempdir().unwrap();
+    common::write(
+        tmp.path(),
+        "selection_function.csv",
+        "a_lo_au,a_hi_au,q_lo_au,q_hi_au,inc_lo_deg,inc_hi_deg,h_lo_mag,h_hi_mag,n_objects,weight_sum,\
+         weight_sq_sum,weight_discovered_sum,weight_sq_discovered_sum,discovered,fraction,n_eff,std_error,wilson_lo,wilson_hi\n\
+         30,50,30,40,0,10,4,5,10,10,10,2,2,2,0.2,10,0.1,0.05,0.5\n\
+         30,50,40,50,0,10,4,5,3,3,3,3,3,4,1,3,0,0.4,1\n",
+    );
+    let err = refused(tmp.path().to_str().unwrap());
+    assert!(err.contains("selection_function.csv") && err.contains("row 2"), "{err}");
 }

@@ -257,6 +257,8 @@ pub struct ModelScore {
     pub extended: Option<Extended>,
     pub gof_p: f64,
     pub gof_p_error: f64,
+    /// ln L of each synthetic catalogue: the goodness of fit's null distribution.
+    pub null_log_likelihood: Vec<f64>,
     pub marginals: Vec<MarginalTest>,
     /// The detected objects (observables in the space's order) and their ids and weights.
     pub points: Vec<Vec<f64>>,
@@ -320,6 +322,7 @@ pub fn score_model(
         extended,
         gof_p,
         gof_p_error,
+        null_log_likelihood: syn.log_likelihood.clone(),
         marginals,
         points: det.points.clone(),
         ids: det.rows.iter().map(|&i| model.objects.ids[i]).collect(),
@@ -588,6 +591,10 @@ pub struct Comparison {
     pub bandwidth_factor: f64,
     pub bandwidth: Vec<f64>,
     pub models: Vec<ModelScore>,
+    /// The catalogue in the space (observables in the space's order), its ids and weights.
+    pub catalogue: Vec<Vec<f64>>,
+    pub catalogue_ids: Vec<i64>,
+    pub catalogue_weights: Vec<f64>,
 }
 
 /// Run a comparison: frames aligned, every model through the surveys, scored.
@@ -622,6 +629,9 @@ pub fn compare_models(surveys: &[PreparedSurvey], mut opts: CompareOptions) -> R
         bandwidth_factor: factor,
         bandwidth: widths,
         models,
+        catalogue_ids: opts.observed.ids.clone(),
+        catalogue_weights: opts.observed.weight.clone(),
+        catalogue,
     })
 }
 

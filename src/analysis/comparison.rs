@@ -1,17 +1,20 @@
 //! The model comparison's output product: file names, columns, writing and reading of
-//! `models.*`, `marginals.*`, `detected.*` and `summary.json`, and the plain-language
-//! conclusion. `seine compare-models` writes through it; `seine report` reads through it.
+//! `models.*`, `marginals.*`, `detected.*` (each model's detected objects in the space, with
+//! weights), `catalogue.*` (the catalogue in the space), `goodness_of_fit.*` (ln L of every
+//! synthetic catalogue) and `summary.json`, and the plain-language conclusion. `seine compare-models` writes through it; `seine report` reads through it.
 
 use std::path::{Path, PathBuf};
 
 use super::compare::{Comparison, ModelScore};
 use crate::error::{Error, Result};
-use crate::io::out_dir::{OutDir, col};
+use crate::io::out_dir::{OutDir, col, find_table};
 use crate::io::table::{Columns, read_table};
 
 pub const MODELS: &str = "models";
 pub const MARGINALS: &str = "marginals";
 pub const DETECTED: &str = "detected";
+pub const CATALOGUE: &str = "catalogue";
+pub const GOODNESS_OF_FIT: &str = "goodness_of_fit";
 
 /// Δ ln L of each model to the best, and its model-sample error (0 for the best itself).
 fn deltas(c: &Comparison) -> Vec<(f64, f64)> {
@@ -129,8 +132,33 @@ pub fn write(out: &OutDir, c: &Comparison) -> Result<Vec<PathBuf>> {
         ));
     }
     let detected = out.write(DETECTED, cols)?;
+    let mut cols = vec![
+        col("id", c.catalogue_ids.clone()),
+        col("weight", c.catalogue_weights.clone()),
+    ];
+    for (k, name) in c.space.iter().enumerate() {
+        cols.push(col(name, c.catalogue.iter().map(|x| x[k]).collect::<Vec<f64>>()));
+    }
+    let catalogue = out.write(CATALOGUE, cols)?;
+    let nulls: Vec<(&ModelScore, f64)> = m
+        .iter()
+        .flat_map(|s| s.null_log_likelihood.iter().map(move |l| (s, *l)))
+        .collect();
+    let gof = out.write(
+        GOODNESS_OF_FIT,
+        vec![
+            col(
+                "model",
+                nulls.iter().map(|(s, _)| s.name.clone()).collect::<Vec<String>>(),
+            ),
+            col(
+                "synthetic_log_likelihood",
+                nulls.iter().map(|n| n.1).collect::<Vec<f64>>(),
+            ),
+        ],
+    )?;
     let summary = out.summary(summary_json(c), &conclusion(c))?;
-    Ok(vec![models, marginals, detected, summary])
+    Ok(vec![models, marginals, detected, catalogue, gof, summary])
 }
 
 fn summary_json(c: &Comparison) -> serde_json::Value {
@@ -253,10 +281,7 @@ pub struct ModelRow {
 
 /// `models.parquet` (or `.csv`) in `dir`, when there is one.
 pub fn find(dir: &Path) -> Option<PathBuf> {
-    ["parquet", "csv"]
-        .iter()
-        .map(|e| dir.join(format!("{MODELS}.{e}")))
-        .find(|p| p.is_file())
+    find_table(dir, MODELS)
 }
 
 /// Read `models.*` as written above.
@@ -291,4 +316,170 @@ pub fn read_models(path: &Path) -> Result<Vec<ModelRow>> {
             gof_p_error: pe[i],
         })
         .collect())
+}
+
+/// A row of `marginals.*`: one model's one-sample test of one observable.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MarginalRow {
+    pub model: String,
+    pub observable: String,
+    pub test: String,
+    pub statistic: f64,
+    pub p_value: f64,
+    pub p_value_error: f64,
+}
+
+/// Points in the comparison's space: the catalogue, or one model's detected objects.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Sample {
+    /// The model's name; empty for the catalogue.
+    pub model: String,
+    pub ids: Vec<i64>,
+    pub weights: Vec<f64>,
+    /// One column per observable, in the order of `Read::space`.
+    pub columns: Vec<Vec<f64>>,
+}
+
+/// A comparison directory as written above: the tables a report needs. `catalogue` and
+/// `null` are None for a directory written before those files existed.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Read {
+    pub models: Vec<ModelRow>,
+    pub marginals: Vec<MarginalRow>,
+    /// The observables of the space (column names, units in the names).
+    pub space: Vec<String>,
+    pub detected: Vec<Sample>,
+    pub catalogue: Option<Sample>,
+    /// Each model's synthetic-catalogue ln L, in the order of `models`.
+    pub null: Option<Vec<(String, Vec<f64>)>>,
+}
+
+/// Read the comparison written into `dir` (its `models.*` must exist).
+pub fn read(dir: &Path) -> Result<Read> {
+    let missing = |stem: &str| Error::input(format!("{}: no {stem}.parquet or {stem}.csv", dir.display()));
+    let models = read_models(&find(dir).ok_or_else(|| missing(MODELS))?)?;
+    let marginals = read_marginals(&find_table(dir, MARGINALS).ok_or_else(|| missing(MARGINALS))?)?;
+    let (space, detected) = read_samples(&find_table(dir, DETECTED).ok_or_else(|| missing(DETECTED))?, true)?;
+    let catalogue = match find_table(dir, CATALOGUE) {
+        Some(p) => {
+            let (names, mut cat) = read_samples(&p, false)?;
+            if names != space {
+                return Err(Error::input(format!(
+                    "{}: observables {} differ from those of the detected objects ({})",
+                    p.display(),
+                    names.join(", "),
+                    space.join(", ")
+                )));
+            }
+            cat.pop()
+        }
+        None => None,
+    };
+    let null = find_table(dir, GOODNESS_OF_FIT)
+        .map(|p| read_null(&p, &models))
+        .transpose()?;
+    for s in &detected {
+        if !models.iter().any(|m| m.model == s.model) {
+            return Err(Error::input(format!(
+                "{}: detected objects of model `{}`, which models.* does not list",
+                dir.display(),
+                s.model
+            )));
+        }
+    }
+    Ok(Read {
+        models,
+        marginals,
+        space,
+        detected,
+        catalogue,
+        null,
+    })
+}
+
+fn read_marginals(path: &Path) -> Result<Vec<MarginalRow>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (model, obs, test) = (c.str("model")?, c.str("observable")?, c.str("test")?);
+    let (t, p, pe) = (c.f64("statistic")?, c.f64("p_value")?, c.f64("p_value_error")?);
+    Ok((0..model.len())
+        .map(|i| MarginalRow {
+            model: model[i].clone(),
+            observable: obs[i].clone(),
+            test: test[i].clone(),
+            statistic: t[i],
+            p_value: p[i],
+            p_value_error: pe[i],
+        })
+        .collect())
+}
+
+/// `detected.*` (per model, `with_model`) or `catalogue.*`: the space's columns are all but
+/// `model`, `id` and `weight`.
+fn read_samples(path: &Path, with_model: bool) -> Result<(Vec<String>, Vec<Sample>)> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let space: Vec<String> = df
+        .get_column_names()
+        .iter()
+        .map(|s| s.to_string())
+        .filter(|n| !["model", "id", "weight"].contains(&n.as_str()))
+        .collect();
+    if space.is_empty() {
+        return Err(Error::input(format!("{}: no observable columns", path.display())));
+    }
+    let models = if with_model {
+        c.str("model")?
+    } else {
+        vec![String::new(); df.height()]
+    };
+    let (ids, weights) = (c.i64("id")?, c.f64("weight")?);
+    let values = space.iter().map(|n| c.f64(n)).collect::<Result<Vec<_>>>()?;
+    let mut out: Vec<Sample> = Vec::new();
+    for i in 0..ids.len() {
+        if !(weights[i] >= 0.0 && weights[i].is_finite()) {
+            return Err(Error::input(format!(
+                "{}: row {}: expected a finite weight ≥ 0, found {}",
+                path.display(),
+                i + 1,
+                weights[i]
+            )));
+        }
+        let k = match out.iter().position(|s| s.model == models[i]) {
+            Some(k) => k,
+            None => {
+                out.push(Sample {
+                    model: models[i].clone(),
+                    ids: Vec::new(),
+                    weights: Vec::new(),
+                    columns: vec![Vec::new(); space.len()],
+                });
+                out.len() - 1
+            }
+        };
+        let s = &mut out[k];
+        s.ids.push(ids[i]);
+        s.weights.push(weights[i]);
+        for (col, v) in s.columns.iter_mut().zip(&values) {
+            col.push(v[i]);
+        }
+    }
+    Ok((space, out))
+}
+
+fn read_null(path: &Path, models: &[ModelRow]) -> Result<Vec<(String, Vec<f64>)>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (names, ll) = (c.str("model")?, c.f64("synthetic_log_likelihood")?);
+    let mut out: Vec<(String, Vec<f64>)> = models.iter().map(|m| (m.model.clone(), Vec::new())).collect();
+    for (n, l) in names.iter().zip(ll) {
+        let Some(k) = out.iter().position(|(m, _)| m == n) else {
+            return Err(Error::input(format!(
+                "{}: synthetic catalogues of model `{n}`, which models.* does not list",
+                path.display()
+            )));
+        };
+        out[k].1.push(l);
+    }
+    Ok(out)
 }

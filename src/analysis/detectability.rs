@@ -184,3 +184,69 @@ pub fn conclusion(res: &[ObjectDetectability], objects: &ObjectTable, k: u64) ->
         100.0 * best.discovered.upper
     )
 }
+
+/// A row of `detectability.*` as written above: an object's elements and its chance of
+/// discovery with the interval (the trials are unweighted: every trial is one redraw).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Row {
+    pub id: i64,
+    pub a_au: f64,
+    pub q_au: f64,
+    pub inc_deg: f64,
+    pub h_mag: f64,
+    pub discovered: Proportion,
+}
+
+/// `detectability.parquet` (or `.csv`) in `dir`, when there is one.
+pub fn find(dir: &std::path::Path) -> Option<std::path::PathBuf> {
+    crate::io::out_dir::find_table(dir, TABLE)
+}
+
+/// Read `detectability.*` as written above.
+pub fn read(path: &std::path::Path) -> Result<Vec<Row>> {
+    let df = crate::io::table::read_table(path)?;
+    let c = crate::io::table::Columns::new(&df, path);
+    let (id, a, q, inc, h) = (
+        c.i64("id")?,
+        c.f64("a_au")?,
+        c.f64("q_au")?,
+        c.f64("inc_deg")?,
+        c.f64("h_mag")?,
+    );
+    let (n, k) = (c.i64("trials")?, c.i64("discovered")?);
+    let (p, se, lo, hi) = (
+        c.f64("p_discover")?,
+        c.f64("p_std_error")?,
+        c.f64("p_wilson_lo")?,
+        c.f64("p_wilson_hi")?,
+    );
+    let mut rows = Vec::with_capacity(id.len());
+    for i in 0..id.len() {
+        if !(n[i] > 0 && (0..=n[i]).contains(&k[i])) {
+            return Err(Error::input(format!(
+                "{}: row {}: expected 0 ≤ discovered ≤ trials and trials ≥ 1, found {} of {}",
+                path.display(),
+                i + 1,
+                k[i],
+                n[i]
+            )));
+        }
+        rows.push(Row {
+            id: id[i],
+            a_au: a[i],
+            q_au: q[i],
+            inc_deg: inc[i],
+            h_mag: h[i],
+            discovered: Proportion {
+                k: k[i] as u64,
+                n: n[i] as u64,
+                fraction: p[i],
+                n_eff: n[i] as f64,
+                std_error: se[i],
+                lower: lo[i],
+                upper: hi[i],
+            },
+        });
+    }
+    Ok(rows)
+}

@@ -11,7 +11,7 @@ use rayon::prelude::*;
 
 use super::binomial::{Proportion, Tally, grid_cell, grid_index};
 use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col, proportion_columns};
 use crate::io::table::{Columns, read_table};
@@ -108,54 +108,100 @@ const EDGE_COLUMNS: [(&str, &str); 4] = [
     ("h_lo_mag", "h_hi_mag"),
 ];
 
-/// Write `selection_function.*`: one row per non-empty cell.
+/// The grid's quantities, in the order of a cell's edges.
+pub const QUANTITIES: [&str; 4] = ["a_au", "q_au", "inc_deg", "h_mag"];
+
+/// Write `selection_function.*`: one row per non-empty cell, with the tally's sums (they add
+/// over cells, so a reader can project the grid onto fewer quantities exactly).
 pub fn write(out: &OutDir, cells: &[Cell]) -> Result<PathBuf> {
     let mut cols = Vec::new();
     for (k, (lo, hi)) in EDGE_COLUMNS.iter().enumerate() {
         cols.push(col(lo, cells.iter().map(|c| c.edges[k].0).collect::<Vec<f64>>()));
         cols.push(col(hi, cells.iter().map(|c| c.edges[k].1).collect::<Vec<f64>>()));
     }
+    let sum = |f: fn(&Tally) -> f64| cells.iter().map(|c| f(&c.tally)).collect::<Vec<f64>>();
     cols.push(col("n_objects", cells.iter().map(|c| c.tally.n).collect::<Vec<u64>>()));
-    cols.push(col("weight_sum", cells.iter().map(|c| c.tally.w).collect::<Vec<f64>>()));
+    cols.push(col("weight_sum", sum(|t| t.w)));
+    cols.push(col("weight_sq_sum", sum(|t| t.w2)));
+    cols.push(col("weight_discovered_sum", sum(|t| t.w_hit)));
+    cols.push(col("weight_sq_discovered_sum", sum(|t| t.w2_hit)));
     cols.extend(proportion_columns(
         &cells.iter().map(Cell::proportion).collect::<Vec<_>>(),
     ));
     out.write(TABLE, cols)
 }
 
-/// Read `selection_function.*` back into cells (the sums a tally needs are the written ones:
-/// n, k, Σw and the effective n, enough to recompute the fraction and interval).
-pub fn read(path: &Path) -> Result<Vec<(Vec<(f64, f64)>, Proportion)>> {
+/// `selection_function.parquet` (or `.csv`) in `dir`, when there is one.
+pub fn find(dir: &Path) -> Option<PathBuf> {
+    crate::io::out_dir::find_table(dir, TABLE)
+}
+
+/// Read `selection_function.*` back into cells with their tallies, as written above.
+pub fn read(path: &Path) -> Result<Vec<Cell>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let mut edges: Vec<(Vec<f64>, Vec<f64>)> = Vec::new();
     for (lo, hi) in EDGE_COLUMNS {
         edges.push((c.f64(lo)?, c.f64(hi)?));
     }
-    let (n, k, f, ne, se, lo, hi) = (
-        c.i64("n_objects")?,
-        c.i64("discovered")?,
-        c.f64("fraction")?,
-        c.f64("n_eff")?,
-        c.f64("std_error")?,
-        c.f64("wilson_lo")?,
-        c.f64("wilson_hi")?,
+    let (n, k) = (c.i64("n_objects")?, c.i64("discovered")?);
+    let (w, w2, wh, w2h) = (
+        c.f64("weight_sum")?,
+        c.f64("weight_sq_sum")?,
+        c.f64("weight_discovered_sum")?,
+        c.f64("weight_sq_discovered_sum")?,
     );
-    Ok((0..n.len())
-        .map(|i| {
-            let e = edges.iter().map(|(a, b)| (a[i], b[i])).collect();
-            let p = Proportion {
-                k: k[i].max(0) as u64,
-                n: n[i].max(0) as u64,
-                fraction: f[i],
-                n_eff: ne[i],
-                std_error: se[i],
-                lower: lo[i],
-                upper: hi[i],
-            };
-            (e, p)
-        })
-        .collect())
+    let mut cells = Vec::with_capacity(n.len());
+    for i in 0..n.len() {
+        let tally = Tally {
+            n: n[i].max(0) as u64,
+            k: k[i].max(0) as u64,
+            w: w[i],
+            w2: w2[i],
+            w_hit: wh[i],
+            w2_hit: w2h[i],
+        };
+        if tally.k > tally.n || !(tally.w_hit <= tally.w * (1.0 + 1e-12)) {
+            return Err(Error::input(format!(
+                "{}: row {}: more discovered than objects (discovered {}, n_objects {}; weights {} of {})",
+                path.display(),
+                i + 1,
+                tally.k,
+                tally.n,
+                tally.w_hit,
+                tally.w
+            )));
+        }
+        let e = edges.iter().map(|(a, b)| (a[i], b[i])).collect();
+        cells.push(Cell { edges: e, tally });
+    }
+    Ok(cells)
+}
+
+/// The selection function on some of the grid's quantities (indices into `QUANTITIES`): the
+/// tallies of the cells that share those intervals added, which is P(discovered | cell)
+/// averaged over the population's own distribution in the others. Cells in order of their
+/// intervals, the first quantity slowest.
+pub fn project(cells: &[Cell], on: &[usize]) -> Vec<Cell> {
+    let mut by: BTreeMap<Vec<(u64, u64)>, Cell> = BTreeMap::new();
+    for c in cells {
+        let edges: Vec<(f64, f64)> = on.iter().map(|&k| c.edges[k]).collect();
+        let key = edges.iter().map(|e| (ord(e.0), ord(e.1))).collect();
+        by.entry(key)
+            .or_insert_with(|| Cell {
+                edges,
+                tally: Tally::default(),
+            })
+            .tally
+            .absorb(&c.tally);
+    }
+    by.into_values().collect()
+}
+
+/// A key that sorts like the f64 it comes from (total order).
+fn ord(x: f64) -> u64 {
+    let b = x.to_bits();
+    if b >> 63 == 1 { !b } else { b | (1 << 63) }
 }
 
 /// One plain sentence with the numbers.

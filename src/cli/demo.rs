@@ -1,7 +1,7 @@
 //! `seine demo`: the whole job on a built-in invented example — the invented site Sorrel
 //! Peak plans a synoptic survey, an invented scattered-disk population is drawn, the
 //! engine runs it through the survey; the discoveries become a catalogue whose detectability,
-//! bias maps, bias-aware clustering test and comparison with two model populations are run
+//! the population's selection function, bias maps, bias-aware clustering test and comparison with two model populations are run
 //! with the tool's own commands; three revisit cadences of the same survey are compared on the
 //! population (`seine yield`); the report (`DIR/index.html`) is written last.
 
@@ -118,7 +118,7 @@ pub fn run(a: Args) -> Result<()> {
     );
     outln!(
         "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, discoveries, summary.json), catalog.parquet, \
-         detectability/, bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
+         detectability/ (each object's chance), selection/ (the population's selection function), bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
          index.html, figures/.",
         a.out.display()
     );
@@ -148,6 +148,18 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable) -> 
         &seed,
         "--out",
         &dir("detectability"),
+    ])?;
+    // The population's selection function over (a, q, i, H), for fits of populations.
+    stage(&[
+        "detectability",
+        "--survey",
+        &spec,
+        "--population",
+        &path_str(&out.join("objects.parquet")),
+        "--seed",
+        &seed,
+        "--out",
+        &dir("selection"),
     ])?;
     stage(&[
         "bias-map",

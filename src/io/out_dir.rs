@@ -10,6 +10,14 @@ use super::table::{Format, write_atomic, write_table};
 use crate::analysis::binomial::Proportion;
 use crate::error::{Error, Result};
 
+/// The table `DIR/<stem>.parquet` (or `.csv`) an analysis wrote, when there is one.
+pub fn find_table(dir: &Path, stem: &str) -> Option<PathBuf> {
+    [Format::Parquet, Format::Csv]
+        .into_iter()
+        .map(|f| dir.join(format!("{stem}.{}", f.extension())))
+        .find(|p| p.is_file())
+}
+
 /// Where the analysis commands write: `DIR/<stem>.<ext>` tables and `DIR/summary.json`.
 pub struct OutDir {
     pub dir: PathBuf,

@@ -7,10 +7,14 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use super::figure::Figure;
-use super::figures::{bias, cadence, cluster, distributions, rose, sky, survey as survey_fig};
+use super::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey as survey_fig};
 use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, fraction_bins};
-use super::tables::{CadenceRow, EfficiencyCurve, FractionBin, PlanYield};
+use super::tables::{
+    CadenceRow, EfficiencyCurve, FitNull, FractionBin, ObjectChance, PlanYield, SelectionCell, WeightedSample,
+};
 use crate::analysis::binomial::{Proportion, Tally};
+use crate::analysis::comparison;
+use crate::analysis::selection::{QUANTITIES, project};
 use crate::analysis::yield_tables::{median_revisit_days, population_name};
 use crate::error::Result;
 use crate::survey::Survey;
@@ -75,8 +79,16 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<(Vec<Section>, Vec<Skipped>)
     for run in &inp.runs {
         add(found_section(dir, inp, run), &run.dir, &mut skipped);
     }
+    for (path, rows, redraw) in &inp.chances {
+        add(chance_section(dir, path, rows, redraw.as_deref()), path, &mut skipped);
+    }
+    for (path, cells, population) in &inp.selections {
+        add(selection_section(dir, path, cells, population), path, &mut skipped);
+    }
     add(bias_section(dir, inp), dir, &mut skipped);
-    out.extend(comparison_section(dir, inp));
+    for (run, read) in &inp.comparisons {
+        add(comparison_section(dir, run, read), run, &mut skipped);
+    }
     out.insert(0, overview(dir, inp, &skipped));
     let out = out
         .into_iter()
@@ -767,43 +779,273 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
     }
 }
 
-/// Model comparisons: each model's ln L with its model-sample error, Δ to the best and the
-/// goodness of fit, as `seine compare-models` wrote them.
-fn comparison_section(dir: &Path, inp: &Inputs) -> Option<Section> {
-    if inp.comparisons.is_empty() {
-        return None;
+/// The stem prefix of a run's figures: its label as a file-name-safe word.
+fn run_prefix(dir: &Path, run: &Path) -> String {
+    format!("{}_", slug(&label(dir, run)))
+}
+
+/// A path as the page links it: relative to the report's directory.
+fn href(dir: &Path, path: &Path) -> String {
+    path.strip_prefix(dir)
+        .map_or(path.display().to_string(), |p| p.display().to_string())
+}
+
+/// How many objects of a detectability run the page lists (those with the lowest chances).
+const LOWEST_CHANCES: usize = 20;
+
+/// Each catalogue object's chance of discovery (`seine detectability --objects`): against q
+/// and H, and the objects with the lowest chances (the heaviest in a fit) as a table.
+fn chance_section(dir: &Path, path: &Path, rows: &[ObjectChance], redraw: Option<&str>) -> Result<Section> {
+    let run = path.parent().unwrap_or(dir);
+    let name = label(dir, run);
+    let trials: Vec<u64> = rows.iter().map(|r| r.discovered.n).collect();
+    let (tmin, tmax) = (
+        trials.iter().copied().min().unwrap_or(0),
+        trials.iter().copied().max().unwrap_or(0),
+    );
+    let redrawn = match redraw {
+        Some("m") | Some("mean-anomaly") => "the mean anomaly redrawn",
+        Some("node") => "the mean anomaly and node redrawn",
+        Some("argperi") => "the mean anomaly and argument of perihelion redrawn",
+        Some(_) => "the mean anomaly, node and argument of perihelion redrawn",
+        None => "the angles redrawn as the run chose",
+    };
+    let note = if tmin == tmax {
+        format!("{tmin} trials per object, {redrawn}")
+    } else {
+        format!("{tmin} to {tmax} trials per object, {redrawn}")
+    };
+    let mut figures = Vec::new();
+    for q in ["q_au", "h_mag"] {
+        let mut f = detectability::chances(q, rows, &note)?;
+        f.stem = format!("{}{}", run_prefix(dir, run), f.stem);
+        figures.push(f);
     }
-    let tables = inp
-        .comparisons
-        .iter()
-        .map(|(file, rows)| Table {
-            caption: format!(
-                "Model comparison from {}: ln L of the catalogue under each model's detected density, \
-                 ± its model-sample error (bootstrap over the model's objects); Δ to the best model; \
-                 goodness of fit p (lower tail, from synthetic catalogues of the model's own detected objects).",
-                label(dir, Path::new(file))
-            ),
-            header: header(&["model", "objects", "detected", "ln L", "Δ ln L", "goodness of fit p"]),
-            rows: rows
-                .iter()
-                .map(|r| {
-                    vec![
-                        r.model.clone(),
-                        r.n_objects.to_string(),
-                        r.n_detected.to_string(),
-                        format!("{:.2} ± {:.2}", r.log_likelihood, r.log_likelihood_error),
-                        format!("{:.2} ± {:.2}", r.delta, r.delta_error),
-                        format!("{:.3} ± {:.3}", r.gof_p, r.gof_p_error),
-                    ]
-                })
-                .collect(),
-            link: None,
-        })
-        .collect();
-    Some(Section {
-        title: "Model comparison".into(),
-        intro: "Which model population explains the catalogue once both are seen through the surveys.".into(),
-        tables,
+    let mut order: Vec<&ObjectChance> = rows.iter().collect();
+    order.sort_by(|a, b| a.discovered.fraction.total_cmp(&b.discovered.fraction));
+    let link = href(dir, path);
+    let table = Table {
+        caption: format!(
+            "The {} of {} objects with the lowest chance of discovery ({note}), with 95% Wilson \
+             intervals over the trials: the objects a fit conditioned on the orbits weights most.",
+            order.len().min(LOWEST_CHANCES),
+            rows.len()
+        ),
+        header: header(&[
+            "id",
+            "a (AU)",
+            "q (AU)",
+            "i (deg)",
+            "H (mag)",
+            "trials",
+            "discovered",
+            "chance",
+            "95% interval",
+        ]),
+        rows: order
+            .iter()
+            .take(LOWEST_CHANCES)
+            .map(|r| {
+                let p = &r.discovered;
+                vec![
+                    r.id.to_string(),
+                    format!("{:.1}", r.a_au),
+                    format!("{:.1}", r.q_au),
+                    format!("{:.1}", r.inc_deg),
+                    format!("{:.2}", r.h_mag),
+                    p.n.to_string(),
+                    p.k.to_string(),
+                    format!("{:.4}", p.fraction),
+                    format!("{:.4}–{:.4}", p.lower, p.upper),
+                ]
+            })
+            .collect(),
+        link: Some((format!("all {} objects ({link})", rows.len()), link.clone())),
+    };
+    Ok(Section {
+        title: format!("Chance of discovery of each object: {name}"),
+        intro: format!(
+            "How likely the surveys were to discover each catalogue object, its orbit's shape and \
+             size kept and the unobserved angles redrawn (from {link}): the per-object detection \
+             probabilities of a likelihood fit."
+        ),
+        tables: vec![table],
+        figures,
         ..Default::default()
     })
+}
+
+/// A population's selection function (`seine detectability --population`): heat maps over
+/// a–q, a–i and a–H, and a table over q.
+fn selection_section(dir: &Path, path: &Path, cells: &[SelectionCell], population: &str) -> Result<Section> {
+    let run = path.parent().unwrap_or(dir);
+    let name = label(dir, run);
+    let mut figures = Vec::new();
+    for other in [1, 2, 3] {
+        let projected = project(cells, &[0, other]);
+        let mut f = detectability::selection_map(QUANTITIES[0], QUANTITIES[other], &projected, population)?;
+        f.stem = format!("{}{}", run_prefix(dir, run), f.stem);
+        figures.push(f);
+    }
+    let link = href(dir, path);
+    let by_q = project(cells, &[1]);
+    let table = Table {
+        caption: format!(
+            "The selection function over perihelion distance q alone (all a, i and H of {population}): \
+             the weighted discovered fraction with its 95% Wilson interval at the effective number \
+             of objects."
+        ),
+        header: header(&["q (AU)", "objects", "discovered", "fraction", "95% interval"]),
+        rows: by_q
+            .iter()
+            .map(|c| {
+                let p = c.proportion();
+                vec![
+                    format!(
+                        "{}–{}",
+                        super::figures::axes::tick(c.edges[0].0),
+                        super::figures::axes::tick(c.edges[0].1)
+                    ),
+                    p.n.to_string(),
+                    p.k.to_string(),
+                    pct(&p),
+                    format!("{:.3}%–{:.3}%", 100.0 * p.lower, 100.0 * p.upper),
+                ]
+            })
+            .collect(),
+        link: Some((format!("every cell of (a, q, i, H) ({link})"), link.clone())),
+    };
+    Ok(Section {
+        title: format!("Selection function: {name}"),
+        intro: format!(
+            "The chance that an object of {population} in a cell of (a, q, i, H) was discovered, \
+             from {link}: what a likelihood fit of a population multiplies its model by."
+        ),
+        tables: vec![table],
+        figures,
+        ..Default::default()
+    })
+}
+
+/// A model comparison (`seine compare-models`): the ln L table with errors, the marginal
+/// tests, the catalogue over each model's detected distribution in every observable, and
+/// each model's goodness-of-fit null.
+fn comparison_section(dir: &Path, run: &Path, c: &comparison::Read) -> Result<Section> {
+    let name = label(dir, run);
+    let prefix = run_prefix(dir, run);
+    let mut tables = vec![Table {
+        caption: format!(
+            "Model comparison {name}: ln L of the catalogue under each model's detected density, \
+             ± its model-sample error (bootstrap over the model's objects); Δ to the best model; \
+             goodness of fit p (lower tail, from synthetic catalogues of the model's own detected objects)."
+        ),
+        header: header(&["model", "objects", "detected", "ln L", "Δ ln L", "goodness of fit p"]),
+        rows: c
+            .models
+            .iter()
+            .map(|r| {
+                vec![
+                    r.model.clone(),
+                    r.n_objects.to_string(),
+                    r.n_detected.to_string(),
+                    format!("{:.2} ± {:.2}", r.log_likelihood, r.log_likelihood_error),
+                    format!("{:.2} ± {:.2}", r.delta, r.delta_error),
+                    format!("{:.3} ± {:.3}", r.gof_p, r.gof_p_error),
+                ]
+            })
+            .collect(),
+        link: None,
+    }];
+    if !c.marginals.is_empty() {
+        tables.push(marginal_table(&name, &c.marginals));
+    }
+    let mut figures = Vec::new();
+    let mut notes = Vec::new();
+    match &c.catalogue {
+        Some(cat) => {
+            for (k, obs) in c.space.iter().enumerate() {
+                let sample = |s: &comparison::Sample, name: &str| WeightedSample {
+                    name: name.to_string(),
+                    values: s.columns[k].clone(),
+                    weights: s.weights.clone(),
+                };
+                let detected: Vec<WeightedSample> = c.detected.iter().map(|s| sample(s, &s.model)).collect();
+                figures.push(models::marginal(obs, &sample(cat, "catalogue"), &detected)?);
+            }
+        }
+        None => notes.push(format!(
+            "{name}: no catalogue.* (written by seine compare-models since this version); the \
+             catalogue's distributions are not drawn."
+        )),
+    }
+    match &c.null {
+        Some(null) => {
+            for (r, (_, samples)) in c.models.iter().zip(null) {
+                figures.push(models::goodness_of_fit(&FitNull {
+                    model: r.model.clone(),
+                    observed: r.log_likelihood,
+                    observed_error: r.log_likelihood_error,
+                    p: r.gof_p,
+                    p_error: r.gof_p_error,
+                    samples: samples.clone(),
+                })?);
+            }
+        }
+        None => notes.push(format!(
+            "{name}: no goodness_of_fit.*; the goodness-of-fit nulls are not drawn."
+        )),
+    }
+    for f in &mut figures {
+        f.stem = format!("{prefix}{}", slug(&f.stem));
+    }
+    Ok(Section {
+        title: format!("Model comparison: {name}"),
+        intro: format!(
+            "Which model population explains the catalogue once both are seen through the surveys \
+             (from {}), in the observables {}.",
+            href(dir, run),
+            c.space.join(", ")
+        ),
+        notes,
+        tables,
+        figures,
+    })
+}
+
+/// A marginal test's name as `marginals.*` writes it, in words.
+fn test_name(t: &str) -> String {
+    match t {
+        "ks" => "Kolmogorov–Smirnov D".into(),
+        "anderson_darling" => "Anderson–Darling A²".into(),
+        "kuiper" => "Kuiper V".into(),
+        "watson_u2" => "Watson U²".into(),
+        other => other.into(),
+    }
+}
+
+/// The one-sample marginal tests of each model: the catalogue's statistic against the
+/// model's detected distribution, with its p-value from the synthetic catalogues.
+fn marginal_table(name: &str, rows: &[comparison::MarginalRow]) -> Table {
+    Table {
+        caption: format!(
+            "Marginal tests {name}: for each model and observable, the catalogue's statistic \
+             against the model's weighted detected distribution (Kuiper V and Watson U² for angles, \
+             Kolmogorov–Smirnov D and Anderson–Darling A² otherwise) and its p-value from the \
+             synthetic catalogues, ± its Monte Carlo error."
+        ),
+        header: header(&["model", "observable", "test", "statistic", "p"]),
+        rows: rows
+            .iter()
+            .map(|r| {
+                vec![
+                    r.model.clone(),
+                    r.observable.clone(),
+                    test_name(&r.test),
+                    format!("{:.4}", r.statistic),
+                    format!("{:.3} ± {:.3}", r.p_value, r.p_value_error),
+                ]
+            })
+            .collect(),
+        link: None,
+    }
 }

@@ -7,8 +7,8 @@ use std::path::{Path, PathBuf};
 use polars::prelude::*;
 
 use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, PlanYield, RoseBin};
-use crate::analysis::comparison::{self, ModelRow};
-use crate::analysis::yield_tables;
+use crate::analysis::comparison;
+use crate::analysis::{detectability, selection, yield_tables};
 use crate::engine::discoveries::{self, Discovery};
 use crate::error::{Error, Result, io_at};
 use crate::io::objects::ObjectTable;
@@ -103,8 +103,14 @@ pub struct Inputs {
     pub roses: Vec<(String, Vec<RoseBin>, String)>,
     pub null_tests: Vec<NullTest>,
     pub yields: Vec<YieldSet>,
-    /// Model comparisons (`models.*` of `seine compare-models`): the file and its rows.
-    pub comparisons: Vec<(String, Vec<ModelRow>)>,
+    /// Model comparisons (`seine compare-models`): the directory and what it holds.
+    pub comparisons: Vec<(PathBuf, comparison::Read)>,
+    /// Per-object chances (`detectability.*` of `seine detectability --objects`): the file,
+    /// its rows, and which angles were redrawn (`summary.json` beside it, when there).
+    pub chances: Vec<(PathBuf, Vec<detectability::Row>, Option<String>)>,
+    /// Selection functions (`selection_function.*` of `seine detectability --population`):
+    /// the file, its cells, and the population it was measured on (from its provenance).
+    pub selections: Vec<(PathBuf, Vec<selection::Cell>, String)>,
     /// Inputs that could not be read, each with the reason.
     pub skipped: Vec<Skipped>,
 }
@@ -118,6 +124,8 @@ impl Inputs {
             && self.null_tests.is_empty()
             && self.yields.is_empty()
             && self.comparisons.is_empty()
+            && self.chances.is_empty()
+            && self.selections.is_empty()
     }
 
     /// Keep what `read` gives; an input error is noted against `path` and the scan goes on.
@@ -198,7 +206,8 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
         return Err(Error::input(format!(
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
              or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
-             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*, models.*), here or one directory down",
+             rose.*, cluster_null.* with cluster_test.*, yield_cadence.*, models.*, detectability.*, \
+             selection_function.*), here or one directory down",
             dir.display()
         )));
     }
@@ -207,6 +216,7 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
 
 fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<()> {
     let name = name_of(f);
+    let parent = f.parent().unwrap_or(Path::new("."));
     if name.ends_with(".survey.toml") {
         specs.push(f.to_path_buf());
     } else if let Some(stem) = name.strip_suffix(".coverage.json") {
@@ -219,10 +229,23 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         inputs.null_tests.extend(read_null_tests(f)?);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.push(read_yield_set(f)?);
-    } else if comparison::find(f.parent().unwrap_or(Path::new("."))).as_deref() == Some(f) {
+    } else if comparison::find(parent).as_deref() == Some(f) {
         inputs
             .comparisons
-            .push((f.display().to_string(), comparison::read_models(f)?));
+            .push((parent.to_path_buf(), comparison::read(parent)?));
+    } else if detectability::find(parent).as_deref() == Some(f) {
+        let redraw = read_json(&parent.join("summary.json"))
+            .ok()
+            .and_then(|j| j["redraw"].as_str().map(String::from));
+        inputs.chances.push((f.to_path_buf(), detectability::read(f)?, redraw));
+    } else if selection::find(parent).as_deref() == Some(f) {
+        let population = read_provenance(f)
+            .ok()
+            .and_then(|p| p.inputs.last().map(|i| population_name_of(&i.path)))
+            .unwrap_or_else(|| "the population".into());
+        inputs
+            .selections
+            .push((f.to_path_buf(), selection::read(f)?, population));
     }
     Ok(())
 }
@@ -625,6 +648,11 @@ fn yield_context(dir: &Path) -> (Vec<Survey>, Option<PathBuf>) {
         .map(|i| PathBuf::from(&i.path))
         .find(|p| matches!(name_of(p).rsplit('.').next(), Some("parquet" | "csv")));
     (surveys, objects)
+}
+
+/// A population named by its spec or file (see `yield_tables::population_name`).
+fn population_name_of(path: &str) -> String {
+    yield_tables::population_name(Path::new(path))
 }
 
 /// The label of a yield row's population: the written one, unless it is only the bare stem

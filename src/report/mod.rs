@@ -12,6 +12,9 @@
 //! | `bias_map*.csv`: `X_min, X_max, Y_min, Y_max, fraction` (or `probability`), optional `id` | bias maps, one per `id` (up to 6) | heat maps |
 //! | `rose.parquet` (or `.csv`, as `seine cluster-test` writes it): `quantity, bin_lo_deg, bin_hi_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the bias-aware null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
 //! | `cluster_null.parquet` (or `.csv`, from `seine cluster-test`): `statistic, value` (one row per statistic and null catalog), optional `value_naive`, with `cluster_test.*` beside it: `statistic, observed, p_bias_aware`, optional `p_naive` | the cluster test | the null distribution of each statistic (and the naive one), the observed value marked |
+//! | `detectability.*` (`seine detectability --objects`, via `analysis::detectability`) | each object's chance of discovery | chance with its interval against q and H; the lowest chances as a table |
+//! | `selection_function.*` (`seine detectability --population`, via `analysis::selection`) | a population's selection function | heat maps over a–q, a–i, a–H |
+//! | `models.*`, `marginals.*`, `detected.*`, `catalogue.*`, `goodness_of_fit.*` (`seine compare-models`, via `analysis::comparison`) | a model comparison | ln L and marginal-test tables; the catalogue over each model's detected distribution per observable (angles on a circle); each model's goodness-of-fit null |
 //! | `yield_cadence.parquet` (or `.csv`, as `seine yield` writes it): `plan, cadence_days, n_objects, n_discovered`, optional `population`; the specs in `summary.json`'s provenance | yields of several plans with their effort | yield against cadence and per 100 hours (also built from observe runs of one objects table through one survey each) |
 //!
 //! The figures are written to `DIR/figures/STEM.svg` and the page to `DIR/index.html`.

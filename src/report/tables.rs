@@ -122,3 +122,28 @@ pub struct EfficiencyCurve {
     /// The rates the search finds, arcsec per hour.
     pub rate_window: (f64, f64),
 }
+
+/// A catalogue object's chance of discovery with its interval (`detectability.*`).
+pub use crate::analysis::detectability::Row as ObjectChance;
+
+/// One cell of a population's selection function, with its tally (`selection_function.*`).
+pub use crate::analysis::selection::Cell as SelectionCell;
+
+/// Values of one quantity with their weights: the catalogue, or a model's detected objects.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WeightedSample {
+    pub name: String,
+    pub values: Vec<f64>,
+    pub weights: Vec<f64>,
+}
+
+/// A model's goodness of fit: the catalogue's ln L and that of each synthetic catalogue.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitNull {
+    pub model: String,
+    pub observed: f64,
+    pub observed_error: f64,
+    pub p: f64,
+    pub p_error: f64,
+    pub samples: Vec<f64>,
+}

@@ -68,7 +68,7 @@ fn draw_cells(area: &Area, map: &HeatMap, max: f64) -> DrawResult {
 }
 
 /// A vertical colour bar with five ticks from 0 to `max`.
-fn colour_bar(area: &Area, max: f64, what: &str) -> DrawResult {
+pub(crate) fn colour_bar(area: &Area, max: f64, what: &str) -> DrawResult {
     let (_, h) = area.dim_in_pixel();
     let (top, bottom) = (20i32, h as i32 - 70);
     let steps = 60;

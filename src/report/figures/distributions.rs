@@ -137,7 +137,7 @@ fn axis_top(bins: &[&FractionBin]) -> f64 {
 }
 
 /// A round upper limit for a fraction axis: small fractions get a zoomed axis.
-fn nice_top(x: f64) -> f64 {
+pub(crate) fn nice_top(x: f64) -> f64 {
     [0.001, 0.002, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5, 1.0]
         .into_iter()
         .find(|&t| t >= x * 1.05)

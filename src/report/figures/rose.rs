@@ -11,7 +11,7 @@ use crate::report::stats::{label, symbol};
 use crate::report::style;
 use crate::report::tables::{NullBand, RoseBin};
 
-type Polar<'a, 'b> = ChartContext<
+pub(crate) type Polar<'a, 'b> = ChartContext<
     'a,
     SVGBackend<'b>,
     Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
@@ -19,7 +19,7 @@ type Polar<'a, 'b> = ChartContext<
 
 /// Wedge radii are proportional to the square root of the count, so that wedge *areas* are
 /// proportional to counts (a rose with linear radii exaggerates the largest bins).
-fn radius(count: f64) -> f64 {
+pub(crate) fn radius(count: f64) -> f64 {
     count.max(0.0).sqrt()
 }
 
@@ -103,12 +103,12 @@ pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<
 
 /// Screen point of an angle (deg) at radius `r`: 0° to the right, counter-clockwise, as the
 /// ecliptic plane is seen from its north pole with the equinox direction to the right.
-fn at(angle_deg: f64, r: f64) -> (f64, f64) {
+pub(crate) fn at(angle_deg: f64, r: f64) -> (f64, f64) {
     let t = angle_deg.to_radians();
     (r * t.cos(), r * t.sin())
 }
 
-fn arc(a0: f64, a1: f64, r: f64) -> impl Iterator<Item = (f64, f64)> {
+pub(crate) fn arc(a0: f64, a1: f64, r: f64) -> impl Iterator<Item = (f64, f64)> {
     let n = ((a1 - a0).abs() / 2.0).ceil().max(2.0) as usize;
     (0..=n).map(move |k| at(a0 + (a1 - a0) * k as f64 / n as f64, r))
 }
@@ -118,7 +118,7 @@ fn sector(a0: f64, a1: f64, r0: f64, r1: f64) -> Vec<(f64, f64)> {
 }
 
 /// Rings at round counts and spokes every 45°.
-fn draw_grid(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
+pub(crate) fn draw_grid(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
     let grid = style::GRID.stroke_width(1);
     for &n in &ring_counts(top) {
         let pts: Vec<_> = arc(0.0, 360.0, radius(n as f64)).collect();
@@ -134,7 +134,7 @@ fn draw_grid(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
 }
 
 /// The count of each ring and the angles at the quarters.
-fn draw_labels(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
+pub(crate) fn draw_labels(chart: &mut Polar, top: f64, r: f64) -> DrawResult {
     let ticks = ring_counts(top);
     let lab = style::muted_text(style::LABEL_PX - 2.0).pos(Pos::new(HPos::Left, VPos::Bottom));
     for &n in &ticks {
@@ -217,7 +217,7 @@ fn draw_key(area: &crate::report::figure::Area, band: Band) -> DrawResult {
     Ok(())
 }
 
-fn draw_wedges(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
+pub(crate) fn draw_wedges(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
     let c = style::series(1);
     for b in bins.iter().filter(|b| b.observed > 0.0) {
         let poly = sector(b.min_deg, b.max_deg, 0.0, radius(b.observed));
