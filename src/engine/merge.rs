@@ -39,7 +39,7 @@ pub fn merge_observe(dirs: &[PathBuf], out: &Path, format: Format, provenance: P
             .collect()
     };
     for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
-        concat_tables(&parts(table), path, prov.clone(), None)?;
+        concat_tables(&parts(table), path, prov.clone(), None, false)?;
     }
     let discoveries_path = super::discoveries::path(out, format);
     super::discoveries::write(&parts("objects"), &discoveries_path, &prov)?;
@@ -144,6 +144,6 @@ pub fn merge_tables(inputs: &[PathBuf], out: &Path, mut provenance: Provenance) 
         rows += df.height();
         provenance.add_input(p)?;
     }
-    concat_tables(inputs, out, provenance, None)?;
+    concat_tables(inputs, out, provenance, None, false)?;
     Ok(rows)
 }

@@ -59,26 +59,28 @@ pub fn observe_object(
             continue;
         }
         let mut draws = substream(key);
-        ps.candidates(&orbit, mode, scratch);
-        out.candidates += scratch.len() as u64;
+        let mut walk = ps.walk(&orbit, mode);
         let first = out.events.len();
         let mut dets: Vec<Detection> = Vec::new();
         let mut discovered_mjd: Option<f64> = None;
         // The light time of the previous in-field event is the next position's first guess. Only
         // in-field events update it, so every candidate strategy computes bit-identical positions.
         let mut tau = f64::NAN;
-        for &v in scratch.iter() {
-            let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
-                continue;
-            };
-            let fill_ok = draws.random::<f64>() < ps.survey.live_fraction;
-            let det_ok = draws.random::<f64>() < ev.p_detect;
-            ev.detected = fill_ok && det_ok;
-            out.events.push(ev);
-            if ev.detected {
-                dets.push(detection(ps, &ev));
-                if settled(ps, record, &dets, &mut discovered_mjd) {
-                    break;
+        'blocks: while walk.next_block(scratch) {
+            out.candidates += scratch.len() as u64;
+            for &v in scratch.iter() {
+                let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
+                    continue;
+                };
+                let fill_ok = draws.random::<f64>() < ps.survey.live_fraction;
+                let det_ok = draws.random::<f64>() < ev.p_detect;
+                ev.detected = fill_ok && det_ok;
+                out.events.push(ev);
+                if ev.detected {
+                    dets.push(detection(ps, &ev));
+                    if settled(ps, record, &dets, &mut discovered_mjd) {
+                        break 'blocks;
+                    }
                 }
             }
         }
