@@ -165,7 +165,12 @@ fn killed_run_resumes_to_identical_output() {
 fn resume_reuses_chunks_and_refuses_a_changed_run() {
     let s = scenario(400, 3000);
     let chunked = ["--chunk-size", "100"];
-    s.observe("a", &chunked);
+    // A run asked to be resumable keeps its parts; a plain run removes them once assembled.
+    s.observe("plain", &chunked);
+    assert!(!s.path("plain/parts").exists(), "a plain run left its parts");
+    s.observe("a", &[&chunked[..], &["--resume"]].concat());
+    assert!(s.path("a/parts/objects/part-00003.parquet").exists());
+    assert_same_outputs(&s.path("plain"), &s.path("a"));
     let o = s.observe("a", &[&chunked[..], &["--resume"]].concat());
     assert!(stderr(&o).contains("resumed: 4 of 4 chunks reused"), "{}", stderr(&o));
     // Another seed is another run: no chunk of the first may be reused.
@@ -259,7 +264,7 @@ fn draw_is_thread_invariant_and_shards_from_slurm_merge_to_the_whole() {
 #[test]
 fn provenance_names_version_command_inputs_and_seed() {
     let s = scenario(50, 300);
-    s.observe("out", &["--format", "csv"]);
+    s.observe("out", &["--format", "csv", "--resume"]);
     for file in ["out/objects.csv", "out/parts/detections/part-00000.parquet", "out"] {
         let o = Command::new(BIN)
             .args(["provenance"])

@@ -19,7 +19,8 @@ pub struct Args {
     pub objects: PathBuf,
     /// Output directory: objects.parquet, detections.parquet, discoveries.parquet (the
     /// discovered objects in order of discovery: the catalogue an analysis starts from),
-    /// summary.json, and the parts/ and manifest.json that --resume and `seine merge` use.
+    /// summary.json and manifest.json; parts/ (one pair of Parquet files per chunk) while
+    /// running, kept afterwards only with --resume or --shard (`seine merge` reads them).
     #[arg(long)]
     pub out: PathBuf,
     /// Run seed: with the object ids it fixes every random draw.
@@ -30,7 +31,8 @@ pub struct Args {
     pub threads: Option<usize>,
     #[command(flatten)]
     pub shard: super::common::ShardArgs,
-    /// Reuse the finished chunks of an interrupted run of the same inputs in --out.
+    /// Reuse the finished chunks of an interrupted run of the same inputs in --out, and keep
+    /// this run's parts for the next rerun (otherwise they are removed once assembled).
     #[arg(long)]
     pub resume: bool,
     /// Objects per chunk: the unit of memory, of part files and of the work a kill can lose.

@@ -1,21 +1,28 @@
 //! The visit index: visits grouped in time blocks, and inside each block in declination
 //! stripes sorted by right ascension (`stripes.rs`), with the observer's state precomputed
-//! once per visit.
+//! once per visit and a cap that holds the block's field centres.
 //!
 //! Candidate selection for one object in one block: the object's direction at the block's
-//! node time t_b is computed once (geocentric, light time from the previous node). Its
-//! direction at any visit time t in the block is within ω_max |t − t_b| of that, where
+//! node time t_b is computed once (geocentric, light time from the previous node), from the
+//! object's coarse track (`track.rs`: no Kepler solve per block, with a bound on its error).
+//! Its direction at any visit time t in the block is within ω_max |t − t_b| of that, where
 //! ω_max = (v_object,max + v_observer,max) / Δ_min bounds the angular rate. A visit is a
-//! candidate when its centre lies within R_fp + ω_max |t − t_b| + parallax + ε of the
-//! node direction, with R_fp the footprint's bounding radius; the stripes hand over only
-//! the visits in the box around that cone. This is a strict superset
-//! of the visits whose footprint contains the object, so the index changes no decision.
+//! candidate when its centre lies within R_fp + ω_max |t − t_b| + (parallax + track and
+//! light-time errors) / Δ_min + ε of the node direction, with R_fp the footprint's bounding
+//! radius; a cone that does not reach the block's cap is done with one dot product, and
+//! otherwise the stripes hand over only the visits in the box around it. This is a strict
+//! superset of the visits whose footprint contains the object, so the index changes no
+//! decision. Candidates come block by block (`Walk`), so that a caller that has its
+//! verdict stops without querying the rest of the survey.
+
+use std::f64::consts::PI;
 
 use nalgebra::Vector3;
 use rayon::prelude::*;
 
 use super::reach::Reach;
 use super::stripes::{Cone, Stripes};
+use super::track::Track;
 use crate::orbit::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Elements, Orbit};
 use crate::sky::earth::EarthSource;
@@ -50,6 +57,7 @@ pub struct Block {
     pub half_span: f64,
     pub node_observer: ObserverState,
     pub visits: std::ops::Range<usize>,
+    cap: BlockCap,
     stripes: Stripes,
 }
 
@@ -104,48 +112,120 @@ impl PreparedSurvey {
         self.observers.is_empty()
     }
 
-    /// Candidate visits for one object, in visit (time) order, appended to `out`.
-    pub fn candidates(&self, orbit: &Orbit, mode: Candidates, out: &mut Vec<usize>) {
+    /// An object's walk through this survey's visits: candidate visits block by block, in
+    /// time order, so that a caller that has what it needs stops without the rest.
+    pub fn walk<'a>(&'a self, orbit: &'a Orbit, mode: Candidates) -> Walk<'a> {
+        let v_obj = speed_bound(&orbit.elements);
+        Walk {
+            ps: self,
+            mode,
+            track: Track::new(orbit),
+            next: 0,
+            tau: f64::NAN,
+            v_obj,
+            v_max: v_obj + OBSERVER_SPEED,
+        }
+    }
+}
+
+/// One object's candidates in one survey, block by block (`PreparedSurvey::walk`).
+#[derive(Debug, Clone)]
+pub struct Walk<'a> {
+    ps: &'a PreparedSurvey,
+    mode: Candidates,
+    track: Track<'a>,
+    /// The next block to query.
+    next: usize,
+    /// Light time at the previous node, days (NaN before the first).
+    tau: f64,
+    v_obj: f64,
+    v_max: f64,
+}
+
+impl Walk<'_> {
+    /// Replace `out` with the candidate visits of the next block that has any, in visit
+    /// (time) order; false when the survey is done.
+    pub fn next_block(&mut self, out: &mut Vec<usize>) -> bool {
         out.clear();
-        match mode {
-            Candidates::All => out.extend(0..self.len()),
-            Candidates::Indexed => self.indexed_candidates(orbit, out),
+        let blocks = &self.ps.blocks;
+        while out.is_empty() && self.next < blocks.len() {
+            let b = &blocks[self.next];
+            self.next += 1;
+            match self.mode {
+                Candidates::All => out.extend(b.visits.clone()),
+                Candidates::Indexed => self.block_candidates(b, out),
+            }
+        }
+        !out.is_empty()
+    }
+
+    fn block_candidates(&mut self, b: &Block, out: &mut Vec<usize>) {
+        let obs = &b.node_observer;
+        if self.tau.is_nan() {
+            self.tau = converged_light_time(&mut self.track, obs);
+        }
+        let (d, track_error) = node_vector(&mut self.track, obs, self.tau);
+        let delta = d.norm();
+        // The node uses the previous node's light time: the direction error is at most
+        // v_obj |τ_new − τ_used| (to first order), which goes into the slack, as does the
+        // track's own error (and the light-time error it makes).
+        let tau_new = delta / C_AU_PER_DAY;
+        let lt_error = 1.01 * self.v_obj * ((tau_new - self.tau).abs() + track_error / C_AU_PER_DAY);
+        self.tau = tau_new;
+        let position_error = SITE_OFFSET_AU + lt_error + track_error;
+        let delta_min = delta - self.v_max * b.half_span - position_error;
+        if delta_min <= 0.05 {
+            out.extend(b.visits.clone()); // too close to bound: test everything
+            return;
+        }
+        let omega = self.v_max / delta_min;
+        let slack = self.ps.bounding_radius + position_error / delta_min + EPSILON;
+        let dir = d / delta;
+        let r_max = slack + omega * b.half_span;
+        if !b.cap.may_meet(&dir, r_max) {
+            return;
+        }
+        let cone = Cone {
+            dir: &dir,
+            slack,
+            omega,
+            r_max,
+        };
+        b.stripes.select(&cone, out);
+        out.sort_unstable();
+    }
+}
+
+/// A cap that holds the centres of a block's visits: a cone that does not reach it holds none.
+#[derive(Debug, Clone, Copy)]
+struct BlockCap {
+    center: Vector3<f64>,
+    radius: f64,
+}
+
+impl BlockCap {
+    fn new(centers: impl Iterator<Item = Vector3<f64>> + Clone) -> Self {
+        let sum: Vector3<f64> = centers.clone().sum();
+        let center = if sum.norm() > 1e-9 {
+            sum.normalize()
+        } else {
+            Vector3::z()
+        };
+        let radius = centers
+            .map(|c| c.dot(&center).clamp(-1.0, 1.0).acos())
+            .fold(0.0, f64::max);
+        // Rounding in the angles: a ten-nanoradian margin.
+        BlockCap {
+            center,
+            radius: radius + 1e-8,
         }
     }
 
-    fn indexed_candidates(&self, orbit: &Orbit, out: &mut Vec<usize>) {
-        let v_obj = speed_bound(&orbit.elements);
-        let v_max = v_obj + OBSERVER_SPEED;
-        let mut tau = f64::NAN;
-        for b in &self.blocks {
-            let obs = &b.node_observer;
-            if tau.is_nan() {
-                tau = converged_light_time(orbit, obs);
-            }
-            let d = node_vector(orbit, obs, tau);
-            let delta = d.norm();
-            // The node uses the previous node's light time: the direction error is at most
-            // v_obj |τ_new − τ_used| (to first order), which goes into the slack.
-            let tau_new = delta / C_AU_PER_DAY;
-            let lt_error = 1.01 * v_obj * (tau_new - tau).abs();
-            tau = tau_new;
-            let delta_min = delta - v_max * b.half_span - SITE_OFFSET_AU - lt_error;
-            let start = out.len();
-            if delta_min <= 0.05 {
-                out.extend(b.visits.clone()); // too close to bound: test everything
-                continue;
-            }
-            let omega = v_max / delta_min;
-            let slack = self.bounding_radius + (SITE_OFFSET_AU + lt_error) / delta_min + EPSILON;
-            let cone = Cone {
-                dir: &(d / delta),
-                slack,
-                omega,
-                r_max: slack + omega * b.half_span,
-            };
-            b.stripes.select(&cone, out);
-            out[start..].sort_unstable();
-        }
+    /// False only when no point within `r` of the unit vector `dir` lies in the cap.
+    #[inline]
+    fn may_meet(&self, dir: &Vector3<f64>, r: f64) -> bool {
+        let reach = self.radius + r;
+        reach >= PI || dir.dot(&self.center) >= reach.cos()
     }
 }
 
@@ -165,22 +245,23 @@ fn stripe_height(bounding_radius: f64) -> f64 {
     bounding_radius.clamp(0.5f64.to_radians(), 10f64.to_radians())
 }
 
-/// Observer-to-object vector at the node for a given light time.
+/// Observer-to-object vector at the node for a given light time, from the track, and the
+/// bound on its error, AU.
 #[inline]
-fn node_vector(orbit: &Orbit, obs: &ObserverState, tau: f64) -> Vector3<f64> {
-    let (p, _) = orbit.state(obs.tdb_mjd - tau);
-    let pos = match orbit.center() {
+fn node_vector(track: &mut Track, obs: &ObserverState, tau: f64) -> (Vector3<f64>, f64) {
+    let (p, error) = track.position(obs.tdb_mjd - tau);
+    let pos = match track.center() {
         Center::Heliocentric => p + obs.sun_pos - obs.sun_vel * tau,
         Center::Barycentric => p,
     };
-    pos - obs.pos
+    (pos - obs.pos, error)
 }
 
 /// Light time at the first node, iterated until it changes by < 1e-9 day.
-fn converged_light_time(orbit: &Orbit, obs: &ObserverState) -> f64 {
+fn converged_light_time(track: &mut Track, obs: &ObserverState) -> f64 {
     let mut tau = 0.0;
     for _ in 0..10 {
-        let next = node_vector(orbit, obs, tau).norm() / C_AU_PER_DAY;
+        let next = node_vector(track, obs, tau).0.norm() / C_AU_PER_DAY;
         let done = (next - tau).abs() < 1e-9;
         tau = next;
         if done {
@@ -210,6 +291,7 @@ fn make_blocks(survey: &Survey, ra: &[f64], dec: &[f64], source: &EarthSource, h
             let (t0, t1) = (tdb[range.start], tdb[range.end - 1]);
             let node = 0.5 * (t0 + t1);
             Block {
+                cap: BlockCap::new(range.clone().map(|i| v.center[i])),
                 node_tdb: node,
                 half_span: 0.5 * (t1 - t0),
                 node_observer: ObserverState::new(&source.at(node), None, node, node),

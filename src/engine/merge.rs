@@ -97,7 +97,7 @@ fn write_merged(
             .collect()
     };
     for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
-        concat_tables(&parts(table), path, prov.clone(), None)?;
+        concat_tables(&parts(table), path, prov.clone(), None, false)?;
     }
     let discoveries_path = super::discoveries::path(out, format);
     super::discoveries::write(&parts("objects"), &discoveries_path, &prov)?;
@@ -214,7 +214,7 @@ pub fn merge_tables(inputs: &[PathBuf], out: &Path, mut provenance: Provenance) 
         provenance.add_input(p)?;
     }
     let paths: Vec<PathBuf> = inputs.into_iter().map(|(p, _)| p).collect();
-    concat_tables(&paths, out, provenance, None)?;
+    concat_tables(&paths, out, provenance, None, false)?;
     Ok(rows)
 }
 

@@ -1,8 +1,9 @@
 //! The detection engine: every object against every visit of every survey, through a visit
 //! index in time and on the sky, objects in parallel, outputs streamed in chunks.
 //!
-//! Where the time goes: one coarse position per object per time block (the node), a lookup
-//! of that block's visits by declination stripe and right ascension, then an exact
+//! Where the time goes: one coarse position per object per time block (the node, from a
+//! track that needs a Kepler solve only every few months), a test against the cap of that
+//! block's fields, a lookup of its visits by declination stripe and right ascension, then an exact
 //! light-time-corrected position only for candidate visits whose centre lies within the footprint's bounding
 //! radius plus the object's largest possible motion since the node. Everything else is
 //! bookkeeping. `Candidates::All` is the plain brute force, kept for verification.
@@ -19,6 +20,7 @@ pub mod reach;
 pub mod run;
 pub mod stripes;
 pub mod summary;
+pub mod track;
 
 pub use index::{Candidates, PreparedSurvey};
 pub use outcome::{Event, ObjectOutcome, SurveyOutcome};

@@ -59,8 +59,7 @@ pub fn observe_object(
             continue;
         }
         let mut draws = substream(key);
-        ps.candidates(&orbit, mode, scratch);
-        out.candidates += scratch.len() as u64;
+        let mut walk = ps.walk(&orbit, mode);
         let first = out.events.len();
         let mut dets: Vec<Detection> = Vec::new();
         let mut discovered_mjd: Option<f64> = None;
@@ -68,20 +67,23 @@ pub fn observe_object(
         // in-field events update it, so every candidate strategy computes bit-identical positions.
         let mut tau = f64::NAN;
         let mut decide = ps.survey.decisions();
-        for &v in scratch.iter() {
-            let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
-                continue;
-            };
-            let u = (draws.random::<f64>(), draws.random::<f64>());
-            ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
-            ev.measured = ps
-                .survey
-                .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
-            out.events.push(ev);
-            if ev.detected {
-                dets.push(detection(ps, &ev));
-                if settled(ps, record, &dets, &mut discovered_mjd) {
-                    break;
+        'blocks: while walk.next_block(scratch) {
+            out.candidates += scratch.len() as u64;
+            for &v in scratch.iter() {
+                let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
+                    continue;
+                };
+                let u = (draws.random::<f64>(), draws.random::<f64>());
+                ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
+                ev.measured = ps
+                    .survey
+                    .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
+                out.events.push(ev);
+                if ev.detected {
+                    dets.push(detection(ps, &ev));
+                    if settled(ps, record, &dets, &mut discovered_mjd) {
+                        break 'blocks;
+                    }
                 }
             }
         }

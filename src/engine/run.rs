@@ -121,11 +121,30 @@ pub fn observe_source(
     let report = assemble(surveys, out_dir, opts, provenance, &manifest)?;
     manifest.complete = true;
     manifest.write(out_dir)?;
+    if !keeps_parts(opts) {
+        remove_parts(out_dir)?;
+    }
     Ok(ObserveReport {
         chunks_reused: reused,
         chunks: manifest.chunks.len(),
         ..report
     })
+}
+
+/// Whether a run keeps its part files once the tables are assembled: when resuming was
+/// asked for (`--resume`: a rerun reuses them) and in a shard (`seine merge` reads them).
+/// Otherwise they are removed, so the output is on disk once.
+fn keeps_parts(opts: &ObserveOptions) -> bool {
+    opts.resume || opts.shard.is_some()
+}
+
+/// Remove the parts directory (the manifest stays: it records the run).
+fn remove_parts(out_dir: &Path) -> Result<()> {
+    let dir = out_dir.join(PARTS);
+    match std::fs::remove_dir_all(&dir) {
+        Err(e) if e.kind() != std::io::ErrorKind::NotFound => Err(crate::error::io_at(&dir, e)),
+        _ => Ok(()),
+    }
 }
 
 /// An unknown band is a visit band for which the objects table gives colours for other bands
@@ -287,11 +306,14 @@ fn assemble(
             .map(|c| part_path(out_dir, table, c.index))
             .collect()
     };
-    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
-        concat_tables(&parts(table), path, provenance.clone(), opts.stop.as_deref())?;
-    }
     let discoveries_path = discoveries::path(out_dir, opts.format);
     let n_discoveries = discoveries::write(&parts("objects"), &discoveries_path, provenance)?;
+    // Parts that are not kept go as soon as they are copied: the disk holds the output about
+    // once (plus one part) rather than twice.
+    let consume = !keeps_parts(opts);
+    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+        concat_tables(&parts(table), path, provenance.clone(), opts.stop.as_deref(), consume)?;
+    }
     for c in &manifest.chunks {
         summary.absorb(&c.summary).map_err(Error::io)?;
     }
@@ -311,14 +333,24 @@ fn assemble(
 }
 
 /// Stream tables (each small enough to hold) into one output table, in order; the output
-/// appears only when complete. Stops with `Error::Interrupted` when `stop` is raised.
-pub fn concat_tables(inputs: &[PathBuf], out: &Path, provenance: Provenance, stop: Option<&AtomicBool>) -> Result<()> {
+/// appears only when complete. Stops with `Error::Interrupted` when `stop` is raised. With
+/// `consume`, each input is removed once it is written.
+pub fn concat_tables(
+    inputs: &[PathBuf],
+    out: &Path,
+    provenance: Provenance,
+    stop: Option<&AtomicBool>,
+    consume: bool,
+) -> Result<()> {
     let mut sink = TableSink::create(out, provenance)?;
     for p in inputs {
         if stop.is_some_and(|s| s.load(Ordering::SeqCst)) {
             return Err(Error::Interrupted);
         }
         sink.write(&read_table(p)?)?;
+        if consume {
+            std::fs::remove_file(p).map_err(|e| crate::error::io_at(p, e))?;
+        }
     }
     sink.finish()
 }
