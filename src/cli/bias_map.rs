@@ -5,7 +5,6 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapGrid, bias_maps, svg};
-use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_atomic};
 use seine::shard::shard_rows;
 use seine::{Error, Result};
@@ -70,6 +69,8 @@ pub struct Args {
     #[arg(long)]
     pub objects: PathBuf,
     #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
+    #[command(flatten)]
     pub grid: GridArgs,
     #[command(flatten)]
     pub run: RunArgs,
@@ -85,7 +86,7 @@ pub fn run(a: Args) -> Result<()> {
     let grid = a.grid.grid()?;
     let mut prov = a.run.start()?;
     let surveys = load_surveys(&a.surveys, &mut prov)?;
-    let objects = ObjectTable::read(&a.objects)?;
+    let objects = a.selection.read(&a.objects)?;
     prov.add_input(&a.objects)?;
     let rows = shard_rows(objects.len(), a.shard.resolve()?);
     let (lo, hi) = (rows.start, rows.end);

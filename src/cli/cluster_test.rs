@@ -20,6 +20,8 @@ pub struct Args {
     /// The observed catalogue (objects table): its Ω and ω are tested.
     #[arg(long)]
     pub catalog: PathBuf,
+    #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
     /// Bias maps written by `seine bias-map` for these objects (otherwise computed here);
     /// repeat for the tables of several shards.
     #[arg(long)]
@@ -40,7 +42,7 @@ pub fn run(a: Args) -> Result<()> {
     // Options first: nothing is computed or written for a bad one.
     seine::analysis::cluster_test::check_options(a.trials, a.rose_bins)?;
     let mut prov = a.run.start()?;
-    let catalog = ObjectTable::read(&a.catalog)?;
+    let catalog = a.selection.read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
     let maps = match a.bias_map.as_slice() {
         [] => {
