@@ -311,3 +311,44 @@ fn opposition_rate_rule_of_thumb() {
     }
     assert!((148.0 * (1.0 - 1.0 / 40f64.sqrt()) / 39.0 - 3.2).abs() < 0.05);
 }
+
+#[test]
+fn galactic_coordinates_against_erfa_and_astropy() {
+    // Source: pyerfa erfa.icrs2g (the Hipparcos definition of the galactic frame applied to ICRS,
+    // ESA 1997, SP-1200, vol. 1, §1.5.3) and astropy's Galactic frame, which is defined through
+    // FK5 J2000 and so differs from ERFA by the ICRS–FK5 frame bias (≈ 0.02″);
+    // tests/reference/fixtures/galactic.csv. The first two rows are the north galactic pole and
+    // the galactic centre.
+    use seine::sky::frames::radec_to_galactic;
+    let f = Fixture::load("galactic.csv");
+    let (ra, dec) = (f.col("ra_deg"), f.col("dec_deg"));
+    let (l_erfa, b_erfa) = (f.col("l_deg_erfa"), f.col("b_deg_erfa"));
+    let (l_astropy, b_astropy) = (f.col("l_deg_astropy"), f.col("b_deg_astropy"));
+    let mut worst_erfa = 0.0f64;
+    let mut worst_astropy = 0.0f64;
+    for i in 0..f.len() {
+        let (l, b) = radec_to_galactic(ra[i].to_radians(), dec[i].to_radians());
+        let sep = |l_ref: f64, b_ref: f64| separation_deg(l.to_degrees(), b.to_degrees(), l_ref, b_ref);
+        worst_erfa = worst_erfa.max(sep(l_erfa[i], b_erfa[i]));
+        worst_astropy = worst_astropy.max(sep(l_astropy[i], b_astropy[i]));
+    }
+    // Same definition as ERFA: agreement to 1 mas (the matrix is published to 10 digits).
+    assert!(
+        worst_erfa < 1e-3 * ARCSEC_DEG,
+        "worst vs ERFA {:.3e}″",
+        worst_erfa * 3600.0
+    );
+    // astropy: the frame bias, 0.02″, bounds the difference.
+    assert!(
+        worst_astropy < 0.05 * ARCSEC_DEG,
+        "worst vs astropy {:.3e}″",
+        worst_astropy * 3600.0
+    );
+}
+
+/// Great-circle separation (degrees) between two (longitude, latitude) points in degrees.
+fn separation_deg(l1: f64, b1: f64, l2: f64, b2: f64) -> f64 {
+    let (l1, b1, l2, b2) = (l1.to_radians(), b1.to_radians(), l2.to_radians(), b2.to_radians());
+    let h = ((b2 - b1) / 2.0).sin().powi(2) + b1.cos() * b2.cos() * ((l2 - l1) / 2.0).sin().powi(2);
+    (2.0 * h.sqrt().min(1.0).asin()).to_degrees()
+}

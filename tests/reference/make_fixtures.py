@@ -789,6 +789,24 @@ def fixture_hg():
               rows)
 
 
+def fixture_galactic():
+    """ICRS -> galactic: ERFA's eraIcrs2g (the Hipparcos definition, ESA 1997,
+    SP-1200, vol. 1, sec. 1.5.3, applied directly to ICRS) and astropy's
+    Galactic frame (defined through FK5 J2000, so it differs from ERFA by the
+    ICRS-FK5 frame bias, about 0.02 arcsec)."""
+    rng = np.random.default_rng(20261202)
+    ra = np.concatenate([[192.85948, 266.40499, 0.0, 180.0], rng.uniform(0.0, 360.0, 196)])
+    dec = np.concatenate([[27.12825, -28.93617, 0.0, -60.0],
+                          np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, 196)))])
+    l_rad, b_rad = erfa.icrs2g(np.radians(ra), np.radians(dec))
+    gal = SkyCoord(ra=ra * u.deg, dec=dec * u.deg, frame="icrs").galactic
+    rows = zip(ra, dec, np.degrees(l_rad) % 360.0, np.degrees(b_rad),
+               gal.l.to_value(u.deg) % 360.0, gal.b.to_value(u.deg))
+    write_csv("galactic.csv",
+              ["ra_deg", "dec_deg", "l_deg_erfa", "b_deg_erfa", "l_deg_astropy", "b_deg_astropy"],
+              list(rows))
+
+
 def main():
     os.makedirs(OUT, exist_ok=True)
     # ERFA flags years beyond its leap-second table as "dubious"; TAI-UTC is
@@ -809,6 +827,7 @@ def main():
     fixture_wilson()
     fixture_vonmises()
     fixture_hg()
+    fixture_galactic()
     versions = {
         "python": sys.version.split()[0],
         "numpy": np.__version__, "scipy": scipy.__version__,
