@@ -234,10 +234,13 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
         c.i64("trial").unwrap(),
         c.f64("value").unwrap(),
     );
-    assert_eq!(stat.len(), 8 * trials);
+    // Every reported statistic has its null samples: the eight, Fisher's combination and the
+    // global one.
+    assert_eq!(stat.len(), 10 * trials);
     assert_eq!(&trial[..trials], &(0..trials as i64).collect::<Vec<_>>()[..]);
+    let unit = |i: &usize| !["pole_and_perihelion", "global"].contains(&stat[*i].as_str());
     assert!(
-        value.iter().all(|v| (0.0..=1.0).contains(v)),
+        (0..stat.len()).filter(unit).all(|i| (0.0..=1.0).contains(&value[i])),
         "R/n, V and lengths lie in [0, 1]"
     );
     // The p-values of cluster_test.csv are the fractions of those samples that reach the observed
@@ -247,7 +250,10 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
     let names = tc.str("statistic").unwrap();
     let observed = csv_col_nan(&test_path, "observed");
     let p_bias = tc.f64("p_bias_aware").unwrap();
-    for (j, name) in names.iter().enumerate().filter(|(_, n)| *n != "pole_and_perihelion") {
+    // Every row, the combined and global ones included: their samples are the synthetic
+    // catalogues' own combined statistics (pooled ranks).
+    assert_eq!(names[0], "global");
+    for (j, name) in names.iter().enumerate() {
         let reach = (0..stat.len())
             .filter(|&i| stat[i] == *name && value[i] >= observed[j])
             .count();

@@ -4,19 +4,22 @@
 //! anomaly redrawn — the method of AJ 154, 65 (2017) for the observational bias in the
 //! clustering of distant eccentric Kuiper-belt objects.
 //!
-//! Each cell of an n_x × n_node grid gets `per_cell` trials at angles drawn uniformly inside
-//! the cell, M uniform; trial k of cell c is trial number c·per_cell + k of the object, with
-//! the streams of `trials.rs`.
+//! A map grows by passes (one trial in every cell of the n_x × n_node grid, angles uniform
+//! inside the cell, M uniform) until it holds enough discoveries or reaches its trial cap
+//! (`MapBudget`); trial k of the object is cell k mod cells of pass k div cells, with the
+//! streams of `trials.rs`. Why so many discoveries: methods.md, "Bias maps".
 
 use std::f64::consts::TAU;
 
 use rand::RngExt;
+use rand_distr::Binomial;
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::PreparedSurvey;
 use crate::io::objects::ObjectTable;
+use crate::orbit::Elements;
 
 /// The angle on the map's first axis.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -49,7 +52,45 @@ pub struct MapGrid {
     pub axes: MapAxes,
     pub n_x: usize,
     pub n_node: usize,
-    pub per_cell: u64,
+}
+
+impl MapGrid {
+    pub fn cells(&self) -> usize {
+        self.n_x * self.n_node
+    }
+}
+
+/// When a map stops growing: after the pass that brings it to `min_discoveries`, or before a
+/// pass that would take it past `max_trials`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MapBudget {
+    pub min_discoveries: u64,
+    pub max_trials: u64,
+}
+
+/// The defaults: enough discoveries for p-values whose map noise is small next to their
+/// Monte Carlo error (methods.md, "Bias maps"), and a cap that bounds a hopeless object's cost.
+pub const DEFAULT_MIN_DISCOVERIES: u64 = 300;
+pub const DEFAULT_MAX_TRIALS_PER_OBJECT: u64 = 500_000;
+
+impl MapBudget {
+    /// Exactly `passes` trials per cell, whatever they discover.
+    pub fn fixed(passes: u64, grid: MapGrid) -> Self {
+        MapBudget {
+            min_discoveries: u64::MAX,
+            max_trials: passes.saturating_mul(grid.cells() as u64),
+        }
+    }
+
+    /// Whether a map with `discoveries` in `trials` gets another pass of `cells` trials.
+    pub fn wants_pass(&self, discoveries: u64, trials: u64, cells: usize) -> bool {
+        discoveries < self.min_discoveries && trials + cells as u64 <= self.max_trials
+    }
+
+    /// The number of trials the streams are laid out for (`trials::trial_id`).
+    pub fn stream_span(&self) -> u64 {
+        self.max_trials.max(1)
+    }
 }
 
 /// One object's bias map: trials and discoveries per cell, row-major (x outer, Ω inner).
@@ -73,7 +114,55 @@ impl BiasMap {
 
     /// Mean discovery probability over the map (uniform in both angles).
     pub fn mean_p(&self) -> f64 {
-        self.discoveries.iter().sum::<u64>() as f64 / self.trials.iter().sum::<u64>().max(1) as f64
+        self.total_discoveries() as f64 / self.total_trials().max(1) as f64
+    }
+
+    pub fn total_discoveries(&self) -> u64 {
+        self.discoveries.iter().sum()
+    }
+
+    pub fn total_trials(&self) -> u64 {
+        self.trials.iter().sum()
+    }
+
+    /// An empty map on `grid`.
+    pub fn empty(id: i64, grid: MapGrid) -> Self {
+        BiasMap {
+            id,
+            grid,
+            trials: vec![0; grid.cells()],
+            discoveries: vec![0; grid.cells()],
+        }
+    }
+
+    /// Grow the map pass by pass while `budget` wants more; `pass(k)` returns which cells of
+    /// pass k discovered the object (one trial per cell).
+    pub fn grow(&mut self, budget: MapBudget, mut pass: impl FnMut(u64) -> Vec<bool>) {
+        let cells = self.trials.len();
+        let mut k = 0;
+        while budget.wants_pass(self.total_discoveries(), self.total_trials(), cells) {
+            for (c, found) in pass(k).into_iter().enumerate() {
+                self.trials[c] += 1;
+                self.discoveries[c] += u64::from(found);
+            }
+            k += 1;
+        }
+    }
+
+    /// A bootstrap replica: each cell's trials resampled with replacement, i.e. its
+    /// discoveries drawn from Binomial(trials, discoveries / trials) (methods.md, "Honest
+    /// errors").
+    pub fn resampled(&self, rng: &mut Pcg64) -> BiasMap {
+        let discoveries = (0..self.trials.len())
+            .map(|c| match Binomial::new(self.trials[c], self.p(c)) {
+                Ok(b) if self.trials[c] > 0 => rng.sample(b),
+                _ => 0,
+            })
+            .collect();
+        BiasMap {
+            discoveries,
+            ..self.clone()
+        }
     }
 
     /// (x_lo, x_hi, node_lo, node_hi) of cell c, radians.
@@ -126,16 +215,24 @@ impl MapSampler {
     }
 }
 
-/// Bias maps of catalogue rows `rows`, objects in parallel.
+/// Bias maps of catalogue rows `rows`, objects in parallel (and the cells of a pass in
+/// parallel, so that a few hard objects keep every core busy); `tick` is called once per
+/// finished object (a progress bar).
 pub fn bias_maps(
     objects: &ObjectTable,
     rows: std::ops::Range<usize>,
     surveys: &[PreparedSurvey],
     grid: MapGrid,
+    budget: MapBudget,
     seed: u64,
+    tick: &(dyn Fn() + Sync),
 ) -> Vec<BiasMap> {
     rows.into_par_iter()
-        .map_init(Vec::new, |scratch, i| one_map(objects, i, surveys, grid, seed, scratch))
+        .map(|i| {
+            let map = one_map(objects, i, surveys, grid, budget, seed);
+            tick();
+            map
+        })
         .collect()
 }
 
@@ -144,35 +241,41 @@ fn one_map(
     i: usize,
     surveys: &[PreparedSurvey],
     grid: MapGrid,
+    budget: MapBudget,
     seed: u64,
-    scratch: &mut Vec<usize>,
 ) -> BiasMap {
-    let cells = grid.n_x * grid.n_node;
-    let per_object = cells as u64 * grid.per_cell;
-    let mut obj = TrialObject::new(objects, i);
-    let base = obj.elements();
-    let mut map = BiasMap {
-        id: objects.ids[i],
-        grid,
-        trials: vec![0; cells],
-        discoveries: vec![0; cells],
-    };
-    for c in 0..cells {
-        let (x0, x1, n0, n1) = map.cell_bounds(c);
-        for k in 0..grid.per_cell {
-            let tid = trial_id(objects.ids[i], c as u64 * grid.per_cell + k, per_object);
-            let mut rng = angle_stream(seed, tid);
-            let mut el = base;
-            // Fixed draw order: M, then the first-axis angle, then Ω.
-            el.mean_anomaly = rng.random::<f64>() * TAU;
-            let x = x0 + rng.random::<f64>() * (x1 - x0);
-            el.node = n0 + rng.random::<f64>() * (n1 - n0);
-            el.argperi = grid.axes.argperi(x, el.node);
-            map.trials[c] += 1;
-            map.discoveries[c] += obj.observe(el, surveys, seed, tid, scratch).discovered() as u64;
-        }
-    }
+    let id = objects.ids[i];
+    let template = TrialObject::new(objects, i);
+    let base = template.elements();
+    let mut map = BiasMap::empty(id, grid);
+    let cells = grid.cells();
+    let span = budget.stream_span();
+    let bounds: Vec<_> = (0..cells).map(|c| map.cell_bounds(c)).collect();
+    map.grow(budget, |pass| {
+        (0..cells)
+            .into_par_iter()
+            .map_init(
+                || (template.clone(), Vec::new()),
+                |(obj, scratch), c| {
+                    let tid = trial_id(id, pass * cells as u64 + c as u64, span);
+                    let el = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
+                    obj.observe(el, surveys, seed, tid, scratch).discovered()
+                },
+            )
+            .collect()
+    });
     map
+}
+
+/// The elements of one trial in a cell (x0, x1, node0, node1): fixed draw order M, then the
+/// first-axis angle, then Ω.
+fn cell_trial(base: Elements, (x0, x1, n0, n1): (f64, f64, f64, f64), axes: MapAxes, rng: &mut Pcg64) -> Elements {
+    let mut el = base;
+    el.mean_anomaly = rng.random::<f64>() * TAU;
+    let x = x0 + rng.random::<f64>() * (x1 - x0);
+    el.node = n0 + rng.random::<f64>() * (n1 - n0);
+    el.argperi = axes.argperi(x, el.node);
+    el
 }
 
 /// A heat map of one bias map as a small standalone SVG (x across, Ω up; grey scale from

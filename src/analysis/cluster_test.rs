@@ -1,24 +1,26 @@
 //! The bias-aware clustering test of a catalogue's orbital angles.
 //!
-//! Statistics: the mean resultant length R/n (Rayleigh) and Kuiper's V of ϖ, Ω and ω; the
-//! lengths of the mean orbital pole and of the mean perihelion direction (unit vectors).
+//! Statistics, per sample (the whole catalogue, and each cut in a or q if asked): the mean
+//! resultant length R/n (Rayleigh) and Kuiper's V of ϖ, Ω and ω; the lengths of the mean
+//! orbital pole and of the mean perihelion direction; Fisher's combination of the pole and
+//! perihelion p-values (`pole_and_perihelion`). Over the whole family, the most significant
+//! p-value (`global`, the look-elsewhere p-value), reported first.
+//!
 //! Null hypothesis: the angles are isotropic and the catalogue is what these surveys would
-//! find. Its p-values come from synthetic catalogues in which each object keeps a, e, i, H
-//! and draws (ϖ, Ω) from its own bias map (AJ 157, 62, 2019, for the combined clustering
-//! of poles and perihelia; the maps as in AJ 154, 65, 2017): p = (1 + #{T_syn ≥ T_obs}) /
-//! (1 + N) (Davison & Hinkley 1997, *Bootstrap Methods*, eq. 4.11; from memory), with Monte
-//! Carlo error √(p(1 − p)/N). Beside it the naive p-value, which ignores the bias: Rayleigh
-//! (Zar's approximation) and Kuiper analytically, the 3-D statistics by Monte Carlo with
-//! uniform angles.
+//! find. Every object keeps a, e, i, H and draws (ϖ, Ω) from its own bias map (AJ 157, 62,
+//! 2019; the maps as in AJ 154, 65, 2017); the test is valid conditionally on those elements.
+//! All p-values, combined and global included, are pooled Monte Carlo p-values on one set of
+//! synthetic catalogues (`pooled_p.rs`); their errors come from bootstrap replicas of the maps,
+//! so they cover the maps' noise as well as the catalogues'. Derivation: methods.md.
 //!
-//! The null samples are kept: every synthetic catalogue's statistics under both nulls (for the
-//! histogram of the null distribution), and per angular bin of ϖ, Ω and ω the distribution of
-//! the bias-aware catalogues' counts, summarized by its 5th, 50th and 95th percentiles (the
-//! band of the rose diagrams).
+//! Beside them the naive p-values, which ignore the bias: Rayleigh (Zar's approximation) and
+//! Kuiper analytically, the others by the same pooled Monte Carlo with uniform angles.
 //!
-//! Streams: object `id` in synthetic catalogue t draws from
-//! `object_stream(seed ^ splitmix64(t), id, Analysis)`: first its (ϖ, Ω) from the bias map
-//! (three uniforms), then its uniform angles for the naive null (two uniforms).
+//! Streams: object `id` in synthetic catalogue t of replica r draws from
+//! `object_stream(seed ^ splitmix64(t) ^ replica_key(r), id, Analysis)`: first its (ϖ, Ω)
+//! from the map (three uniforms), then its uniform angles for the naive null (two uniforms).
+//! Replica r ≥ 1 resamples the map of object `id` from `object_stream(seed ^ splitmix64(r), id,
+//! Clone)`.
 
 use std::f64::consts::TAU;
 
@@ -27,12 +29,13 @@ use rayon::prelude::*;
 
 use super::bias_map::{BiasMap, MapAxes, MapSampler};
 use super::circular::{self, MeanVector};
+use super::pooled_p::{fisher, min_p_statistic, upper_ranks};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, splitmix64};
 
-/// The names of the statistics, in the order of `Stats::values`.
-pub const STAT_NAMES: [&str; 9] = [
+/// The statistics with one value per sample, in the order of `Stats::values`.
+pub const STAT_NAMES: [&str; N_MARGINAL] = [
     "rayleigh_varpi",
     "rayleigh_node",
     "rayleigh_argperi",
@@ -41,14 +44,26 @@ pub const STAT_NAMES: [&str; 9] = [
     "kuiper_argperi",
     "mean_pole",
     "mean_perihelion",
-    "pole_and_perihelion",
 ];
 
-/// The statistics that have one value per catalogue (all but the joint one).
-pub const N_SAMPLED: usize = 8;
+pub const N_MARGINAL: usize = 8;
+
+/// Fisher's combination of the pole and perihelion p-values of a sample.
+pub const COMBINED: &str = "pole_and_perihelion";
+
+/// The most significant p-value of the whole family, −log₁₀ min p.
+pub const GLOBAL: &str = "global";
+
+/// Indices of the mean pole and mean perihelion in `STAT_NAMES`.
+const POLE: usize = 6;
+const PERIHELION: usize = 7;
 
 /// Angular bins of the rose counts unless told otherwise: 20° wide.
 pub const DEFAULT_ROSE_BINS: usize = 18;
+
+/// Synthetic catalogues and bootstrap replicas of the maps unless told otherwise.
+pub const DEFAULT_TRIALS: u64 = 10_000;
+pub const DEFAULT_REPLICAS: u32 = 20;
 
 /// The angles of the rose counts, in this order (names with their units, as in tables).
 pub const ROSE_QUANTITIES: [&str; 3] = ["varpi_deg", "node_deg", "argperi_deg"];
@@ -86,10 +101,8 @@ impl Stats {
         }
     }
 
-    /// The statistics in `STAT_NAMES` order; larger means more clustered. The joint one
-    /// carries no single value (NaN): it is the event "pole and perihelion both at least as
-    /// concentrated as observed".
-    pub fn values(&self) -> [f64; 9] {
+    /// The statistics in `STAT_NAMES` order; larger means more clustered.
+    pub fn values(&self) -> [f64; N_MARGINAL] {
         [
             self.varpi.1,
             self.node.1,
@@ -99,15 +112,99 @@ impl Stats {
             self.kuiper[2],
             self.pole.length,
             self.perihelion.length,
-            f64::NAN,
         ]
     }
 }
 
-/// One statistic's result.
+/// A sub-sample of the catalogue chosen by its fixed elements: a ≥ a_min or q ≥ q_min.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Cut {
+    AMin(f64),
+    QMin(f64),
+}
+
+impl Cut {
+    /// The sample's label in tables and text.
+    pub fn label(&self) -> String {
+        match self {
+            Cut::AMin(a) => format!("a >= {a} au"),
+            Cut::QMin(q) => format!("q >= {q} au"),
+        }
+    }
+
+    /// The suffix of the sample's statistic names.
+    fn suffix(&self) -> String {
+        match self {
+            Cut::AMin(a) => format!("_a{a}"),
+            Cut::QMin(q) => format!("_q{q}"),
+        }
+    }
+
+    fn keeps(&self, a_au: f64, q_au: f64) -> bool {
+        match *self {
+            Cut::AMin(a) => a_au >= a,
+            Cut::QMin(q) => q_au >= q,
+        }
+    }
+}
+
+/// The test's options.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TestOptions {
+    /// Synthetic catalogues N.
+    pub trials: u64,
+    pub seed: u64,
+    pub rose_bins: usize,
+    /// Bootstrap replicas of the maps for the errors (0: no error is estimated, NaN).
+    pub replicas: u32,
+    /// Sub-samples tested beside the whole catalogue.
+    pub cuts: Vec<Cut>,
+}
+
+impl Default for TestOptions {
+    fn default() -> Self {
+        TestOptions {
+            trials: DEFAULT_TRIALS,
+            seed: 1,
+            rose_bins: DEFAULT_ROSE_BINS,
+            replicas: DEFAULT_REPLICAS,
+            cuts: Vec::new(),
+        }
+    }
+}
+
+impl TestOptions {
+    /// The test's own options: at least one trial, 1 to 360 rose bins, finite positive cuts.
+    pub fn check(&self) -> Result<()> {
+        if self.trials == 0 {
+            return Err(Error::input("--trials: expected at least 1"));
+        }
+        if !(1..=360).contains(&self.rose_bins) {
+            return Err(Error::input(format!(
+                "--rose-bins {}: expected 1 to 360 angular bins",
+                self.rose_bins
+            )));
+        }
+        for c in &self.cuts {
+            let (opt, v) = match c {
+                Cut::AMin(v) => ("--cut-a-min", v),
+                Cut::QMin(v) => ("--cut-q-min", v),
+            };
+            if !(v.is_finite() && *v > 0.0) {
+                return Err(Error::input(format!("{opt} {v}: expected a distance in au above 0")));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// One reported statistic's result.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct StatResult {
     pub statistic: String,
+    /// "all", or the cut's label.
+    pub sample: String,
+    pub n_objects: usize,
     pub observed: f64,
     /// Mean direction: the angle for the circular statistics, the ecliptic longitude for the
     /// 3-D ones (degrees); NaN where there is none.
@@ -120,14 +217,14 @@ pub struct StatResult {
     pub p_naive_monte_carlo: f64,
 }
 
-/// The statistics of one synthetic catalogue, `STAT_NAMES[..N_SAMPLED]` order.
+/// The statistics of one synthetic catalogue, in the order of `ClusterTest::results`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct NullSample {
     pub trial: u64,
     /// Angles drawn from the objects' bias maps.
-    pub bias_aware: [f64; N_SAMPLED],
+    pub bias_aware: Vec<f64>,
     /// Uniform angles (no survey bias).
-    pub naive: [f64; N_SAMPLED],
+    pub naive: Vec<f64>,
 }
 
 /// One angular bin of a rose: the catalogue's count and the percentiles of the counts of the
@@ -150,8 +247,8 @@ pub struct RoseCount {
 pub struct ClusterTest {
     pub n_objects: usize,
     pub trials: u64,
-    /// Objects whose bias map had no discovery at all; they are drawn uniformly.
-    pub unconstrained_ids: Vec<i64>,
+    pub replicas: u32,
+    /// `global` first, then per sample its eight statistics and `pole_and_perihelion`.
     pub results: Vec<StatResult>,
     /// Every synthetic catalogue's statistics, in trial order (tables, not the summary).
     #[serde(skip)]
@@ -161,9 +258,18 @@ pub struct ClusterTest {
     pub rose: Vec<RoseCount>,
 }
 
-/// Angles of a catalogue, radians.
+impl ClusterTest {
+    /// The result of a statistic by name.
+    pub fn result(&self, statistic: &str) -> Option<&StatResult> {
+        self.results.iter().find(|r| r.statistic == statistic)
+    }
+}
+
+/// Angles of a catalogue (radians) and the fixed elements the cuts use.
 pub struct Angles {
     pub ids: Vec<i64>,
+    pub a_au: Vec<f64>,
+    pub q_au: Vec<f64>,
     pub inc: Vec<f64>,
     pub node: Vec<f64>,
     pub argperi: Vec<f64>,
@@ -173,26 +279,140 @@ impl Angles {
     pub fn of(t: &ObjectTable) -> Self {
         Angles {
             ids: t.ids.clone(),
+            a_au: t.elements.iter().map(|e| e.a_au).collect(),
+            q_au: t.elements.iter().map(|e| e.q_au()).collect(),
             inc: t.elements.iter().map(|e| e.inc).collect(),
             node: t.elements.iter().map(|e| e.node).collect(),
             argperi: t.elements.iter().map(|e| e.argperi).collect(),
         }
     }
+
+    /// The objects at `rows`, in that order.
+    pub fn select(&self, rows: &[usize]) -> Angles {
+        let pick = |v: &[f64]| rows.iter().map(|r| v[*r]).collect::<Vec<f64>>();
+        Angles {
+            ids: rows.iter().map(|r| self.ids[*r]).collect(),
+            a_au: pick(&self.a_au),
+            q_au: pick(&self.q_au),
+            inc: pick(&self.inc),
+            node: pick(&self.node),
+            argperi: pick(&self.argperi),
+        }
+    }
 }
 
-/// Run the test on a catalogue's angles with one bias map per object (same order), with
-/// `DEFAULT_ROSE_BINS` rose bins.
-pub fn cluster_test(cat: &Angles, maps: &[BiasMap], trials: u64, seed: u64) -> Result<ClusterTest> {
-    cluster_test_binned(cat, maps, trials, seed, DEFAULT_ROSE_BINS)
+/// A sample of the family: its name suffix, label and rows.
+struct Sample {
+    suffix: String,
+    label: String,
+    rows: Vec<usize>,
 }
 
-/// The test with `rose_bins` equal angular bins over 0–360° for the rose counts.
-pub fn cluster_test_binned(
+fn samples_of(cat: &Angles, cuts: &[Cut]) -> Result<Vec<Sample>> {
+    let mut out = vec![Sample {
+        suffix: String::new(),
+        label: "all".into(),
+        rows: (0..cat.ids.len()).collect(),
+    }];
+    for c in cuts {
+        let rows: Vec<usize> = (0..cat.ids.len())
+            .filter(|j| c.keeps(cat.a_au[*j], cat.q_au[*j]))
+            .collect();
+        if rows.len() < 2 {
+            return Err(Error::input(format!(
+                "cut {}: keeps {} of the catalogue's {} objects; the clustering test needs at least two",
+                c.label(),
+                rows.len(),
+                cat.ids.len()
+            )));
+        }
+        out.push(Sample {
+            suffix: c.suffix(),
+            label: c.label(),
+            rows,
+        });
+    }
+    Ok(out)
+}
+
+/// The eight statistics of every sample, sample after sample.
+fn family_values(inc: &[f64], node: &[f64], argperi: &[f64], samples: &[Sample]) -> Vec<f64> {
+    let mut out = Vec::with_capacity(samples.len() * N_MARGINAL);
+    for s in samples {
+        let v = if s.rows.len() == inc.len() {
+            Stats::of(inc, node, argperi).values()
+        } else {
+            let pick = |x: &[f64]| s.rows.iter().map(|r| x[*r]).collect::<Vec<f64>>();
+            Stats::of(&pick(inc), &pick(node), &pick(argperi)).values()
+        };
+        out.extend(v);
+    }
+    out
+}
+
+/// Every reported statistic's value and pooled p-value for every catalogue (index 0 the
+/// observed one), rows in the order of `ClusterTest::results`.
+struct Family {
+    values: Vec<Vec<f64>>,
+    p: Vec<Vec<f64>>,
+}
+
+/// Rank the catalogues' statistics against each other, combine, and rank again.
+fn calibrate(observed: &[f64], synthetic: &[Vec<f64>], n_samples: usize) -> Family {
+    let column = |k: usize| -> Vec<f64> {
+        std::iter::once(observed[k])
+            .chain(synthetic.iter().map(|v| v[k]))
+            .collect()
+    };
+    let marginal: Vec<Vec<f64>> = (0..observed.len()).map(column).collect();
+    let marginal_p: Vec<Vec<f64>> = marginal.iter().map(|v| upper_ranks(v)).collect();
+    let n_cat = synthetic.len() + 1;
+    let (mut values, mut p) = (vec![Vec::new()], vec![Vec::new()]);
+    for s in 0..n_samples {
+        let k0 = s * N_MARGINAL;
+        let combined: Vec<f64> = (0..n_cat)
+            .map(|c| fisher(&[marginal_p[k0 + POLE][c], marginal_p[k0 + PERIHELION][c]]))
+            .collect();
+        let combined_p = upper_ranks(&combined);
+        for k in k0..k0 + N_MARGINAL {
+            values.push(marginal[k].clone());
+            p.push(marginal_p[k].clone());
+        }
+        values.push(combined);
+        p.push(combined_p);
+    }
+    let global: Vec<f64> = (0..n_cat)
+        .map(|c| min_p_statistic(&p[1..].iter().map(|row| row[c]).collect::<Vec<f64>>()))
+        .collect();
+    p[0] = upper_ranks(&global);
+    values[0] = global;
+    Family { values, p }
+}
+
+/// The synthetic catalogues of one replica: each catalogue's eight statistics per sample, and
+/// for the built maps (replica 0) the naive ones and the rose counts too.
+struct Draws {
+    bias: Vec<Vec<f64>>,
+    naive: Vec<Vec<f64>>,
+    rose: Vec<Vec<u32>>,
+}
+
+struct Setup<'a> {
+    cat: &'a Angles,
+    axes: Vec<MapAxes>,
+    samples: Vec<Sample>,
+    opt: &'a TestOptions,
+}
+
+/// Run the test on a catalogue's angles with one bias map per object (same order). `tick` is
+/// called once per replica (a progress bar). Every map must hold a discovery: an object the
+/// surveys never found on its map has no null distribution, and drawing it uniformly would
+/// make the test anti-conservative.
+pub fn cluster_test(
     cat: &Angles,
     maps: &[BiasMap],
-    trials: u64,
-    seed: u64,
-    rose_bins: usize,
+    opt: &TestOptions,
+    tick: &(dyn Fn() + Sync),
 ) -> Result<ClusterTest> {
     let n = cat.ids.len();
     if n < 2 || maps.len() != n {
@@ -201,77 +421,204 @@ pub fn cluster_test_binned(
             maps.len()
         )));
     }
-    check_options(trials, rose_bins)?;
-    let obs = Stats::of(&cat.inc, &cat.node, &cat.argperi);
-    let samplers: Vec<Option<MapSampler>> = maps.iter().map(BiasMap::sampler).collect();
-    let axes: Vec<MapAxes> = maps.iter().map(|m| m.grid.axes).collect();
-    let tally_len = ROSE_QUANTITIES.len() * rose_bins * (n + 1);
-    let (mut null_samples, tally) = (0..trials)
-        .into_par_iter()
-        .map(|t| one_trial(cat, &samplers, &axes, t, seed, rose_bins))
-        .fold(
-            || (Vec::new(), vec![0u64; tally_len]),
-            |(mut samples, mut tally), (sample, counts)| {
-                samples.push(sample);
-                // tally[(q·bins + k)·(n + 1) + c]: catalogues with count c in bin k of angle q.
-                for (qk, c) in counts.into_iter().enumerate() {
-                    tally[qk * (n + 1) + c as usize] += 1;
-                }
-                (samples, tally)
-            },
-        )
-        .reduce(
-            || (Vec::new(), vec![0u64; tally_len]),
-            |(mut sa, ta), (sb, tb)| {
-                sa.extend(sb);
-                (sa, ta.iter().zip(&tb).map(|(a, b)| a + b).collect())
-            },
-        );
-    null_samples.sort_by_key(|s| s.trial);
-    let (mut bias, mut naive) = ([0u64; 9], [0u64; 9]);
-    for s in &null_samples {
-        for (k, hit) in reaching(&s.bias_aware, &obs).into_iter().enumerate() {
-            bias[k] += u64::from(hit);
-        }
-        for (k, hit) in reaching(&s.naive, &obs).into_iter().enumerate() {
-            naive[k] += u64::from(hit);
-        }
+    opt.check()?;
+    let empty: Vec<i64> = maps
+        .iter()
+        .filter(|m| m.total_discoveries() == 0)
+        .map(|m| m.id)
+        .collect();
+    if !empty.is_empty() {
+        return Err(Error::input(format!(
+            "the bias maps of ids {empty:?} hold no discovery: the surveys never found these objects \
+             at any angle tried, so the test has no null distribution for them (raise the map's trial \
+             cap, or drop them)"
+        )));
     }
-    let unconstrained_ids = (0..n).filter(|j| samplers[*j].is_none()).map(|j| cat.ids[j]).collect();
-    let results = summarize(&obs, n, trials, &bias, &naive);
-    let rose = rose_counts(cat, rose_bins, &tally, trials);
+    let setup = Setup {
+        cat,
+        axes: maps.iter().map(|m| m.grid.axes).collect(),
+        samples: samples_of(cat, &opt.cuts)?,
+        opt,
+    };
+    let observed = family_values(&cat.inc, &cat.node, &cat.argperi, &setup.samples);
+    let samplers: Vec<MapSampler> = maps.iter().map(|m| m.sampler().expect("checked above")).collect();
+    let main = draw(&setup, &samplers, 0, true);
+    let bias = calibrate(&observed, &main.bias, setup.samples.len());
+    let naive = calibrate(&observed, &main.naive, setup.samples.len());
+    tick();
+    let replica_p: Vec<Vec<f64>> = (1..=opt.replicas)
+        .map(|r| {
+            let resampled: Vec<MapSampler> = maps
+                .iter()
+                .map(|m| {
+                    let mut rng = object_stream(opt.seed ^ splitmix64(u64::from(r)), m.id, Purpose::Clone);
+                    // A replica map can lose every discovery of a very thin map: keep the built one.
+                    m.resampled(&mut rng)
+                        .sampler()
+                        .unwrap_or_else(|| m.sampler().expect("checked above"))
+                })
+                .collect();
+            let d = draw(&setup, &resampled, r, false);
+            let f = calibrate(&observed, &d.bias, setup.samples.len());
+            tick();
+            f.p.iter().map(|row| row[0]).collect()
+        })
+        .collect();
+    let results = summarize(&setup, &observed, &bias, &naive, &replica_p);
+    let null_samples = (0..opt.trials as usize)
+        .map(|t| NullSample {
+            trial: t as u64,
+            bias_aware: bias.values.iter().map(|row| row[t + 1]).collect(),
+            naive: naive.values.iter().map(|row| row[t + 1]).collect(),
+        })
+        .collect();
+    let rose = rose_counts(cat, opt.rose_bins, &main.rose);
     Ok(ClusterTest {
         n_objects: n,
-        trials,
-        unconstrained_ids,
+        trials: opt.trials,
+        replicas: opt.replicas,
         results,
         null_samples,
         rose,
     })
 }
 
-/// The test's own options: at least one trial, 1 to 360 rose bins.
-pub fn check_options(trials: u64, rose_bins: usize) -> Result<()> {
-    if trials == 0 {
-        return Err(Error::input("--trials: expected at least 1"));
-    }
-    if !(1..=360).contains(&rose_bins) {
-        return Err(Error::input(format!(
-            "--rose-bins {rose_bins}: expected 1 to 360 angular bins"
-        )));
-    }
-    Ok(())
+/// The seed of synthetic catalogue t of replica r (r = 0: the built maps).
+fn catalogue_seed(seed: u64, t: u64, r: u32) -> u64 {
+    let key = if r == 0 {
+        0
+    } else {
+        splitmix64(u64::from(r) ^ 0xB007_57AB_B007_57AB)
+    };
+    seed ^ splitmix64(t) ^ key
 }
 
-/// Which statistics of a synthetic catalogue reach the observed ones; the joint one when
-/// pole and perihelion both do.
-fn reaching(values: &[f64; N_SAMPLED], obs: &Stats) -> [bool; 9] {
-    let o = obs.values();
-    let mut out = [false; 9];
-    for k in 0..N_SAMPLED {
-        out[k] = values[k] >= o[k];
+fn draw(setup: &Setup, samplers: &[MapSampler], r: u32, with_naive: bool) -> Draws {
+    let out: Vec<(Vec<f64>, Vec<f64>, Vec<u32>)> = (0..setup.opt.trials)
+        .into_par_iter()
+        .map(|t| one_catalogue(setup, samplers, catalogue_seed(setup.opt.seed, t, r), with_naive))
+        .collect();
+    let mut d = Draws {
+        bias: Vec::with_capacity(out.len()),
+        naive: Vec::new(),
+        rose: Vec::new(),
+    };
+    for (b, n, c) in out {
+        d.bias.push(b);
+        if with_naive {
+            d.naive.push(n);
+            d.rose.push(c);
+        }
     }
-    out[8] = out[6] && out[7];
+    d
+}
+
+/// One synthetic catalogue: its statistics from the maps and, if asked, from uniform angles,
+/// with the rose counts of its map-drawn angles.
+fn one_catalogue(
+    setup: &Setup,
+    samplers: &[MapSampler],
+    trial_seed: u64,
+    with_naive: bool,
+) -> (Vec<f64>, Vec<f64>, Vec<u32>) {
+    let cat = setup.cat;
+    let n = cat.ids.len();
+    let (mut bn, mut bw, mut un, mut uw) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n]);
+    for j in 0..n {
+        let mut rng = object_stream(trial_seed, cat.ids[j], Purpose::Analysis);
+        let (x, node) = samplers[j].sample(&mut rng);
+        bn[j] = node;
+        bw[j] = setup.axes[j].argperi(x, node);
+        if with_naive {
+            un[j] = rng.random::<f64>() * TAU;
+            uw[j] = rng.random::<f64>() * TAU;
+        }
+    }
+    let bias = family_values(&cat.inc, &bn, &bw, &setup.samples);
+    if !with_naive {
+        return (bias, Vec::new(), Vec::new());
+    }
+    let naive = family_values(&cat.inc, &un, &uw, &setup.samples);
+    (bias, naive, angle_counts(&bn, &bw, setup.opt.rose_bins))
+}
+
+/// The rows of the results: `global`, then per sample its statistics and the combination.
+fn summarize(
+    setup: &Setup,
+    observed: &[f64],
+    bias: &Family,
+    naive: &Family,
+    replica_p: &[Vec<f64>],
+) -> Vec<StatResult> {
+    let trials = setup.opt.trials;
+    let cat = setup.cat;
+    let error = |row: usize, p: f64| -> f64 {
+        if replica_p.len() < 2 {
+            return f64::NAN;
+        }
+        let v: Vec<f64> = replica_p.iter().map(|x| x[row]).collect();
+        let mean = v.iter().sum::<f64>() / v.len() as f64;
+        let sd = (v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (v.len() - 1) as f64).sqrt();
+        sd.max((p * (1.0 - p) / trials as f64).sqrt())
+    };
+    let row = |k: usize, statistic: String, sample: &Sample, dir: (f64, f64), naive_p: (f64, &str)| {
+        let p = bias.p[k][0];
+        StatResult {
+            statistic,
+            sample: sample.label.clone(),
+            n_objects: sample.rows.len(),
+            observed: bias.values[k][0],
+            direction_lon_deg: dir.0.to_degrees(),
+            direction_lat_deg: dir.1.to_degrees(),
+            p_bias_aware: p,
+            p_bias_aware_error: error(k, p),
+            p_naive: naive_p.0,
+            p_naive_method: naive_p.1.into(),
+            p_naive_monte_carlo: naive.p[k][0],
+        }
+    };
+    let none = (f64::NAN, f64::NAN);
+    let mc = "monte carlo, uniform angles";
+    let mut out = vec![row(0, GLOBAL.into(), &setup.samples[0], none, (naive.p[0][0], mc))];
+    for (s, sample) in setup.samples.iter().enumerate() {
+        let sub = cat.select(&sample.rows);
+        let st = Stats::of(&sub.inc, &sub.node, &sub.argperi);
+        let dirs = [
+            (st.varpi.0, f64::NAN),
+            (st.node.0, f64::NAN),
+            (st.argperi.0, f64::NAN),
+            (st.varpi.0, f64::NAN),
+            (st.node.0, f64::NAN),
+            (st.argperi.0, f64::NAN),
+            (st.pole.lon, st.pole.lat),
+            (st.perihelion.lon, st.perihelion.lat),
+        ];
+        let n = sample.rows.len();
+        let base = 1 + s * (N_MARGINAL + 1);
+        for k in 0..N_MARGINAL {
+            let value = observed[s * N_MARGINAL + k];
+            let naive_p = match k {
+                0..=2 => (circular::rayleigh_p(n, value * n as f64), "rayleigh (Zar)"),
+                3..=5 => (circular::kuiper_p(value, n), "kuiper"),
+                _ => (naive.p[base + k][0], mc),
+            };
+            out.push(row(
+                base + k,
+                format!("{}{}", STAT_NAMES[k], sample.suffix),
+                sample,
+                dirs[k],
+                naive_p,
+            ));
+        }
+        let k = base + N_MARGINAL;
+        out.push(row(
+            k,
+            format!("{COMBINED}{}", sample.suffix),
+            sample,
+            none,
+            (naive.p[k][0], mc),
+        ));
+    }
     out
 }
 
@@ -303,8 +650,18 @@ fn count_quantile(tally: &[u64], trials: u64, q: f64) -> u64 {
     tally.len().saturating_sub(1) as u64
 }
 
-fn rose_counts(cat: &Angles, bins: usize, tally: &[u64], trials: u64) -> Vec<RoseCount> {
+/// The rose counts of the catalogue with the band of the synthetic catalogues' counts
+/// (`counts`: per catalogue, `angle_counts` of its map-drawn angles).
+fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<u32>]) -> Vec<RoseCount> {
     let n = cat.ids.len();
+    let trials = counts.len() as u64;
+    // tally[(q·bins + k)·(n + 1) + c]: catalogues with count c in bin k of angle q.
+    let mut tally = vec![0u64; ROSE_QUANTITIES.len() * bins * (n + 1)];
+    for cc in counts {
+        for (qk, c) in cc.iter().enumerate() {
+            tally[qk * (n + 1) + *c as usize] += 1;
+        }
+    }
     let observed = angle_counts(&cat.node, &cat.argperi, bins);
     let width = 360.0 / bins as f64;
     (0..ROSE_QUANTITIES.len() * bins)
@@ -319,76 +676,6 @@ fn rose_counts(cat: &Angles, bins: usize, tally: &[u64], trials: u64) -> Vec<Ros
                 null_lo: count_quantile(t, trials, 0.05),
                 null_median: count_quantile(t, trials, 0.5),
                 null_hi: count_quantile(t, trials, 0.95),
-            }
-        })
-        .collect()
-}
-
-/// One synthetic catalogue under each null: its statistics, and the rose counts of its
-/// bias-aware angles.
-fn one_trial(
-    cat: &Angles,
-    samplers: &[Option<MapSampler>],
-    axes: &[MapAxes],
-    t: u64,
-    seed: u64,
-    rose_bins: usize,
-) -> (NullSample, Vec<u32>) {
-    let n = cat.ids.len();
-    let (mut bn, mut bw, mut un, mut uw) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n]);
-    let trial_seed = seed ^ splitmix64(t);
-    for j in 0..n {
-        let mut rng = object_stream(trial_seed, cat.ids[j], Purpose::Analysis);
-        let (x, node) = match &samplers[j] {
-            Some(s) => s.sample(&mut rng),
-            None => (rng.random::<f64>() * TAU, rng.random::<f64>() * TAU),
-        };
-        bn[j] = node;
-        bw[j] = axes[j].argperi(x, node);
-        un[j] = rng.random::<f64>() * TAU;
-        uw[j] = rng.random::<f64>() * TAU;
-    }
-    let first = |v: [f64; 9]| -> [f64; N_SAMPLED] { std::array::from_fn(|k| v[k]) };
-    let sample = NullSample {
-        trial: t,
-        bias_aware: first(Stats::of(&cat.inc, &bn, &bw).values()),
-        naive: first(Stats::of(&cat.inc, &un, &uw).values()),
-    };
-    (sample, angle_counts(&bn, &bw, rose_bins))
-}
-
-fn summarize(obs: &Stats, n: usize, trials: u64, bias: &[u64; 9], naive: &[u64; 9]) -> Vec<StatResult> {
-    let mc = |c: u64| (1 + c) as f64 / (1 + trials) as f64;
-    let values = obs.values();
-    let dirs = [
-        (obs.varpi.0, f64::NAN),
-        (obs.node.0, f64::NAN),
-        (obs.argperi.0, f64::NAN),
-        (obs.varpi.0, f64::NAN),
-        (obs.node.0, f64::NAN),
-        (obs.argperi.0, f64::NAN),
-        (obs.pole.lon, obs.pole.lat),
-        (obs.perihelion.lon, obs.perihelion.lat),
-        (f64::NAN, f64::NAN),
-    ];
-    (0..9)
-        .map(|k| {
-            let p = mc(bias[k]);
-            let (p_naive, method) = match k {
-                0..=2 => (circular::rayleigh_p(n, values[k] * n as f64), "rayleigh (Zar)"),
-                3..=5 => (circular::kuiper_p(values[k], n), "kuiper"),
-                _ => (mc(naive[k]), "monte carlo, uniform angles"),
-            };
-            StatResult {
-                statistic: STAT_NAMES[k].into(),
-                observed: values[k],
-                direction_lon_deg: dirs[k].0.to_degrees(),
-                direction_lat_deg: dirs[k].1.to_degrees(),
-                p_bias_aware: p,
-                p_bias_aware_error: (p * (1.0 - p) / trials as f64).sqrt(),
-                p_naive,
-                p_naive_method: method.into(),
-                p_naive_monte_carlo: mc(naive[k]),
             }
         })
         .collect()

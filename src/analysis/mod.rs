@@ -11,6 +11,7 @@ pub mod comparison;
 pub mod detectability;
 pub mod likelihood;
 pub mod marginals;
+pub mod pooled_p;
 pub mod selection;
 pub mod space;
 pub mod trials;

@@ -4,7 +4,11 @@
 use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
-use seine::analysis::bias_map::{BiasMap, MapAxes, MapGrid, bias_maps, svg};
+use seine::analysis::bias_map::{
+    BiasMap, DEFAULT_MAX_TRIALS_PER_OBJECT, DEFAULT_MIN_DISCOVERIES, MapAxes, MapBudget, MapGrid, bias_maps, svg,
+};
+use seine::engine::PreparedSurvey;
+use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_atomic};
 use seine::shard::shard_rows;
 use seine::{Error, Result};
@@ -12,15 +16,23 @@ use seine::{Error, Result};
 use super::common::ShardArgs;
 use super::common::*;
 
-/// Grid options shared with `cluster-test`.
+/// Grid and trial options shared with `cluster-test`.
 #[derive(clap::Args, Debug, Clone)]
 pub struct GridArgs {
     /// Cells along the first angle and along Ω: NX,NNODE.
     #[arg(long, default_value = "36,36")]
     pub grid: String,
-    /// Trials per cell (angles uniform inside the cell, M uniform).
-    #[arg(long, default_value_t = 4)]
-    pub per_cell: u64,
+    /// Trials are added a pass at a time (one per cell, angles uniform inside the cell, M
+    /// uniform) until an object's map holds this many discoveries.
+    #[arg(long, default_value_t = DEFAULT_MIN_DISCOVERIES)]
+    pub min_discoveries: u64,
+    /// Trial cap per object: no pass is started that would exceed it. An object still without
+    /// a discovery is named in a warning (cluster-test refuses it unless --drop-undiscovered).
+    #[arg(long, default_value_t = DEFAULT_MAX_TRIALS_PER_OBJECT)]
+    pub max_trials_per_object: u64,
+    /// Exactly this many trials per cell instead (no adaptive passes).
+    #[arg(long)]
+    pub per_cell: Option<u64>,
     /// Map axes: varpi-node (ϖ, Ω) or argperi-node (ω, Ω).
     #[arg(long, default_value = "varpi-node")]
     pub axes: String,
@@ -39,8 +51,8 @@ impl GridArgs {
             x.trim().parse().map_err(|_| bad())?,
             y.trim().parse().map_err(|_| bad())?,
         );
-        if n_x == 0 || n_node == 0 || self.per_cell == 0 {
-            return Err(Error::input("--grid and --per-cell: expected at least 1"));
+        if n_x == 0 || n_node == 0 {
+            return Err(bad());
         }
         let axes = match self.axes.as_str() {
             "varpi-node" => MapAxes::VarpiNode,
@@ -51,13 +63,64 @@ impl GridArgs {
                 )));
             }
         };
-        Ok(MapGrid {
-            axes,
-            n_x,
-            n_node,
-            per_cell: self.per_cell,
+        Ok(MapGrid { axes, n_x, n_node })
+    }
+
+    /// How far each map grows.
+    pub fn budget(&self, grid: MapGrid) -> Result<MapBudget> {
+        if let Some(n) = self.per_cell {
+            if n == 0 {
+                return Err(Error::input("--per-cell: expected at least 1"));
+            }
+            return Ok(MapBudget::fixed(n, grid));
+        }
+        if self.min_discoveries == 0 {
+            return Err(Error::input("--min-discoveries: expected at least 1"));
+        }
+        if self.max_trials_per_object < grid.cells() as u64 {
+            return Err(Error::input(format!(
+                "--max-trials-per-object {}: expected at least one pass of the {}-cell grid",
+                self.max_trials_per_object,
+                grid.cells()
+            )));
+        }
+        Ok(MapBudget {
+            min_discoveries: self.min_discoveries,
+            max_trials: self.max_trials_per_object,
         })
     }
+
+    /// The maps of catalogue rows `rows`, with a progress bar over objects.
+    pub fn maps(
+        &self,
+        objects: &ObjectTable,
+        rows: std::ops::Range<usize>,
+        surveys: &[PreparedSurvey],
+        seed: u64,
+        quiet: bool,
+    ) -> Result<Vec<BiasMap>> {
+        let grid = self.grid()?;
+        let budget = self.budget(grid)?;
+        let bar = seine::progress::bar(rows.len() as u64, "bias maps", !quiet);
+        let tick = || {
+            if let Some(b) = &bar {
+                b.inc(1)
+            }
+        };
+        let maps = bias_maps(objects, rows, surveys, grid, budget, seed, &tick);
+        if let Some(b) = bar {
+            b.finish_and_clear();
+        }
+        Ok(maps)
+    }
+}
+
+/// Ids of maps without any discovery, and of maps short of `min` discoveries.
+pub fn thin_maps(maps: &[BiasMap], min: u64) -> (Vec<i64>, Vec<i64>) {
+    let ids = |f: &dyn Fn(u64) -> bool| -> Vec<i64> {
+        maps.iter().filter(|m| f(m.total_discoveries())).map(|m| m.id).collect()
+    };
+    (ids(&|d| d == 0), ids(&|d| d > 0 && d < min && min != u64::MAX))
 }
 
 #[derive(clap::Args, Debug)]
@@ -84,6 +147,7 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     let grid = a.grid.grid()?;
+    let budget = a.grid.budget(grid)?;
     let mut prov = a.run.start()?;
     let surveys = load_surveys(&a.surveys, &mut prov)?;
     let objects = a.selection.read(&a.objects)?;
@@ -91,7 +155,7 @@ pub fn run(a: Args) -> Result<()> {
     let rows = shard_rows(objects.len(), a.shard.resolve()?);
     let (lo, hi) = (rows.start, rows.end);
     let out = a.run.out_dir(prov)?;
-    let maps = bias_maps(&objects, lo..hi, &surveys, grid, a.run.seed);
+    let maps = a.grid.maps(&objects, lo..hi, &surveys, a.run.seed, a.run.quiet)?;
     let table = out.write("bias_map", map_columns(&maps))?;
     if !a.no_svg {
         for (m, i) in maps.iter().zip(lo..hi) {
@@ -107,15 +171,24 @@ pub fn run(a: Args) -> Result<()> {
         }
     }
     let mean: Vec<f64> = maps.iter().map(BiasMap::mean_p).collect();
-    let conclusion = conclude(&maps, &mean);
+    let (undiscovered, thin) = thin_maps(&maps, budget.min_discoveries);
+    let conclusion = conclude(&maps, &mean, &undiscovered, &thin);
     let summary = out.summary(
         serde_json::json!({
             "command": "bias-map",
             "objects": maps.len(),
             "grid": [grid.n_x, grid.n_node],
             "axes": grid.axes.x_name(),
-            "trials_per_cell": grid.per_cell,
-            "mean_p_discover": maps.iter().map(|m| serde_json::json!({"id": m.id, "mean_p": m.mean_p()})).collect::<Vec<_>>(),
+            "min_discoveries": (budget.min_discoveries != u64::MAX).then_some(budget.min_discoveries),
+            "max_trials_per_object": budget.max_trials,
+            "undiscovered_ids": undiscovered,
+            "below_min_discoveries_ids": thin,
+            "maps": maps.iter().map(|m| serde_json::json!({
+                "id": m.id,
+                "trials": m.total_trials(),
+                "discoveries": m.total_discoveries(),
+                "mean_p": m.mean_p(),
+            })).collect::<Vec<_>>(),
         }),
         &conclusion,
     )?;
@@ -123,7 +196,7 @@ pub fn run(a: Args) -> Result<()> {
     Ok(())
 }
 
-fn conclude(maps: &[BiasMap], mean: &[f64]) -> String {
+fn conclude(maps: &[BiasMap], mean: &[f64], undiscovered: &[i64], thin: &[i64]) -> String {
     if maps.is_empty() {
         return "seine bias-map: no objects in this shard".into();
     }
@@ -132,25 +205,34 @@ fn conclude(maps: &[BiasMap], mean: &[f64]) -> String {
         .iter()
         .map(|m| (0..m.trials.len()).map(|c| m.p(c)).fold(0.0, f64::max) / m.mean_p().max(1e-300))
         .collect();
-    let never = maps.iter().filter(|m| m.mean_p() == 0.0).count();
-    format!(
-        "seine bias-map: {} objects on a {}×{} grid. Mean chance of discovery over all angles {} (range {}–{}); \
-         the most favoured cell is on average {:.1}× the mean, so the surveys see these objects unevenly in {} and node; \
-         {} never discovered on the grid.",
+    let trials: Vec<u64> = maps.iter().map(BiasMap::total_trials).collect();
+    let mut s = format!(
+        "seine bias-map: {} objects on a {}×{} grid, {}–{} trials each. Mean chance of discovery over all angles {} (range {}–{}); \
+         the most favoured cell is on average {:.1}× the mean, so the surveys see these objects unevenly in {} and node.",
         maps.len(),
         maps[0].grid.n_x,
         maps[0].grid.n_node,
+        trials.iter().min().copied().unwrap_or(0),
+        trials.iter().max().copied().unwrap_or(0),
         pct(mean.iter().sum::<f64>() / mean.len() as f64),
         pct(mean.iter().copied().fold(f64::INFINITY, f64::min)),
         pct(mean.iter().copied().fold(0.0, f64::max)),
         contrast.iter().filter(|c| c.is_finite()).sum::<f64>() / contrast.len() as f64,
         maps[0].grid.axes.x_name(),
-        if never == 1 {
-            "1 object was".to_string()
-        } else {
-            format!("{never} objects were")
-        }
-    )
+    );
+    if !undiscovered.is_empty() {
+        s += &format!(
+            "\n  Warning: never discovered at any angle tried, ids {undiscovered:?}: cluster-test refuses \
+             these maps unless --drop-undiscovered (or raise --max-trials-per-object)."
+        );
+    }
+    if !thin.is_empty() {
+        s += &format!(
+            "\n  Note: maps short of the asked discoveries at the trial cap, ids {thin:?}: their \
+             p-values' errors (cluster-test) include this map noise."
+        );
+    }
+    s
 }
 
 /// The tidy table: one row per object and cell.
@@ -219,7 +301,6 @@ pub fn read_maps(path: &Path) -> Result<Vec<BiasMap>> {
                 axes,
                 n_x: nx[r] as usize,
                 n_node: nn[r] as usize,
-                per_cell: 0,
             };
             let n = grid.n_x * grid.n_node;
             maps.push(BiasMap {

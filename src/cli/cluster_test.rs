@@ -4,12 +4,12 @@
 
 use std::path::PathBuf;
 
-use seine::analysis::bias_map::bias_maps;
-use seine::analysis::cluster_test::{Angles, ClusterTest, N_SAMPLED, STAT_NAMES, cluster_test_binned};
+use seine::analysis::bias_map::BiasMap;
+use seine::analysis::cluster_test::{self as ct, Angles, ClusterTest, Cut, TestOptions};
 use seine::io::objects::ObjectTable;
 use seine::{Error, Result};
 
-use super::bias_map::{GridArgs, map_columns, read_maps};
+use super::bias_map::{GridArgs, map_columns, read_maps, thin_maps};
 use super::common::*;
 
 #[derive(clap::Args, Debug)]
@@ -29,18 +29,55 @@ pub struct Args {
     #[command(flatten)]
     pub grid: GridArgs,
     /// Synthetic catalogues for the Monte Carlo p-values.
-    #[arg(long, default_value_t = 10_000)]
+    #[arg(long, default_value_t = ct::DEFAULT_TRIALS)]
     pub trials: u64,
+    /// Bootstrap replicas of the bias maps: the quoted errors cover the maps' noise (at least 2).
+    #[arg(long, default_value_t = ct::DEFAULT_REPLICAS)]
+    pub replicas: u32,
+    /// Test the sub-samples a ≥ A (au) too, e.g. 150,250; the global p-value covers them.
+    #[arg(long, value_delimiter = ',')]
+    pub cut_a_min: Vec<f64>,
+    /// Test the sub-samples q ≥ Q (au) too, e.g. 40,42; the global p-value covers them.
+    #[arg(long, value_delimiter = ',')]
+    pub cut_q_min: Vec<f64>,
+    /// Leave out the objects whose bias map holds no discovery (otherwise the test refuses them).
+    #[arg(long)]
+    pub drop_undiscovered: bool,
     /// Equal angular bins over 0–360° of the rose counts of ϖ, Ω and ω (`rose.*`).
-    #[arg(long, default_value_t = seine::analysis::cluster_test::DEFAULT_ROSE_BINS)]
+    #[arg(long, default_value_t = ct::DEFAULT_ROSE_BINS)]
     pub rose_bins: usize,
     #[command(flatten)]
     pub run: RunArgs,
 }
 
+impl Args {
+    fn options(&self) -> Result<TestOptions> {
+        if self.replicas < 2 {
+            return Err(Error::input(format!(
+                "--replicas {}: expected at least 2 (the errors are their spread)",
+                self.replicas
+            )));
+        }
+        let cuts = (self.cut_a_min.iter().map(|a| Cut::AMin(*a)))
+            .chain(self.cut_q_min.iter().map(|q| Cut::QMin(*q)))
+            .collect();
+        let opt = TestOptions {
+            trials: self.trials,
+            seed: self.run.seed,
+            rose_bins: self.rose_bins,
+            replicas: self.replicas,
+            cuts,
+        };
+        opt.check()?;
+        Ok(opt)
+    }
+}
+
 pub fn run(a: Args) -> Result<()> {
     // Options first: nothing is computed or written for a bad one.
-    seine::analysis::cluster_test::check_options(a.trials, a.rose_bins)?;
+    let opt = a.options()?;
+    let grid = a.grid.grid()?;
+    let budget = a.grid.budget(grid)?;
     let mut prov = a.run.start()?;
     let catalog = a.selection.read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
@@ -52,7 +89,8 @@ pub fn run(a: Args) -> Result<()> {
                 ));
             }
             let surveys = load_surveys(&a.surveys, &mut prov)?;
-            bias_maps(&catalog, 0..catalog.len(), &surveys, a.grid.grid()?, a.run.seed)
+            a.grid
+                .maps(&catalog, 0..catalog.len(), &surveys, a.run.seed, a.run.quiet)?
         }
         tables => {
             let mut maps = Vec::new();
@@ -63,11 +101,32 @@ pub fn run(a: Args) -> Result<()> {
             order_maps(maps, &catalog, &tables[0])?
         }
     };
+    let (undiscovered, thin) = thin_maps(&maps, budget.min_discoveries);
+    if !undiscovered.is_empty() && !a.drop_undiscovered {
+        return Err(Error::input(format!(
+            "cluster-test: the bias maps of ids {undiscovered:?} hold no discovery (the surveys never found \
+             these objects at any angle tried); drawing them uniformly would bias the test. Give \
+             --drop-undiscovered to test the others, or raise --max-trials-per-object (run `seine bias-map` \
+             first to keep the maps)"
+        )));
+    }
+    let keep: Vec<usize> = (0..maps.len()).filter(|j| maps[*j].total_discoveries() > 0).collect();
+    let angles = Angles::of(&catalog).select(&keep);
+    let tested: Vec<BiasMap> = keep.iter().map(|j| maps[*j].clone()).collect();
+    let bar = seine::progress::bar(u64::from(opt.replicas) + 1, "map replicas", !a.run.quiet);
+    let tick = || {
+        if let Some(b) = &bar {
+            b.inc(1)
+        }
+    };
+    let res = ct::cluster_test(&angles, &tested, &opt, &tick)?;
+    if let Some(b) = bar {
+        b.finish_and_clear();
+    }
     let out = a.run.out_dir(prov)?;
     if a.bias_map.is_empty() {
         out.write("bias_map", map_columns(&maps))?;
     }
-    let res = cluster_test_binned(&Angles::of(&catalog), &maps, a.trials, a.run.seed, a.rose_bins)?;
     let r = &res.results;
     let table = out.write(
         "cluster_test",
@@ -76,6 +135,8 @@ pub fn run(a: Args) -> Result<()> {
                 "statistic",
                 r.iter().map(|x| x.statistic.clone()).collect::<Vec<String>>(),
             ),
+            col("sample", r.iter().map(|x| x.sample.clone()).collect::<Vec<String>>()),
+            col("n_objects", r.iter().map(|x| x.n_objects as u64).collect::<Vec<u64>>()),
             col("observed", r.iter().map(|x| x.observed).collect::<Vec<f64>>()),
             col(
                 "direction_lon_deg",
@@ -103,33 +164,35 @@ pub fn run(a: Args) -> Result<()> {
     )?;
     let null = out.write("cluster_null", null_columns(&res))?;
     let rose = out.write("rose", rose_columns(&res))?;
-    let conclusion = conclude(&res);
+    let conclusion = conclude(&res, &undiscovered, &thin);
     let mut value = serde_json::to_value(&res).map_err(|e| Error::io(e.to_string()))?;
     value["command"] = "cluster-test".into();
+    value["dropped_undiscovered_ids"] = serde_json::json!(undiscovered);
+    value["below_min_discoveries_ids"] = serde_json::json!(thin);
     let summary = out.summary(value, &conclusion)?;
     a.run.report(&conclusion, &[&table, &null, &rose, &summary]);
     Ok(())
 }
 
-/// `cluster_null`: one row per statistic and synthetic catalogue, statistic by statistic:
-/// `statistic, trial, value` (bias-aware null), `value_naive` (uniform angles).
+/// `cluster_null`: one row per reported statistic and synthetic catalogue, statistic by
+/// statistic: `statistic, trial, value` (bias-aware null), `value_naive` (uniform angles).
 fn null_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
     let s = &res.null_samples;
-    let each = |f: &dyn Fn(usize, &seine::analysis::cluster_test::NullSample) -> f64| -> Vec<f64> {
-        (0..N_SAMPLED).flat_map(|k| s.iter().map(move |x| f(k, x))).collect()
+    let k_all = res.results.len();
+    let each = |f: &dyn Fn(usize, &ct::NullSample) -> f64| -> Vec<f64> {
+        (0..k_all).flat_map(|k| s.iter().map(move |x| f(k, x))).collect()
     };
     vec![
         col(
             "statistic",
-            (0..N_SAMPLED)
-                .flat_map(|k| std::iter::repeat_n(STAT_NAMES[k].to_string(), s.len()))
+            res.results
+                .iter()
+                .flat_map(|r| std::iter::repeat_n(r.statistic.clone(), s.len()))
                 .collect::<Vec<String>>(),
         ),
         col(
             "trial",
-            (0..N_SAMPLED)
-                .flat_map(|_| s.iter().map(|x| x.trial))
-                .collect::<Vec<u64>>(),
+            (0..k_all).flat_map(|_| s.iter().map(|x| x.trial)).collect::<Vec<u64>>(),
         ),
         col("value", each(&|k, x| x.bias_aware[k])),
         col("value_naive", each(&|k, x| x.naive[k])),
@@ -140,7 +203,7 @@ fn null_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
 /// 95th percentile counts.
 fn rose_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
     let r = &res.rose;
-    let u = |f: fn(&seine::analysis::cluster_test::RoseCount) -> u64| r.iter().map(f).collect::<Vec<u64>>();
+    let u = |f: fn(&ct::RoseCount) -> u64| r.iter().map(f).collect::<Vec<u64>>();
     vec![
         col(
             "quantity",
@@ -156,11 +219,7 @@ fn rose_columns(res: &ClusterTest) -> Vec<polars::prelude::Column> {
 }
 
 /// The maps in catalogue order; every catalogue id needs one.
-fn order_maps(
-    maps: Vec<seine::analysis::bias_map::BiasMap>,
-    catalog: &ObjectTable,
-    path: &std::path::Path,
-) -> Result<Vec<seine::analysis::bias_map::BiasMap>> {
+fn order_maps(maps: Vec<BiasMap>, catalog: &ObjectTable, path: &std::path::Path) -> Result<Vec<BiasMap>> {
     let mut by_id: std::collections::HashMap<i64, _> = maps.into_iter().map(|m| (m.id, m)).collect();
     catalog
         .ids
@@ -173,13 +232,8 @@ fn order_maps(
         .collect()
 }
 
-fn conclude(t: &ClusterTest) -> String {
-    let r = |name: &str| {
-        t.results
-            .iter()
-            .find(|x| x.statistic == name)
-            .expect("every statistic is reported")
-    };
+fn conclude(t: &ClusterTest, dropped: &[i64], thin: &[i64]) -> String {
+    let r = |name: &str| t.result(name).expect("every statistic is reported");
     let line = |label: &str, name: &str| {
         let x = r(name);
         format!(
@@ -189,26 +243,36 @@ fn conclude(t: &ClusterTest) -> String {
             pct(x.p_naive)
         )
     };
+    let family = t.results.len() - 1;
     let mut s = format!(
-        "seine cluster-test: {} objects, {} synthetic catalogues drawn from their bias maps.\n  {} (mean ϖ {:.0}°, R/n = {:.2}).\n  {}.\n  {}.\n  {}.",
+        "seine cluster-test: {} objects, {} synthetic catalogues drawn from their bias maps, errors from {} \
+         bootstrap replicas of the maps.\n  {} — the chance that the most significant of all {family} \
+         statistics{} is at least this significant: the number to quote unless one statistic was chosen \
+         before looking.\n  {} (mean ϖ {:.0}°, R/n = {:.2}).\n  {}.\n  {}.\n  {} (Fisher's combination).",
         t.n_objects,
         t.trials,
+        t.replicas,
+        line("Global (look-elsewhere)", ct::GLOBAL),
+        if t.results.iter().any(|x| x.sample != "all") {
+            " over all samples"
+        } else {
+            ""
+        },
         line("ϖ clustering (Rayleigh)", "rayleigh_varpi"),
         r("rayleigh_varpi").direction_lon_deg,
         r("rayleigh_varpi").observed,
         line("Ω clustering (Rayleigh)", "rayleigh_node"),
         line("mean orbital pole", "mean_pole"),
-        line("poles and perihelia together", "pole_and_perihelion")
+        line("poles and perihelia together", ct::COMBINED)
     );
-    if !t.unconstrained_ids.is_empty() {
+    if !dropped.is_empty() {
         s += &format!(
-            "\n  Warning: {} on the bias-map grid and drawn uniformly (ids {:?}); more trials per cell would constrain it.",
-            if t.unconstrained_ids.len() == 1 {
-                "1 object was never discovered".to_string()
-            } else {
-                format!("{} objects were never discovered", t.unconstrained_ids.len())
-            },
-            t.unconstrained_ids
+            "\n  Warning: left out, their bias maps hold no discovery: ids {dropped:?} (--drop-undiscovered)."
+        );
+    }
+    if !thin.is_empty() {
+        s += &format!(
+            "\n  Note: maps short of the asked discoveries at the trial cap, ids {thin:?}; the errors include their noise."
         );
     }
     s

@@ -49,7 +49,7 @@ impl FitSpan {
 /// Astrometric errors of the detections (arcsec).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AstrometricErrors {
-    /// 1σ per coordinate of a detection whose detection model gives none.
+    /// 1σ per coordinate of a detection whose measurement model gives none (arcsec).
     pub sigma_arcsec: f64,
     /// Systematic floor added in quadrature.
     pub floor_arcsec: f64,
@@ -75,9 +75,17 @@ impl AstrometricErrors {
         })
     }
 
-    /// 1σ per coordinate of one detection, radians.
-    pub fn sigma_rad(&self, _event: &Event) -> f64 {
-        self.sigma_arcsec.hypot(self.floor_arcsec) * ARCSEC
+    /// 1σ per coordinate of one detection, radians: the detection's own astrometric 1σ (the
+    /// survey's measurement model), or `sigma_arcsec` where that is not a positive number, with
+    /// the systematic floor added in quadrature.
+    pub fn sigma_rad(&self, event: &Event) -> f64 {
+        let own = event.measured.sigma_astrometry_arcsec;
+        let sigma = if own.is_finite() && own > 0.0 {
+            own
+        } else {
+            self.sigma_arcsec
+        };
+        sigma.hypot(self.floor_arcsec) * ARCSEC
     }
 }
 
