@@ -7,6 +7,7 @@ pub mod analysis;
 pub mod budget;
 pub mod engine;
 pub mod error;
+pub mod fit;
 pub mod hideout;
 pub mod io;
 pub mod orbit;

@@ -16,6 +16,8 @@ pub enum Purpose {
     Clone = 3,
     /// Anything a later analysis needs (synthetic catalogues and the like).
     Analysis = 4,
+    /// Measured positions of detections (`observe --fit-orbits`).
+    Astrometry = 5,
 }
 
 /// SplitMix64 finaliser (Steele, Lea & Flood 2014): a bijective mixer of 64-bit words.

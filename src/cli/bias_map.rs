@@ -142,6 +142,8 @@ pub struct Args {
     #[arg(long)]
     pub objects: PathBuf,
     #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
+    #[command(flatten)]
     pub grid: GridArgs,
     #[command(flatten)]
     pub run: RunArgs,
@@ -158,7 +160,7 @@ pub fn run(a: Args) -> Result<()> {
     let budget = a.grid.budget(grid)?;
     let mut prov = a.run.start()?;
     let surveys = load_surveys(&a.surveys, &mut prov)?;
-    let objects = ObjectTable::read(&a.objects)?;
+    let objects = a.selection.read(&a.objects)?;
     prov.add_input(&a.objects)?;
     let rows = shard_rows(objects.len(), a.shard.resolve()?);
     let (lo, hi) = (rows.start, rows.end);

@@ -20,6 +20,8 @@ pub struct Args {
     /// The observed catalogue (objects table): its Ω and ω are tested.
     #[arg(long)]
     pub catalog: PathBuf,
+    #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
     /// Bias maps written by `seine bias-map` for these objects (otherwise computed here);
     /// repeat for the tables of several shards.
     #[arg(long)]
@@ -77,7 +79,7 @@ pub fn run(a: Args) -> Result<()> {
     let grid = a.grid.grid()?;
     let budget = a.grid.budget(grid)?;
     let mut prov = a.run.start()?;
-    let catalog = ObjectTable::read(&a.catalog)?;
+    let catalog = a.selection.read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
     let draws = catalog.len() as f64 * a.trials as f64;
     seine::budget::check(seine::budget::CLUSTER_TRIALS, draws, "--trials", a.grid.over_budget)?;

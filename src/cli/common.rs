@@ -293,3 +293,70 @@ impl RunArgs {
         }
     }
 }
+
+/// Which elements of a catalogue an analysis takes, and the orbit-quality cut: for catalogues
+/// written by `seine observe --fit-orbits` (flatten into a command that reads a catalogue).
+#[derive(clap::Args, Debug, Clone, Default)]
+pub struct CatalogueArgs {
+    /// Take the catalogue's fitted elements (fit_a_au …, written by observe --fit-orbits)
+    /// instead of the true ones.
+    #[arg(long)]
+    pub fitted_elements: bool,
+    /// Keep only catalogue objects with a fitted arc of at least this many days.
+    #[arg(long)]
+    pub min_arc_days: Option<f64>,
+    /// Keep only catalogue objects whose fitted σa/a is at most this.
+    #[arg(long)]
+    pub max_sigma_a_frac: Option<f64>,
+    /// Keep only catalogue objects of these fit classes, comma-separated (single_night,
+    /// short_arc, one_opposition, multi_opposition).
+    #[arg(long, value_delimiter = ',')]
+    pub fit_quality: Vec<String>,
+}
+
+impl CatalogueArgs {
+    /// The selection, checked.
+    pub fn selection(&self) -> Result<seine::fit::catalogue::Selection> {
+        use seine::fit::Quality;
+        let positive = |name: &str, v: Option<f64>| match v {
+            Some(x) if !(x.is_finite() && x >= 0.0) => Err(Error::input(format!(
+                "--{name}: expected a finite number ≥ 0, found {x}"
+            ))),
+            _ => Ok(v),
+        };
+        let qualities = self
+            .fit_quality
+            .iter()
+            .map(|s| {
+                Quality::parse(s.trim())
+                    .filter(|q| *q != Quality::Failed)
+                    .ok_or_else(|| {
+                        Error::input(format!(
+                            "--fit-quality: expected single_night, short_arc, one_opposition or multi_opposition, found `{s}`"
+                        ))
+                    })
+            })
+            .collect::<Result<Vec<_>>>()?;
+        Ok(seine::fit::catalogue::Selection {
+            fitted: self.fitted_elements,
+            min_arc_days: positive("min-arc-days", self.min_arc_days)?,
+            max_sigma_a_frac: positive("max-sigma-a-frac", self.max_sigma_a_frac)?,
+            qualities,
+        })
+    }
+
+    /// Read a catalogue under the selection, saying on stderr what the cut left out.
+    pub fn read(&self, path: &std::path::Path) -> Result<seine::io::objects::ObjectTable> {
+        let selection = self.selection()?;
+        let (table, left_out) = selection.read(path)?;
+        if !selection.is_plain() {
+            eprintln!(
+                "{}: {} objects ({}), {left_out} left out by the cut",
+                path.display(),
+                table.len(),
+                selection.describe()
+            );
+        }
+        Ok(table)
+    }
+}

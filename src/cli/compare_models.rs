@@ -21,6 +21,8 @@ pub struct Args {
     /// The observed catalogue (objects table).
     #[arg(long)]
     pub observed: PathBuf,
+    #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
     /// A model population NAME=OBJECTS (e.g. cloned simulation particles); repeat.
     #[arg(long = "model", required = true)]
     pub models: Vec<String>,
@@ -88,7 +90,7 @@ pub fn run(a: Args) -> Result<()> {
     }
     let mut prov = a.run.start()?;
     let surveys = load_surveys(&a.surveys, &mut prov)?;
-    let observed = ObjectTable::read(&a.observed)?;
+    let observed = a.selection.read(&a.observed)?;
     prov.add_input(&a.observed)?;
     let mut models = Vec::new();
     for m in &a.models {

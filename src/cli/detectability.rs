@@ -23,6 +23,8 @@ pub struct Args {
     /// Catalogue of objects (CSV or Parquet): each object's chance with its a, e, i and H kept.
     #[arg(long)]
     pub objects: Option<PathBuf>,
+    #[command(flatten)]
+    pub selection: super::common::CatalogueArgs,
     /// A population sample (e.g. from seine draw): the selection function P(discovered | a, q, i, H cell).
     #[arg(long)]
     pub population: Option<PathBuf>,
@@ -83,7 +85,7 @@ pub fn run(a: Args) -> Result<()> {
         return Ok(());
     }
     let path = a.objects.as_ref().expect("clap requires --objects or --population");
-    let objects = ObjectTable::read(path)?;
+    let objects = a.selection.read(path)?;
     prov.add_input(path)?;
     let rows = shard_rows(objects.len(), shard);
     check_budget(rows.len(), a.clones, a.over_budget)?;

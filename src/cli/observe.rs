@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use seine::Result;
 use seine::engine::run::observe_source;
 use seine::engine::{Candidates, ObserveOptions, PreparedSurvey};
+use seine::fit::{AstrometricErrors, FitOptions, FitSpan};
 use seine::io::Provenance;
 use seine::io::objects::{ObjectSource, ObjectTable};
 use seine::survey::Survey;
@@ -47,12 +48,37 @@ pub struct Args {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Measure the discovered objects' detections and fit an orbit to each: adds fit_a_au …
+    /// fit_chi2, fit_quality and fit_prior to the objects and discoveries tables.
+    #[arg(long)]
+    pub fit_orbits: bool,
+    /// Which detections a fit uses: all, discovery (up to the discovering one),
+    /// discovery-night, or recovery (up to one secure_after_days after the discovery).
+    #[arg(long, default_value = "all", requires = "fit_orbits")]
+    pub fit_span: String,
+    /// Astrometric 1σ per coordinate, arcsec, of a detection whose detection model gives none.
+    #[arg(long, default_value_t = 0.1, requires = "fit_orbits")]
+    pub astrometric_sigma_arcsec: f64,
+    /// Systematic astrometric floor, arcsec, added in quadrature to every detection's error.
+    #[arg(long, default_value_t = 0.0, requires = "fit_orbits")]
+    pub astrometric_floor_arcsec: f64,
+}
+
+/// The fit options, checked.
+fn fit_options(a: &Args) -> Result<Option<FitOptions>> {
+    if !a.fit_orbits {
+        return Ok(None);
+    }
+    let span = FitSpan::parse(&a.fit_span)?;
+    let errors = AstrometricErrors::new(a.astrometric_sigma_arcsec, a.astrometric_floor_arcsec)?;
+    Ok(Some(FitOptions { span, errors }))
 }
 
 pub fn run(a: Args) -> Result<()> {
     super::common::set_threads(a.threads)?;
     let format = super::common::parse_format(&a.format)?;
     let shard = a.shard.resolve()?;
+    let fit = fit_options(&a)?;
     let mut prov = Provenance::current().with_seed(a.seed);
     let mut surveys = Vec::new();
     for path in &a.surveys {
@@ -85,6 +111,7 @@ pub fn run(a: Args) -> Result<()> {
         chunk_size: a.chunk_size,
         resume: a.resume,
         stop: Some(super::common::stop_flag()?),
+        fit,
     };
     let report = observe_source(&surveys, &objects, &a.out, &opts, &prov)?;
     let s = &report.summary;

@@ -36,6 +36,9 @@ pub struct RunKey {
     /// How candidates were chosen (the engine figures in the summary depend on it).
     pub candidates: String,
     pub surveys: Vec<String>,
+    /// The orbit-fit options (`--fit-orbits`), if any.
+    #[serde(default)]
+    pub fit: Option<String>,
 }
 
 /// One finished chunk.

@@ -37,6 +37,8 @@ pub struct ObserveOptions {
     pub resume: bool,
     /// Set (e.g. by a SIGINT handler) to stop cleanly after the chunk in flight.
     pub stop: Option<Arc<AtomicBool>>,
+    /// Measure the discovered objects' detections and fit their orbits (`--fit-orbits`).
+    pub fit: Option<crate::fit::FitOptions>,
 }
 
 impl Default for ObserveOptions {
@@ -50,6 +52,7 @@ impl Default for ObserveOptions {
             progress: false,
             resume: false,
             stop: None,
+            fit: None,
         }
     }
 }
@@ -96,7 +99,10 @@ pub fn observe_source(
     }
     // Refuse bad inputs before anything is written: no partial output on an error.
     check_bands(surveys, source.head())?;
-    objects_frame(source.head(), 0, &[], surveys)?;
+    let mut empty = objects_frame(source.head(), 0, &[], surveys)?;
+    if opts.fit.is_some() {
+        crate::fit::columns::append(&mut empty, &[])?;
+    }
     std::fs::create_dir_all(out_dir.join(PARTS)).map_err(|e| {
         Error::input(format!(
             "{}: cannot create the output directory: {e}",
@@ -188,6 +194,7 @@ fn run_key(surveys: &[PreparedSurvey], objects: &ObjectTable, opts: &ObserveOpti
         chunk_size: opts.chunk_size,
         candidates: format!("{:?}", opts.candidates),
         surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
+        fit: opts.fit.map(|f| format!("{f:?}")),
     }
 }
 
@@ -263,7 +270,11 @@ fn compute_chunk(
         .collect();
     let mut summary = Summary::new(surveys);
     summary.add(objects, lo, &outcomes, surveys);
-    let obj = objects_frame(objects, lo, &outcomes, surveys)?;
+    let mut obj = objects_frame(objects, lo, &outcomes, surveys)?;
+    if let Some(fit) = &opts.fit {
+        let fits = crate::fit::fit_chunk(objects, lo, &outcomes, surveys, fit, opts.seed);
+        crate::fit::columns::append(&mut obj, &fits)?;
+    }
     let det = detections_frame(objects, lo, &outcomes, surveys)?;
     let write_part = |table: &str, df: &DataFrame| -> Result<String> {
         let path = part_path(out_dir, table, index);

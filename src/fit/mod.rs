@@ -1,0 +1,64 @@
+//! Simulated astrometry and orbit fits (`seine observe --fit-orbits`): for each discovered
+//! object, measured positions of its detections and a least-squares orbit fitted to them with
+//! the project's own ephemeris, so that a catalogue carries the orbits a survey would publish.
+//!
+//! `astrometry` (measured positions, residuals), `chart` (the fit's parameters and their map to
+//! elements), `start` (the linearized start), `prior` (the bound-orbit prior), `least_squares`
+//! (Levenberg–Marquardt), `quality` (classes), `orbit_fit` (one object), `span` (which detections),
+//! `columns` (the objects table's fit columns). Method and sources: methods.md.
+
+pub mod astrometry;
+pub mod catalogue;
+pub mod chart;
+pub mod columns;
+pub mod least_squares;
+pub mod orbit_fit;
+pub mod prior;
+pub mod quality;
+pub mod span;
+pub mod start;
+
+pub use astrometry::Observation;
+pub use orbit_fit::{OrbitFit, fit_orbit};
+pub use quality::Quality;
+pub use span::{AstrometricErrors, FitSpan};
+
+use rayon::prelude::*;
+
+use crate::engine::index::PreparedSurvey;
+use crate::engine::outcome::ObjectOutcome;
+use crate::io::objects::ObjectTable;
+use crate::rng::{Purpose, object_stream};
+
+/// What `--fit-orbits` does.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FitOptions {
+    pub span: FitSpan,
+    pub errors: AstrometricErrors,
+}
+
+/// Fit every discovered object of a chunk (rows `start..` of `objects`, one outcome each);
+/// `None` for the others. Each object measures with its own stream, so the result does not
+/// depend on threads or chunks.
+pub fn fit_chunk(
+    objects: &ObjectTable,
+    start: usize,
+    outcomes: &[ObjectOutcome],
+    surveys: &[PreparedSurvey],
+    opts: &FitOptions,
+    seed: u64,
+) -> Vec<Option<OrbitFit>> {
+    outcomes
+        .par_iter()
+        .enumerate()
+        .map(|(k, outcome)| {
+            if !outcome.discovered() {
+                return None;
+            }
+            let i = start + k;
+            let mut rng = object_stream(seed, objects.ids[i], Purpose::Astrometry);
+            let obs = span::observations(outcome, surveys, opts.span, &opts.errors, &mut rng);
+            Some(fit_orbit(&obs, objects.elements[i].center))
+        })
+        .collect()
+}

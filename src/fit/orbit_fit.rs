@@ -1,0 +1,148 @@
+//! One object's orbit fit: the start, the least-squares fit with the prior its arc needs, and
+//! the elements with their covariance.
+
+use nalgebra::{Matrix6, Vector6};
+
+use super::astrometry::Observation;
+use super::chart::{Frame, GAMMA, GAMMA_DOT, Params};
+use super::least_squares::{Solution, levenberg_marquardt};
+use super::prior::{Prior, velocity_sigma};
+use super::quality::Quality;
+use super::start::start;
+use crate::orbit::kepler::wrap_pi;
+use crate::orbit::{Center, Elements, Orbit};
+use crate::sky::apparent::direction_from;
+
+/// A fitted orbit.
+#[derive(Debug, Clone, Copy)]
+pub struct OrbitFit {
+    /// Osculating elements at the first fitted detection's TDB epoch (none when `Failed`).
+    pub elements: Option<Elements>,
+    /// Covariance of (a_au, e, inc, node, argperi, mean_anomaly), angles in radians.
+    pub covariance: Option<Matrix6<f64>>,
+    /// χ² of the data alone (prior terms excluded).
+    pub chi2: f64,
+    pub n_obs: usize,
+    pub arc_days: f64,
+    pub quality: Quality,
+    pub iterations: usize,
+}
+
+impl OrbitFit {
+    /// 1σ of element k (a_au, e, inc, node, argperi, mean_anomaly; angles in radians).
+    pub fn sigma(&self, k: usize) -> Option<f64> {
+        self.covariance.map(|c| c[(k, k)].max(0.0).sqrt())
+    }
+}
+
+/// Fit an orbit about `center` to observations in time order.
+pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
+    let n_obs = obs.len();
+    let arc_days = match (obs.first(), obs.last()) {
+        (Some(a), Some(b)) => b.tdb_mjd() - a.tdb_mjd(),
+        _ => 0.0,
+    };
+    let failed = OrbitFit {
+        elements: None,
+        covariance: None,
+        chi2: f64::NAN,
+        n_obs,
+        arc_days,
+        quality: Quality::Failed,
+        iterations: 0,
+    };
+    if n_obs < 3 {
+        return failed;
+    }
+    let frame = Frame::new(&obs[0], center);
+    let first = start(&frame, obs);
+    let single_night = obs.iter().all(|o| o.night == obs[0].night);
+    let solve = |prior: Prior, from: &Params, sigma: &Params| {
+        levenberg_marquardt(|p, out| residuals(&frame, obs, prior, p, out), *from, *sigma)
+    };
+    let (quality, solution) = if single_night {
+        (
+            Quality::SingleNight,
+            solve(Prior::Velocity, &first.params, &first.sigma),
+        )
+    } else {
+        match solve(Prior::None, &first.params, &first.sigma) {
+            Some(s) if !needs_prior(&s) => (Quality::unconstrained(arc_days), Some(s)),
+            // From the fit without prior where there is one: it is near the valley's floor.
+            Some(s) => (Quality::ShortArc, solve(Prior::RadialRate, &s.params, &first.sigma)),
+            None => (Quality::ShortArc, solve(Prior::RadialRate, &first.params, &first.sigma)),
+        }
+    };
+    let Some(s) = solution else { return failed };
+    let Some(elements) = frame.elements(&s.params) else {
+        return failed;
+    };
+    let prior_chi2: f64 = {
+        let w = velocity_sigma(s.params[GAMMA]);
+        quality
+            .prior()
+            .indices()
+            .iter()
+            .map(|&i| (s.params[i] / w).powi(2))
+            .sum()
+    };
+    OrbitFit {
+        elements: Some(elements),
+        covariance: element_covariance(&frame, &s, &elements),
+        chi2: s.chi2 - prior_chi2,
+        n_obs,
+        arc_days,
+        quality,
+        iterations: s.iterations,
+    }
+}
+
+/// Whether the data alone leave γ̇ less constrained than the bound-orbit prior would.
+fn needs_prior(s: &Solution) -> bool {
+    s.covariance[(GAMMA_DOT, GAMMA_DOT)].sqrt() > velocity_sigma(s.params[GAMMA])
+}
+
+/// Whitened residuals of every observation (east, north) and the prior's pseudo-observations;
+/// false when the parameters are not a bound orbit.
+fn residuals(frame: &Frame, obs: &[Observation], prior: Prior, p: &Params, out: &mut Vec<f64>) -> bool {
+    out.clear();
+    let Some(el) = frame.elements(p) else {
+        return false;
+    };
+    let orbit = Orbit::new(el);
+    let mut tau = f64::NAN;
+    for o in obs {
+        let (u, t) = direction_from(&orbit, &o.observer, tau);
+        tau = t;
+        let (x, y) = o.residual(&u);
+        out.push(x);
+        out.push(y);
+    }
+    let w = velocity_sigma(p[GAMMA]);
+    out.extend(prior.indices().iter().map(|&i| p[i] / w));
+    true
+}
+
+/// The elements' covariance G C Gᵀ, G = ∂elements/∂parameters by forward differences.
+fn element_covariance(frame: &Frame, s: &Solution, at: &Elements) -> Option<Matrix6<f64>> {
+    let base = element_vector(at);
+    let mut g = Matrix6::zeros();
+    for j in 0..6 {
+        let mut h = s.steps[j];
+        let mut q = s.params;
+        q[j] += h;
+        let el = frame.elements(&q).or_else(|| {
+            h = -h;
+            q[j] = s.params[j] + h;
+            frame.elements(&q)
+        })?;
+        let d = element_vector(&el) - base;
+        let d = Vector6::new(d[0], d[1], d[2], wrap_pi(d[3]), wrap_pi(d[4]), wrap_pi(d[5]));
+        g.set_column(j, &(d / h));
+    }
+    Some(g * s.covariance * g.transpose())
+}
+
+fn element_vector(el: &Elements) -> Vector6<f64> {
+    Vector6::new(el.a_au, el.e, el.inc, el.node, el.argperi, el.mean_anomaly)
+}

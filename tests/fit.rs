@@ -1,0 +1,463 @@
+//! Orbit fits to simulated astrometry: exact recovery without noise, honest errors on long
+//! arcs (pulls unit normal and χ² distributed as χ², by Kolmogorov–Smirnov), and the short-arc
+//! classes with their prior.
+
+mod common;
+#[path = "common/fit_scenario.rs"]
+mod scenario;
+
+use common::Fixture;
+use seine::fit::Observation;
+use seine::sky::ephemeris::observer_states;
+use seine::sky::frames::unit_vector;
+use seine::survey::visits::night_of;
+use seine::time::TimeScale;
+
+use rand::SeedableRng;
+use rand_pcg::Pcg64;
+use scenario::*;
+use seine::analysis::two_sample::kolmogorov_sf;
+use seine::fit::chart::elements_at;
+use seine::fit::{OrbitFit, Quality, fit_orbit};
+use seine::orbit::kepler::wrap_pi;
+use seine::orbit::{Center, Elements, Orbit};
+use statrs::distribution::{ChiSquared, ContinuousCDF, Normal};
+
+/// One-sample Kolmogorov–Smirnov p-value of `x` against the CDF `cdf` (asymptotic
+/// Kolmogorov distribution with the small-sample form of `kolmogorov_sf`).
+fn ks_p(x: &[f64], cdf: impl Fn(f64) -> f64) -> (f64, f64) {
+    let mut v = x.to_vec();
+    v.sort_by(f64::total_cmp);
+    let n = v.len() as f64;
+    let d = v
+        .iter()
+        .enumerate()
+        .map(|(i, &xi)| {
+            let f = cdf(xi);
+            (f - i as f64 / n).max((i + 1) as f64 / n - f)
+        })
+        .fold(0.0, f64::max);
+    (d, kolmogorov_sf(v.len(), d))
+}
+
+fn element_vector(el: &Elements) -> [f64; 6] {
+    [el.a_au, el.e, el.inc, el.node, el.argperi, el.mean_anomaly]
+}
+
+/// (fit − truth)/σ for the six elements, the truth taken at the fit's epoch.
+fn pulls(fit: &OrbitFit, orbit: &Orbit) -> [f64; 6] {
+    let el = fit.elements.expect("a fit");
+    let truth = element_vector(&elements_at(orbit, el.epoch_mjd_tdb));
+    let got = element_vector(&el);
+    std::array::from_fn(|k| {
+        let d = got[k] - truth[k];
+        let d = if k >= 3 { wrap_pi(d) } else { d };
+        d / fit.sigma(k).unwrap()
+    })
+}
+
+#[test]
+fn noise_free_long_arc_recovers_the_orbit_exactly() {
+    // The fit uses the model that made the data: without noise it must return the truth,
+    // to far below σ, with χ² ≈ 0 and the multi-opposition class.
+    let mut rng = Pcg64::seed_from_u64(11);
+    for _ in 0..5 {
+        let orbit = Orbit::new(draw_elements(&mut rng));
+        let obs = observations(&orbit, &long_arc(opposition_mjd(&orbit)), 0.1, None);
+        let fit = fit_orbit(&obs, Center::Heliocentric);
+        assert_eq!(fit.quality, Quality::MultiOpposition);
+        assert!(fit.chi2 < 1e-6, "χ² {} without noise", fit.chi2);
+        for (k, p) in pulls(&fit, &orbit).iter().enumerate() {
+            assert!(p.abs() < 1e-3, "element {k}: pull {p} without noise");
+        }
+    }
+}
+
+#[test]
+fn long_arc_pulls_are_unit_normal_and_chi2_is_chi2() {
+    // 300 invented objects over three oppositions (36 detections of 0.1″ each): if the
+    // covariance is honest, each element's pulls are N(0, 1) and χ² follows χ²(2n − 6)
+    // (the fit is nearly linear over its error ellipsoid on such arcs). Reference
+    // distributions: statrs Normal and ChiSquared; KS p-values from the Kolmogorov distribution.
+    let mut rng = Pcg64::seed_from_u64(2026);
+    let n_objects = 300;
+    let mut pull: [Vec<f64>; 6] = Default::default();
+    let mut chi2 = Vec::new();
+    let mut dof = 0.0;
+    for _ in 0..n_objects {
+        let orbit = Orbit::new(draw_elements(&mut rng));
+        let obs = observations(&orbit, &long_arc(opposition_mjd(&orbit)), 0.1, Some(&mut rng));
+        let fit = fit_orbit(&obs, Center::Heliocentric);
+        assert_eq!(fit.quality, Quality::MultiOpposition, "arc {} d", fit.arc_days);
+        for (k, p) in pulls(&fit, &orbit).into_iter().enumerate() {
+            pull[k].push(p);
+        }
+        chi2.push(fit.chi2);
+        dof = (2 * fit.n_obs - 6) as f64;
+    }
+    let normal = Normal::new(0.0, 1.0).unwrap();
+    for (k, name) in ["a", "e", "inc", "node", "argperi", "mean_anomaly"].iter().enumerate() {
+        let (d, p) = ks_p(&pull[k], |x| normal.cdf(x));
+        let mean = pull[k].iter().sum::<f64>() / n_objects as f64;
+        let sd = (pull[k].iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n_objects - 1) as f64).sqrt();
+        eprintln!("pull {name}: mean {mean:+.3}, sd {sd:.3}, KS D {d:.4}, p {p:.3}");
+        assert!(p > 0.01, "pulls of {name} are not unit normal: KS p = {p}");
+        assert!((sd - 1.0).abs() < 0.15, "pull sd of {name} = {sd}");
+    }
+    let chi = ChiSquared::new(dof).unwrap();
+    let (d, p) = ks_p(&chi2, |x| chi.cdf(x));
+    let mean = chi2.iter().sum::<f64>() / n_objects as f64;
+    eprintln!("χ²: mean {mean:.2} for {dof} dof, KS D {d:.4}, p {p:.3}");
+    assert!(p > 0.01, "χ² is not χ²({dof}): KS p = {p}");
+}
+
+#[test]
+fn one_night_uses_the_velocity_prior_and_gives_a_distance_not_an_orbit() {
+    // Three detections over 80 minutes: the class is single_night, the prior is flagged, the
+    // distance is found to tens of per cent (Earth's reflex motion against the bound-orbit
+    // prior), while a is known only roughly (σa/a large).
+    let mut rng = Pcg64::seed_from_u64(5);
+    let mut distance_err = Vec::new();
+    for _ in 0..40 {
+        let orbit = Orbit::new(draw_elements(&mut rng));
+        let obs = observations(
+            &orbit,
+            &schedule(opposition_mjd(&orbit), &[0.0], 3),
+            0.1,
+            Some(&mut rng),
+        );
+        let fit = fit_orbit(&obs, Center::Heliocentric);
+        assert_eq!(fit.quality, Quality::SingleNight);
+        let el = fit.elements.expect("a one-night fit gives an orbit");
+        let (r_fit, _) = Orbit::new(el).state(el.epoch_mjd_tdb);
+        let (r_true, _) = orbit.state(el.epoch_mjd_tdb);
+        distance_err.push((r_fit.norm() / r_true.norm() - 1.0).abs());
+        assert!(
+            fit.sigma(0).unwrap() / el.a_au > 0.05,
+            "σa/a = {}",
+            fit.sigma(0).unwrap() / el.a_au
+        );
+    }
+    distance_err.sort_by(f64::total_cmp);
+    let median = distance_err[distance_err.len() / 2];
+    eprintln!("one night: median |r_fit/r_true − 1| = {median:.3}");
+    assert!(median < 0.3, "median distance error {median}");
+}
+
+#[test]
+fn a_week_is_a_short_arc_with_the_radial_prior() {
+    // Two visits on each of nights 0, 1 and 7: the radial rate is not measured, so the γ̇
+    // prior enters (short_arc), and the fit still goes through the detections (χ² near 2n − 6).
+    let mut rng = Pcg64::seed_from_u64(8);
+    let mut classes = Vec::new();
+    for _ in 0..20 {
+        let orbit = Orbit::new(draw_elements(&mut rng));
+        let obs = observations(
+            &orbit,
+            &schedule(opposition_mjd(&orbit), &[0.0, 1.0, 7.0], 2),
+            0.1,
+            Some(&mut rng),
+        );
+        let fit = fit_orbit(&obs, Center::Heliocentric);
+        assert!(fit.elements.is_some());
+        assert!(fit.chi2 < 30.0, "χ² {} for 12 residuals", fit.chi2);
+        classes.push(fit.quality);
+    }
+    assert!(classes.iter().all(|q| *q == Quality::ShortArc), "{classes:?}");
+}
+
+#[test]
+fn too_few_detections_fail_cleanly() {
+    let mut rng = Pcg64::seed_from_u64(3);
+    let orbit = Orbit::new(draw_elements(&mut rng));
+    let obs = observations(
+        &orbit,
+        &schedule(opposition_mjd(&orbit), &[0.0], 2),
+        0.1,
+        Some(&mut rng),
+    );
+    let fit = fit_orbit(&obs, Center::Heliocentric);
+    assert_eq!(fit.quality, Quality::Failed);
+    assert!(fit.elements.is_none() && fit.covariance.is_none());
+    assert_eq!(fit.n_obs, 2);
+}
+
+#[test]
+fn agrees_with_an_independent_scipy_fit() {
+    // Source: tests/reference/make_fit_fixtures.py — scipy.optimize.least_squares on the
+    // heliocentric state, with pyerfa epv00 Earth and Sun, astropy's site vector and numpy
+    // Kepler propagation; the same measured positions fitted here must give the same minimum.
+    let obs = Fixture::load("fit_observations.csv");
+    let reference = Fixture::load("fit_reference.csv");
+    let (id, mjd, ra, dec, sigma) = (
+        obs.col("id"),
+        obs.col("mjd_utc"),
+        obs.col("ra_deg"),
+        obs.col("dec_deg"),
+        obs.col("sigma_arcsec"),
+    );
+    let names = ["a_au", "e", "inc_deg", "node_deg", "argperi_deg", "mean_anomaly_deg"];
+    let mut worst_pull: f64 = 0.0;
+    let mut worst_sigma: f64 = 0.0;
+    for (r, &object) in reference.col("id").iter().enumerate() {
+        let rows: Vec<usize> = (0..obs.len()).filter(|&k| id[k] == object).collect();
+        let epochs: Vec<f64> = rows.iter().map(|&k| mjd[k]).collect();
+        let states = observer_states(&epochs, TimeScale::Utc, Some(&site())).unwrap();
+        let measured: Vec<Observation> = rows
+            .iter()
+            .zip(&states)
+            .map(|(&k, o)| {
+                let u = unit_vector(ra[k].to_radians(), dec[k].to_radians());
+                Observation::at(*o, night_of(mjd[k], site().longitude_deg), u, sigma[k] * ARCSEC)
+            })
+            .collect();
+        let fit = fit_orbit(&measured, Center::Heliocentric);
+        assert!(
+            matches!(fit.quality, Quality::OneOpposition | Quality::MultiOpposition),
+            "object {object}: {:?} (no prior expected)",
+            fit.quality
+        );
+        let el = fit.elements.unwrap();
+        assert!((el.epoch_mjd_tdb - reference.col("epoch_mjd_tdb")[r]).abs() < 1e-8);
+        let got = element_vector(&el);
+        for (k, name) in names.iter().enumerate() {
+            let scale = if k >= 2 { std::f64::consts::PI / 180.0 } else { 1.0 };
+            let py = reference.col(name)[r] * scale;
+            let py_sigma = reference.col(&format!("sigma_{name}"))[r] * scale;
+            let d = if k >= 3 { wrap_pi(got[k] - py) } else { got[k] - py };
+            let pull = d / py_sigma;
+            let ratio = fit.sigma(k).unwrap() / py_sigma - 1.0;
+            worst_pull = worst_pull.max(pull.abs());
+            worst_sigma = worst_sigma.max(ratio.abs());
+            assert!(
+                pull.abs() < 0.05,
+                "object {object} {name}: differs from scipy by {pull} σ"
+            );
+            assert!(
+                ratio.abs() < 0.05,
+                "object {object} {name}: σ differs from scipy's by {ratio}"
+            );
+        }
+        let chi2 = reference.col("chi2")[r];
+        assert!(
+            (fit.chi2 - chi2).abs() < 0.01 * chi2 + 0.05,
+            "object {object}: χ² {} vs {chi2}",
+            fit.chi2
+        );
+    }
+    eprintln!("against scipy: worst element difference {worst_pull:.4} σ, worst σ ratio − 1 {worst_sigma:.4}");
+}
+
+/// The synoptic example plan and 2000 bright invented objects, observed with `--fit-orbits`
+/// (extra options appended); returns the run directory.
+fn observed_with_fits(dir: &std::path::Path, name: &str, extra: &[&str]) -> std::path::PathBuf {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs");
+    let s = |p: &std::path::Path| p.to_string_lossy().into_owned();
+    let spec = dir.join("syn.survey.toml");
+    if !spec.exists() {
+        let ok = |o: std::process::Output| assert!(o.status.success(), "{}", common::stderr(&o));
+        ok(common::seine(&[
+            "plan",
+            "--plan",
+            &s(&root.join("synoptic-plan.toml")),
+            "--out",
+            &s(&dir.join("syn.csv")),
+        ]));
+        common::bright_population(dir);
+        ok(common::seine(&[
+            "draw",
+            "--spec",
+            &s(&dir.join("bright.toml")),
+            "--count",
+            "2000",
+            "--seed",
+            "4",
+            "--out",
+            &s(&dir.join("objects.parquet")),
+            "--quiet",
+        ]));
+    }
+    let out = dir.join(name);
+    let mut args = vec![
+        "observe".to_string(),
+        "--survey".into(),
+        s(&spec),
+        "--objects".into(),
+        s(&dir.join("objects.parquet")),
+        "--out".into(),
+        s(&out),
+        "--fit-orbits".into(),
+        "--quiet".into(),
+    ];
+    args.extend(extra.iter().map(|x| x.to_string()));
+    let refs: Vec<&str> = args.iter().map(String::as_str).collect();
+    let o = common::seine(&refs);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    out
+}
+
+fn nullable(df: &polars::prelude::DataFrame, name: &str) -> Vec<Option<f64>> {
+    df.column(name)
+        .unwrap_or_else(|_| panic!("no column {name}"))
+        .as_materialized_series()
+        .cast(&polars::prelude::DataType::Float64)
+        .unwrap()
+        .f64()
+        .unwrap()
+        .iter()
+        .collect()
+}
+
+#[test]
+fn observe_fit_orbits_writes_the_contract_columns_honestly() {
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let run = observed_with_fits(tmp.path(), "run", &["--threads", "2"]);
+    let objects = read_table(&run.join("objects.parquet")).unwrap();
+    let contract = [
+        "fit_a_au",
+        "fit_e",
+        "fit_inc_deg",
+        "fit_node_deg",
+        "fit_argperi_deg",
+        "fit_mean_anomaly_deg",
+        "fit_epoch_mjd",
+        "sigma_a_au",
+        "sigma_e",
+        "sigma_inc_deg",
+        "arc_days",
+        "n_fit_obs",
+        "fit_chi2",
+    ];
+    let detected: Vec<bool> = objects
+        .column("detected")
+        .unwrap()
+        .as_materialized_series()
+        .bool()
+        .unwrap()
+        .iter()
+        .map(|v| v.unwrap())
+        .collect();
+    let n_detected = nullable(&objects, "n_detected");
+    let n_fit = nullable(&objects, "n_fit_obs");
+    let (a, fit_a, sigma_a) = (
+        nullable(&objects, "a_au"),
+        nullable(&objects, "fit_a_au"),
+        nullable(&objects, "sigma_a_au"),
+    );
+    let quality: Vec<Option<String>> = objects
+        .column("fit_quality")
+        .unwrap()
+        .as_materialized_series()
+        .str()
+        .unwrap()
+        .iter()
+        .map(|v| v.map(str::to_string))
+        .collect();
+    for name in contract {
+        let v = nullable(&objects, name);
+        for (k, d) in detected.iter().enumerate() {
+            if !d {
+                assert!(v[k].is_none(), "{name} filled for an undiscovered object (row {k})");
+            }
+        }
+    }
+    let mut pulls = Vec::new();
+    let mut found = 0;
+    for k in 0..detected.len() {
+        if !detected[k] {
+            continue;
+        }
+        found += 1;
+        // Span `all`: every detection is fitted.
+        assert_eq!(n_fit[k], n_detected[k], "row {k}");
+        let q = Quality::parse(quality[k].as_deref().unwrap()).expect("a known class");
+        if matches!(q, Quality::OneOpposition | Quality::MultiOpposition) {
+            // The elements are at the first detection's epoch, the truth at the input's: a
+            // moves only by the two-body round trip, so the pull in a is meaningful.
+            pulls.push((fit_a[k].unwrap() - a[k].unwrap()) / sigma_a[k].unwrap());
+        }
+    }
+    assert!(found > 50, "only {found} discoveries");
+    assert!(pulls.len() > 20, "only {} fits without prior", pulls.len());
+    let within = pulls.iter().filter(|p| p.abs() < 3.0).count() as f64 / pulls.len() as f64;
+    eprintln!(
+        "{found} discoveries, {} without prior, {:.1}% of a-pulls within 3σ",
+        pulls.len(),
+        100.0 * within
+    );
+    assert!(within > 0.95, "a-pulls within 3σ: {within}");
+    // The discoveries table carries the same columns.
+    let disc = read_table(&run.join("discoveries.parquet")).unwrap();
+    for name in contract {
+        assert!(disc.column(name).is_ok(), "discoveries lacks {name}");
+    }
+    // One thread gives the same fits (each object measures with its own stream).
+    let one = observed_with_fits(tmp.path(), "run1", &["--threads", "1"]);
+    let again = read_table(&one.join("objects.parquet")).unwrap();
+    for name in ["fit_a_au", "fit_chi2", "sigma_e"] {
+        assert_eq!(
+            nullable(&objects, name),
+            nullable(&again, name),
+            "{name} depends on threads"
+        );
+    }
+}
+
+#[test]
+fn a_short_span_fits_fewer_detections_and_flags_its_prior() {
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let night = observed_with_fits(tmp.path(), "night", &["--fit-span", "discovery-night"]);
+    let all = observed_with_fits(tmp.path(), "all", &[]);
+    let n = read_table(&night.join("discoveries.parquet")).unwrap();
+    let a = read_table(&all.join("discoveries.parquet")).unwrap();
+    let (n_night, n_all) = (nullable(&n, "n_fit_obs"), nullable(&a, "n_fit_obs"));
+    let prior: Vec<Option<bool>> = n
+        .column("fit_prior")
+        .unwrap()
+        .as_materialized_series()
+        .bool()
+        .unwrap()
+        .iter()
+        .collect();
+    for k in 0..n_night.len() {
+        assert!(n_night[k] <= n_all[k], "row {k}");
+        // One night: the velocity prior always enters (or too few detections to fit).
+        assert_ne!(prior[k], Some(false), "row {k}: a one-night fit without prior");
+    }
+}
+
+#[test]
+fn bad_fit_options_exit_2_naming_the_option() {
+    let tmp = tempfile::tempdir().unwrap();
+    let objects = common::bright_population(tmp.path());
+    let cases: [(&[&str], &str); 3] = [
+        (&["--fit-orbits", "--fit-span", "forever"], "--fit-span"),
+        (
+            &["--fit-orbits", "--astrometric-sigma-arcsec=-1"],
+            "--astrometric-sigma-arcsec",
+        ),
+        (
+            &["--fit-orbits", "--astrometric-floor-arcsec", "nan"],
+            "--astrometric-floor-arcsec",
+        ),
+    ];
+    for (extra, option) in cases {
+        let out = tmp.path().join("out");
+        let mut args = vec![
+            "observe",
+            "--survey",
+            "nowhere.toml",
+            "--objects",
+            objects.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ];
+        args.extend_from_slice(extra);
+        let o = common::seine(&args);
+        assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+        assert!(common::stderr(&o).contains(option), "{}", common::stderr(&o));
+        assert!(!out.exists(), "nothing written on bad options");
+    }
+}
