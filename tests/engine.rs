@@ -131,16 +131,19 @@ fn index_agrees_with_brute_force_on_every_decision() {
         PreparedSurvey::new(make_survey(
             dir.path(),
             "circles",
-            "shape = \"circle\"\nradius_deg = 1.5\nlive_fraction = 0.9",
+            "shape = \"circle\"\nradius_deg = 1.5\nrandom_live_fraction = 0.9",
             "[linking]\nmin_detections_per_night = 2\nmin_nights = 2\n",
             &visits,
         )),
         PreparedSurvey::new(make_survey(dir.path(), "mosaic", mosaic, "", &visits)),
+        // Chip gaps and dead cells in the turned focal plane, and an efficiency per tracklet.
         PreparedSurvey::new(make_survey(
             dir.path(),
             "boxes",
-            "shape = \"rectangle\"\nwidth_deg = 3.0\nheight_deg = 1.0",
-            "",
+            "shape = \"rectangle\"\nwidth_deg = 3.0\nheight_deg = 1.0\n\
+             [[field.dead]]\nkind = \"stripes\"\nalong = \"x\"\nspacing_deg = 0.3\nwidth_deg = 0.05\n\
+             [[field.dead]]\nkind = \"cells\"\nsize_deg = 0.1\nfraction = 0.1\n",
+            "[efficiency]\nmodel = \"logistic\"\nwidth_mag = 0.3\nper = \"tracklet\"\n",
             &visits,
         )),
     ];

@@ -4,13 +4,16 @@
 //! object against every visit, on pyerfa (UTC→TDB, `epv00` Earth and Sun), astropy
 //! (`EarthLocation.get_gcrs_posvel`, the site), rebound (two-body orbits) and numpy (light
 //! time, its own gnomonic footprint test, magnitudes, ±0.5 h finite-difference rates, and
-//! the linking rules written from their documented text in DESIGN.md). Two invented surveys
-//! from the invented site Sorrel Peak: a 1.2° circle and a 2.6° × 1.4° rectangle turned by a
-//! per-visit `rotation_deg`, with fields across RA 0/360 and over both poles; 40 invented
-//! objects (30–1500 AU, e ≤ 0.95, a third of them retrograde). Detection is deterministic
-//! (step efficiency, peak 1, live fraction 1), so every decision can be compared exactly.
-//! Borderline cases (within 0.5″ of an edge, 0.001 mag of the depth, 1% of a rate limit)
-//! were redrawn by the generator (`fixtures/engine/generation.log`).
+//! the linking rules written from their documented text in DESIGN.md). Three invented surveys
+//! from the invented site Sorrel Peak: a 1.2° circle, a 2.6° × 1.4° rectangle turned by a
+//! per-visit `rotation_deg`, and that rectangle with chip gaps (stripes 0.06° wide every 0.3°
+//! along the turned x axis, shifted per visit by `dither_x_deg`: the gap test written in
+//! Python from configuration.md), with fields across RA 0/360 and over both poles; 40
+//! invented objects (30–1500 AU, e ≤ 0.95, a third of them retrograde). Detection is
+//! deterministic (step efficiency, peak 1, no random loss), so every decision can be
+//! compared exactly. Borderline cases (within 0.5″ of an edge or a gap's edge, 0.001 mag of
+//! the depth, 1% of a rate limit) were redrawn by the generator
+//! (`fixtures/engine/generation.log`).
 
 mod common;
 
@@ -20,7 +23,11 @@ use std::path::{Path, PathBuf};
 use polars::prelude::*;
 use seine::io::table::{Columns, read_table};
 
-const SURVEYS: [(&str, &str); 2] = [("engref-circle", "circle"), ("engref-rect", "rect")];
+const SURVEYS: [(&str, &str); 3] = [
+    ("engref-circle", "circle"),
+    ("engref-rect", "rect"),
+    ("engref-gaps", "gaps"),
+];
 
 fn engine_fixture(name: &str) -> PathBuf {
     common::fixture("engine").join(name)
@@ -244,7 +251,7 @@ fn observe_matches_the_python_brute_force() {
     // Both surveys in one run: each survey's outcome is kept, the object counts as found when
     // any survey discovers it, and the discovery is the earliest one (mjd from the visits tables).
     let out = dir.path().join("both");
-    observe(&out, &["circle", "rect"]);
+    observe(&out, &["circle", "rect", "gaps"]);
     let p = out.join("objects.csv");
     let df = load(&p);
     let ids = i64s(&df, &p, "id");

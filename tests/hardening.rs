@@ -233,7 +233,11 @@ fn refuses_renamed(spec: &str, old: &str, new: &str) {
 
 #[test]
 fn renamed_fill_factor() {
-    refuses_renamed(&format!("{SPEC}fill_factor = 0.9\n"), "fill_factor", "live_fraction");
+    refuses_renamed(
+        &format!("{SPEC}fill_factor = 0.9\n"),
+        "fill_factor",
+        "random_live_fraction",
+    );
 }
 
 #[test]

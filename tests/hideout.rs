@@ -50,7 +50,7 @@ fn survey(dir: &Path, fill: f64) -> PathBuf {
     std::fs::write(dir.join(format!("visits{fill}.csv")), csv).unwrap();
     let spec = format!(
         "[survey]\nname = \"one-night {fill}\"\nvisits = \"visits{fill}.csv\"\n[field]\nshape = \"circle\"\nradius_deg = {RADIUS_DEG}\n\
-         live_fraction = {fill}\n[efficiency]\nmodel = \"step\"\npeak = 1.0\ntrailing = \"none\"\n[linking]\nmin_detections_per_night = 1\nmin_nights = 1\n"
+         random_live_fraction = {fill}\n[efficiency]\nmodel = \"step\"\npeak = 1.0\ntrailing = \"none\"\n[linking]\nmin_detections_per_night = 1\nmin_nights = 1\n"
     );
     common::write(dir, &format!("survey{fill}.toml"), &spec)
 }

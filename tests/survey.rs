@@ -337,9 +337,9 @@ fn mosaic_spec_loads_and_refuses_a_live_fraction() {
     assert_eq!(s.live_fraction, 1.0);
     assert!((s.footprint.area_sq_deg() - 0.5 - 0.225).abs() < 1e-3);
     assert_bad_survey(
-        &format!("{spec}").replace("[efficiency]", "live_fraction = 0.9\n[efficiency]"),
+        &format!("{spec}").replace("[efficiency]", "random_live_fraction = 0.9\n[efficiency]"),
         VISITS,
-        &["field.live_fraction"],
+        &["field.random_live_fraction"],
     );
     assert_bad_survey(
         &spec.replace("[0.5, 0.5]]]", "[0.5, 0.5], [0.4, 1e9]]]"),

@@ -13,6 +13,8 @@ pub struct Event {
     pub delta_au: f64,
     pub p_detect: f64,
     pub detected: bool,
+    /// S/N, measured magnitude and its 1σ, astrometric 1σ (`survey::measure`).
+    pub measured: crate::survey::measure::Measured,
 }
 
 /// One survey's verdict on one object.

@@ -3,8 +3,8 @@
 //!
 //! Random draws: from the object's stream, one uniform for the light-curve phase, then one
 //! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
-//! two uniforms per in-field event in visit order, the first against the live fraction and the
-//! second against p_detect. A survey's draws depend only on its own in-field set, so any
+//! two uniforms per in-field event in visit order, the first against the random live fraction and
+//! the second against p_detect (`survey::decision`: with the dead regions, the one detection rule). A survey's draws depend only on its own in-field set, so any
 //! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
 //! no other survey's draws.
 
@@ -67,13 +67,16 @@ pub fn observe_object(
         // The light time of the previous in-field event is the next position's first guess. Only
         // in-field events update it, so every candidate strategy computes bit-identical positions.
         let mut tau = f64::NAN;
+        let mut decide = ps.survey.decisions();
         for &v in scratch.iter() {
             let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
                 continue;
             };
-            let fill_ok = draws.random::<f64>() < ps.survey.live_fraction;
-            let det_ok = draws.random::<f64>() < ev.p_detect;
-            ev.detected = fill_ok && det_ok;
+            let u = (draws.random::<f64>(), draws.random::<f64>());
+            ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
+            ev.measured = ps
+                .survey
+                .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
             out.events.push(ev);
             if ev.detected {
                 dets.push(detection(ps, &ev));
@@ -130,6 +133,7 @@ fn in_field_event(
         delta_au: a.delta_au,
         p_detect: ps.survey.p_detect(v, mag, rate),
         detected: false,
+        measured: Default::default(),
     })
 }
 

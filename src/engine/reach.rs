@@ -59,7 +59,7 @@ impl Reach {
             .iter()
             .enumerate()
             .filter(|(_, d)| d.is_finite())
-            .map(|(b, d)| d + survey.efficiency.for_class(b as u16).zero_beyond_dm())
+            .map(|(b, d)| survey.efficiency.for_class(b as u16).zero_beyond_mag(*d))
             .fold(f64::NEG_INFINITY, f64::max);
         let mut used = vec![false; v.band_names.len()];
         v.band.iter().for_each(|&b| used[b as usize] = true);

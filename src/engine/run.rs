@@ -480,6 +480,18 @@ fn detections_frame(
         ),
         Column::new("r_au".into(), f(&|e| e.r_au)),
         Column::new("delta_au".into(), f(&|e| e.delta_au)),
+        Column::new("snr".into(), f(&|e| e.measured.snr)),
+        Column::new(
+            "mag_obs".into(),
+            rows.iter()
+                .map(|(_, e)| e.measured.mag_obs)
+                .collect::<Vec<Option<f64>>>(),
+        ),
+        Column::new("mag_err".into(), f(&|e| e.measured.mag_err)),
+        Column::new(
+            "sigma_astrometry_arcsec".into(),
+            f(&|e| e.measured.sigma_astrometry_arcsec),
+        ),
     ];
     DataFrame::new(rows.len(), cols).map_err(|e| Error::io(e.to_string()))
 }

@@ -80,12 +80,13 @@ fn line_column(text: &str, offset: usize) -> (usize, usize) {
 
 /// Keys and values of the specs that were renamed: (old, new). A file that still uses an old
 /// name is refused with a hint naming the new one.
-pub const RENAMED: [(&str, &str); 8] = [
+pub const RENAMED: [(&str, &str); 9] = [
     ("blocks", "classes"),
     ("double-tanh", "tanh-product"),
     ("w1_mag", "fall_width_mag"),
     ("w2_mag", "tail_width_mag"),
-    ("fill_factor", "live_fraction"),
+    ("fill_factor", "random_live_fraction"),
+    ("live_fraction", "random_live_fraction"),
     ("min_rate", "min_rate_arcsec_per_hr"),
     ("max_rate", "max_rate_arcsec_per_hr"),
     ("track_after_days", "secure_after_days"),

@@ -8,15 +8,23 @@
 //!   with w_f = `fall_width_mag`, w_t = `tail_width_mag`. At its centre m_c the efficiency is
 //!   peak/4, not peak/2, so m_c is not the depth: m_c = depth + Δ, with Δ > 0 solved once per
 //!   model from (1 + tanh(Δ/w_f))(1 + tanh(Δ/w_t)) = 2, so that η(depth) = peak/2.
-//! * table: η at (m − depth, rate), bilinear, clamped at the edges of the grid.
+//! * table: η at (m − depth, rate), or at (m, rate) for a table in magnitudes (a published
+//!   characterization entered as it is), bilinear, clamped at the edges of the grid.
+//! * A bright limit (saturation): η = 0 for a magnitude brighter than `bright_limit_mag`
+//!   (the magnitude before any trailing loss).
+//! * Scope: an efficiency applies per visit (the probability of a detection in one visit) or
+//!   per tracklet (the probability that an object in the field on a night is found as a
+//!   tracklet of that night's visits: one draw per night, `survey::decision`).
 //! * A probability below 2⁻⁵³ is taken as zero. The engine's uniform draws are multiples of
 //!   2⁻⁵³, so such a probability would succeed only on a draw of exactly 0; taking it as zero
 //!   lets the engine skip, exactly, objects too faint for every visit (`engine::reach`).
-//! * Trailing loss (Vereš & Chesley 2017, AJ 154, 12; from memory):
-//!   Δm = 1.25 log10(1 + a x² / (1 + b x)), x = trail length / seeing FWHM, added to the
-//!   magnitude before the efficiency is read. Coefficients as recalled from the paper (from
-//!   memory): detection loss (a, b) = (0.42, 0.003), signal-to-noise loss (0.67, 1.16);
-//!   `custom` takes any pair.
+//! * Trailing loss (Vereš & Chesley 2017, AJ 154, 12, arXiv:1706.09398; the coefficients as
+//!   tabulated in R. L. Jones 2017, technical note SMTN-003, "Trailing losses for moving
+//!   objects"): Δm = 1.25 log10(1 + a x² / (1 + b x)), x = trail length / seeing FWHM, added
+//!   to the magnitude before the efficiency is read. Detection loss (a source found by a
+//!   filter matched to a point source) (a, b) = (0.420, 0.003); signal-to-noise loss (the
+//!   light spread over more background) (0.761, 1.162). An earlier version had (0.67, 1.16)
+//!   for the latter, recalled wrongly. `custom` takes any pair.
 
 /// Detection probabilities below this (2⁻⁵³) are zero.
 pub const P_NEGLIGIBLE: f64 = 1.0 / 9_007_199_254_740_992.0;
@@ -32,7 +40,7 @@ impl Trailing {
     /// Vereš & Chesley (2017): the detection loss of a trailed source (PSF-filter detection).
     pub const DETECTION: Trailing = Trailing { a: 0.42, b: 0.003 };
     /// Vereš & Chesley (2017): the signal-to-noise loss of a trailed source (trail fitting).
-    pub const SNR: Trailing = Trailing { a: 0.67, b: 1.16 };
+    pub const SNR: Trailing = Trailing { a: 0.761, b: 1.162 };
     pub const NONE: Trailing = Trailing { a: 0.0, b: 0.0 };
 
     /// Magnitude loss for a trail of `x` seeing FWHMs.
@@ -54,12 +62,24 @@ pub enum Shape {
         tail_width_mag: f64,
         centre_offset_mag: f64,
     },
-    /// `eta[i][j]` at (`dm[i]`, `rates[j]`), both axes ascending.
+    /// `eta[i][j]` at (`mags[i]`, `rates[j]`), both axes ascending; `mags` are m − depth
+    /// (`relative_to_depth`) or magnitudes.
     Table {
-        dm: Vec<f64>,
+        mags: Vec<f64>,
+        relative_to_depth: bool,
         rates: Vec<f64>,
         eta: Vec<Vec<f64>>,
     },
+}
+
+/// What one efficiency draw decides.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Scope {
+    /// A detection in one visit.
+    #[default]
+    Visit,
+    /// A tracklet of one night's visits: one draw per object and night.
+    Tracklet,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -67,6 +87,9 @@ pub struct Efficiency {
     pub shape: Shape,
     pub peak: f64,
     pub trailing: Trailing,
+    /// Nothing brighter than this is detected (saturation); −∞: no limit.
+    pub bright_limit_mag: f64,
+    pub scope: Scope,
 }
 
 impl Shape {
@@ -110,23 +133,37 @@ impl Efficiency {
                 let u = dm - centre_offset_mag;
                 0.25 * self.peak * (1.0 - (u / wf).tanh()) * (1.0 - (u / wt).tanh())
             }
-            Shape::Table { dm: xs, rates, eta } => bilinear(xs, rates, eta, dm, rate),
+            Shape::Table {
+                mags,
+                relative_to_depth,
+                rates,
+                eta,
+            } => bilinear(mags, rates, eta, if *relative_to_depth { dm } else { mag }, rate),
         }
     }
 
     /// η including the trailing loss of a source moving at `rate` (″/h) in an exposure of
     /// `exposure_s` seconds with seeing `seeing_arcsec`.
     pub fn p(&self, mag: f64, depth: f64, rate: f64, exposure_s: f64, seeing_arcsec: f64) -> f64 {
+        if mag < self.bright_limit_mag {
+            return 0.0;
+        }
         let x = rate * exposure_s / 3600.0 / seeing_arcsec;
         let eta = self.eta(mag + self.trailing.loss_mag(x), depth, rate);
         if eta < P_NEGLIGIBLE { 0.0 } else { eta }
     }
 
-    /// The magnitude offset from the depth (m − depth, before any trailing loss) at and beyond
-    /// which `p` is zero at every rate: +∞ when there is none, −∞ when `p` is zero everywhere.
+    /// The magnitude (before any trailing loss) at and beyond which `p` is zero at every rate
+    /// in a visit of depth `depth`: +∞ when there is none, −∞ when `p` is zero everywhere.
     /// It is 10⁻⁶ mag past the exact crossing, so that rounding in m − depth cannot undo it.
-    pub fn zero_beyond_dm(&self) -> f64 {
-        self.exact_zero_beyond_dm() + 1e-6
+    pub fn zero_beyond_mag(&self, depth: f64) -> f64 {
+        match &self.shape {
+            Shape::Table {
+                relative_to_depth: false,
+                ..
+            } => self.exact_zero_beyond_dm() + 1e-6,
+            _ => depth + self.exact_zero_beyond_dm() + 1e-6,
+        }
     }
 
     fn exact_zero_beyond_dm(&self) -> f64 {
@@ -158,13 +195,13 @@ impl Efficiency {
                 }
                 hi
             }
-            Shape::Table { dm, eta, .. } => {
+            Shape::Table { mags, eta, .. } => {
                 // Interpolation and clamping mix only neighbouring rows: zero from the first
-                // row after which every row is negligible.
+                // row after which every row is negligible (in the table's own magnitude axis).
                 let live = |row: &Vec<f64>| row.iter().any(|&e| e >= P_NEGLIGIBLE);
                 match eta.iter().rposition(live) {
                     None => f64::NEG_INFINITY,
-                    Some(k) if k + 1 < dm.len() => dm[k + 1],
+                    Some(k) if k + 1 < mags.len() => mags[k + 1],
                     Some(_) => f64::INFINITY,
                 }
             }
@@ -222,7 +259,8 @@ mod tests {
             Shape::Logistic { width_mag: 0.3 },
             Shape::tanh_product(0.15, 0.45),
             Shape::Table {
-                dm: vec![-1.0, 0.0, 1.0, 2.0],
+                mags: vec![-1.0, 0.0, 1.0, 2.0],
+                relative_to_depth: true,
                 rates: vec![0.0, 10.0],
                 eta: vec![vec![0.9, 0.8], vec![0.5, 0.4], vec![0.1, 0.0], vec![0.0, 0.0]],
             },
@@ -232,8 +270,10 @@ mod tests {
                 shape,
                 peak: 0.9,
                 trailing: Trailing::DETECTION,
+                bright_limit_mag: f64::NEG_INFINITY,
+                scope: Scope::Visit,
             };
-            let dm = eff.zero_beyond_dm();
+            let dm = eff.zero_beyond_mag(24.0) - 24.0;
             assert!(dm.is_finite(), "{:?}", eff.shape);
             // Zero from there on, at any rate and trailing loss; not zero just before.
             for (k, rate) in [(0.0, 0.0), (0.0, 5.0), (3.0, 0.0), (40.0, 100.0)] {
@@ -249,25 +289,22 @@ mod tests {
         // The logistic's crossing in closed form: peak / (1 + e^(dm/w)) = 2⁻⁵³.
         let lg = Efficiency {
             shape: Shape::Logistic { width_mag: 0.2 },
-            peak: 0.95,
-            trailing: Trailing::NONE,
+            ..plain(0.95)
         };
         let expected = 0.2 * (0.95 / P_NEGLIGIBLE - 1.0).ln();
-        assert!((lg.zero_beyond_dm() - 1e-6 - expected).abs() < 1e-9);
+        assert!((lg.zero_beyond_mag(0.0) - 1e-6 - expected).abs() < 1e-9);
     }
 
     #[test]
     fn half_peak_at_depth() {
         let lg = Efficiency {
             shape: Shape::Logistic { width_mag: 0.3 },
-            peak: 0.9,
-            trailing: Trailing::NONE,
+            ..plain(0.9)
         };
         assert!((lg.eta(24.0, 24.0, 0.0) - 0.45).abs() < 1e-12);
         let tp = Efficiency {
             shape: Shape::tanh_product(0.2, 0.6),
-            peak: 0.8,
-            trailing: Trailing::NONE,
+            ..plain(0.8)
         };
         assert!((tp.eta(24.0, 24.0, 0.0) - 0.4).abs() < 1e-9);
         // At its centre m_c = depth + Δ the published form gives a quarter of the peak.
@@ -287,28 +324,69 @@ mod tests {
     fn table_is_bilinear_and_clamped() {
         let t = Efficiency {
             shape: Shape::Table {
-                dm: vec![-1.0, 0.0, 1.0],
+                mags: vec![-1.0, 0.0, 1.0],
+                relative_to_depth: true,
                 rates: vec![0.0, 10.0],
                 eta: vec![vec![1.0, 0.8], vec![0.5, 0.4], vec![0.0, 0.0]],
             },
-            peak: 1.0,
-            trailing: Trailing::NONE,
+            ..plain(1.0)
         };
         assert!((t.eta(20.0, 20.5, 5.0) - 0.5 * (0.9 + 0.45)).abs() < 1e-12);
         assert_eq!(t.eta(10.0, 20.0, 100.0), 0.8);
         assert_eq!(t.eta(30.0, 20.0, -5.0), 0.0);
+        // The same grid in magnitudes 22, 23, 24: the depth no longer moves it, and the
+        // magnitude beyond which it is zero is the table's own 24, whatever the depth.
+        let a = Efficiency {
+            shape: Shape::Table {
+                mags: vec![22.0, 23.0, 24.0],
+                relative_to_depth: false,
+                rates: vec![0.0, 10.0],
+                eta: vec![vec![1.0, 0.8], vec![0.5, 0.4], vec![0.0, 0.0]],
+            },
+            ..plain(1.0)
+        };
+        for depth in [20.0, 23.0, 26.0] {
+            assert!((a.eta(22.5, depth, 5.0) - 0.5 * (0.9 + 0.45)).abs() < 1e-12);
+            assert!((a.zero_beyond_mag(depth) - 24.0).abs() < 2e-6);
+        }
+    }
+
+    #[test]
+    fn nothing_brighter_than_the_bright_limit() {
+        let e = Efficiency {
+            bright_limit_mag: 16.0,
+            ..plain(1.0)
+        };
+        assert_eq!(e.p(15.99, 24.0, 0.0, 0.0, 1.0), 0.0);
+        assert_eq!(e.p(16.0, 24.0, 0.0, 0.0, 1.0), 1.0);
+    }
+
+    /// A step at full peak with no trailing, no bright limit, per visit.
+    fn plain(peak: f64) -> Efficiency {
+        Efficiency {
+            shape: Shape::Step,
+            peak,
+            trailing: Trailing::NONE,
+            bright_limit_mag: f64::NEG_INFINITY,
+            scope: Scope::Visit,
+        }
     }
 
     #[test]
     fn trailing_loss_points() {
-        // Vereš & Chesley (2017): Δm = 0 for a point source (x = 0), the one published check
-        // point used here. The x = 1 values are the formula evaluated independently (Python)
-        // with the coefficients above: 0.18988 mag (detection) and 0.14667 mag (signal to
-        // noise); a check of the implementation, not of the coefficients (from memory).
+        // Vereš & Chesley (2017): Δm = 0 for a point source (x = 0). The x = 1 and x = 4 values
+        // are the published formula evaluated independently (Python `math`) with the
+        // coefficients of the technical note (SMTN-003, see the module comment): detection
+        // 0.18988 and 1.10389 mag; signal to noise 0.16372 and 0.62389 mag.
         assert_eq!(Trailing::DETECTION.loss_mag(0.0), 0.0);
         assert_eq!(Trailing::SNR.loss_mag(0.0), 0.0);
         assert!((Trailing::DETECTION.loss_mag(1.0) - 0.18988).abs() < 1e-5);
-        assert!((Trailing::SNR.loss_mag(1.0) - 0.14667).abs() < 1e-5);
+        assert!((Trailing::DETECTION.loss_mag(4.0) - 1.10389).abs() < 1e-5);
+        assert!((Trailing::SNR.loss_mag(1.0) - 0.16372).abs() < 1e-5);
+        assert!((Trailing::SNR.loss_mag(4.0) - 0.62389).abs() < 1e-5);
+        // The detection loss exceeds the signal-to-noise loss for long trails (x = 4), the
+        // order the technical note's figure shows.
+        assert!(Trailing::DETECTION.loss_mag(4.0) > Trailing::SNR.loss_mag(4.0));
         // Monotone in the trail length.
         assert!(Trailing::DETECTION.loss_mag(2.0) > Trailing::DETECTION.loss_mag(1.0));
     }

@@ -58,11 +58,14 @@ impl Footprint {
             let c = crate::sky::frames::unit_vector(center_ra_rad, center_dec_rad);
             return dir.dot(&c) >= (radius_deg * DEG).cos();
         }
-        let Some((x, y)) = focal_plane(center_ra_rad, center_dec_rad, rotation_deg, dir) else {
-            return false;
-        };
+        focal_plane(center_ra_rad, center_dec_rad, rotation_deg, dir).is_some_and(|(x, y)| self.contains_focal(x, y))
+    }
+
+    /// Containment of focal-plane position (x, y), degrees of the tangent plane (a circle by
+    /// the angle atan ρ from the centre, ρ the tangent-plane radius in radians).
+    pub fn contains_focal(&self, x: f64, y: f64) -> bool {
         match self {
-            Footprint::Circle { .. } => unreachable!("handled above"),
+            Footprint::Circle { radius_deg } => (x * DEG).hypot(y * DEG).atan() <= radius_deg * DEG,
             Footprint::Rectangle { width_deg, height_deg } => x.abs() <= 0.5 * width_deg && y.abs() <= 0.5 * height_deg,
             Footprint::Mosaic { chips } => chips.iter().any(|p| point_in_polygon(p, x, y)),
         }

@@ -2,9 +2,13 @@
 //! linking rules, and the cadence planner with its coverage report.
 
 pub mod coverage;
+pub mod crowding;
+pub mod decision;
 pub mod efficiency;
 pub mod footprint;
 pub mod linking;
+pub mod live_area;
+pub mod measure;
 pub mod plan_io;
 pub mod planner;
 pub mod revisit_check;
@@ -16,6 +20,7 @@ use std::path::{Path, PathBuf};
 pub use efficiency::EfficiencyModel;
 pub use footprint::Footprint;
 pub use linking::{Detection, LinkOutcome, LinkingRules};
+pub use live_area::LiveArea;
 pub use spec::RateWindow;
 pub use visits::Visits;
 
@@ -35,11 +40,18 @@ pub struct Survey {
     pub reference_band: String,
     pub visits: Visits,
     pub footprint: Footprint,
-    /// Fraction of the footprint that is live detector (1 for a mosaic, whose gaps are explicit).
+    /// Dead regions in the focal plane and the random loss (`live_area`).
+    pub live: LiveArea,
+    /// The mean live fraction over the footprint (dead regions × random loss; 1 for a bare
+    /// mosaic, whose gaps are its outline): what a figure multiplies an efficiency by.
     pub live_fraction: f64,
     pub efficiency: EfficiencyModel,
     pub motion: RateWindow,
     pub linking: LinkingRules,
+    /// What a detection measures (S/N, magnitude with noise, astrometric 1σ).
+    pub measurement: measure::MeasurementModel,
+    /// Sources lost behind stars (`[crowding]`), if modelled.
+    pub crowding: Option<crowding::Crowding>,
 }
 
 impl Survey {
@@ -63,8 +75,15 @@ impl Survey {
             Error::Input(m) => Error::input(format!("{}: {m}", spec_path.display())),
             other => other,
         };
-        let (footprint, live_fraction, default, classes) = Self::check_keys(&spec).map_err(in_spec)?;
+        let (footprint, live, default, classes) = Self::check_keys(&spec).map_err(in_spec)?;
+        let measurement = spec.measurement.unwrap_or_default().build().map_err(in_spec)?;
         let dir = spec_path.parent().unwrap_or(Path::new(""));
+        let crowding = spec
+            .crowding
+            .as_ref()
+            .map(|c| c.build(dir))
+            .transpose()
+            .map_err(in_spec)?;
         let visits_path = dir.join(&spec.survey.visits);
         if !visits_path.exists() {
             return Err(in_spec(Error::input(missing_visits(&visits_path, dir, text))));
@@ -86,14 +105,17 @@ impl Survey {
             time_scale: spec.survey.time_scale,
             reference_band: spec.survey.reference_band,
             visits,
+            live_fraction: live.mean_fraction(&footprint),
+            live,
             footprint,
-            live_fraction,
             efficiency: EfficiencyModel {
                 default,
                 classes: per_class,
             },
             motion: spec.motion,
             linking: spec.linking,
+            measurement,
+            crowding,
         })
     }
 
@@ -103,14 +125,14 @@ impl Survey {
         spec: &spec::SpecFile,
     ) -> Result<(
         Footprint,
-        f64,
+        LiveArea,
         efficiency::Efficiency,
         std::collections::BTreeMap<String, efficiency::Efficiency>,
     )> {
         if let Some(p) = spec.site.as_ref().and_then(Site::problem) {
             return Err(Error::input(p));
         }
-        let (footprint, live_fraction) = spec.field.footprint()?;
+        let (footprint, live) = spec.field.footprint()?;
         let m = spec.motion;
         if !(m.min_rate_arcsec_per_hr >= 0.0
             && m.max_rate_arcsec_per_hr >= m.min_rate_arcsec_per_hr
@@ -125,7 +147,7 @@ impl Survey {
             return Err(Error::input(p));
         }
         let (default, classes) = spec.efficiency.build_all()?;
-        Ok((footprint, live_fraction, default, classes))
+        Ok((footprint, live, default, classes))
     }
 
     /// Detection probability at one visit: 0 outside the rate window; otherwise the visit's
@@ -142,6 +164,42 @@ impl Survey {
             v.exposure_s[visit],
             v.seeing_arcsec[visit],
         )
+    }
+
+    /// What an in-field event at `visit` measures (`measure`); `detection_draw` is the
+    /// uniform draw that detected it (None: not detected).
+    pub fn measure(
+        &self,
+        visit: usize,
+        mag: f64,
+        rate_arcsec_per_hr: f64,
+        detection_draw: Option<f64>,
+    ) -> measure::Measured {
+        let v = &self.visits;
+        let conditions = measure::VisitConditions {
+            depth_5sigma_mag: v.depth_5sigma_mag[visit],
+            seeing_arcsec: v.seeing_arcsec[visit],
+            exposure_s: v.exposure_s[visit],
+        };
+        self.measurement
+            .measure(mag, rate_arcsec_per_hr, conditions, detection_draw)
+    }
+
+    /// Whether a source at (ra, dec), radians, in visit `visit` falls on live detector:
+    /// behind no star (`crowding`) and outside every dead region of the turned, dithered
+    /// focal plane.
+    pub fn in_live_area(&self, visit: usize, ra_rad: f64, dec_rad: f64) -> bool {
+        if self.crowding.as_ref().is_some_and(|c| c.hides(ra_rad, dec_rad)) {
+            return false;
+        }
+        if self.live.dead.is_empty() {
+            return true;
+        }
+        let v = &self.visits;
+        let dir = crate::sky::frames::unit_vector(ra_rad, dec_rad);
+        let centre = (v.ra_deg[visit].to_radians(), v.dec_deg[visit].to_radians());
+        footprint::focal_plane(centre.0, centre.1, v.rotation_deg[visit], &dir)
+            .is_some_and(|(x, y)| self.live.is_live(x, y, (v.dither_x_deg[visit], v.dither_y_deg[visit])))
     }
 }
 

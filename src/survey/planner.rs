@@ -654,6 +654,8 @@ pub fn spec_toml(file: &PlanFile, plan_path: &std::path::Path, visits_file_name:
         efficiency: file.efficiency.clone(),
         motion: file.motion,
         linking: file.linking.clone(),
+        measurement: None,
+        crowding: None,
     };
     let body = toml::to_string(&spec).map_err(|e| Error::io(format!("cannot write the survey spec: {e}")))?;
     let name = plan_path

@@ -5,9 +5,12 @@ use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
-use super::efficiency::{Efficiency, Shape, Trailing};
+use super::crowding::{Crowding, DeadFraction};
+use super::efficiency::{Efficiency, Scope, Shape, Trailing};
 use super::footprint::Footprint;
 use super::linking::LinkingRules;
+use super::live_area::{Axis, DeadRegion, LiveArea};
+use super::measure::MeasurementModel;
 use crate::error::{Error, Result};
 use crate::sky::observer::Site;
 use crate::time::TimeScale;
@@ -25,6 +28,158 @@ pub struct SpecFile {
     pub motion: RateWindow,
     #[serde(default)]
     pub linking: LinkingRules,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub measurement: Option<MeasurementSpec>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crowding: Option<CrowdingSpec>,
+}
+
+/// `[crowding]`: sources lost behind stars, fixed on the sky (`survey::crowding`).
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CrowdingSpec {
+    /// cosecant | healpix
+    pub model: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pole_dead_fraction: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub max_dead_fraction: Option<f64>,
+    /// healpix: the table (path relative to the spec) with columns `healpix` and `live_fraction`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub table: Option<String>,
+    /// healpix: the table's HEALPix order (nested).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub order: Option<u8>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cell_order: Option<u8>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seed: Option<u64>,
+}
+
+impl CrowdingSpec {
+    /// The crowding model, reading a HEALPix table relative to `dir` (the spec's directory).
+    pub fn build(&self, dir: &std::path::Path) -> Result<Crowding> {
+        let fraction = |v: Option<f64>, key: &str, default: f64| -> Result<f64> {
+            match v.unwrap_or(default) {
+                f if (0.0..=1.0).contains(&f) => Ok(f),
+                f => Err(Error::input(format!(
+                    "crowding.{key}: expected a fraction in [0, 1], found {f}"
+                ))),
+            }
+        };
+        let order_in = |v: Option<u8>, key: &str, default: Option<u8>| -> Result<u8> {
+            match v.or(default) {
+                Some(o) if o <= 24 => Ok(o),
+                Some(o) => Err(Error::input(format!(
+                    "crowding.{key}: expected a HEALPix order in 0..=24, found {o}"
+                ))),
+                None => Err(Error::input(format!(
+                    "crowding.{key}: required for model = \"{}\"",
+                    self.model
+                ))),
+            }
+        };
+        let only = |given: bool, key: &str, model: &str| {
+            if given {
+                Err(Error::input(format!(
+                    "crowding.{key}: only used with model = \"{model}\""
+                )))
+            } else {
+                Ok(())
+            }
+        };
+        let dead = match self.model.as_str() {
+            "cosecant" => {
+                only(self.table.is_some(), "table", "healpix")?;
+                only(self.order.is_some(), "order", "healpix")?;
+                DeadFraction::Cosecant {
+                    pole: fraction(self.pole_dead_fraction, "pole_dead_fraction", 0.01)?,
+                    max: fraction(self.max_dead_fraction, "max_dead_fraction", 0.6)?,
+                }
+            }
+            "healpix" => {
+                only(self.pole_dead_fraction.is_some(), "pole_dead_fraction", "cosecant")?;
+                only(self.max_dead_fraction.is_some(), "max_dead_fraction", "cosecant")?;
+                let order = order_in(self.order, "order", None)?;
+                let name = self
+                    .table
+                    .as_ref()
+                    .ok_or_else(|| Error::input("crowding.table: required for model = \"healpix\""))?;
+                DeadFraction::Table {
+                    order,
+                    cells: crowding_table(&dir.join(name), order)?,
+                }
+            }
+            other => {
+                return Err(Error::input(format!(
+                    "crowding.model: expected cosecant or healpix, found `{other}`"
+                )));
+            }
+        };
+        Ok(Crowding {
+            dead,
+            cell_order: order_in(self.cell_order, "cell_order", Some(16))?,
+            seed: self.seed.unwrap_or(0),
+        })
+    }
+}
+
+/// A live-fraction table: columns `healpix` (nested cell index at `order`) and
+/// `live_fraction` in [0, 1], each cell once; sorted by cell.
+fn crowding_table(path: &std::path::Path, order: u8) -> Result<Vec<(u64, f64)>> {
+    let df = crate::io::table::read_table(path)?;
+    let cols = crate::io::table::Columns::new(&df, path);
+    let cells = cols.i64("healpix")?;
+    let live = cols.f64("live_fraction")?;
+    let n = cdshealpix::nested::n_hash(order) as i64;
+    let mut out = Vec::with_capacity(cells.len());
+    for (i, (&c, &f)) in cells.iter().zip(&live).enumerate() {
+        if !(0..n).contains(&c) {
+            return Err(cols.bad_value(
+                i,
+                "healpix",
+                &format!("a nested cell index of order {order}, in [0, {n}), found {c}"),
+            ));
+        }
+        if !(0.0..=1.0).contains(&f) {
+            return Err(cols.bad_value(i, "live_fraction", &format!("a fraction in [0, 1], found {f}")));
+        }
+        out.push((c as u64, f));
+    }
+    out.sort_by_key(|c| c.0);
+    if let Some(w) = out.windows(2).find(|w| w[0].0 == w[1].0) {
+        return Err(Error::input(format!(
+            "{}: column `healpix`: cell {} is listed twice",
+            path.display(),
+            w[0].0
+        )));
+    }
+    Ok(out)
+}
+
+/// `[measurement]`: what a detection measures beyond the decision (`survey::measure`).
+#[derive(Debug, Clone, Copy, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MeasurementSpec {
+    /// Systematic floor of the astrometric 1σ per coordinate, arcsec (default 0.05).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub astrometric_floor_arcsec: Option<f64>,
+}
+
+impl MeasurementSpec {
+    pub fn build(&self) -> Result<MeasurementModel> {
+        let floor = self
+            .astrometric_floor_arcsec
+            .unwrap_or(MeasurementModel::default().astrometric_floor_arcsec);
+        if !(0.0..=10.0).contains(&floor) {
+            return Err(Error::input(format!(
+                "measurement.astrometric_floor_arcsec: expected a floor in [0, 10] arcsec, found {floor}"
+            )));
+        }
+        Ok(MeasurementModel {
+            astrometric_floor_arcsec: floor,
+        })
+    }
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize)]
@@ -56,8 +211,93 @@ pub struct FieldSpec {
     /// Mosaic: detector polygons, each a list of [x_deg, y_deg] corners.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub chips: Option<Vec<Vec<[f64; 2]>>>,
+    /// Probability that an in-field event is kept, drawn independently per event (a plain
+    /// random loss, for users who know only a fraction).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub live_fraction: Option<f64>,
+    pub random_live_fraction: Option<f64>,
+    /// `[[field.dead]]`: dead regions fixed in the focal plane (chip gaps, dead cells).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub dead: Vec<DeadSpec>,
+}
+
+/// One `[[field.dead]]` entry: `kind = "stripes"` (with `along`, `spacing_deg`, `width_deg`,
+/// optional `offset_deg`) or `kind = "cells"` (with `size_deg`, `fraction`, optional `seed`).
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DeadSpec {
+    pub kind: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub along: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spacing_deg: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub width_deg: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub offset_deg: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub size_deg: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub fraction: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seed: Option<u64>,
+}
+
+impl DeadSpec {
+    /// The dead region of entry `k`; errors name `field.dead[k].KEY`.
+    fn build(&self, k: usize) -> Result<DeadRegion> {
+        let need = |v: Option<f64>, key: &str| {
+            v.ok_or_else(|| Error::input(format!("field.dead[{k}].{key}: required for kind = \"{}\"", self.kind)))
+        };
+        let region = match self.kind.as_str() {
+            "stripes" => DeadRegion::Stripes {
+                along: match self.along.as_deref() {
+                    Some("x") => Axis::X,
+                    Some("y") => Axis::Y,
+                    other => {
+                        return Err(Error::input(format!(
+                            "field.dead[{k}].along: expected \"x\" or \"y\" (the focal-plane axis the stripes repeat along), found {}",
+                            other.map_or("nothing".to_string(), |o| format!("`{o}`"))
+                        )));
+                    }
+                },
+                spacing_deg: need(self.spacing_deg, "spacing_deg")?,
+                width_deg: need(self.width_deg, "width_deg")?,
+                offset_deg: self.offset_deg.unwrap_or(0.0),
+            },
+            "cells" => DeadRegion::Cells {
+                size_deg: need(self.size_deg, "size_deg")?,
+                fraction: need(self.fraction, "fraction")?,
+                seed: self.seed.unwrap_or(0),
+            },
+            other => {
+                return Err(Error::input(format!(
+                    "field.dead[{k}].kind: expected stripes or cells, found `{other}`"
+                )));
+            }
+        };
+        let unused = match region {
+            DeadRegion::Stripes { .. } => [
+                ("size_deg", self.size_deg.is_some()),
+                ("fraction", self.fraction.is_some()),
+                ("seed", self.seed.is_some()),
+            ],
+            DeadRegion::Cells { .. } => [
+                ("along", self.along.is_some()),
+                ("spacing_deg", self.spacing_deg.is_some()),
+                ("width_deg", self.width_deg.is_some()),
+            ],
+        };
+        if let Some((key, _)) = unused.iter().find(|(_, given)| *given) {
+            return Err(Error::input(format!(
+                "field.dead[{k}].{key}: not a key of kind = \"{}\"",
+                self.kind
+            )));
+        }
+        match region.problem(k) {
+            Some(p) => Err(Error::input(p)),
+            None => Ok(region),
+        }
+    }
 }
 
 /// Rates (arcsec per hour) the search can find.
@@ -98,8 +338,17 @@ pub struct EfficiencySpec {
     pub fall_width_mag: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tail_width_mag: Option<f64>,
+    /// visit | tracklet: what one efficiency draw decides (default visit).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub per: Option<String>,
+    /// Saturation: nothing brighter is detected.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub bright_limit_mag: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub dm: Option<Vec<f64>>,
+    /// A table's magnitude axis in magnitudes (instead of `dm`, magnitudes minus depth_mag).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub magnitudes: Option<Vec<f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rates: Option<Vec<f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -119,7 +368,8 @@ pub struct EfficiencySpec {
 pub use crate::io::spec_text::parse_toml;
 
 impl FieldSpec {
-    pub fn footprint(&self) -> Result<(Footprint, f64)> {
+    /// The footprint and its live area (dead regions and random loss).
+    pub fn footprint(&self) -> Result<(Footprint, LiveArea)> {
         let need = |v: Option<f64>, key: &str| {
             v.ok_or_else(|| Error::input(format!("field.{key}: required for shape = \"{}\"", self.shape)))
         };
@@ -136,9 +386,9 @@ impl FieldSpec {
                     .chips
                     .as_ref()
                     .ok_or_else(|| Error::input("field.chips: required for shape = \"mosaic\""))?;
-                if self.live_fraction.is_some_and(|f| f != 1.0) {
+                if self.random_live_fraction.is_some_and(|f| f != 1.0) {
                     return Err(Error::input(
-                        "field.live_fraction: a mosaic's chip gaps already set its fill; leave live_fraction out",
+                        "field.random_live_fraction: a mosaic's chip gaps already set its fill; leave random_live_fraction out",
                     ));
                 }
                 Footprint::Mosaic {
@@ -154,13 +404,25 @@ impl FieldSpec {
         if let Some(p) = fp.problem() {
             return Err(Error::input(p));
         }
-        let fill = self.live_fraction.unwrap_or(1.0);
+        let fill = self.random_live_fraction.unwrap_or(1.0);
         if !(fill > 0.0 && fill <= 1.0) {
             return Err(Error::input(format!(
-                "field.live_fraction: expected a fraction in (0, 1], found {fill}"
+                "field.random_live_fraction: expected a fraction in (0, 1], found {fill}"
             )));
         }
-        Ok((fp, fill))
+        let dead = self
+            .dead
+            .iter()
+            .enumerate()
+            .map(|(k, d)| d.build(k))
+            .collect::<Result<Vec<_>>>()?;
+        Ok((
+            fp,
+            LiveArea {
+                dead,
+                random_live_fraction: fill,
+            },
+        ))
     }
 }
 
@@ -173,7 +435,10 @@ impl EfficiencySpec {
             width_mag: self.width_mag.or(base.width_mag),
             fall_width_mag: self.fall_width_mag.or(base.fall_width_mag),
             tail_width_mag: self.tail_width_mag.or(base.tail_width_mag),
+            per: self.per.clone().or(base.per.clone()),
+            bright_limit_mag: self.bright_limit_mag.or(base.bright_limit_mag),
             dm: self.dm.clone().or(base.dm.clone()),
+            magnitudes: self.magnitudes.clone().or(base.magnitudes.clone()),
             rates: self.rates.clone().or(base.rates.clone()),
             eta: self.eta.clone().or(base.eta.clone()),
             trailing: self.trailing.clone().or(base.trailing.clone()),
@@ -217,23 +482,60 @@ impl EfficiencySpec {
         if !(peak > 0.0 && peak <= 1.0) {
             return Err(err("peak", format!("expected a fraction in (0, 1], found {peak}")));
         }
+        let scope = match self.per.as_deref().unwrap_or("visit") {
+            "visit" => Scope::Visit,
+            "tracklet" => Scope::Tracklet,
+            other => return Err(err("per", format!("expected visit or tracklet, found `{other}`"))),
+        };
+        let bright_limit_mag = match self.bright_limit_mag {
+            None => f64::NEG_INFINITY,
+            Some(b) if (-30.0..=40.0).contains(&b) => b,
+            Some(b) => {
+                return Err(err(
+                    "bright_limit_mag",
+                    format!("expected a magnitude in [-30, 40], found {b}"),
+                ));
+            }
+        };
+        // Efficiencies measured with implanted moving sources (tables, tracklet efficiencies)
+        // already contain the loss of their trails: no trailing loss unless asked for.
+        let measured_on_trails = model == "table" || scope == Scope::Tracklet;
         Ok(Efficiency {
             shape,
             peak,
-            trailing: self.trailing(key, model == "table")?,
+            trailing: self.trailing(key, measured_on_trails)?,
+            bright_limit_mag,
+            scope,
         })
     }
 
     fn table_shape(&self, key: &str) -> Result<Shape> {
-        let missing = |k: &str| Error::input(format!("{key}.{k}: required for model = \"table\""));
-        let dm = self.dm.clone().ok_or_else(|| missing("dm"))?;
+        let (mags, relative_to_depth) = match (&self.dm, &self.magnitudes) {
+            (Some(dm), None) => (dm.clone(), true),
+            (None, Some(m)) => (m.clone(), false),
+            (Some(_), Some(_)) => {
+                return Err(Error::input(format!(
+                    "{key}.dm / {key}.magnitudes: give one magnitude axis, not both"
+                )));
+            }
+            (None, None) => {
+                return Err(Error::input(format!(
+                    "{key}.dm or {key}.magnitudes: required for model = \"table\" (magnitudes minus depth_mag, or magnitudes)"
+                )));
+            }
+        };
+        let dm = &mags;
         let rates = self.rates.clone().unwrap_or_else(|| vec![0.0]);
-        let eta = self.eta.clone().ok_or_else(|| missing("eta"))?;
+        let eta = self
+            .eta
+            .clone()
+            .ok_or_else(|| Error::input(format!("{key}.eta: required for model = \"table\"")))?;
         let ascending =
             |v: &[f64]| !v.is_empty() && v.iter().all(|x| x.is_finite()) && v.windows(2).all(|w| w[0] < w[1]);
-        if !ascending(&dm) || !ascending(&rates) {
+        if !ascending(dm) || !ascending(&rates) {
+            let axis = if relative_to_depth { "dm" } else { "magnitudes" };
             return Err(Error::input(format!(
-                "{key}.dm / {key}.rates: expected non-empty, strictly ascending lists of numbers"
+                "{key}.{axis} / {key}.rates: expected non-empty, strictly ascending lists of numbers"
             )));
         }
         let fits = eta.len() == dm.len() && eta.iter().all(|r| r.len() == rates.len());
@@ -249,15 +551,21 @@ impl EfficiencySpec {
                 "{key}.eta: expected efficiencies in [0, 1], found {bad}"
             )));
         }
-        Ok(Shape::Table { dm, rates, eta })
+        Ok(Shape::Table {
+            mags,
+            relative_to_depth,
+            rates,
+            eta,
+        })
     }
 
-    /// Trailing loss: default the detection loss, or none for a table (implanted sources already trail).
-    fn trailing(&self, key: &str, is_table: bool) -> Result<Trailing> {
+    /// Trailing loss: default the detection loss, or none for an efficiency measured on
+    /// trailed implanted sources (a table, a tracklet efficiency).
+    fn trailing(&self, key: &str, measured_on_trails: bool) -> Result<Trailing> {
         let name = self
             .trailing
             .as_deref()
-            .unwrap_or(if is_table { "none" } else { "detection" });
+            .unwrap_or(if measured_on_trails { "none" } else { "detection" });
         let t = match name {
             "detection" => Trailing::DETECTION,
             "snr" => Trailing::SNR,

@@ -2,7 +2,9 @@
 //! `ra_deg`, `dec_deg`, `band`, `depth_mag`; optional `visit_id` (default: the row number,
 //! counted from 0), `rotation_deg` (0), `exposure_s` (0: no trailing), `seeing_arcsec` (1.0),
 //! `efficiency_class` (the name of one of the spec's `[efficiency.classes.NAME]`; default
-//! "default"). Other columns are ignored, except the former name `block`, refused with a hint.
+//! "default"), `depth_5sigma_mag` (the 5σ limit; default `depth_mag`, see `measure`),
+//! `dither_x_deg` and `dither_y_deg` (0: the offset of the camera's dead regions in
+//! the focal plane for this visit, see `live_area`). Other columns are ignored, except the former name `block`, refused with a hint.
 //! Rows are sorted by (mjd, visit_id).
 
 use std::collections::HashMap;
@@ -30,9 +32,12 @@ pub struct Visits {
     pub band: Vec<u16>,
     pub band_names: Vec<String>,
     pub depth_mag: Vec<f64>,
+    pub depth_5sigma_mag: Vec<f64>,
     pub rotation_deg: Vec<f64>,
     pub exposure_s: Vec<f64>,
     pub seeing_arcsec: Vec<f64>,
+    pub dither_x_deg: Vec<f64>,
+    pub dither_y_deg: Vec<f64>,
     pub efficiency_class: Vec<u16>,
     pub class_names: Vec<String>,
     pub night: Vec<i64>,
@@ -129,6 +134,28 @@ impl Visits {
         let rotation = cols.f64_or("rotation_deg", 0.0)?;
         let exposure = cols.f64_or("exposure_s", 0.0)?;
         let seeing = cols.f64_or("seeing_arcsec", 1.0)?;
+        let depth5 = match cols.f64_opt("depth_5sigma_mag")? {
+            Some(d) => d,
+            None => depth.clone(),
+        };
+        check(
+            &cols,
+            "depth_5sigma_mag",
+            &depth5,
+            |x| (0.0..=40.0).contains(&x),
+            "a depth in [0, 40] mag",
+        )?;
+        let dither_x = cols.f64_or("dither_x_deg", 0.0)?;
+        let dither_y = cols.f64_or("dither_y_deg", 0.0)?;
+        for (name, v) in [("dither_x_deg", &dither_x), ("dither_y_deg", &dither_y)] {
+            check(
+                &cols,
+                name,
+                v,
+                |x| x.abs() < 60.0,
+                "a focal-plane offset within ±60 degrees",
+            )?;
+        }
         check(&cols, "exposure_s", &exposure, |x| x >= 0.0, "an exposure ≥ 0 s")?;
         check(
             &cols,
@@ -190,9 +217,12 @@ impl Visits {
             band: order.iter().map(|&i| band[i]).collect(),
             band_names,
             depth_mag: pick(&depth),
+            depth_5sigma_mag: pick(&depth5),
             rotation_deg: pick(&rotation),
             exposure_s: pick(&exposure),
             seeing_arcsec: pick(&seeing),
+            dither_x_deg: pick(&dither_x),
+            dither_y_deg: pick(&dither_y),
             efficiency_class: order.iter().map(|&i| efficiency_class[i]).collect(),
             class_names,
         })

@@ -10,7 +10,11 @@ surveys from the invented Sorrel Peak site (tests/reference/site.toml):
 
 * `engref-circle`: a circular field of radius 1.2 deg;
 * `engref-rect`: a 2.6 x 1.4 deg rectangle turned by a per-visit
-  `rotation_deg`.
+  `rotation_deg`;
+* `engref-gaps`: the same rectangle with chip gaps, stripes of dead area
+  0.06 deg wide every 0.3 deg along the turned x axis, shifted per visit
+  by a `dither_x_deg` (seine's `[[field.dead]]`, written here from the
+  text of configuration.md: dead where |x - dx - k s| < w/2).
 
 For each (survey, visit, object) the script computes the light-time
 corrected astrometric position from the site (pyerfa + astropy + rebound,
@@ -18,12 +22,13 @@ numpy vector arithmetic), tests it against the footprint with its own
 gnomonic projection, computes the magnitude and the rate of motion, and
 decides detection with a deterministic efficiency (step, peak 1, live
 fraction 1): detected <=> in field, mag < depth_mag, min_rate_arcsec_per_hr <= rate <=
-max_rate_arcsec_per_hr.  The linking rules (tracklets, nights, window) are implemented
+max_rate_arcsec_per_hr (and, with gaps, outside every gap).  The linking rules (tracklets, nights, window) are implemented
 here from the text of DESIGN.md, not by translating linking.rs.
 
 Borderline cases are avoided: a pointing that puts any object within 0.5"
 of a footprint edge, or an in-field object within 1% of a rate limit, is
-redrawn; a depth within 0.001 mag of an in-field object's magnitude is
+redrawn, as is one that puts an in-field object within 0.5" of a gap's
+edge; a depth within 0.001 mag of an in-field object's magnitude is
 redrawn; every redraw is logged.  Seeds are fixed; reruns are identical.
 """
 
@@ -63,6 +68,14 @@ SURVEYS = [
         "linking": {"min_detections_per_night": 3, "min_tracklet_span_min": 40.0,
                     "min_nights": 2, "window_days": 30.0},
         "visit_id0": 9000, "seed": 5102, "group_sizes": (3, 5),
+    },
+    {
+        "name": "engref-gaps", "file": "gaps", "shape": "rectangle",
+        "width_deg": 2.6, "height_deg": 1.4, "min_rate_arcsec_per_hr": 0.2, "max_rate_arcsec_per_hr": 6.0,
+        "gaps": {"spacing_deg": 0.3, "width_deg": 0.06},
+        "linking": {"min_detections_per_night": 2, "min_tracklet_span_min": 30.0,
+                    "min_nights": 2, "window_days": 60.0},
+        "visit_id0": 13000, "seed": 5103, "group_sizes": (2, 4),
     },
 ]
 
@@ -160,6 +173,16 @@ def footprint_test(sv, ra0, dec0, rot, ra, dec):
     if abs(x) <= hw + m:
         d = min(d, abs(abs(y) - hh) * 3600.0)
     return inside, d
+
+
+def gap_test(sv, ra0, dec0, rot, dither_x, ra, dec):
+    """(in a gap, distance to the nearest gap edge in arcsec): stripes of
+    width w every s along the turned x axis, shifted by the visit's dither."""
+    s, w = sv["gaps"]["spacing_deg"], sv["gaps"]["width_deg"]
+    x, _ = rect_coords(ra0, dec0, rot, ra, dec)
+    c = x - dither_x
+    d = abs(c - s * round(c / s))
+    return d < 0.5 * w, abs(d - 0.5 * w) * 3600.0
 
 
 def field_radius(sv):
@@ -391,13 +414,18 @@ def build_survey(sv, objs):
             ra0, dec0 = offset_point(ra_t, dec_t, pa, s)
             rots = [float(round(rng.uniform(0.0, 360.0), 6)) if sv["shape"] == "rectangle" else 0.0
                     for _ in g["times"]]
+            dithers = ([float(round(rng.uniform(0.0, sv["gaps"]["spacing_deg"]), 6)) for _ in g["times"]]
+                       if "gaps" in sv else [0.0 for _ in g["times"]])
             bad = None
-            for m, rot in zip(g["times"], rots):
+            for m, rot, dx in zip(g["times"], rots, dithers):
                 for oi in range(len(objs)):
                     ra, dec = pos[oi, m]
                     inside, dist = footprint_test(sv, ra0, dec0, rot, ra, dec)
                     if dist < EDGE_MARGIN_ARCSEC:
                         bad = f"object {objs[oi]['id']} {dist:.3f}\" from the edge"
+                        break
+                    if inside and "gaps" in sv and gap_test(sv, ra0, dec0, rot, dx, ra, dec)[1] < EDGE_MARGIN_ARCSEC:
+                        bad = f"object {objs[oi]['id']} within {EDGE_MARGIN_ARCSEC}\" of a gap's edge"
                         break
                     if inside:
                         rate = geometry(oi, m)["rate"]
@@ -411,10 +439,10 @@ def build_survey(sv, objs):
             log(f"{sv['name']}: redrew the pointing of the group at {g['times'][0]:.5f}: {bad}")
         else:
             raise RuntimeError("no clean pointing")
-        for m, rot in zip(g["times"], rots):
+        for m, rot, dx in zip(g["times"], rots, dithers):
             band = "g" if rng.uniform() < 0.25 else "r"
             visits.append({"mjd": m, "ra_deg": ra0, "dec_deg": dec0, "band": band,
-                           "rotation_deg": rot, "target": tgt})
+                           "rotation_deg": rot, "dither_x_deg": dx, "target": tgt})
     visits.sort(key=lambda v: v["mjd"])
     for k, v in enumerate(visits):
         v["visit_id"] = sv["visit_id0"] + 3 * k
@@ -439,6 +467,10 @@ def build_survey(sv, objs):
         v["depth_mag"] = depth
         for oi, gm, mag in inf:
             det = mag < depth and sv["min_rate_arcsec_per_hr"] <= gm["rate"] <= sv["max_rate_arcsec_per_hr"]
+            if "gaps" in sv:
+                ra, dec = pos[oi, v["mjd"]]
+                det = det and not gap_test(sv, v["ra_deg"], v["dec_deg"], v["rotation_deg"],
+                                           v["dither_x_deg"], ra, dec)[0]
             events.append({"oi": oi, "visit": v, "gm": gm, "mag": mag, "detected": det})
     # Discoveries.
     disc = {}
@@ -474,6 +506,10 @@ def write_spec(sv):
     else:
         field = (f'shape = "rectangle"\nwidth_deg = {sv["width_deg"]}\n'
                  f'height_deg = {sv["height_deg"]}\n')
+    gaps = ""
+    if "gaps" in sv:
+        gaps = ('[[field.dead]]\nkind = "stripes"\nalong = "x"\n'
+                f'spacing_deg = {sv["gaps"]["spacing_deg"]}\nwidth_deg = {sv["gaps"]["width_deg"]}\n\n')
     text = (
         "# Invented survey for the engine reference check (make_engine_fixtures.py).\n"
         f'[survey]\nname = "{sv["name"]}"\nvisits = "visits_{sv["file"]}.csv"\n'
@@ -481,7 +517,7 @@ def write_spec(sv):
         "# Sorrel Peak (tests/reference/site.toml), invented\n"
         f'[site]\nlongitude_deg = {SITE["longitude_deg"]}\nlatitude_deg = {SITE["latitude_deg"]}\n'
         f'elevation_m = {SITE["elevation_m"]}\n\n'
-        f"[field]\n{field}live_fraction = 1.0\n\n"
+        f"[field]\n{field}random_live_fraction = 1.0\n\n{gaps}"
         '[efficiency]\nmodel = "step"\npeak = 1.0\ntrailing = "none"\n\n'
         f'[motion]\nmin_rate_arcsec_per_hr = {sv["min_rate_arcsec_per_hr"]}\nmax_rate_arcsec_per_hr = {sv["max_rate_arcsec_per_hr"]}\n\n'
         f'[linking]\nmin_detections_per_night = {lk["min_detections_per_night"]}\n'
@@ -502,10 +538,11 @@ def main():
     for sv in SURVEYS:
         visits, events, disc = build_survey(sv, objs)
         write_spec(sv)
+        dither = ["dither_x_deg"] if "gaps" in sv else []
         write_rows(f"visits_{sv['file']}.csv",
-                   ["visit_id", "mjd", "ra_deg", "dec_deg", "band", "depth_mag", "rotation_deg"],
+                   ["visit_id", "mjd", "ra_deg", "dec_deg", "band", "depth_mag", "rotation_deg"] + dither,
                    [[v["visit_id"], v["mjd"], v["ra_deg"], v["dec_deg"], v["band"],
-                     v["depth_mag"], v["rotation_deg"]] for v in visits])
+                     v["depth_mag"], v["rotation_deg"]] + [v["dither_x_deg"] for _ in dither] for v in visits])
         for e in sorted(events, key=lambda e: (objs[e["oi"]]["id"], e["visit"]["visit_id"])):
             in_field.append([sv["name"], objs[e["oi"]]["id"], e["visit"]["visit_id"], e["mag"],
                              e["gm"]["ra"], e["gm"]["dec"], e["gm"]["rate"], e["detected"]])
@@ -528,6 +565,11 @@ def main():
             f"{faint} too faint, {rate_cut} outside the rate window, {retro} of retrograde objects), "
             f"{n_disc} of {len(objs)} objects discovered; {wrap} in-field events across RA 0/360 "
             f"from the field centre; {pole_fields} fields containing a pole with {pole} in-field events")
+        if "gaps" in sv:
+            gap_lost = sum(1 for e in events if not e["detected"] and e["mag"] < e["visit"]["depth_mag"]
+                           and sv["min_rate_arcsec_per_hr"] <= e["gm"]["rate"] <= sv["max_rate_arcsec_per_hr"])
+            log(f"{sv['name']}: {gap_lost} in-field events lost in a gap")
+            assert gap_lost > 10
         assert wrap > 0 and pole > 0 and rate_cut > 0 and n_disc > 3
     write_rows("expected_in_field.csv",
                ["survey", "id", "visit_id", "mag", "ra_deg", "dec_deg", "rate_arcsec_per_hr", "detected"],
