@@ -156,6 +156,11 @@ fn bias_map_then_cluster_test_and_the_same_in_one_step() {
     assert!(d.path().join("bm/maps/10.svg").exists());
     let pcol = csv_col(&d.path().join("bm/bias_map.csv"), "p_discover");
     assert_eq!(pcol.len(), 12 * 48);
+    // Every discovered trial's angles beside the map table, as many as the cells' discoveries.
+    let found = csv_col(&d.path().join("bm/bias_map.csv"), "discovered").iter().sum::<f64>();
+    let angles = csv_col(&d.path().join("bm/map_discoveries.csv"), "varpi_deg");
+    assert_eq!(angles.len() as f64, found);
+    assert!(angles.iter().all(|x| (0.0..360.0).contains(x)));
     let common = ["--catalog", &p("catalog.csv"), "--trials", "300", "--format", "csv"];
     let from_table = run_ok(
         &[
@@ -176,7 +181,8 @@ fn bias_map_then_cluster_test_and_the_same_in_one_step() {
         from_table.contains("bias-aware chance") && from_table.contains("without bias correction"),
         "{from_table}"
     );
-    // The maps are the same (same seed, same streams), so are the p-values.
+    // The maps are the same (same seed, same streams), and the discovered angles are read back
+    // from beside the table, so the p-values are the same.
     let a = csv_col(&d.path().join("ct1/cluster_test.csv"), "p_bias_aware");
     assert_eq!(a, csv_col(&d.path().join("ct2/cluster_test.csv"), "p_bias_aware"));
     assert_eq!(from_table.lines().nth(1), in_one.lines().nth(1));

@@ -132,9 +132,35 @@ impl Truth {
     fn simulated_map(&self, rng: &mut Pcg64) -> BiasMap {
         let mut map = BiasMap::empty(self.id, test_grid());
         map.grow(default_budget(), |_| {
-            self.coarse.iter().map(|p| rng.random::<f64>() < *p).collect()
+            (0..self.coarse.len())
+                .map(|c| (rng.random::<f64>() < self.coarse[c]).then(|| self.inside(c, rng)))
+                .collect()
         });
         map
+    }
+
+    /// The angles of a discovered trial in test cell c: a fine cell inside it with
+    /// probability ∝ its truth, then uniform inside that.
+    fn inside(&self, c: usize, rng: &mut Pcg64) -> (f64, f64) {
+        let g = test_grid();
+        let r = FINE / g.n_x;
+        let (ix, iy) = (c / g.n_node, c % g.n_node);
+        let sub: Vec<(usize, usize)> = (0..r * r).map(|k| (ix * r + k / r, iy * r + k % r)).collect();
+        let total: f64 = sub.iter().map(|(x, y)| self.fine[x * FINE + y]).sum();
+        let mut u = rng.random::<f64>() * total;
+        let mut pick = sub[sub.len() - 1];
+        for (x, y) in &sub {
+            u -= self.fine[x * FINE + y];
+            if u < 0.0 {
+                pick = (*x, *y);
+                break;
+            }
+        }
+        let step = TAU / FINE as f64;
+        (
+            (pick.0 as f64 + rng.random::<f64>()) * step,
+            (pick.1 as f64 + rng.random::<f64>()) * step,
+        )
     }
 }
 

@@ -93,13 +93,18 @@ impl MapBudget {
     }
 }
 
-/// One object's bias map: trials and discoveries per cell, row-major (x outer, Ω inner).
+/// One object's bias map: trials and discoveries per cell, row-major (x outer, Ω inner), and
+/// the angles of every discovered trial.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BiasMap {
     pub id: i64,
     pub grid: MapGrid,
     pub trials: Vec<u64>,
     pub discoveries: Vec<u64>,
+    /// (x, Ω) of every discovered trial, radians, in trial order: exact draws of the angles of
+    /// an isotropic object conditioned on discovery. Empty for a map read from a table
+    /// without them; then the cells stand in (uniform inside each).
+    pub found: Vec<(f64, f64)>,
 }
 
 impl BiasMap {
@@ -132,27 +137,51 @@ impl BiasMap {
             grid,
             trials: vec![0; grid.cells()],
             discoveries: vec![0; grid.cells()],
+            found: Vec::new(),
         }
     }
 
-    /// Grow the map pass by pass while `budget` wants more; `pass(k)` returns which cells of
-    /// pass k discovered the object (one trial per cell).
-    pub fn grow(&mut self, budget: MapBudget, mut pass: impl FnMut(u64) -> Vec<bool>) {
+    /// Grow the map pass by pass while `budget` wants more; `pass(k)` returns, cell by cell,
+    /// the angles (x, Ω) of pass k's trial if it discovered the object.
+    pub fn grow(&mut self, budget: MapBudget, mut pass: impl FnMut(u64) -> Vec<Option<(f64, f64)>>) {
         let cells = self.trials.len();
         let mut k = 0;
         while budget.wants_pass(self.total_discoveries(), self.total_trials(), cells) {
             for (c, found) in pass(k).into_iter().enumerate() {
                 self.trials[c] += 1;
-                self.discoveries[c] += u64::from(found);
+                if let Some(angles) = found {
+                    self.discoveries[c] += 1;
+                    self.found.push(angles);
+                }
             }
             k += 1;
         }
     }
 
-    /// A bootstrap replica: each cell's trials resampled with replacement, i.e. its
-    /// discoveries drawn from Binomial(trials, discoveries / trials) (methods.md, "Honest
-    /// errors").
+    /// The cell of angles (x, Ω), radians.
+    pub fn cell_of(&self, x: f64, node: f64) -> usize {
+        let bin = |a: f64, n: usize| ((a.rem_euclid(TAU) / TAU * n as f64) as usize).min(n - 1);
+        bin(x, self.grid.n_x) * self.grid.n_node + bin(node, self.grid.n_node)
+    }
+
+    /// A bootstrap replica (methods.md, "Honest errors"): the discovered trials resampled
+    /// with replacement; for a map without its discoveries' angles, each cell's trials
+    /// resampled, i.e. its discoveries drawn from Binomial(trials, discoveries / trials).
     pub fn resampled(&self, rng: &mut Pcg64) -> BiasMap {
+        if !self.found.is_empty() {
+            let found: Vec<(f64, f64)> = (0..self.found.len())
+                .map(|_| self.found[rng.random_range(0..self.found.len())])
+                .collect();
+            let mut discoveries = vec![0; self.trials.len()];
+            for (x, node) in &found {
+                discoveries[self.cell_of(*x, *node)] += 1;
+            }
+            return BiasMap {
+                discoveries,
+                found,
+                ..self.clone()
+            };
+        }
         let discoveries = (0..self.trials.len())
             .map(|c| match Binomial::new(self.trials[c], self.p(c)) {
                 Ok(b) if self.trials[c] > 0 => rng.sample(b),
@@ -177,9 +206,14 @@ impl BiasMap {
         )
     }
 
-    /// A sampler of (x, Ω) with density ∝ the map: the angles of an isotropic population
-    /// conditioned on discovery. None when nothing was ever discovered.
+    /// A sampler of the angles of an isotropic population conditioned on discovery: one of
+    /// the discovered trials' angles, each equally likely (exact, no smoothing); for a map
+    /// without them, a cell with probability ∝ its value, then uniform inside it. None when
+    /// nothing was ever discovered.
     pub fn sampler(&self) -> Option<MapSampler> {
+        if !self.found.is_empty() {
+            return Some(MapSampler::Found(self.found.clone()));
+        }
         let mut acc = 0.0;
         let cumulative: Vec<f64> = (0..self.trials.len())
             .map(|c| {
@@ -187,21 +221,40 @@ impl BiasMap {
                 acc
             })
             .collect();
-        (acc > 0.0).then(|| MapSampler {
-            cumulative,
-            grid: self.grid,
+        (acc > 0.0).then(|| {
+            MapSampler::Cells(CellSampler {
+                cumulative,
+                grid: self.grid,
+            })
         })
     }
 }
 
-/// Draws (x, Ω) from a bias map: a cell by its probability, then uniform inside it.
+/// Draws (x, Ω) from a bias map.
 #[derive(Debug, Clone)]
-pub struct MapSampler {
+pub enum MapSampler {
+    /// One of the discovered trials' angles (one uniform).
+    Found(Vec<(f64, f64)>),
+    /// A cell by its probability, then uniform inside it (three uniforms).
+    Cells(CellSampler),
+}
+
+impl MapSampler {
+    pub fn sample(&self, rng: &mut Pcg64) -> (f64, f64) {
+        match self {
+            MapSampler::Found(v) => v[rng.random_range(0..v.len())],
+            MapSampler::Cells(c) => c.sample(rng),
+        }
+    }
+}
+
+#[derive(Debug, Clone)]
+pub struct CellSampler {
     cumulative: Vec<f64>,
     grid: MapGrid,
 }
 
-impl MapSampler {
+impl CellSampler {
     pub fn sample(&self, rng: &mut Pcg64) -> (f64, f64) {
         let u = rng.random::<f64>() * self.cumulative[self.cumulative.len() - 1];
         let c = self
@@ -258,8 +311,9 @@ fn one_map(
                 || (template.clone(), Vec::new()),
                 |(obj, scratch), c| {
                     let tid = trial_id(id, pass * cells as u64 + c as u64, span);
-                    let el = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
-                    obj.observe(el, surveys, seed, tid, scratch).discovered()
+                    let (el, x) = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
+                    let found = obj.observe(el, surveys, seed, tid, scratch).discovered();
+                    found.then_some((x, el.node))
                 },
             )
             .collect()
@@ -267,15 +321,20 @@ fn one_map(
     map
 }
 
-/// The elements of one trial in a cell (x0, x1, node0, node1): fixed draw order M, then the
-/// first-axis angle, then Ω.
-fn cell_trial(base: Elements, (x0, x1, n0, n1): (f64, f64, f64, f64), axes: MapAxes, rng: &mut Pcg64) -> Elements {
+/// The elements of one trial in a cell (x0, x1, node0, node1), and its first-axis angle:
+/// fixed draw order M, then the first-axis angle, then Ω.
+fn cell_trial(
+    base: Elements,
+    (x0, x1, n0, n1): (f64, f64, f64, f64),
+    axes: MapAxes,
+    rng: &mut Pcg64,
+) -> (Elements, f64) {
     let mut el = base;
     el.mean_anomaly = rng.random::<f64>() * TAU;
     let x = x0 + rng.random::<f64>() * (x1 - x0);
     el.node = n0 + rng.random::<f64>() * (n1 - n0);
     el.argperi = axes.argperi(x, el.node);
-    el
+    (el, x)
 }
 
 /// A heat map of one bias map as a small standalone SVG (x across, Ω up; grey scale from

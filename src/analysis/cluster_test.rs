@@ -17,8 +17,9 @@
 //! Kuiper analytically, the others by the same pooled Monte Carlo with uniform angles.
 //!
 //! Streams: object `id` in synthetic catalogue t of replica r draws from
-//! `object_stream(seed ^ splitmix64(t) ^ replica_key(r), id, Analysis)`: first its (ϖ, Ω)
-//! from the map (three uniforms), then its uniform angles for the naive null (two uniforms).
+//! `object_stream(seed ^ splitmix64(t) ^ k_r, id, Analysis)` (`catalogue_seed`): first its
+//! (ϖ, Ω) from the map (`MapSampler`), then its uniform angles for the naive null (two
+//! uniforms).
 //! Replica r ≥ 1 resamples the map of object `id` from `object_stream(seed ^ splitmix64(r), id,
 //! Clone)`.
 

@@ -168,6 +168,7 @@ pub fn run(a: Args) -> Result<()> {
     let out = a.run.out_dir(prov)?;
     let maps = a.grid.maps(&objects, lo..hi, &surveys, a.run.seed, a.run.quiet)?;
     let table = out.write("bias_map", map_columns(&maps))?;
+    let found = out.write(FOUND, found_columns(&maps))?;
     if !a.no_svg {
         for (m, i) in maps.iter().zip(lo..hi) {
             let el = &objects.elements[i];
@@ -203,7 +204,7 @@ pub fn run(a: Args) -> Result<()> {
         }),
         &conclusion,
     )?;
-    a.run.report(&conclusion, &[&table, &summary]);
+    a.run.report(&conclusion, &[&table, &found, &summary]);
     Ok(())
 }
 
@@ -319,6 +320,7 @@ pub fn read_maps(path: &Path) -> Result<Vec<BiasMap>> {
                 grid,
                 trials: vec![0; n],
                 discoveries: vec![0; n],
+                found: Vec::new(),
             });
         }
         let m = maps.last_mut().expect("pushed above");
@@ -330,5 +332,61 @@ pub fn read_maps(path: &Path) -> Result<Vec<BiasMap>> {
         m.trials[cell] = trials[r] as u64;
         m.discoveries[cell] = found[r] as u64;
     }
+    read_found(path, &mut maps)?;
     Ok(maps)
+}
+
+/// The file of the discovered trials' angles beside a map table (`map_discoveries.*`).
+pub const FOUND: &str = "map_discoveries";
+
+/// `map_discoveries`: one row per discovered trial, `id, varpi_deg` (or `argperi_deg`),
+/// `node_deg`, in trial order.
+pub fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
+    let x = maps.first().map_or("varpi", |m| m.grid.axes.x_name());
+    let each =
+        |f: &dyn Fn(&(f64, f64)) -> f64| -> Vec<f64> { maps.iter().flat_map(|m| m.found.iter().map(f)).collect() };
+    vec![
+        col(
+            "id",
+            maps.iter()
+                .flat_map(|m| std::iter::repeat_n(m.id, m.found.len()))
+                .collect::<Vec<i64>>(),
+        ),
+        col(&format!("{x}_deg"), each(&|a| a.0.to_degrees())),
+        col("node_deg", each(&|a| a.1.to_degrees())),
+    ]
+}
+
+/// The discovered trials' angles from `map_discoveries.*` beside a map table, when there is
+/// one; each map's discoveries must match its count.
+fn read_found(path: &Path, maps: &mut [BiasMap]) -> Result<()> {
+    let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("parquet");
+    let beside = path.with_file_name(format!("{FOUND}.{ext}"));
+    if !beside.exists() {
+        return Ok(());
+    }
+    let df = read_table(&beside)?;
+    let c = Columns::new(&df, &beside);
+    let x_col = format!("{}_deg", maps.first().map_or("varpi", |m| m.grid.axes.x_name()));
+    let (ids, x, node) = (c.i64("id")?, c.f64(&x_col)?, c.f64("node_deg")?);
+    let index: std::collections::HashMap<i64, usize> = maps.iter().enumerate().map(|(k, m)| (m.id, k)).collect();
+    for r in 0..ids.len() {
+        let k = *index
+            .get(&ids[r])
+            .ok_or_else(|| c.bad_value(r, "id", "an id of the map table beside it"))?;
+        maps[k].found.push((x[r].to_radians(), node[r].to_radians()));
+    }
+    for m in maps.iter() {
+        if !m.found.is_empty() && m.found.len() as u64 != m.total_discoveries() {
+            return Err(Error::input(format!(
+                "{}: id {}: {} discovered angles, but {} discoveries in {}",
+                beside.display(),
+                m.id,
+                m.found.len(),
+                m.total_discoveries(),
+                path.display()
+            )));
+        }
+    }
+    Ok(())
 }

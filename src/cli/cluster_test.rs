@@ -9,7 +9,7 @@ use seine::analysis::cluster_test::{self as ct, Angles, ClusterTest, Cut, TestOp
 use seine::io::objects::ObjectTable;
 use seine::{Error, Result};
 
-use super::bias_map::{GridArgs, map_columns, read_maps, thin_maps};
+use super::bias_map::{FOUND, GridArgs, found_columns, map_columns, read_maps, thin_maps};
 use super::common::*;
 
 #[derive(clap::Args, Debug)]
@@ -131,6 +131,7 @@ pub fn run(a: Args) -> Result<()> {
     let out = a.run.out_dir(prov)?;
     if a.bias_map.is_empty() {
         out.write("bias_map", map_columns(&maps))?;
+        out.write(FOUND, found_columns(&maps))?;
     }
     let r = &res.results;
     let table = out.write(
