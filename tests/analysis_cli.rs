@@ -157,7 +157,9 @@ fn bias_map_then_cluster_test_and_the_same_in_one_step() {
     let pcol = csv_col(&d.path().join("bm/bias_map.csv"), "p_discover");
     assert_eq!(pcol.len(), 12 * 48);
     // Every discovered trial's angles beside the map table, as many as the cells' discoveries.
-    let found = csv_col(&d.path().join("bm/bias_map.csv"), "discovered").iter().sum::<f64>();
+    let found = csv_col(&d.path().join("bm/bias_map.csv"), "discovered")
+        .iter()
+        .sum::<f64>();
     let angles = csv_col(&d.path().join("bm/map_discoveries.csv"), "varpi_deg");
     assert_eq!(angles.len() as f64, found);
     assert!(angles.iter().all(|x| (0.0..360.0).contains(x)));
