@@ -64,7 +64,7 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
             .and_then(|r| r.finish()),
         Format::Parquet => {
             let f = File::open(path).map_err(|e| io_at(path, e))?;
-            ParquetReader::new(f).finish()
+            guard_parquet(path, || ParquetReader::new(f).finish())?
         }
     };
     df.map_err(|e| unreadable(path, format, &e))
@@ -142,19 +142,33 @@ pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -
         )));
     }
     let f = File::open(path).map_err(|e| Error::input(format!("{}: cannot open the table: {e}", path.display())))?;
-    let mut reader = ParquetReader::new(f);
-    let total = reader.num_rows().map_err(bad)?;
-    let (lo, hi) = range(total);
-    let df = reader.with_slice(Some((lo, hi - lo))).finish().map_err(bad)?;
+    let (df, lo, total) = guard_parquet(path, move || {
+        let mut reader = ParquetReader::new(f);
+        let total = reader.num_rows()?;
+        let (lo, hi) = range(total);
+        let df = reader.with_slice(Some((lo, hi - lo))).finish()?;
+        Ok((df, lo, total))
+    })?
+    .map_err(bad)?;
     Ok((df, lo, total))
+}
+
+/// Run a Parquet read, turning a panic of the reader into the usual refusal. The Parquet
+/// library can panic on a damaged file (a corrupted page or footer) instead of returning an
+/// error; a damaged input must end in one sentence and exit status 2, never in a panic.
+fn guard_parquet<T>(path: &Path, read: impl FnOnce() -> T) -> Result<T> {
+    std::panic::catch_unwind(std::panic::AssertUnwindSafe(read)).map_err(|_| {
+        Error::input(format!(
+            "{}: not a readable parquet table: the file is damaged (its pages or footer cannot be decoded)",
+            path.display()
+        ))
+    })
 }
 
 /// Parquet key-value metadata of a file (the provenance lives there).
 pub fn read_parquet_metadata(path: &Path) -> Result<Vec<(String, String)>> {
     let f = File::open(path).map_err(|e| io_at(path, e))?;
-    let mut reader = ParquetReader::new(f);
-    let md = reader
-        .get_metadata()
+    let md = guard_parquet(path, move || ParquetReader::new(f).get_metadata().cloned())?
         .map_err(|e| Error::input(format!("{}: not a readable parquet table: {e}", path.display())))?;
     Ok(md
         .key_value_metadata()
