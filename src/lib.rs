@@ -4,6 +4,7 @@
 //! I/O, report); the `seine` binary is a thin command-line layer over it.
 
 pub mod analysis;
+pub mod budget;
 pub mod engine;
 pub mod error;
 pub mod hideout;
@@ -11,6 +12,7 @@ pub mod io;
 pub mod orbit;
 pub mod population;
 pub mod progress;
+pub mod ranges;
 pub mod report;
 pub mod rng;
 pub mod shard;

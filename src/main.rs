@@ -3,7 +3,10 @@
 use clap::Parser;
 
 fn main() {
-    let cli = seine_cli::Cli::parse();
+    let cli = match seine_cli::Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => seine_cli::arguments::exit_with(e),
+    };
     if let Err(e) = seine_cli::run(cli) {
         eprintln!("seine: {e}");
         std::process::exit(2);

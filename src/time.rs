@@ -133,12 +133,13 @@ pub fn to_utc_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
         }
     };
     // TAI − UTC is constant except across a leap second: evaluate it at the guess, then again.
-    let guess = tai - tai_minus_utc_s(tai).unwrap_or(f64::NAN) / SECONDS_PER_DAY;
-    let d = tai_minus_utc_s(guess).ok_or_else(|| {
+    let before_1972 = || {
         Error::input(format!(
             "epoch MJD {mjd} is before 1972-01-01, where UTC is not defined by the leap-second table"
         ))
-    })?;
+    };
+    let guess = tai - tai_minus_utc_s(tai).ok_or_else(before_1972)? / SECONDS_PER_DAY;
+    let d = tai_minus_utc_s(guess).ok_or_else(before_1972)?;
     Ok(tai - d / SECONDS_PER_DAY)
 }
 

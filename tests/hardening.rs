@@ -385,3 +385,332 @@ fn duplicate_ids_in_a_parquet_table_name_both_rows() {
         &["objects.parquet row 901", "`id`", "found 3 again"],
     );
 }
+
+/// Extreme but finite values (an orbit of 1e300 AU, a visit at MJD 1e308, an element epoch of
+/// NaN in a spec, a distribution reaching 1e-130 AU) are refused by their plausible range
+/// (src/ranges.rs), naming the row or key and the range, before anything is written.
+#[test]
+fn values_outside_their_plausible_range_are_refused() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("60.0,0.3", "1e300,0.3"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "`a_au`", "[0.05, 200000]"]);
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("60.0,0.3", "1e-130,0.3"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "`a_au`"]);
+    let c = Case::new(&[("visits.csv", &VISITS.replace("1,61000.2", "1,1e308"))]);
+    c.fails(&c.observe(&[]), &["visits.csv", "row 2", "`mjd`", "1972-2200"]);
+    let c = Case::new(&[("visits.csv", &VISITS.replace("1,61000.2", "1,500000.0"))]);
+    c.fails(&c.observe(&[]), &["visits.csv", "row 2", "`mjd`"]);
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace(",7.0\n", ",99.0\n"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 1", "`h_mag`"]);
+    for (from, to, key) in [
+        ("epoch_mjd = 61000.0", "epoch_mjd = nan", "population.epoch_mjd"),
+        ("epoch_mjd = 61000.0", "epoch_mjd = 1e12", "population.epoch_mjd"),
+        ("lo = 40.0, hi = 50.0", "lo = 1e-130, hi = 50.0", "orbit.a_au"),
+    ] {
+        let spec = POPULATION.replace(from, to);
+        std::fs::write(c.dir.path().join("pop.toml"), spec).unwrap();
+        let (spec, out) = (c.p("pop.toml"), c.p("o.parquet"));
+        let a = args(&["draw", "--spec", &spec, "--count", "10", "--seed", "1", "--out", &out]);
+        c.fails(&a, &["pop.toml", key, "expected"]);
+        std::fs::remove_file(c.dir.path().join("pop.toml")).unwrap();
+    }
+}
+
+/// Extreme spec parameters that used to hang (κ = 1e20, σ = 1e6°) or draw wrong values
+/// without a word (a truncated normal 10σ from its mean) draw, quickly, what they describe.
+#[test]
+fn extreme_distribution_parameters_draw_what_they_describe() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = POPULATION.replace(
+        "inc_deg = { dist = \"isotropic\" }",
+        "inc_deg = { dist = \"truncated-normal\", mean = 0.0, sigma = 3.0, lo = 30.0, hi = 40.0 }\n\
+             node_deg = { dist = \"von-mises\", mean = 100.0, kappa = 1e20 }",
+    );
+    let pop = common::write(dir.path(), "pop.toml", &spec);
+    let out = dir.path().join("o.csv");
+    let started = std::time::Instant::now();
+    let o = common::seine(&[
+        "draw",
+        "--quiet",
+        "--spec",
+        pop.to_str().unwrap(),
+        "--count",
+        "2000",
+        "--seed",
+        "1",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    assert!(started.elapsed().as_secs() < 60);
+    let t = seine::io::objects::ObjectTable::read(&out).unwrap();
+    let inc: Vec<f64> = t.elements.iter().map(|e| e.inc.to_degrees()).collect();
+    assert!(inc.iter().all(|i| (30.0..=40.0).contains(i)));
+    // Far-tail mean ≈ lo + σ²/(lo − mean) = 30.3 (scipy: 30.294); not piled up at 40.
+    let mean = inc.iter().sum::<f64>() / inc.len() as f64;
+    assert!((mean - 30.294).abs() < 0.05, "mean inclination {mean}");
+    assert!(t.elements.iter().all(|e| (e.node.to_degrees() - 100.0).abs() < 1e-6));
+    let spec = POPULATION.replace("{ dist = \"isotropic\" }", "{ dist = \"sin-gaussian\", sigma = 1e6 }");
+    let pop = common::write(dir.path(), "pop2.toml", &spec);
+    let o = common::seine(&[
+        "draw",
+        "--quiet",
+        "--spec",
+        pop.to_str().unwrap(),
+        "--count",
+        "2000",
+        "--seed",
+        "1",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+}
+
+/// A table whose a, e and q disagree is refused (which one is meant is unknown).
+#[test]
+fn inconsistent_redundant_elements_are_refused() {
+    let objects = OBJECTS
+        .replace(",h_mag\n", ",h_mag,q_au\n")
+        .replace(",7.0\n", ",7.0,40.5\n")
+        .replace(",6.0\n", ",6.0,45.0\n");
+    let c = Case::new(&[("objects.csv", &objects)]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "`q_au`", "a_au (1 - e)"]);
+}
+
+/// A closed stdout (`seine demo | head -1`) is a normal end: status 0, no panic.
+#[test]
+fn closed_stdout_is_a_quiet_end() {
+    let dir = tempfile::tempdir().unwrap();
+    let objects = common::write(dir.path(), "objects.csv", OBJECTS);
+    let out = dir.path().join("demo");
+    for a in [
+        vec!["table", objects.to_str().unwrap()],
+        vec!["demo", "--out", out.to_str().unwrap()],
+    ] {
+        // A pipe whose reading end is closed before the first line is written.
+        let (reader, writer) = std::io::pipe().unwrap();
+        drop(reader);
+        let o = Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args(&a)
+            .stdout(writer)
+            .output()
+            .unwrap();
+        let err = common::stderr(&o);
+        assert_eq!(o.status.code(), Some(0), "{a:?}: {err}");
+        assert!(!err.contains("panicked"), "{a:?}: {err}");
+    }
+}
+
+/// SIGINT during `draw` removes its hidden temporary: nothing is left, status 2.
+#[test]
+fn interrupted_draw_leaves_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let pop = common::write(dir.path(), "pop.toml", POPULATION);
+    let out = dir.path().join("o.parquet");
+    let child = Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args([
+            "draw",
+            "--quiet",
+            "--spec",
+            pop.to_str().unwrap(),
+            "--count",
+            "20000000",
+            "--seed",
+            "1",
+        ])
+        .arg("--out")
+        .arg(&out)
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Wait until the temporary exists (the draw is under way), then interrupt.
+    let started = std::time::Instant::now();
+    while listing(dir.path()).len() < 2 && started.elapsed().as_secs() < 60 {
+        std::thread::sleep(std::time::Duration::from_millis(50));
+    }
+    assert_eq!(listing(dir.path()).len(), 2, "no temporary appeared");
+    let pid = child.id().to_string();
+    assert!(Command::new("kill").args(["-INT", &pid]).status().unwrap().success());
+    let o = child.wait_with_output().unwrap();
+    assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+    assert_eq!(listing(dir.path()), vec![pop], "{}", common::stderr(&o));
+}
+
+/// Merges check what they merge: `draw` shards (stamped in their provenance) must be the N
+/// shards of one draw, each once, in any order given; no merge writes into one of its inputs;
+/// a refused merge writes nothing.
+#[test]
+fn merges_check_their_shards() {
+    let c = Case::new(&[]);
+    std::fs::write(c.dir.path().join("pop.toml"), POPULATION).unwrap();
+    let spec = c.p("pop.toml");
+    let draw = |shard: Option<&str>, seed: &str, out: &str| {
+        let mut a = args(&[
+            "draw",
+            "--quiet",
+            "--spec",
+            &spec,
+            "--count",
+            "30",
+            "--seed",
+            seed,
+            "--out",
+            &c.p(out),
+        ]);
+        if let Some(s) = shard {
+            a.extend(["--shard".to_string(), s.to_string()]);
+        }
+        let o = Command::new(env!("CARGO_BIN_EXE_seine")).args(&a).output().unwrap();
+        assert!(o.status.success(), "{}", common::stderr(&o));
+    };
+    draw(Some("0/3"), "1", "s0.parquet");
+    draw(Some("1/3"), "1", "s1.parquet");
+    draw(Some("2/3"), "1", "s2.parquet");
+    draw(Some("2/3"), "9", "other_seed.parquet");
+    draw(None, "1", "whole.parquet");
+    let merge = |ins: &[&str], out: &str| {
+        let mut a = args(&["merge", "--quiet"]);
+        a.extend(ins.iter().map(|i| c.p(i)));
+        a.extend(["--out".to_string(), c.p(out)]);
+        a
+    };
+    c.fails(&merge(&["s0.parquet", "s1.parquet"], "m.parquet"), &["3 shards"]);
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "s1.parquet"], "m.parquet"),
+        &["s1.parquet", "twice"],
+    );
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "other_seed.parquet"], "m.parquet"),
+        &["other_seed.parquet", "same draw"],
+    );
+    c.fails(
+        &merge(&["s0.parquet", "s1.parquet", "s2.parquet"], "s1.parquet"),
+        &["s1.parquet", "one of the inputs"],
+    );
+    // Any order given: the shards are put in shard order, the result is the whole draw.
+    let o = Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args(merge(&["s2.parquet", "s0.parquet", "s1.parquet"], "m.parquet"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let (m, whole) = (
+        seine::io::objects::ObjectTable::read(&c.dir.path().join("m.parquet")).unwrap(),
+        seine::io::objects::ObjectTable::read(&c.dir.path().join("whole.parquet")).unwrap(),
+    );
+    assert_eq!(m.ids, whole.ids);
+    assert_eq!(m.elements, whole.elements);
+    // An observe output merged into itself.
+    let o = Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args(c.observe(&["--shard", "0/1"]))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let out = c.p("out");
+    c.fails(&args(&["merge", &out, "--out", &out]), &["one of the inputs"]);
+}
+
+/// Runaway jobs are refused before any work, with the estimate and the way out (--shard or
+/// --over-budget): a draw of 10^12 objects, 10^10 bias-map cells, 10^10 cluster-test trials.
+#[test]
+fn runs_over_budget_are_refused() {
+    let c = Case::new(&[]);
+    std::fs::write(c.dir.path().join("pop.toml"), POPULATION).unwrap();
+    let (spec, survey, objects) = (c.p("pop.toml"), c.p("survey.toml"), c.p("objects.csv"));
+    let out = c.p("out");
+    c.fails(
+        &args(&[
+            "draw",
+            "--spec",
+            &spec,
+            "--count",
+            "1000000000000",
+            "--seed",
+            "1",
+            "--out",
+            &c.p("o.parquet"),
+        ]),
+        &["--count", "objects drawn", "--over-budget"],
+    );
+    c.fails(
+        &args(&[
+            "bias-map",
+            "--survey",
+            &survey,
+            "--objects",
+            &objects,
+            "--out",
+            &out,
+            "--grid",
+            "100000,100000",
+            "--per-cell",
+            "1",
+        ]),
+        &["--grid", "--over-budget"],
+    );
+    c.fails(
+        &args(&[
+            "cluster-test",
+            "--survey",
+            &survey,
+            "--catalog",
+            &objects,
+            "--out",
+            &out,
+            "--trials",
+            "10000000000",
+        ]),
+        &["--trials"],
+    );
+    c.fails(
+        &args(&[
+            "hideout",
+            "--survey",
+            &survey,
+            "--prior",
+            &spec,
+            "--count",
+            "1000000000000",
+            "--out",
+            &out,
+        ]),
+        &["--count", "--over-budget"],
+    );
+}
+
+/// Options: a negative number where none is meaningful is one sentence (not the parser's
+/// usage block); a negative site longitude is a value.
+#[test]
+fn negative_option_values() {
+    let c = Case::new(&[]);
+    std::fs::write(c.dir.path().join("pop.toml"), POPULATION).unwrap();
+    let spec = c.p("pop.toml");
+    for (opt, v) in [("--count", "-5"), ("--seed", "-1")] {
+        let mut a = args(&[
+            "draw",
+            "--spec",
+            &spec,
+            "--count",
+            "10",
+            "--seed",
+            "1",
+            "--out",
+            &c.p("o.csv"),
+        ]);
+        let i = a.iter().position(|x| x == opt).unwrap();
+        a[i + 1] = v.to_string();
+        c.fails(&a, &[opt, v, "negative"]);
+    }
+    std::fs::write(c.dir.path().join("epochs.csv"), "mjd\n61000.5\n").unwrap();
+    let o = Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args([
+            "ephemeris",
+            "--objects",
+            &c.p("objects.csv"),
+            "--epochs",
+            &c.p("epochs.csv"),
+        ])
+        .args(["--out", &c.p("eph.csv"), "--site", "-70.5,-30.2,2000"])
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", common::stderr(&o));
+}

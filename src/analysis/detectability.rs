@@ -115,23 +115,18 @@ fn one_object(
     }
 }
 
-/// Most trials (objects × clones) one run takes without `--over-budget`: 10^8, about a quarter
-/// of an hour at the engine's speed on a small survey (performance.md).
-pub const MAX_TRIALS: u64 = 100_000_000;
-
-/// Refuse a run of more than `MAX_TRIALS` trials unless the user said it is meant.
+/// Refuse a run of more trials than the budget (`budget::TRIALS`) unless the user said it is meant.
 pub fn check_budget(objects: usize, clones: u64, over_budget: bool) -> Result<()> {
     if clones == 0 {
         return Err(Error::input("--clones: expected at least 1"));
     }
-    let trials = (objects as u64).saturating_mul(clones);
-    if trials > MAX_TRIALS && !over_budget {
-        return Err(Error::input(format!(
-            "--clones {clones}: {objects} objects × {clones} clones = {trials} trials, more than the \
-             {MAX_TRIALS} one run takes; use fewer clones, --shard K/N, or --over-budget if it is meant"
-        )));
-    }
-    Ok(())
+    let trials = objects as f64 * clones as f64;
+    crate::budget::check(
+        crate::budget::TRIALS,
+        trials,
+        &format!("--clones {clones} for {objects} objects"),
+        over_budget,
+    )
 }
 
 pub const TABLE: &str = "detectability";

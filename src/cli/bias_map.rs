@@ -36,9 +36,19 @@ pub struct GridArgs {
     /// Map axes: varpi-node (ϖ, Ω) or argperi-node (ω, Ω).
     #[arg(long, default_value = "varpi-node")]
     pub axes: String,
+    /// Run past the budget of trials and memory (configuration.md, "Budgets"): it is meant.
+    #[arg(long)]
+    pub over_budget: bool,
 }
 
 impl GridArgs {
+    /// Refuse maps of `objects` objects on `grid` past the budget (unless --over-budget): the
+    /// trials of fixed per-cell maps, and the memory the maps hold.
+    pub fn check_budget(&self, objects: usize, grid: &MapGrid, budget: &MapBudget) -> Result<()> {
+        let fixed = (budget.min_discoveries == u64::MAX).then_some(budget.max_trials);
+        seine::budget::check_bias_maps(objects, grid.cells() as f64, fixed, self.over_budget)
+    }
+
     pub fn grid(&self) -> Result<MapGrid> {
         let bad = || {
             Error::input(format!(
@@ -152,6 +162,7 @@ pub fn run(a: Args) -> Result<()> {
     prov.add_input(&a.objects)?;
     let rows = shard_rows(objects.len(), a.shard.resolve()?);
     let (lo, hi) = (rows.start, rows.end);
+    a.grid.check_budget(hi - lo, &grid, &budget)?;
     let out = a.run.out_dir(prov)?;
     let maps = a.grid.maps(&objects, lo..hi, &surveys, a.run.seed, a.run.quiet)?;
     let table = out.write("bias_map", map_columns(&maps))?;

@@ -79,6 +79,10 @@ pub fn run(a: Args) -> Result<()> {
     let mut prov = a.run.start()?;
     let catalog = ObjectTable::read(&a.catalog)?;
     prov.add_input(&a.catalog)?;
+    let draws = catalog.len() as f64 * a.trials as f64;
+    seine::budget::check(seine::budget::CLUSTER_TRIALS, draws, "--trials", a.grid.over_budget)?;
+    // The null samples held for cluster_null.*: about half a kilobyte per trial.
+    seine::budget::check_memory(512.0 * a.trials as f64, "--trials", a.grid.over_budget)?;
     let maps = match a.bias_map.as_slice() {
         [] => {
             if a.surveys.is_empty() {
@@ -86,6 +90,7 @@ pub fn run(a: Args) -> Result<()> {
                     "cluster-test: give --survey (to compute bias maps) or --bias-map",
                 ));
             }
+            a.grid.check_budget(catalog.len(), &grid, &budget)?;
             let surveys = load_surveys(&a.surveys, &mut prov)?;
             a.grid
                 .maps(&catalog, 0..catalog.len(), &surveys, a.run.seed, a.run.quiet)?

@@ -147,6 +147,24 @@ pub fn stop_flag() -> Result<std::sync::Arc<std::sync::atomic::AtomicBool>> {
     Ok(stop)
 }
 
+/// For a command that writes one file through a temporary (`draw`): on SIGINT or SIGTERM,
+/// remove the temporary of `out` and end with status 2, so that no hidden partial file stays.
+pub fn remove_temporary_on_signal(out: &std::path::Path) -> Result<()> {
+    use signal_hook::consts::{SIGINT, SIGTERM};
+    let mut signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM])
+        .map_err(|e| Error::io(format!("cannot install the interrupt handler: {e}")))?;
+    let tmp = seine::io::table::temporary_name(out);
+    let out = out.to_path_buf();
+    std::thread::spawn(move || {
+        if signals.forever().next().is_some() {
+            let _ = std::fs::remove_file(&tmp);
+            eprintln!("seine: interrupted; {} was not written", out.display());
+            std::process::exit(2);
+        }
+    });
+    Ok(())
+}
+
 /// `--format parquet|csv` of an output directory's tables.
 pub fn parse_format(s: &str) -> Result<seine::io::table::Format> {
     use seine::io::table::Format;

@@ -70,10 +70,10 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     let t0 = Instant::now();
-    println!("seine demo — an invented scenario: a synoptic survey from the invented site Sorrel Peak\n");
+    outln!("seine demo — an invented scenario: a synoptic survey from the invented site Sorrel Peak\n");
     let spec_path = plan_survey(&a.out)?;
     let survey = Survey::load(&spec_path)?;
-    println!(
+    outln!(
         "1. plan     {} visits on {} nights: {} (greedy scheduler, Sun below −15°, airmass ≤ 1.8)",
         survey.visits.len(),
         {
@@ -84,7 +84,7 @@ pub fn run(a: Args) -> Result<()> {
         survey.name
     );
     let objects = draw_population(&a.out)?;
-    println!(
+    outln!(
         "2. draw     {} objects of an invented isotropic scattered disk (seed {SEED})",
         objects.len()
     );
@@ -98,7 +98,7 @@ pub fn run(a: Args) -> Result<()> {
     };
     let report = observe(&prepared, &objects, &a.out.join("observe"), &opts, &provenance)?;
     let s = &report.summary;
-    println!(
+    outln!(
         "3. observe  {} discovered ({:.2}%), {} secured; {} in-field events, {:.2} candidates per event, {:.0} objects/s",
         s.n_detected,
         100.0 * s.detected_fraction,
@@ -111,18 +111,18 @@ pub fn run(a: Args) -> Result<()> {
     analyses(&a.out, &spec_path, &report.objects_path, &objects)?;
     compare_cadences(&a.out)?;
     let written = seine::report::report(&a.out)?;
-    println!(
+    outln!(
         "\n6. report   {} figures; open {}",
         written.figures.len(),
         written.index.display()
     );
-    println!(
+    outln!(
         "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, discoveries, summary.json), catalog.parquet, \
          detectability/ (each object's chance), selection/ (the population's selection function), bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
          index.html, figures/.",
         a.out.display()
     );
-    println!("done in {:.1} s", t0.elapsed().as_secs_f64());
+    outln!("done in {:.1} s", t0.elapsed().as_secs_f64());
     Ok(())
 }
 
@@ -132,7 +132,7 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable) -> 
     let clustered = draw_to(out, CLUSTERED, "clustered.parquet", N_OBJECTS)?;
     let (spec, cat, dir) = (path_str(spec), path_str(&catalog), |d: &str| path_str(&out.join(d)));
     let seed = SEED.to_string();
-    println!(
+    outln!(
         "\n4. analyses of the {CATALOG_MAX}-object catalogue of discoveries ({})",
         catalog.display()
     );
@@ -214,7 +214,7 @@ const CADENCES: [u32; 3] = [1, 3, 7];
 
 /// The same survey at three revisit intervals, through `seine yield` on the demo population.
 fn compare_cadences(out: &Path) -> Result<()> {
-    println!("\n5. cadence  the same survey revisiting every {CADENCES:?} nights (seine yield)");
+    outln!("\n5. cadence  the same survey revisiting every {CADENCES:?} nights (seine yield)");
     let dir = out.join("cadences");
     std::fs::create_dir_all(&dir).map_err(|e| seine::error::io_at(&dir, e))?;
     let mut args: Vec<String> = vec!["yield".into()];
@@ -317,10 +317,10 @@ fn print_fraction_by_q(s: &seine::engine::summary::Summary) {
     let Some(q) = s.bins.iter().find(|b| b.quantity == "q_au") else {
         return;
     };
-    println!("\n   q (AU)        objects  discovered  fraction");
+    outln!("\n   q (AU)        objects  discovered  fraction");
     for k in 0..q.n.len() {
         if q.n[k] > 0 {
-            println!(
+            outln!(
                 "   {:>5.0}–{:<5.0}   {:>8}  {:>10}  {:>7.2}%",
                 q.edges[k],
                 q.edges[k + 1],

@@ -35,6 +35,23 @@ pub struct Args {
     /// No summary on stderr.
     #[arg(long)]
     pub quiet: bool,
+    /// Draw more objects than one run's budget (configuration.md, "Budgets"): it is meant.
+    #[arg(long)]
+    pub over_budget: bool,
+}
+
+/// Bytes per object of the output, for the free-space check (Parquet ~120, CSV ~250).
+fn bytes_per_object(out: &std::path::Path) -> f64 {
+    match Format::of(out) {
+        Ok(Format::Csv) => 250.0,
+        _ => 120.0,
+    }
+}
+
+/// Refuse a draw past its budget or the free space of the output's file system.
+fn check_budget(a: &Args, objects: u64) -> Result<()> {
+    seine::budget::check(seine::budget::DRAW_OBJECTS, objects as f64, "--count", a.over_budget)?;
+    seine::budget::check_disk(&a.out, objects as f64 * bytes_per_object(&a.out))
 }
 
 pub fn run(a: Args) -> Result<()> {
@@ -51,11 +68,21 @@ pub fn run(a: Args) -> Result<()> {
 }
 
 fn run_in_pool(a: Args) -> Result<()> {
+    super::common::remove_temporary_on_signal(&a.out)?;
     let shard = a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64));
     let spec = Spec::read(&a.spec)?;
     let text = std::fs::read_to_string(&a.spec).unwrap_or_default();
     let mut prov = Provenance::current().with_seed(a.seed);
     prov.add_input(&a.spec)?;
+    let total = match &spec {
+        Spec::Draw(_) => a.count.unwrap_or(0),
+        Spec::Clone(_) => 0, // set below, once the particles are read
+    };
+    prov.shard = shard.map(|(index, count)| seine::io::provenance::ShardStamp {
+        index,
+        count,
+        total_rows: total,
+    });
     let started = Instant::now();
     let (objects, note) = match spec {
         Spec::Draw(pop) => draw(&a, &pop, shard, prov, &text)?,
@@ -80,7 +107,11 @@ fn draw(a: &Args, pop: &Population, shard: Option<(u64, u64)>, prov: Provenance,
     let count = a
         .count
         .ok_or_else(|| Error::input("--count: expected the number of objects to draw"))?;
+    if count == 0 {
+        return Err(Error::input("--count 0: expected at least 1 object"));
+    }
     let ids = shard_ids(count, shard);
+    check_budget(a, (ids.end - ids.start) as u64)?;
     let pilot = pop
         .pilot(a.seed)
         .map_err(|e| Error::input(format!("{}: {e}", a.spec.display())))?;
@@ -98,14 +129,24 @@ fn draw(a: &Args, pop: &Population, shard: Option<(u64, u64)>, prov: Provenance,
     ))
 }
 
-fn clone(a: &Args, cloner: &Cloner, shard: Option<(u64, u64)>, prov: Provenance, text: &str) -> Result<(u64, String)> {
+fn clone(
+    a: &Args,
+    cloner: &Cloner,
+    shard: Option<(u64, u64)>,
+    mut prov: Provenance,
+    text: &str,
+) -> Result<(u64, String)> {
     let total = cloner.count();
+    if let Some(stamp) = prov.shard.as_mut() {
+        stamp.total_rows = total;
+    }
     if let Some(c) = a.count.filter(|c| *c != total) {
         return Err(Error::input(format!(
             "--count {c}: an [import] spec makes particles × clones = {total} objects; omit --count"
         )));
     }
     let ids = shard_ids(total, shard);
+    check_budget(a, (ids.end - ids.start) as u64)?;
     let mut sink = TableSink::create(&a.out, prov)?.with_metadata("seine.population_spec", text);
     let mut start = ids.start;
     loop {

@@ -28,7 +28,7 @@ pub struct Args {
     #[arg(long)]
     pub out: PathBuf,
     /// Observatory site as LON_DEG,LAT_DEG[,ELEV_M] (east longitude, geodetic WGS84); default geocentre.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     pub site: Option<String>,
     /// Time scale of the epochs: utc, tai, tt or tdb.
     #[arg(long, default_value = "utc")]

@@ -70,6 +70,9 @@ pub struct Args {
     /// No progress bar and no conclusion on stderr.
     #[arg(long)]
     pub quiet: bool,
+    /// Draw more planets than one run's budget (configuration.md, "Budgets"): it is meant.
+    #[arg(long)]
+    pub over_budget: bool,
 }
 
 pub fn run(a: Args) -> Result<()> {
@@ -83,6 +86,7 @@ pub fn run(a: Args) -> Result<()> {
     let (tally, run, seconds, surveys) = if a.merge.is_empty() {
         compute(&a, &mut prov)?
     } else {
+        seine::engine::merge::refuse_output_among_inputs(&a.merge, &a.out)?;
         let (t, r, s) = hideout::merge(&a.merge, format)?;
         (t, r, s, Vec::new())
     };
@@ -109,6 +113,15 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
     if a.count == 0 {
         return Err(Error::input("--count 0: expected at least one prior draw"));
     }
+    if a.n_fields == 0 {
+        return Err(Error::input(
+            "--n-fields 0: expected at least 1 field in the ranked list",
+        ));
+    }
+    let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
+    let draws = seine::shard::shard_ids(a.count, shard.map(|(k, n)| (k as u64, n as u64)));
+    let n_draws = (draws.end - draws.start) as f64;
+    seine::budget::check(seine::budget::HIDEOUT_DRAWS, n_draws, "--count", a.over_budget)?;
     if !(0..=8).contains(&a.order) {
         return Err(Error::input(format!("--order {}: expected 0 to 8", a.order)));
     }

@@ -4,6 +4,29 @@ use clap::{Parser, Subcommand};
 
 use seine::Result;
 
+/// `println!` for the commands' standard output: a closed stdout (`seine demo | head -1`) is a
+/// normal end, not a panic (see `write_stdout`).
+macro_rules! outln {
+    ($($arg:tt)*) => { crate::seine_cli::write_stdout(format_args!("{}\n", format_args!($($arg)*))) };
+}
+
+/// `print!` with the same handling of a closed stdout.
+macro_rules! out {
+    ($($arg:tt)*) => { crate::seine_cli::write_stdout(format_args!($($arg)*)) };
+}
+
+/// Write to stdout; when the reader has gone (a closed pipe), end the process quietly with
+/// status 0 as command-line tools do. Output files are written under temporary names and
+/// renamed when complete, and text is printed between those writes, so none is left half-done.
+pub fn write_stdout(text: std::fmt::Arguments) {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    if out.write_fmt(text).and_then(|_| out.flush()).is_err() {
+        std::process::exit(0);
+    }
+}
+
+pub mod arguments;
 mod bias_map;
 mod cluster_test;
 mod common;

@@ -48,7 +48,7 @@ fn run_survey(spec: &Path, out: &Path) -> Result<()> {
         )));
     }
     let survey = Survey::load(spec)?;
-    let (cov, nights) = survey_coverage(&survey);
+    let (cov, nights) = survey_coverage(&survey)?;
     let paths = PlanOutputs::for_report(out);
     let mut prov = Provenance::current();
     prov.add_input(spec)?;

@@ -29,6 +29,6 @@ pub fn run(a: Args) -> Result<()> {
         a.file
     };
     let p = read_provenance(&file)?;
-    println!("{}", p.to_json());
+    outln!("{}", p.to_json());
     Ok(())
 }

@@ -16,6 +16,6 @@ pub fn run(a: Args) -> Result<()> {
     for s in &w.skipped {
         eprintln!("seine report: left out {}", s.describe());
     }
-    println!("seine report: {} ({} figures)", w.index.display(), w.figures.len());
+    outln!("seine report: {} ({} figures)", w.index.display(), w.figures.len());
     Ok(())
 }

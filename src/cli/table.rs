@@ -42,11 +42,11 @@ pub fn run(a: Args) -> Result<()> {
     }
     let rows = view.rows()?;
     if a.count {
-        println!("{}", rows.height());
+        outln!("{}", rows.height());
     } else if let Some(n) = a.head {
-        print!("{}", head_csv(&rows, n)?);
+        out!("{}", head_csv(&rows, n)?);
     } else {
-        println!("{}: {} rows, {} columns", a.file.display(), rows.height(), rows.width());
+        outln!("{}: {} rows, {} columns", a.file.display(), rows.height(), rows.width());
         let info = describe(&rows);
         let w = info.iter().map(|c| c.name.len()).max().unwrap_or(0);
         let t = info.iter().map(|c| c.dtype.len()).max().unwrap_or(0);
@@ -57,7 +57,7 @@ pub fn run(a: Args) -> Result<()> {
             } else {
                 String::new()
             };
-            println!("  {:w$}  {:t$}  {range}{empty}", c.name, c.dtype);
+            outln!("  {:w$}  {:t$}  {range}{empty}", c.name, c.dtype);
         }
     }
     Ok(())

@@ -257,7 +257,7 @@ pub fn read_summary(dir: &Path) -> Result<Summary> {
 /// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
 pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
     for s in surveys {
-        let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey);
+        let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey)?;
         let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
         write_atomic(&dir.join(name), format!("{}\n", cov.moc_json()).as_bytes())?;
     }
@@ -296,10 +296,33 @@ fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
 }
 
 /// Sum the tallies of shard directories (written in `format`) into one.
+/// Each shard exactly once and all present: k of n for k = 0..n−1 (or one whole run alone).
 pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> {
     let mut acc: Option<(Tally, RunInfo, f64)> = None;
+    let mut seen: Vec<(Option<(u64, u64)>, &PathBuf)> = Vec::new();
     for dir in dirs {
         let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;
+        let shard = run.shard.as_deref().and_then(|s| {
+            let (k, n) = s.split_once('/')?;
+            Some((k.trim().parse().ok()?, n.trim().parse().ok()?))
+        });
+        if let Some((_, first)) = seen.iter().find(|(s, _)| s.is_none() || shard.is_none() || *s == shard) {
+            return Err(Error::input(format!(
+                "--merge {}: the same shard as {} (or a whole run); expected each shard once",
+                dir.display(),
+                first.display()
+            )));
+        }
+        if let (Some((_, n0)), Some((_, n))) = (seen.first().and_then(|(s, _)| *s), shard)
+            && n != n0
+        {
+            return Err(Error::input(format!(
+                "--merge {}: a shard of {n}, while {} is a shard of {n0}; expected the shards of one run",
+                dir.display(),
+                dirs[0].display()
+            )));
+        }
+        seen.push((shard, dir));
         let mut t = tables::read_tally(dir, format.extension(), run.healpix_order, run.surveys.len())?;
         t.n_draws = n_draws;
         t.w_discovered_by = w_discovered_by;
@@ -320,6 +343,17 @@ pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> 
                 *secs += seconds;
             }
         }
+    }
+    let n = seen.first().and_then(|(s, _)| s.map(|(_, n)| n)).unwrap_or(1);
+    let missing: Vec<String> = (0..n)
+        .filter(|k| !seen.iter().any(|(s, _)| s.map(|(j, _)| j) == Some(*k)))
+        .map(|k| k.to_string())
+        .collect();
+    if n > 1 && !missing.is_empty() {
+        return Err(Error::input(format!(
+            "--merge: expected each of the {n} shards exactly once; missing: [{}]",
+            missing.join(", ")
+        )));
     }
     acc.ok_or_else(|| Error::input("--merge: expected at least one shard directory"))
 }

@@ -15,6 +15,7 @@ use polars::prelude::DataFrame;
 use super::table::{Columns, read_parquet_rows, read_table};
 use crate::error::{Error, Result};
 use crate::orbit::{Center, Elements};
+use crate::ranges::check_column;
 use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
 
 /// Objects with their elements and photometric properties, columns as vectors.
@@ -100,8 +101,14 @@ impl ObjectTable {
             }
         }
         let a = c.f64("a_au")?;
+        check_column(&c, "a_au", &a)?;
         let e = match (c.has("e"), c.has("q_au")) {
-            (true, _) => c.f64("e")?,
+            (true, true) => {
+                let e = c.f64("e")?;
+                check_consistent_q(&c, &a, &e)?;
+                e
+            }
+            (true, false) => c.f64("e")?,
             (false, true) => {
                 let q = c.f64("q_au")?;
                 for i in 0..n {
@@ -123,7 +130,9 @@ impl ObjectTable {
         let argperi = c.f64("argperi_deg")?;
         let mean_anomaly = c.f64("mean_anomaly_deg")?;
         let epoch = c.f64("epoch_mjd")?;
+        check_column(&c, "epoch_mjd", &epoch)?;
         let h_mag = c.f64("h_mag")?;
+        check_column(&c, "h_mag", &h_mag)?;
         let centers = if c.has("frame") {
             let s = c.str("frame")?;
             s.iter()
@@ -180,14 +189,20 @@ impl ObjectTable {
         };
         let mut colors = Vec::new();
         for band in c.with_prefix("color_") {
-            colors.push((band.clone(), c.f64(&format!("color_{band}"))?));
+            let name = format!("color_{band}");
+            let v = c.f64(&name)?;
+            check_column(&c, &name, &v)?;
+            colors.push((band.clone(), v));
         }
         let weight = c.f64_or("weight", 1.0)?;
         if let Some(i) = weight.iter().position(|w| !(*w >= 0.0)) {
             return Err(c.bad_value(i, "weight", &format!("a weight ≥ 0, found {}", weight[i])));
         }
         let lc_amp_mag = c.f64_or("lc_amp_mag", 0.0)?;
-        let lc_period_days: Vec<f64> = c.f64_or("lc_period_hr", 0.0)?.iter().map(|h| h / 24.0).collect();
+        check_column(&c, "lc_amp_mag", &lc_amp_mag)?;
+        let lc_period_hr = c.f64_or("lc_period_hr", 0.0)?;
+        check_column(&c, "lc_period_hr", &lc_period_hr)?;
+        let lc_period_days: Vec<f64> = lc_period_hr.iter().map(|h| h / 24.0).collect();
         Ok(ObjectTable {
             ids,
             elements,
@@ -202,6 +217,27 @@ impl ObjectTable {
             input_rows: n,
         })
     }
+}
+
+/// A table giving both `e` and `q_au` must have them agree with `a_au`: q = a (1 − e) to
+/// 1e-6 of q (rounding of a written table; plus the rounding of 1 − e, 1e-15 of a, for e
+/// near 1), else which one to believe is unknown.
+fn check_consistent_q(c: &Columns, a: &[f64], e: &[f64]) -> Result<()> {
+    let q = c.f64("q_au")?;
+    for i in 0..q.len() {
+        let implied = a[i] * (1.0 - e[i]);
+        if !((q[i] - implied).abs() <= 1e-6 * implied.abs() + 1e-15 * a[i].abs()) {
+            return Err(c.bad_value(
+                i,
+                "q_au",
+                &format!(
+                    "q_au = a_au (1 - e) = {implied} (a_au = {}, e = {}) to 1e-6 of it, found {}; give e or q_au, or make them agree",
+                    a[i], e[i], q[i]
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Rows per read when a Parquet objects table is checked before a run.

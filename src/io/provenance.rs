@@ -16,6 +16,18 @@ pub struct Provenance {
     pub command_line: Vec<String>,
     pub inputs: Vec<InputHash>,
     pub seed: Option<u64>,
+    /// For one shard of a table written in shards (`draw --shard K/N`): which one, so that a
+    /// merge can check it has each shard of one run exactly once.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub shard: Option<ShardStamp>,
+}
+
+/// Shard `index` of `count`, of a table of `total_rows` rows in all.
+#[derive(Debug, Clone, Copy, Serialize, Deserialize, PartialEq, Eq)]
+pub struct ShardStamp {
+    pub index: u64,
+    pub count: u64,
+    pub total_rows: u64,
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
@@ -35,6 +47,7 @@ impl Provenance {
             command_line: std::env::args().collect(),
             inputs: Vec::new(),
             seed: None,
+            shard: None,
         }
     }
 

@@ -53,6 +53,9 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
     if !path.exists() {
         return Err(Error::input(format!("{}: no such file", path.display())));
     }
+    if format == Format::Csv {
+        check_csv_header(path)?;
+    }
     let df = match format {
         Format::Csv => CsvReadOptions::default()
             .with_has_header(true)
@@ -64,19 +67,74 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
             ParquetReader::new(f).finish()
         }
     };
-    df.map_err(|e| {
+    df.map_err(|e| unreadable(path, format, &e))
+}
+
+/// The reader's error as one sentence: its first line, and for CSV the row where it stopped
+/// (the reader gives a byte offset, the row is counted here).
+fn unreadable(path: &Path, format: Format, e: &PolarsError) -> Error {
+    let text = e.to_string();
+    let first = text
+        .lines()
+        .map(str::trim)
+        .find(|l| !l.is_empty())
+        .unwrap_or("")
+        .to_string();
+    let row = (format == Format::Csv)
+        .then(|| csv_row_of_offset(path, &text))
+        .flatten()
+        .map_or(String::new(), |r| format!(" row {r}"));
+    Error::input(format!(
+        "{}{row}: not a readable {} table: {first}",
+        path.display(),
+        format.extension()
+    ))
+}
+
+/// The data row (counted from 1 after the header) at the byte offset a CSV error names, if any.
+fn csv_row_of_offset(path: &Path, message: &str) -> Option<usize> {
+    let after = message.split("offset in the file is ").nth(1)?;
+    let offset: usize = after.split_whitespace().next()?.parse().ok()?;
+    let bytes = std::fs::read(path).ok()?;
+    let upto = &bytes[..offset.min(bytes.len())];
+    Some(upto.iter().filter(|b| **b == b'\n').count())
+}
+
+/// A CSV header must be UTF-8 with unique column names: the reader would otherwise replace
+/// an invalid byte (so that a known column goes unrecognised and its default is used) or
+/// rename a duplicate (so that one of two columns is silently used).
+fn check_csv_header(path: &Path) -> Result<()> {
+    use std::io::{BufRead, BufReader, Read};
+    let f = File::open(path).map_err(|e| Error::input(format!("{}: cannot open the table: {e}", path.display())))?;
+    let mut line = Vec::new();
+    BufReader::new(f)
+        .take(1 << 20)
+        .read_until(b'\n', &mut line)
+        .map_err(|e| io_at(path, e))?;
+    let header = std::str::from_utf8(&line).map_err(|e| {
         Error::input(format!(
-            "{}: not a readable {} table: {e}",
+            "{}: the header line: expected UTF-8 text, found an invalid byte at byte {}",
             path.display(),
-            format.extension()
+            e.valid_up_to() + 1
         ))
-    })
+    })?;
+    let mut seen = std::collections::HashSet::new();
+    for name in header.trim_end_matches(['\n', '\r']).split(',') {
+        let name = name.trim().trim_matches('"');
+        if !seen.insert(name) {
+            return Err(Error::input(format!(
+                "{}: the header line: column `{name}` appears twice; expected unique column names",
+                path.display()
+            )));
+        }
+    }
+    Ok(())
 }
 
 /// Rows `[lo, hi)` of a Parquet table (only those are read), and the table's total row count.
 /// `range` maps the total to the wanted rows (e.g. a shard's slice).
 pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -> Result<(DataFrame, usize, usize)> {
-    let bad = |e: PolarsError| Error::input(format!("{}: not a readable parquet table: {e}", path.display()));
+    let bad = |e: PolarsError| unreadable(path, Format::Parquet, &e);
     if path.is_dir() {
         return Err(Error::input(format!(
             "{}: is a directory, expected a table file",

@@ -209,6 +209,9 @@ fn checked(path: &Path, key: &str, d: Option<Distribution>) -> Result<Option<Dis
     if let Some(p) = d.as_ref().and_then(Distribution::problem) {
         return Err(key_error(path, key, p));
     }
+    if let Some(Err(p)) = d.as_ref().map(|d| crate::ranges::check_support(key, d.support())) {
+        return Err(key_error(path, key, p));
+    }
     // The angular forms take and return degrees: on any other key they would be a unit error.
     let angular = matches!(
         d,
@@ -254,13 +257,14 @@ impl SpecFile {
                 "missing: expected a [population] table with epoch_mjd",
             )
         })?;
-        let epoch_mjd = pop.epoch_mjd.filter(|x| x.is_finite()).ok_or_else(|| {
+        let epoch_mjd = pop.epoch_mjd.ok_or_else(|| {
             key_error(
                 path,
                 "population.epoch_mjd",
                 "missing: expected the epoch of the elements as a TDB MJD",
             )
         })?;
+        crate::ranges::check_key(&path.display().to_string(), "population.epoch_mjd", epoch_mjd)?;
         let orbit = self
             .orbit
             .ok_or_else(|| key_error(path, "orbit", "missing: expected an [orbit] table"))?;

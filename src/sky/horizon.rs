@@ -20,6 +20,7 @@ use nalgebra::{Matrix3, Vector3};
 
 use super::earth::EarthSun;
 use super::observer::{Site, earth_rotation_angle};
+use crate::error::Result;
 use crate::orbit::constants::{ARCSEC, C_AU_PER_DAY, DEG};
 use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
 
@@ -87,22 +88,23 @@ pub struct LocalSky {
 }
 
 impl LocalSky {
-    /// `earth` must be the Earth and Sun at the TDB of `utc_mjd`.
-    pub fn new(site: &Site, utc_mjd: f64, earth: &EarthSun) -> Self {
-        let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc).unwrap_or(utc_mjd);
+    /// `earth` must be the Earth and Sun at the TDB of `utc_mjd`. Fails for a UTC epoch the
+    /// leap-second table does not cover (before 1972).
+    pub fn new(site: &Site, utc_mjd: f64, earth: &EarthSun) -> Result<Self> {
+        let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
         let last = gmst_rad(utc_mjd, tt) + site.longitude_deg * DEG;
         let to_local = rot_z(last) * precession_matrix(tt);
         let lat = site.latitude_deg * DEG;
         let (site_pos, site_vel) = site.geocentric(utc_mjd);
         let sun = -earth.earth_helio - site_pos;
-        LocalSky {
+        Ok(LocalSky {
             to_local,
             sin_lat: lat.sin(),
             cos_lat: lat.cos(),
             beta: (earth.earth_bary_vel() + site_vel) / C_AU_PER_DAY,
             sun_dir: sun.normalize(),
             site_geo: site_pos,
-        }
+        })
     }
 
     /// Observed altitude (radians, no refraction) of an ICRS unit vector.
@@ -123,9 +125,9 @@ impl LocalSky {
 }
 
 /// The Sun's altitude (radians) at a site and UTC MJD, with an exact Earth ephemeris.
-pub fn sun_altitude(site: &Site, utc_mjd: f64) -> f64 {
-    let tdb = to_tdb_mjd(utc_mjd, TimeScale::Utc).unwrap_or(utc_mjd);
-    LocalSky::new(site, utc_mjd, &super::earth::earth_sun_exact(tdb)).sun_altitude()
+pub fn sun_altitude(site: &Site, utc_mjd: f64) -> Result<f64> {
+    let tdb = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
+    Ok(LocalSky::new(site, utc_mjd, &super::earth::earth_sun_exact(tdb))?.sun_altitude())
 }
 
 /// UTC MJD of local mean noon that starts night `night` (the DESIGN.md night numbering).
@@ -136,36 +138,44 @@ pub fn night_start_utc(site: &Site, night: i64) -> f64 {
 /// The dark interval of a night: (evening, morning) UTC MJDs at which the Sun crosses
 /// `sun_alt_deg` around its lowest point, `None` if the Sun never gets that low that night,
 /// and the noon-to-noon bounds where it stays below (polar night). `sun_at` gives the Sun's
-/// altitude in radians at a UTC MJD.
-pub fn dark_interval(site: &Site, night: i64, sun_alt_deg: f64, sun_at: impl Fn(f64) -> f64) -> Option<(f64, f64)> {
+/// altitude in radians at a UTC MJD (and fails outside the epochs it serves).
+pub fn dark_interval(
+    site: &Site,
+    night: i64,
+    sun_alt_deg: f64,
+    sun_at: impl Fn(f64) -> Result<f64>,
+) -> Result<Option<(f64, f64)>> {
     let noon = night_start_utc(site, night);
     let limit = sun_alt_deg * DEG;
-    let f = |t: f64| sun_at(t) - limit;
+    let f = |t: f64| sun_at(t).map(|alt| alt - limit);
     // The Sun's altitude has one minimum per day, near local midnight; sample to bracket it.
-    let samples: Vec<(f64, f64)> = (0..=48).map(|i| noon + i as f64 / 48.0).map(|t| (t, f(t))).collect();
+    let samples: Vec<(f64, f64)> = (0..=48)
+        .map(|i| noon + i as f64 / 48.0)
+        .map(|t| f(t).map(|v| (t, v)))
+        .collect::<Result<_>>()?;
     let imin = (0..samples.len())
         .min_by(|&a, &b| samples[a].1.total_cmp(&samples[b].1))
         .unwrap_or(0);
     if samples[imin].1 >= 0.0 {
-        return None;
+        return Ok(None);
     }
     // Walk out from the darkest sample to the first samples above the limit; bisect there, or
     // keep the noon-to-noon bound when the Sun stays below the limit (polar night).
     let lo = (0..imin).rev().find(|&i| samples[i].1 >= 0.0);
     let hi = (imin + 1..samples.len()).find(|&i| samples[i].1 >= 0.0);
-    let dusk = lo.map_or(noon, |i| bisect(&f, samples[i].0, samples[i + 1].0));
-    let dawn = hi.map_or(noon + 1.0, |i| bisect(&f, samples[i - 1].0, samples[i].0));
-    Some((dusk, dawn))
+    let dusk = lo.map_or(Ok(noon), |i| bisect(&f, samples[i].0, samples[i + 1].0))?;
+    let dawn = hi.map_or(Ok(noon + 1.0), |i| bisect(&f, samples[i - 1].0, samples[i].0))?;
+    Ok(Some((dusk, dawn)))
 }
 
 /// Root of f between a and b (f(a), f(b) of opposite sign), to 1e-7 day (< 0.01 s).
-fn bisect(f: &impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
-    let fa0 = f(a);
+fn bisect(f: &impl Fn(f64) -> Result<f64>, mut a: f64, mut b: f64) -> Result<f64> {
+    let fa0 = f(a)?;
     while b - a > 1e-7 {
         let m = 0.5 * (a + b);
-        if (f(m) > 0.0) == (fa0 > 0.0) { a = m } else { b = m }
+        if (f(m)? > 0.0) == (fa0 > 0.0) { a = m } else { b = m }
     }
-    0.5 * (a + b)
+    Ok(0.5 * (a + b))
 }
 
 #[cfg(test)]
@@ -181,8 +191,8 @@ mod tests {
             elevation_m: 0.0,
         };
         let at = |t: f64| sun_altitude(&site, t);
-        assert_eq!(dark_interval(&site, 61577, -12.0, at), None); // 2027-06-21
-        let (a, b) = dark_interval(&site, 61760, -12.0, at).unwrap(); // 2027-12-21
+        assert_eq!(dark_interval(&site, 61577, -12.0, at).unwrap(), None); // 2027-06-21
+        let (a, b) = dark_interval(&site, 61760, -12.0, at).unwrap().unwrap(); // 2027-12-21
         assert!((b - a - 1.0).abs() < 1e-9);
     }
 

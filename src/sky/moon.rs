@@ -14,6 +14,7 @@
 use nalgebra::Vector3;
 
 use super::horizon::precession_matrix;
+use crate::error::Result;
 use crate::orbit::constants::{AU_KM, DEG};
 use crate::sky::frames::{separation, unit_vector};
 use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
@@ -82,15 +83,16 @@ pub struct MoonView {
 }
 
 /// `site_geo_au`: the site's geocentric ICRS position; `sun_dir`: topocentric Sun direction.
-pub fn moon_view(utc_mjd: f64, site_geo_au: &Vector3<f64>, sun_dir: &Vector3<f64>) -> MoonView {
-    let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc).unwrap_or(utc_mjd);
+/// Fails for a UTC epoch the leap-second table does not cover (before 1972).
+pub fn moon_view(utc_mjd: f64, site_geo_au: &Vector3<f64>, sun_dir: &Vector3<f64>) -> Result<MoonView> {
+    let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
     let topo = moon_geocentric_icrs(tt) - site_geo_au;
     let dir = topo.normalize();
     // The Sun is 390 times farther: the phase angle is 180° minus the Sun–Moon elongation (to 0.15°).
-    MoonView {
+    Ok(MoonView {
         dir,
         phase_deg: 180.0 - separation(&dir, sun_dir) / DEG,
-    }
+    })
 }
 
 #[cfg(test)]

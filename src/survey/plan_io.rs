@@ -151,7 +151,7 @@ pub fn write_coverage(
 
 /// The coverage of an existing survey's visits, with its nights (dark time for Sun below
 /// −18° when the spec has a site; time used = the sum of exposure times).
-pub fn survey_coverage(s: &Survey) -> (Coverage, Vec<NightLog>) {
+pub fn survey_coverage(s: &Survey) -> Result<(Coverage, Vec<NightLog>)> {
     let v = &s.visits;
     let pointings: Vec<Pointing> = (0..v.len())
         .map(|i| Pointing {
@@ -177,28 +177,31 @@ pub fn survey_coverage(s: &Survey) -> (Coverage, Vec<NightLog>) {
         .first()
         .zip(v.tdb_mjd.last())
         .map(|(lo, hi)| EphemerisGrid::covering(lo - 2.0, hi + 2.0));
-    let sun_altitude = |site, utc: f64| {
-        let tdb = to_tdb_mjd(utc, TimeScale::Utc).unwrap_or(utc);
-        let earth = grid.as_ref().expect("a night has visits").at(tdb);
-        LocalSky::new(site, utc, &earth).sun_altitude()
+    let sun_altitude = |site, utc: f64| -> Result<f64> {
+        let tdb = to_tdb_mjd(utc, TimeScale::Utc)?;
+        // `at` evaluates directly outside the grid; no grid means no visits, hence no night.
+        let earth = grid
+            .as_ref()
+            .map_or_else(|| crate::sky::earth::earth_sun_exact(tdb), |g| g.at(tdb));
+        Ok(LocalSky::new(site, utc, &earth)?.sun_altitude())
     };
     let nights = by_night
         .into_iter()
         .map(|(night, (n, hours))| {
-            let dark = s
-                .site
-                .as_ref()
-                .and_then(|site| dark_interval(site, night, -18.0, |t| sun_altitude(site, t)));
-            NightLog {
+            let dark = match s.site.as_ref() {
+                Some(site) => dark_interval(site, night, -18.0, |t| sun_altitude(site, t))?,
+                None => None,
+            };
+            Ok(NightLog {
                 night,
                 status: "observed".into(),
                 dark_hours: dark.map_or(f64::NAN, |(a, b)| (b - a) * 24.0),
                 used_hours: hours,
                 n_visits: n,
-            }
+            })
         })
-        .collect();
-    (coverage(&s.footprint, &pointings), nights)
+        .collect::<Result<_>>()?;
+    Ok((coverage(&s.footprint, &pointings), nights))
 }
 
 /// Visits at the same centre (to 1″) count as one field.

@@ -418,8 +418,9 @@ struct Scheduler<'a> {
 }
 
 impl Scheduler<'_> {
-    fn sky(&self, utc: f64) -> LocalSky {
-        let tdb = to_tdb_mjd(utc, TimeScale::Utc).unwrap_or(utc);
+    /// The local sky at a UTC epoch (the plan's first night was checked to be one UTC serves).
+    fn sky(&self, utc: f64) -> Result<LocalSky> {
+        let tdb = to_tdb_mjd(utc, TimeScale::Utc)?;
         LocalSky::new(&self.file.site, utc, &self.grid.at(tdb))
     }
 
@@ -428,23 +429,23 @@ impl Scheduler<'_> {
     }
 
     /// Fields of the region this night (opposition mode: within the half width of the anti-solar longitude).
-    fn in_region(&self, midnight: f64) -> Vec<usize> {
+    fn in_region(&self, midnight: f64) -> Result<Vec<usize>> {
         let r = &self.file.region;
         let Some(w) = r.opposition_half_width_deg.filter(|_| r.mode == "opposition") else {
-            return (0..self.fields.len()).collect();
+            return Ok((0..self.fields.len()).collect());
         };
-        let anti = lon_lat(&icrs_to_ecliptic(&(-self.sky(midnight).sun_dir))).0;
+        let anti = lon_lat(&icrs_to_ecliptic(&(-self.sky(midnight)?.sun_dir))).0;
         let d = |lon: f64| {
             ((lon - anti + std::f64::consts::PI).rem_euclid(std::f64::consts::TAU) - std::f64::consts::PI).abs()
         };
-        (0..self.fields.len())
+        Ok((0..self.fields.len())
             .filter(|&i| d(self.fields[i].ecl_lon) <= w * DEG)
-            .collect()
+            .collect())
     }
 
     /// Choose up to `g` fields observable at both `t0` and `t1`, by fewest nights then lowest airmass.
-    fn choose(&self, cands: &[usize], t0: f64, t1: f64, g: usize, night: i64) -> Vec<usize> {
-        let (s0, s1) = (self.sky(t0), self.sky(t1));
+    fn choose(&self, cands: &[usize], t0: f64, t1: f64, g: usize, night: i64) -> Result<Vec<usize>> {
+        let (s0, s1) = (self.sky(t0)?, self.sky(t1)?);
         let p = &self.file.plan;
         let mut ok: Vec<(usize, usize, f64)> = cands
             .iter()
@@ -455,24 +456,24 @@ impl Scheduler<'_> {
             })
             .collect();
         ok.sort_by(|a, b| a.1.cmp(&b.1).then(a.2.total_cmp(&b.2)).then(a.0.cmp(&b.0)));
-        ok.into_iter().take(g).map(|c| c.0).collect()
+        Ok(ok.into_iter().take(g).map(|c| c.0).collect())
     }
 
     /// Add a visit of field `i` starting at `start` if every limit holds at start, middle and end.
-    fn try_visit(&mut self, i: usize, start: f64) -> bool {
+    fn try_visit(&mut self, i: usize, start: f64) -> Result<bool> {
         let p = &self.file.plan;
         let exp = p.exposure_s / 86400.0;
         let f = &self.fields[i];
         let checks: Vec<(bool, f64, f64, f64)> = [start, start + 0.5 * exp, start + exp]
             .iter()
-            .map(|&t| limits_at(&self.sky(t), f, p))
-            .collect();
+            .map(|&t| Ok(limits_at(&self.sky(t)?, f, p)))
+            .collect::<Result<_>>()?;
         if !checks.iter().all(|c| c.0) {
-            return false;
+            return Ok(false);
         }
         let (_, x, sun, elong) = checks[1];
-        let Some(moon_mag) = self.moon_penalty(i, start + 0.5 * exp) else {
-            return false;
+        let Some(moon_mag) = self.moon_penalty(i, start + 0.5 * exp)? else {
+            return Ok(false);
         };
         let o = &mut self.out;
         o.mjd.push(start + 0.5 * exp);
@@ -487,24 +488,24 @@ impl Scheduler<'_> {
         o.airmass.push(x);
         o.sun_alt_deg.push(sun);
         o.solar_elongation_deg.push(elong);
-        true
+        Ok(true)
     }
 
     /// The Moon's depth penalty (mag) for field `i` at `t`, or `None` if the field is too near the Moon.
-    fn moon_penalty(&self, i: usize, t: f64) -> Option<f64> {
+    fn moon_penalty(&self, i: usize, t: f64) -> Result<Option<f64>> {
         let d = &self.file.depth;
         if !d.moon && d.min_moon_separation_deg <= 0.0 {
-            return Some(0.0);
+            return Ok(Some(0.0));
         }
-        let sky = self.sky(t);
+        let sky = self.sky(t)?;
         let f = &self.fields[i];
-        let moon = moon_view(t, &sky.site_geo, &sky.sun_dir);
+        let moon = moon_view(t, &sky.site_geo, &sky.sun_dir)?;
         let rho = crate::sky::frames::separation(&moon.dir, &f.dir) / DEG;
         if rho < d.min_moon_separation_deg {
-            return None;
+            return Ok(None);
         }
         if !d.moon {
-            return Some(0.0);
+            return Ok(Some(0.0));
         }
         let z = |dir: &Vector3<f64>| 90.0 - sky.altitude(dir) / DEG;
         let b = moon_sky_nl(
@@ -515,11 +516,11 @@ impl Scheduler<'_> {
             d.extinction_mag_per_airmass,
         );
         let b0 = nl_from_mag_arcsec2(d.dark_sky_mag_arcsec2);
-        Some(1.25 * ((b0 + b) / b0).log10())
+        Ok(Some(1.25 * ((b0 + b) / b0).log10()))
     }
 
     /// Fill one night's dark time with blocks; returns the number of visits.
-    fn night(&mut self, night: i64, dusk: f64, dawn: f64) -> usize {
+    fn night(&mut self, night: i64, dusk: f64, dawn: f64) -> Result<usize> {
         let slot = self.slot_days();
         let passes = self.file.revisit.visits_per_night;
         let g_full = if passes > 1 {
@@ -527,7 +528,7 @@ impl Scheduler<'_> {
         } else {
             ((30.0 / 1440.0 / slot).floor() as usize).max(1) // single visits: half-hour batches
         };
-        let cands = self.in_region(0.5 * (dusk + dawn));
+        let cands = self.in_region(0.5 * (dusk + dawn))?;
         let before = self.out.mjd.len();
         let mut t = dusk;
         while t + slot <= dawn {
@@ -543,7 +544,7 @@ impl Scheduler<'_> {
                 block_end - slot + self.file.plan.exposure_s / 86400.0,
                 g,
                 night,
-            );
+            )?;
             if chosen.is_empty() {
                 t += slot.max(5.0 / 1440.0); // nothing up: wait a few minutes
                 continue;
@@ -551,7 +552,7 @@ impl Scheduler<'_> {
             for pass in 0..passes {
                 for (k, &i) in chosen.iter().enumerate() {
                     let start = t + (pass * g + k) as f64 * slot;
-                    if self.try_visit(i, start) && self.last_night[i] != night {
+                    if self.try_visit(i, start)? && self.last_night[i] != night {
                         self.last_night[i] = night;
                         self.nights_seen[i] += 1;
                     }
@@ -559,7 +560,7 @@ impl Scheduler<'_> {
             }
             t = block_end;
         }
-        self.out.mjd.len() - before
+        Ok(self.out.mjd.len() - before)
     }
 }
 
@@ -593,7 +594,7 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
     let mut nights = Vec::new();
     let bar = crate::progress::bar((last - first + 1) as u64, "nights", progress);
     for night in first..=last {
-        nights.push(plan_night(&mut s, night));
+        nights.push(plan_night(&mut s, night)?);
         if let Some(b) = &bar {
             b.inc(1);
         }
@@ -611,7 +612,7 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
     })
 }
 
-fn plan_night(s: &mut Scheduler, night: i64) -> NightLog {
+fn plan_night(s: &mut Scheduler, night: i64) -> Result<NightLog> {
     let mut log = NightLog {
         night,
         status: "observed".into(),
@@ -620,10 +621,10 @@ fn plan_night(s: &mut Scheduler, night: i64) -> NightLog {
         n_visits: 0,
     };
     let limit = s.file.plan.sun_alt_max_deg;
-    let dark = dark_interval(&s.file.site, night, limit, |t| s.sky(t).sun_altitude());
+    let dark = dark_interval(&s.file.site, night, limit, |t| Ok(s.sky(t)?.sun_altitude()))?;
     let Some((dusk, dawn)) = dark else {
         log.status = "no-dark-time".into();
-        return log;
+        return Ok(log);
     };
     log.dark_hours = (dawn - dusk) * 24.0;
     if !s.file.wants_night(night) {
@@ -631,13 +632,13 @@ fn plan_night(s: &mut Scheduler, night: i64) -> NightLog {
     } else if s.file.weather_lost(night) {
         log.status = "weather".into();
     } else {
-        log.n_visits = s.night(night, dusk, dawn);
+        log.n_visits = s.night(night, dusk, dawn)?;
         log.used_hours = log.n_visits as f64 * s.slot_days() * 24.0;
         if log.n_visits == 0 {
             log.status = "no-field".into();
         }
     }
-    log
+    Ok(log)
 }
 
 /// The survey spec that goes with a plan's visits (TOML text).

@@ -14,6 +14,7 @@ use nalgebra::Vector3;
 
 use crate::error::{Error, Result};
 use crate::io::table::{Columns, read_table};
+use crate::ranges::check_column;
 use crate::sky::frames::unit_vector;
 use crate::sky::observer::Site;
 use crate::time::{TimeScale, to_tdb_mjd, to_utc_mjd};
@@ -73,14 +74,6 @@ fn intern(values: &[String], path: &Path, name: &str) -> Result<(Vec<u16>, Vec<S
     Ok((codes, names))
 }
 
-/// Refuse the first row whose value fails `ok`.
-fn check(cols: &Columns, name: &str, v: &[f64], ok: impl Fn(f64) -> bool, expected: &str) -> Result<()> {
-    match v.iter().position(|&x| !ok(x)) {
-        Some(i) => Err(cols.bad_value(i, name, &format!("{expected}, found {}", v[i]))),
-        None => Ok(()),
-    }
-}
-
 impl Visits {
     pub fn len(&self) -> usize {
         self.mjd.len()
@@ -105,27 +98,9 @@ impl Visits {
         let dec = cols.f64("dec_deg")?;
         let band = cols.str("band")?;
         let depth = cols.f64("depth_mag")?;
-        check(
-            &cols,
-            "ra_deg",
-            &ra,
-            |x| (0.0..360.0).contains(&x),
-            "a right ascension in [0, 360)",
-        )?;
-        check(
-            &cols,
-            "dec_deg",
-            &dec,
-            |x| (-90.0..=90.0).contains(&x),
-            "a declination in [-90, 90]",
-        )?;
-        check(
-            &cols,
-            "depth_mag",
-            &depth,
-            |x| (0.0..=40.0).contains(&x),
-            "a depth in [0, 40] mag",
-        )?;
+        for (name, v) in [("mjd", &mjd), ("ra_deg", &ra), ("dec_deg", &dec), ("depth_mag", &depth)] {
+            check_column(&cols, name, v)?;
+        }
         let visit_id = if cols.has("visit_id") {
             cols.i64("visit_id")?
         } else {
@@ -138,32 +113,18 @@ impl Visits {
             Some(d) => d,
             None => depth.clone(),
         };
-        check(
-            &cols,
-            "depth_5sigma_mag",
-            &depth5,
-            |x| (0.0..=40.0).contains(&x),
-            "a depth in [0, 40] mag",
-        )?;
         let dither_x = cols.f64_or("dither_x_deg", 0.0)?;
         let dither_y = cols.f64_or("dither_y_deg", 0.0)?;
-        for (name, v) in [("dither_x_deg", &dither_x), ("dither_y_deg", &dither_y)] {
-            check(
-                &cols,
-                name,
-                v,
-                |x| x.abs() < 60.0,
-                "a focal-plane offset within ±60 degrees",
-            )?;
+        for (name, v) in [
+            ("rotation_deg", &rotation),
+            ("exposure_s", &exposure),
+            ("seeing_arcsec", &seeing),
+            ("depth_5sigma_mag", &depth5),
+            ("dither_x_deg", &dither_x),
+            ("dither_y_deg", &dither_y),
+        ] {
+            check_column(&cols, name, v)?;
         }
-        check(&cols, "exposure_s", &exposure, |x| x >= 0.0, "an exposure ≥ 0 s")?;
-        check(
-            &cols,
-            "seeing_arcsec",
-            &seeing,
-            |x| x > 0.0 && x < 100.0,
-            "a seeing FWHM in (0, 100) arcsec",
-        )?;
         if cols.has("block") && !cols.has("efficiency_class") {
             return Err(Error::input(format!(
                 "{}: column `block` was renamed `efficiency_class`",
