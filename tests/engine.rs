@@ -194,6 +194,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
             "fast",
             "[motion]\nmin_rate_arcsec_per_hr = 1.5\nmax_rate_arcsec_per_hr = 500.0\n",
         ),
+        // Per tracklet, and a table that is not monotone in magnitude (the bound on p must
+        // hold for both).
+        (
+            "tracklet",
+            "[efficiency]\nmodel = \"tanh-product\"\npeak = 0.9\nfall_width_mag = 0.15\ntail_width_mag = 0.45\nper = \"tracklet\"\n",
+        ),
+        (
+            "table",
+            "[efficiency]\nmodel = \"table\"\ndm = [-3.0, -1.0, 0.0, 0.5, 1.5]\nrates = [0.0, 10.0]\neta = [[0.5, 0.4], [0.9, 0.8], [0.4, 0.3], [0.6, 0.2], [0.0, 0.0]]\n",
+        ),
     ]
     .iter()
     .map(|(name, extra)| {
@@ -234,6 +244,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
                 discovery_of(&all[i], s),
                 discovery_of(&until_secured[i], s),
                 "object {i} survey {s}"
+            );
+            // The bound on the detection probability bounds every visit's (what lets the
+            // stop rules skip a survey whose efficiency draws all lie above it).
+            let bound = ps.reach.p_bound(&objects, i, &orbit);
+            assert!(
+                all[i]
+                    .events
+                    .iter()
+                    .all(|e| e.survey as usize != s || e.p_detect <= bound),
+                "object {i} survey {s}: bound {bound}"
             );
             if !ps.reach.could_detect(&objects, i, &orbit) {
                 skipped[s] += 1;

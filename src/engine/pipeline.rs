@@ -28,8 +28,10 @@ pub enum Record {
     Everything,
     /// Each survey only until its verdict is settled: up to the detection that makes the
     /// object secured (or to the end, if it never is), and not at all where `reach` proves
-    /// the survey cannot detect the object. `discovered`, `secured` and the discovery are
-    /// exact; the counts cover only the events worked out.
+    /// the survey cannot detect the object or where no candidate's efficiency draw is below
+    /// its bound on the detection probability (`never_detects`). `discovered`, `secured` and
+    /// the discovery are exact; the counts cover only the events worked out, and the events
+    /// carry no measurement (`Event::measured` is the default).
     UntilSecured,
     /// As `UntilSecured`, but each survey stops at the discovery: `secured` is not worked
     /// out (false). For analyses that need only who discovered what, and when.
@@ -54,9 +56,12 @@ pub fn observe_object(
     for (s, ps) in surveys.iter().enumerate() {
         // Every survey takes its key, skipped or not, so that the keys stay in survey order.
         let key = rng.next_u64();
-        if record != Record::Everything && !ps.reach.could_detect(objects, i, &orbit) {
-            out.surveys.push(SurveyOutcome::default());
-            continue;
+        if record != Record::Everything {
+            let p_max = ps.reach.p_bound(objects, i, &orbit);
+            if p_max == 0.0 || never_detects(ps, &orbit, mode, key, p_max, scratch) {
+                out.surveys.push(SurveyOutcome::default());
+                continue;
+            }
         }
         let mut draws = substream(key);
         let mut walk = ps.walk(&orbit, mode);
@@ -75,9 +80,12 @@ pub fn observe_object(
                 };
                 let u = (draws.random::<f64>(), draws.random::<f64>());
                 ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
-                ev.measured = ps
-                    .survey
-                    .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
+                if record == Record::Everything {
+                    // What a detection measures is for the output tables only.
+                    ev.measured = ps
+                        .survey
+                        .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
+                }
                 out.events.push(ev);
                 if ev.detected {
                     dets.push(detection(ps, &ev));
@@ -90,6 +98,32 @@ pub fn observe_object(
         out.surveys.push(link_survey(ps, &dets, &out.events[first..], first));
     }
     out
+}
+
+/// Whether the survey provably detects nothing of the object, without a single exact
+/// position: every candidate's efficiency draw (the second of its pair in the survey's stream,
+/// `key`) is at least `p_max`, the bound on its detection probability (`reach::p_bound`).
+/// The candidates hold every in-field event and the k-th in-field event takes the k-th pair,
+/// so no event then passes the efficiency test. Stops at the first draw below the bound.
+fn never_detects(
+    ps: &PreparedSurvey,
+    orbit: &Orbit,
+    mode: Candidates,
+    key: u64,
+    p_max: f64,
+    scratch: &mut Vec<usize>,
+) -> bool {
+    let mut draws = substream(key);
+    let mut walk = ps.walk(orbit, mode);
+    while walk.next_block(scratch) {
+        for _ in 0..scratch.len() {
+            let _live: f64 = draws.random();
+            if draws.random::<f64>() < p_max {
+                return false;
+            }
+        }
+    }
+    true
 }
 
 /// The exact test of one candidate visit; an event when the object is in the footprint.
