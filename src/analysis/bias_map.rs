@@ -17,7 +17,7 @@ use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
 use super::trials::{TrialObject, angle_stream, trial_id};
-use crate::engine::{PreparedSurvey, Record};
+use crate::engine::{PreparedSurvey, StopRule};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
 
@@ -314,7 +314,7 @@ fn one_map(
                     let (el, x) = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
                     // Only whether the trial was discovered counts in a map.
                     let found = obj
-                        .observe(el, surveys, (seed, tid), Record::UntilDiscovery, scratch)
+                        .observe(el, surveys, (seed, tid), StopRule::UntilDiscovery, scratch)
                         .discovered();
                     found.then_some((x, el.node))
                 },

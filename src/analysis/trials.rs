@@ -9,7 +9,7 @@
 
 use rand_pcg::Pcg64;
 
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
 use crate::rng::{Purpose, object_stream};
@@ -61,7 +61,7 @@ impl TrialObject {
         el: Elements,
         surveys: &[PreparedSurvey],
         (seed, trial): (u64, i64),
-        stop: Record,
+        stop: StopRule,
         scratch: &mut Vec<usize>,
     ) -> ObjectOutcome {
         self.table.elements[0] = el;

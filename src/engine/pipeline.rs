@@ -5,7 +5,7 @@
 //! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
 //! two uniforms per in-field event in visit order, the first against the random live fraction and
 //! the second against p_detect (`survey::decision`: with the dead regions, the one detection rule). A survey's draws depend only on its own in-field set, so any
-//! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
+//! candidate strategy gives identical draws, and a survey that stops early (`StopRule`) moves
 //! no other survey's draws.
 
 use rand::{Rng, RngExt};
@@ -20,9 +20,9 @@ use crate::sky::apparent::{direction_from, observe_from};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};
 use crate::survey::Detection;
 
-/// How much of an object's history the engine works out.
+/// The stop rule: how much of an object's history the engine works out, survey by survey.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum Record {
+pub enum StopRule {
     /// Every in-field event and each survey's whole verdict (`seine observe`).
     #[default]
     Everything,
@@ -43,7 +43,7 @@ pub fn observe_object(
     objects: &ObjectTable,
     i: usize,
     surveys: &[PreparedSurvey],
-    (mode, record): (Candidates, Record),
+    (mode, stop): (Candidates, StopRule),
     mut rng: Pcg64,
     scratch: &mut Vec<usize>,
 ) -> ObjectOutcome {
@@ -56,7 +56,7 @@ pub fn observe_object(
     for (s, ps) in surveys.iter().enumerate() {
         // Every survey takes its key, skipped or not, so that the keys stay in survey order.
         let key = rng.next_u64();
-        if record != Record::Everything {
+        if stop != StopRule::Everything {
             let p_max = ps.reach.p_bound(objects, i, &orbit);
             if p_max == 0.0 || never_detects(ps, &orbit, mode, key, p_max, scratch) {
                 out.surveys.push(SurveyOutcome::default());
@@ -80,7 +80,7 @@ pub fn observe_object(
                 };
                 let u = (draws.random::<f64>(), draws.random::<f64>());
                 ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
-                if record == Record::Everything {
+                if stop == StopRule::Everything {
                     // What a detection measures is for the output tables only.
                     ev.measured = ps
                         .survey
@@ -89,7 +89,7 @@ pub fn observe_object(
                 out.events.push(ev);
                 if ev.detected {
                     dets.push(detection(ps, &ev));
-                    if settled(ps, record, &dets, &mut discovered_mjd) {
+                    if settled(ps, stop, &dets, &mut discovered_mjd) {
                         break 'blocks;
                     }
                 }
@@ -174,15 +174,15 @@ fn in_field_event(
 }
 
 /// Whether, with `dets` the survey's detections so far, the survey's verdict is settled for
-/// `record`; `discovered_mjd` keeps the discovery's epoch between calls.
-fn settled(ps: &PreparedSurvey, record: Record, dets: &[Detection], discovered_mjd: &mut Option<f64>) -> bool {
+/// `stop`; `discovered_mjd` keeps the discovery's epoch between calls.
+fn settled(ps: &PreparedSurvey, stop: StopRule, dets: &[Detection], discovered_mjd: &mut Option<f64>) -> bool {
     let rules = &ps.survey.linking;
     let last = dets.last().expect("called after a detection").mjd;
-    match (record, *discovered_mjd) {
-        (Record::Everything, _) => false,
-        (Record::UntilDiscovery, _) => rules.discovers_at_last(dets),
-        (Record::UntilSecured, Some(t)) => last - t >= rules.secure_after_days,
-        (Record::UntilSecured, None) => {
+    match (stop, *discovered_mjd) {
+        (StopRule::Everything, _) => false,
+        (StopRule::UntilDiscovery, _) => rules.discovers_at_last(dets),
+        (StopRule::UntilSecured, Some(t)) => last - t >= rules.secure_after_days,
+        (StopRule::UntilSecured, None) => {
             if rules.discovers_at_last(dets) {
                 *discovered_mjd = Some(last);
             }
