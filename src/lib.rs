@@ -9,6 +9,7 @@ pub mod engine;
 pub mod error;
 pub mod fit;
 pub mod hideout;
+pub mod interrupt;
 pub mod io;
 pub mod orbit;
 pub mod population;
