@@ -8,7 +8,7 @@ use seine::io::objects::ObjectTable;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::sky::apparent::observe;
 use seine::sky::earth::{EarthSun, earth_sun_exact};
-use seine::sky::ephemeris::ephemeris_table;
+use seine::population::ephemeris::ephemeris_table;
 use seine::sky::observer::{ObserverState, Site};
 use seine::time::{self, TimeScale};
 
@@ -292,7 +292,7 @@ fn opposition_rate(r_au: f64, tdb: f64) -> f64 {
         node: 0.0,
         argperi: 0.0,
         mean_anomaly: lon,
-        epoch_mjd_tdb: tdb - r_au / seine::orbit::C_AU_PER_DAY,
+        epoch_mjd_tdb: tdb - r_au / seine::foundation::constants::C_AU_PER_DAY,
         center: Center::Heliocentric,
     };
     observe(&Orbit::new(el), &obs).rate_arcsec_per_hr()

@@ -23,7 +23,7 @@ use seine::io::objects::ObjectTable;
 use seine::orbit::Orbit;
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;
-use seine::sky::ephemeris::observer_states;
+use seine::sky::observer::observer_states;
 use seine::sky::frames::lon_lat;
 use seine::survey::Survey;
 use seine::survey::footprint::from_focal_plane;

@@ -23,7 +23,7 @@ use rayon::prelude::*;
 use super::reach::Reach;
 use super::stripes::{Cone, Stripes};
 use super::track::Track;
-use crate::orbit::constants::C_AU_PER_DAY;
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Elements, Orbit};
 use crate::sky::earth::EarthSource;
 use crate::sky::observer::ObserverState;
@@ -33,7 +33,7 @@ use crate::survey::Survey;
 /// long enough that node positions cost little next to the in-field work.
 pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
-const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
+const SITE_OFFSET_AU: f64 = 6400.0 / crate::foundation::constants::AU_KM;
 /// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
 pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).

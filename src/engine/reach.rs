@@ -17,7 +17,7 @@
 use super::index::{OBSERVER_SPEED, speed_bound};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::orbit::constants::C_AU_PER_DAY;
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 

@@ -33,7 +33,7 @@ use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::table::{Format, write_atomic, write_table};
 use crate::shard::shard_ids;
-use crate::sky::ephemeris::observer_states;
+use crate::sky::observer::observer_states;
 use crate::sky::observer::ObserverState;
 use crate::time::TimeScale;
 

@@ -21,7 +21,8 @@ use nalgebra::{Matrix3, Vector3};
 use super::earth::EarthSun;
 use super::observer::{Site, earth_rotation_angle};
 use crate::error::Result;
-use crate::orbit::constants::{ARCSEC, C_AU_PER_DAY, DEG};
+use crate::foundation::constants::C_AU_PER_DAY;
+use crate::foundation::units::{ARCSEC, DEG};
 use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
 
 /// IAU 1976 precession matrix, ICRS (≈ mean J2000) → mean equator and equinox of date.

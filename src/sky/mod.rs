@@ -3,7 +3,6 @@
 
 pub mod apparent;
 pub mod earth;
-pub mod ephemeris;
 pub mod frames;
 pub mod horizon;
 pub mod moon;

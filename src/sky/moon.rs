@@ -15,7 +15,8 @@ use nalgebra::Vector3;
 
 use super::horizon::precession_matrix;
 use crate::error::Result;
-use crate::orbit::constants::{AU_KM, DEG};
+use crate::foundation::constants::AU_KM;
+use crate::foundation::units::DEG;
 use crate::sky::frames::{separation, unit_vector};
 use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
 

@@ -11,9 +11,13 @@
 use nalgebra::Vector3;
 use serde::{Deserialize, Serialize};
 
-use super::earth::EarthSun;
-use crate::orbit::constants::{AU_KM, TAU};
-use crate::time::{JD_MINUS_MJD, MJD_J2000};
+use rayon::prelude::*;
+
+use super::earth::{EarthSource, EarthSun};
+use crate::error::Result;
+use crate::foundation::constants::AU_KM;
+use crate::foundation::units::TAU;
+use crate::time::{JD_MINUS_MJD, MJD_J2000, TimeScale, to_tdb_mjd, to_utc_mjd};
 
 const WGS84_A_KM: f64 = 6378.137;
 const WGS84_F: f64 = 1.0 / 298.257223563;
@@ -112,6 +116,18 @@ impl ObserverState {
             sun_vel: earth.sun_bary_vel,
         }
     }
+}
+
+/// Observer states for a list of epochs given in `scale`.
+pub fn observer_states(mjd: &[f64], scale: TimeScale, site: Option<&Site>) -> Result<Vec<ObserverState>> {
+    let tdb: Vec<f64> = mjd.iter().map(|&t| to_tdb_mjd(t, scale)).collect::<Result<_>>()?;
+    let utc: Vec<f64> = mjd.iter().map(|&t| to_utc_mjd(t, scale)).collect::<Result<_>>()?;
+    let source = EarthSource::for_epochs(&tdb);
+    Ok(tdb
+        .par_iter()
+        .zip(utc.par_iter())
+        .map(|(&t, &u)| ObserverState::new(&source.at(t), site, u, t))
+        .collect())
 }
 
 #[cfg(test)]

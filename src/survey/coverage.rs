@@ -13,7 +13,7 @@ use std::collections::{BTreeMap, HashMap};
 use serde::Serialize;
 
 use super::footprint::Footprint;
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 use crate::sky::frames::{radec_to_ecliptic, unit_vector};
 
 pub const HEALPIX_ORDER: u8 = 9;

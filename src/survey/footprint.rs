@@ -9,7 +9,7 @@
 
 use nalgebra::Vector3;
 
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 
 /// The one enum of footprints. Sizes are in degrees of the tangent plane.
 #[derive(Debug, Clone, PartialEq)]

@@ -21,7 +21,7 @@ use super::footprint::Footprint;
 use super::linking::LinkingRules;
 use super::spec::{EfficiencySpec, FieldSpec, RateWindow};
 use crate::error::{Error, Result};
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 use crate::rng::{Purpose, run_stream};
 use crate::sky::earth::EphemerisGrid;
 use crate::sky::frames::{ecliptic_to_icrs, icrs_to_ecliptic, lon_lat, radec_to_galactic, unit_vector};

@@ -7,7 +7,7 @@ use rand_pcg::Pcg64;
 use seine::fit::Observation;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::sky::apparent::observe_from;
-use seine::sky::ephemeris::observer_states;
+use seine::sky::observer::observer_states;
 use seine::sky::frames::{icrs_to_ecliptic, lon_lat};
 use seine::sky::observer::Site;
 use seine::survey::visits::night_of;

@@ -16,7 +16,7 @@ use std::f64::consts::{FRAC_PI_2, PI, SQRT_2};
 
 use super::svg::{Anchor, Svg, rgb};
 use crate::error::Result;
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 use crate::report::figure::Figure;
 use crate::report::style;
 use crate::sky::frames::{radec_to_ecliptic, unit_vector};
