@@ -281,7 +281,7 @@ fn barycentric_elements_ephemeris() {
 /// A circular-orbit object placed exactly at opposition as seen from the geocentre.
 fn opposition_rate(r_au: f64, tdb: f64) -> f64 {
     let es = earth_sun_exact(tdb);
-    let obs = ObserverState::new(&es, None, tdb, tdb);
+    let obs = ObserverState::geocentre(&es, seine::time::MjdTdb(tdb));
     // Ecliptic longitude of the anti-Sun direction: the object on the Earth–Sun line.
     let dir = seine::sky::frames::icrs_to_ecliptic(&es.earth_helio).normalize();
     let lon = dir.y.atan2(dir.x);
