@@ -71,6 +71,15 @@ impl Footprint {
         }
     }
 
+    /// HEALPix cells of `order` (ascending) whose centres lie inside the footprint at one
+    /// pointing (centre in radians, rotation in degrees): the rule of every coverage count.
+    pub fn healpix_cells(&self, order: u8, center_ra_rad: f64, center_dec_rad: f64, rotation_deg: f64) -> Vec<u64> {
+        let r = self.bounding_radius_rad();
+        crate::sky::healpix::cells_where(order, center_ra_rad, center_dec_rad, r, |u| {
+            self.contains(center_ra_rad, center_dec_rad, rotation_deg, u)
+        })
+    }
+
     /// Angular radius (rad) of a circle about the centre that contains the whole footprint (for indexing).
     pub fn bounding_radius_rad(&self) -> f64 {
         match self {
