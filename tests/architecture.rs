@@ -11,7 +11,10 @@ use std::path::{Path, PathBuf};
 /// The layers, lowest first: (layer name, the top-level modules of `src/` in it).
 /// The binary (`src/main.rs`, `src/cli/`) is the top layer and uses the library as `seine::`.
 const LAYERS: &[(&str, &[&str])] = &[
-    ("foundation", &["foundation", "time", "error", "rng", "shard", "progress", "budget"]),
+    (
+        "foundation",
+        &["foundation", "time", "error", "rng", "shard", "progress", "budget"],
+    ),
     ("orbit", &["orbit"]),
     ("sky", &["sky"]),
     ("tables", &["io", "ranges"]),
@@ -56,7 +59,9 @@ fn used_modules(line: &str) -> Vec<&str> {
     line.match_indices("crate::")
         .map(|(i, _)| {
             let rest = &line[i + "crate::".len()..];
-            let end = rest.find(|c: char| !(c.is_ascii_alphanumeric() || c == '_')).unwrap_or(rest.len());
+            let end = rest
+                .find(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+                .unwrap_or(rest.len());
             &rest[..end]
         })
         .collect()
@@ -71,7 +76,13 @@ fn library_files() -> Vec<(String, String)> {
         .into_iter()
         .filter_map(|p| {
             let rel = p.strip_prefix(root).unwrap().to_string_lossy().replace('\\', "/");
-            let top = rel.trim_start_matches("src/").split('/').next().unwrap().trim_end_matches(".rs").to_string();
+            let top = rel
+                .trim_start_matches("src/")
+                .split('/')
+                .next()
+                .unwrap()
+                .trim_end_matches(".rs")
+                .to_string();
             (!["main", "lib", "cli"].contains(&top.as_str())).then_some((rel, top))
         })
         .collect()
@@ -79,9 +90,15 @@ fn library_files() -> Vec<(String, String)> {
 
 #[test]
 fn every_library_module_has_a_layer() {
-    let missing: BTreeSet<String> =
-        library_files().into_iter().map(|(_, top)| top).filter(|m| layer_of(m).is_none()).collect();
-    assert!(missing.is_empty(), "modules with no layer in tests/architecture.rs (and DEVELOPERS.md): {missing:?}");
+    let missing: BTreeSet<String> = library_files()
+        .into_iter()
+        .map(|(_, top)| top)
+        .filter(|m| layer_of(m).is_none())
+        .collect();
+    assert!(
+        missing.is_empty(),
+        "modules with no layer in tests/architecture.rs (and DEVELOPERS.md): {missing:?}"
+    );
 }
 
 #[test]
@@ -113,17 +130,27 @@ fn no_module_uses_a_higher_layer() {
             }
         }
     }
-    assert!(breaks.is_empty(), "a lower layer uses a higher one:\n{}", breaks.join("\n"));
+    assert!(
+        breaks.is_empty(),
+        "a lower layer uses a higher one:\n{}",
+        breaks.join("\n")
+    );
     let gone: Vec<_> = KNOWN_EXCEPTIONS
         .iter()
         .filter(|(f, m, _)| !excepted.contains(&(f.to_string(), m.to_string())))
         .collect();
-    assert!(gone.is_empty(), "fixed, remove from KNOWN_EXCEPTIONS (and DEVELOPERS.md): {gone:?}");
+    assert!(
+        gone.is_empty(),
+        "fixed, remove from KNOWN_EXCEPTIONS (and DEVELOPERS.md): {gone:?}"
+    );
 }
 
 #[test]
 fn the_checker_sees_a_violation() {
     // The reader of paths itself: a line like this one in `orbit` would be flagged.
-    assert_eq!(used_modules("use crate::sky::frames::{lon_lat}; crate::engine::run(x)"), ["sky", "engine"]);
+    assert_eq!(
+        used_modules("use crate::sky::frames::{lon_lat}; crate::engine::run(x)"),
+        ["sky", "engine"]
+    );
     assert!(layer_of("orbit") < layer_of("sky"));
 }

@@ -13,8 +13,8 @@ use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;
-use seine::sky::observer::observer_states;
 use seine::sky::frames::lon_lat;
+use seine::sky::observer::observer_states;
 use seine::survey::Survey;
 use seine::time::TimeScale;
 

@@ -26,7 +26,10 @@ pub struct Field {
 
 /// Cells of `order` whose centres lie within `radius` of (ra, dec).
 pub fn cells_within(order: u8, ra: f64, dec: f64, radius: f64) -> Vec<usize> {
-    crate::sky::healpix::cells_in_cap(order, ra, dec, radius).into_iter().map(|h| h as usize).collect()
+    crate::sky::healpix::cells_in_cap(order, ra, dec, radius)
+        .into_iter()
+        .map(|h| h as usize)
+        .collect()
 }
 
 /// The `n_fields` best fields of radius `radius` (radians), best first.

@@ -33,8 +33,8 @@ use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::table::{Format, write_atomic, write_table};
 use crate::shard::shard_ids;
-use crate::sky::observer::observer_states;
 use crate::sky::observer::ObserverState;
+use crate::sky::observer::observer_states;
 use crate::time::TimeScale;
 
 /// The whole sky in square degrees (defined with the HEALPix helpers).

@@ -67,7 +67,6 @@ impl Crowding {
     }
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
