@@ -352,6 +352,89 @@ fn merged_shards_equal_the_single_run() {
     assert_eq!(w.region_95.moc_ascii, m.region_95.moc_ascii);
 }
 
+/// `seine merge` sums hideout shards given in any order, the shards of a Slurm job array
+/// (SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_COUNT) are the `--shard K/N` slices, and a merge
+/// that misses a shard, repeats one or writes into an input is refused with nothing written.
+#[test]
+fn seine_merge_sums_hideout_shards_from_a_job_array() {
+    let dir = tempfile::tempdir().unwrap();
+    let (s, pr) = (survey(dir.path(), 0.5), prior(dir.path(), PRIOR));
+    let whole = run_cli(dir.path(), &s, &pr, "whole", &[]);
+    let by_flag = run_cli(dir.path(), &s, &pr, "flag1", &["--shard", "1/3"]);
+    let task = |k: usize| {
+        let out = dir.path().join(format!("task{k}"));
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args([
+                "hideout",
+                "--survey",
+                s.to_str().unwrap(),
+                "--prior",
+                pr.to_str().unwrap(),
+                "--count",
+                "2500",
+                "--seed",
+                "5",
+                "--epoch-mjd",
+                "61000.2",
+                "--order",
+                "4",
+                "--format",
+                "csv",
+                "--quiet",
+                "--out",
+                out.to_str().unwrap(),
+            ])
+            .env("SLURM_ARRAY_TASK_ID", k.to_string())
+            .env("SLURM_ARRAY_TASK_COUNT", "3")
+            .output()
+            .unwrap();
+        assert!(o.status.success(), "{}", common::stderr(&o));
+        out
+    };
+    let tasks: Vec<PathBuf> = (0..3).map(task).collect();
+    assert_eq!(
+        column(&tasks[1], "excluded", "n_prior"),
+        column(&by_flag, "excluded", "n_prior")
+    );
+    let merge = |inputs: &[&PathBuf], out: &Path| {
+        let mut args = vec!["merge"];
+        args.extend(inputs.iter().map(|p| p.to_str().unwrap()));
+        args.extend(["--out", out.to_str().unwrap(), "--format", "csv", "--quiet"]);
+        common::seine(&args)
+    };
+    let merged = dir.path().join("merged");
+    let o = merge(&[&tasks[2], &tasks[0], &tasks[1]], &merged);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    for name in ["n_prior", "n_excluded"] {
+        assert_eq!(
+            column(&whole, "excluded", name),
+            column(&merged, "excluded", name),
+            "{name}"
+        );
+    }
+    let (w, m) = (
+        hideout::read_summary(&whole).unwrap(),
+        hideout::read_summary(&merged).unwrap(),
+    );
+    assert_eq!((w.n_draws, w.n_excluded), (m.n_draws, m.n_excluded));
+    assert_eq!(w.region_95.moc_ascii, m.region_95.moc_ascii);
+    // Refusals: status 2, one sentence, nothing written.
+    let refused = dir.path().join("refused");
+    for (inputs, says) in [
+        (vec![&tasks[0], &tasks[1]], "missing"),
+        (vec![&tasks[0], &tasks[1], &tasks[1], &tasks[2]], "once"),
+    ] {
+        let o = merge(&inputs, &refused);
+        assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+        assert!(common::stderr(&o).contains(says), "{}", common::stderr(&o));
+        assert!(!refused.exists());
+    }
+    let before = std::fs::read_to_string(tasks[0].join("summary.json")).unwrap();
+    let o = merge(&[&tasks[0], &tasks[1], &tasks[2]], &tasks[0]);
+    assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+    assert_eq!(std::fs::read_to_string(tasks[0].join("summary.json")).unwrap(), before);
+}
+
 /// The tally does not depend on the thread count or the chunk size (draws are added in id order).
 #[test]
 fn tallies_do_not_depend_on_threads_or_chunks() {
