@@ -5,10 +5,12 @@
 
 pub mod analysis;
 pub mod budget;
+pub mod commands;
 pub mod engine;
 pub mod error;
 pub mod fit;
 pub mod hideout;
+pub mod interrupt;
 pub mod io;
 pub mod orbit;
 pub mod population;
