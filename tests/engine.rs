@@ -13,8 +13,8 @@ use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::lon_lat;
+use seine::sky::observer::observer_states;
 use seine::survey::Survey;
 use seine::time::TimeScale;
 
@@ -294,13 +294,13 @@ fn object_at(ra_deg: f64, dec_deg: f64, r_au: f64, mjd: f64, h_mag: f64) -> Obje
     let dir = seine::sky::frames::unit_vector(ra_deg.to_radians(), dec_deg.to_radians());
     let mut el = t.elements[0];
     for _ in 0..4 {
-        let tau = r_au / seine::orbit::C_AU_PER_DAY;
+        let tau = r_au / seine::foundation::constants::C_AU_PER_DAY;
         let pos_bary = obs.pos + dir * r_au;
         let sun_then = obs.sun_pos - obs.sun_vel * tau;
         let helio = seine::sky::frames::icrs_to_ecliptic(&(pos_bary - sun_then));
         let h = helio.norm();
         let up = nalgebra::Vector3::new(0.0, 0.0, 1.0);
-        let vel = up.cross(&helio).normalize() * (seine::orbit::GM_SUN / h).sqrt();
+        let vel = up.cross(&helio).normalize() * (seine::foundation::constants::GM_SUN / h).sqrt();
         el = Elements::from_state(&helio, &vel, obs.tdb_mjd - tau, Center::Heliocentric);
         t.elements[0] = el;
         let a = observe(&Orbit::new(el), &obs);

@@ -155,6 +155,19 @@ fn duplicate_ids_are_refused() {
     c.fails(&c.observe(&[]), &["objects.csv", "row 2", "id", "unique"]);
 }
 
+/// Ids that are not non-negative integers of 64 bits: negative, or too long for 64 bits
+/// (a 23-digit id is one sentence, not a parser dump).
+#[test]
+fn ids_that_are_not_non_negative_integers_are_refused() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("\n1,60.0", "\n-7,60.0"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "id", "non-negative", "-7"]);
+    let c = Case::new(&[(
+        "objects.csv",
+        &OBJECTS.replace("\n1,60.0", "\n12345678901234567890123,60.0"),
+    )]);
+    c.fails(&c.observe(&[]), &["objects.csv", "id"]);
+}
+
 /// An unknown band: a visit band with no colour column while the objects give colours for
 /// other bands (a misspelt band or a missing column); see `engine::run::check_bands`.
 #[test]
@@ -199,6 +212,25 @@ fn missing_visits_of_a_planned_survey_repeat_the_command_of_its_header() {
             "wide.parquet",
             "`seine plan --plan wide-plan.toml --out wide.parquet`",
         ],
+    );
+}
+
+/// A cadence plan whose nights give no visit (here one night with every field too close to
+/// the Sun) is refused with the nights' fates, not written as an empty survey.
+#[test]
+fn a_plan_that_makes_no_visit_is_refused() {
+    let shipped =
+        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/survey-configs/deep-plan.toml")).unwrap();
+    let plan = shipped
+        .replace("last_night = 61830", "last_night = 61440")
+        .replace("weather_loss = 0.2", "weather_loss = 0.0")
+        .replace("ecliptic_lon_min_deg = 155.0", "ecliptic_lon_min_deg = 315.0")
+        .replace("ecliptic_lon_max_deg = 165.0", "ecliptic_lon_max_deg = 325.0");
+    let c = Case::new(&[]);
+    std::fs::write(c.dir.path().join("plan.toml"), plan).unwrap();
+    c.fails(
+        &args(&["plan", "--plan", &c.p("plan.toml"), "--out", &c.p("v.parquet")]),
+        &["plan.toml", "no visit", "1 no-field"],
     );
 }
 
@@ -607,6 +639,19 @@ fn merges_check_their_shards() {
     assert!(o.status.success(), "{}", common::stderr(&o));
     let out = c.p("out");
     c.fails(&args(&["merge", &out, "--out", &out]), &["one of the inputs"]);
+    // A damaged part (one byte changed in the middle) differs from its manifest's checksum.
+    let part = common::walk(&c.dir.path().join("out"))
+        .into_iter()
+        .find(|p| p.to_string_lossy().contains("parts") && p.extension().is_some_and(|e| e == "parquet"))
+        .expect("a part of the shard");
+    let mut bytes = std::fs::read(&part).unwrap();
+    let mid = bytes.len() / 2;
+    bytes[mid] ^= 0x55;
+    std::fs::write(&part, bytes).unwrap();
+    c.fails(
+        &args(&["merge", &out, "--out", &c.p("merged")]),
+        &["checksum", "--resume"],
+    );
 }
 
 /// Runaway jobs are refused before any work, with the estimate and the way out (--shard or

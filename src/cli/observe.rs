@@ -76,7 +76,7 @@ pub fn run(a: Args) -> Result<()> {
         format: super::common::parse_format(&a.format)?,
         shard: a.shard.resolve()?,
         fit: fit_options(&a)?,
-        stop: Some(seine::interrupt::stop_flag()?),
+        stop: Some(seine::interrupt::graceful_stop()?),
         surveys: a.surveys,
         objects: a.objects,
         out: a.out,

@@ -15,9 +15,9 @@
 //! cannot detect the object: skipping it changes no outcome.
 
 use super::index::{OBSERVER_SPEED, speed_bound};
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::orbit::constants::C_AU_PER_DAY;
 use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 

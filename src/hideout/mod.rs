@@ -33,12 +33,12 @@ use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::table::{Format, write_atomic, write_table};
 use crate::shard::shard_ids;
-use crate::sky::ephemeris::observer_states;
 use crate::sky::observer::ObserverState;
+use crate::sky::observer::observer_states;
 use crate::time::TimeScale;
 
-/// The whole sky in square degrees, 4π (180/π)².
-pub const SKY_SQ_DEG: f64 = 41252.96124941928;
+/// The whole sky in square degrees (defined with the HEALPix helpers).
+pub use crate::sky::healpix::SKY_SQ_DEG;
 
 /// Draws per chunk: bounds memory whatever the prior's size.
 pub const CHUNK: usize = 1 << 16;

@@ -8,10 +8,9 @@ use polars::prelude::*;
 use super::fields::Field;
 use super::tally::{BinSums, Binned, MAG_BINS, MAG_LO, MAG_STEP, SkyTally, Tally};
 use crate::error::{Error, Result};
+use crate::foundation::units::DEG;
 use crate::io::table::{Columns, read_table};
 use crate::sky::frames::radec_to_ecliptic;
-
-const DEG: f64 = std::f64::consts::PI / 180.0;
 
 fn frame(cols: Vec<Column>) -> Result<DataFrame> {
     let h = cols.first().map_or(0, |c| c.len());
