@@ -258,6 +258,20 @@ pub fn weighted_quantile(values: &[f64], weights: &[f64], q: f64) -> f64 {
     order.last().map_or(f64::NAN, |i| values[*i])
 }
 
+/// The columns of a list of proportions in an output table: `discovered` (count), `fraction`
+/// (weighted), `n_eff`, `std_error`, `wilson_lo`, `wilson_hi`.
+pub fn proportion_columns(p: &[Proportion]) -> Vec<polars::prelude::Column> {
+    use crate::io::out_dir::col;
+    vec![
+        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
+        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
+        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
+        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
+        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
+        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
+    ]
+}
+
 /// A proportion as a percentage with sensible digits, for conclusions: one decimal from 10%,
 /// two from 0.1%, three below.
 pub fn pct(p: f64) -> String {

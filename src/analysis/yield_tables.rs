@@ -5,11 +5,11 @@
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use super::binomial::{Proportion, Tally, pct};
+use super::binomial::{Proportion, Tally, pct, proportion_columns};
 use super::yields::YieldRow;
 use crate::engine::PreparedSurvey;
 use crate::error::Result;
-use crate::io::out_dir::{OutDir, col, proportion_columns};
+use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 use crate::survey::Survey;
 
