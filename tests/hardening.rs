@@ -255,69 +255,46 @@ fn a_survey_spec_given_as_a_cadence_plan_is_named_as_such() {
 }
 
 /// A key or value that was renamed: the message names the new one, "`OLD` was renamed `NEW`".
-fn refuses_renamed(spec: &str, old: &str, new: &str) {
-    let c = Case::new(&[("survey.toml", spec)]);
-    c.fails(
-        &c.observe(&[]),
-        &["survey.toml", &format!("`{old}` was renamed `{new}`")],
-    );
-}
-
+/// One case per renamed word of the survey spec: (what is appended to the spec, old, new).
 #[test]
-fn renamed_fill_factor() {
-    refuses_renamed(
-        &format!("{SPEC}fill_factor = 0.9\n"),
-        "fill_factor",
-        "random_live_fraction",
-    );
-}
-
-#[test]
-fn renamed_min_rate() {
-    refuses_renamed(
-        &format!("{SPEC}[motion]\nmin_rate = 1.0\n"),
-        "min_rate",
-        "min_rate_arcsec_per_hr",
-    );
-}
-
-#[test]
-fn renamed_max_rate() {
-    refuses_renamed(
-        &format!("{SPEC}[motion]\nmax_rate = 100.0\n"),
-        "max_rate",
-        "max_rate_arcsec_per_hr",
-    );
-}
-
-#[test]
-fn renamed_track_after_days() {
-    let spec = format!("{SPEC}[linking]\ntrack_after_days = 30.0\n");
-    refuses_renamed(&spec, "track_after_days", "secure_after_days");
-}
-
-#[test]
-fn renamed_efficiency_blocks() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"step\"\n[efficiency.blocks.deep]\npeak = 0.5\n");
-    refuses_renamed(&spec, "blocks", "classes");
-}
-
-#[test]
-fn renamed_double_tanh_model() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"double-tanh\"\nfall_width_mag = 0.2\ntail_width_mag = 0.5\n");
-    refuses_renamed(&spec, "double-tanh", "tanh-product");
-}
-
-#[test]
-fn renamed_w1_mag() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nw1_mag = 0.2\ntail_width_mag = 0.5\n");
-    refuses_renamed(&spec, "w1_mag", "fall_width_mag");
-}
-
-#[test]
-fn renamed_w2_mag() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nfall_width_mag = 0.2\nw2_mag = 0.5\n");
-    refuses_renamed(&spec, "w2_mag", "tail_width_mag");
+fn renamed_keys_and_values_name_their_new_word() {
+    let cases = [
+        ("fill_factor = 0.9\n", "fill_factor", "random_live_fraction"),
+        ("[motion]\nmin_rate = 1.0\n", "min_rate", "min_rate_arcsec_per_hr"),
+        ("[motion]\nmax_rate = 100.0\n", "max_rate", "max_rate_arcsec_per_hr"),
+        (
+            "[linking]\ntrack_after_days = 30.0\n",
+            "track_after_days",
+            "secure_after_days",
+        ),
+        (
+            "[efficiency]\nmodel = \"step\"\n[efficiency.blocks.deep]\npeak = 0.5\n",
+            "blocks",
+            "classes",
+        ),
+        (
+            "[efficiency]\nmodel = \"double-tanh\"\nfall_width_mag = 0.2\ntail_width_mag = 0.5\n",
+            "double-tanh",
+            "tanh-product",
+        ),
+        (
+            "[efficiency]\nmodel = \"tanh-product\"\nw1_mag = 0.2\ntail_width_mag = 0.5\n",
+            "w1_mag",
+            "fall_width_mag",
+        ),
+        (
+            "[efficiency]\nmodel = \"tanh-product\"\nfall_width_mag = 0.2\nw2_mag = 0.5\n",
+            "w2_mag",
+            "tail_width_mag",
+        ),
+    ];
+    for (tail, old, new) in cases {
+        let c = Case::new(&[("survey.toml", &format!("{SPEC}{tail}"))]);
+        c.fails(
+            &c.observe(&[]),
+            &["survey.toml", &format!("`{old}` was renamed `{new}`")],
+        );
+    }
 }
 
 #[test]
