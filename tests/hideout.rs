@@ -259,6 +259,17 @@ fn run_cli(dir: &Path, s: &Path, pr: &Path, name: &str, extra: &[&str]) -> PathB
 }
 
 fn run_cli_n(dir: &Path, s: &Path, pr: &Path, name: &str, count: &str, extra: &[&str]) -> PathBuf {
+    run_cli_env(dir, (s, pr), (name, count), extra, &[])
+}
+
+/// As `run_cli_n`, with variables `env` set in the command's environment.
+fn run_cli_env(
+    dir: &Path,
+    (s, pr): (&Path, &Path),
+    (name, count): (&str, &str),
+    extra: &[&str],
+    env: &[(&str, String)],
+) -> PathBuf {
     let out = dir.join(name);
     let mut args = vec![
         "hideout",
@@ -281,7 +292,11 @@ fn run_cli_n(dir: &Path, s: &Path, pr: &Path, name: &str, count: &str, extra: &[
         out.to_str().unwrap(),
     ];
     args.extend_from_slice(extra);
-    let o = common::seine(&args);
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args(&args)
+        .envs(env.iter().map(|(k, v)| (k, v)))
+        .output()
+        .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     out
 }
@@ -362,34 +377,11 @@ fn seine_merge_sums_hideout_shards_from_a_job_array() {
     let whole = run_cli(dir.path(), &s, &pr, "whole", &[]);
     let by_flag = run_cli(dir.path(), &s, &pr, "flag1", &["--shard", "1/3"]);
     let task = |k: usize| {
-        let out = dir.path().join(format!("task{k}"));
-        let o = std::process::Command::new(env!("CARGO_BIN_EXE_seine"))
-            .args([
-                "hideout",
-                "--survey",
-                s.to_str().unwrap(),
-                "--prior",
-                pr.to_str().unwrap(),
-                "--count",
-                "2500",
-                "--seed",
-                "5",
-                "--epoch-mjd",
-                "61000.2",
-                "--order",
-                "4",
-                "--format",
-                "csv",
-                "--quiet",
-                "--out",
-                out.to_str().unwrap(),
-            ])
-            .env("SLURM_ARRAY_TASK_ID", k.to_string())
-            .env("SLURM_ARRAY_TASK_COUNT", "3")
-            .output()
-            .unwrap();
-        assert!(o.status.success(), "{}", common::stderr(&o));
-        out
+        let env = [
+            ("SLURM_ARRAY_TASK_ID", k.to_string()),
+            ("SLURM_ARRAY_TASK_COUNT", "3".to_string()),
+        ];
+        run_cli_env(dir.path(), (&s, &pr), (&format!("task{k}"), "2500"), &[], &env)
     };
     let tasks: Vec<PathBuf> = (0..3).map(task).collect();
     assert_eq!(
