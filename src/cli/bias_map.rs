@@ -173,12 +173,12 @@ pub fn run(a: Args) -> Result<()> {
         for (m, i) in maps.iter().zip(lo..hi) {
             let el = &objects.elements[i];
             let x = match grid.axes {
-                MapAxes::VarpiNode => (el.node + el.argperi).rem_euclid(std::f64::consts::TAU),
-                MapAxes::ArgperiNode => el.argperi,
+                MapAxes::VarpiNode => (el.node_rad + el.argperi_rad).rem_euclid(std::f64::consts::TAU),
+                MapAxes::ArgperiNode => el.argperi_rad,
             };
             write_atomic(
                 &a.run.out.join("maps").join(format!("{}.svg", m.id)),
-                svg(m, Some((x, el.node))).as_bytes(),
+                svg(m, Some((x, el.node_rad))).as_bytes(),
             )?;
         }
     }
