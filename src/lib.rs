@@ -10,6 +10,7 @@ pub mod error;
 pub mod fit;
 pub mod foundation;
 pub mod hideout;
+pub mod interrupt;
 pub mod io;
 pub mod orbit;
 pub mod population;

@@ -13,7 +13,16 @@ use std::path::{Path, PathBuf};
 const LAYERS: &[(&str, &[&str])] = &[
     (
         "foundation",
-        &["foundation", "time", "error", "rng", "shard", "progress", "budget"],
+        &[
+            "foundation",
+            "time",
+            "error",
+            "rng",
+            "shard",
+            "progress",
+            "budget",
+            "interrupt",
+        ],
     ),
     ("orbit", &["orbit"]),
     ("sky", &["sky"]),

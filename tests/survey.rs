@@ -533,7 +533,11 @@ fn no_random_plan_breaks_its_limits() {
             p.exposure_s,
         );
         let site = file.site;
-        let plan = make_plan(file.clone()).unwrap_or_else(|e| panic!("{e}\n{text}"));
+        // A plan with no visit is refused (its nights' fates said); nothing to recheck.
+        let plan = match make_plan(file.clone()) {
+            Err(e) if e.to_string().contains("makes no visit") => continue,
+            made => made.unwrap_or_else(|e| panic!("{e}\n{text}")),
+        };
         let v = &plan.visits;
         let tdb0 = MjdUtc(p.first_night as f64).to_tdb().unwrap().0;
         let grid = seine::sky::earth::EphemerisGrid::covering(tdb0, tdb0 + (p.last_night - p.first_night) as f64 + 2.0);

@@ -603,6 +603,9 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
         b.finish_and_clear();
     }
     let Scheduler { fields, out, .. } = s;
+    if out.mjd.is_empty() {
+        return Err(Error::input(no_visit_reason(&nights)));
+    }
     Ok(Plan {
         file,
         footprint,
@@ -610,6 +613,23 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
         visits: out,
         nights,
     })
+}
+
+/// Why a plan has no visit, from its nights' fates (the most common one first).
+fn no_visit_reason(nights: &[NightLog]) -> String {
+    let mut fates: BTreeMap<&str, usize> = BTreeMap::new();
+    for n in nights {
+        *fates.entry(n.status.as_str()).or_default() += 1;
+    }
+    let mut fates: Vec<_> = fates.into_iter().collect();
+    fates.sort_by(|a, b| b.1.cmp(&a.1));
+    let told: Vec<String> = fates.iter().map(|(s, k)| format!("{k} {s}")).collect();
+    format!(
+        "the plan makes no visit (its {} nights: {}); widen the nights, the region or the \
+         altitude and Sun limits",
+        nights.len(),
+        told.join(", ")
+    )
 }
 
 fn plan_night(s: &mut Scheduler, night: i64) -> Result<NightLog> {
