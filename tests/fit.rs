@@ -41,14 +41,7 @@ fn ks_p(x: &[f64], cdf: impl Fn(f64) -> f64) -> (f64, f64) {
 }
 
 fn element_vector(el: &Elements) -> [f64; 6] {
-    [
-        el.a_au,
-        el.e,
-        el.inc_rad,
-        el.node_rad,
-        el.argperi_rad,
-        el.mean_anomaly_rad,
-    ]
+    el.to_array()
 }
 
 /// (fit − truth)/σ for the six elements, the truth taken at the fit's epoch.

@@ -144,12 +144,5 @@ fn element_covariance(frame: &Frame, s: &Solution, at: &Elements) -> Option<Matr
 }
 
 fn element_vector(el: &Elements) -> Vector6<f64> {
-    Vector6::new(
-        el.a_au,
-        el.e,
-        el.inc_rad,
-        el.node_rad,
-        el.argperi_rad,
-        el.mean_anomaly_rad,
-    )
+    Vector6::from(el.to_array())
 }

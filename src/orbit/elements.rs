@@ -73,6 +73,19 @@ impl Elements {
     pub fn mean_motion(&self) -> f64 {
         (self.center.gm() / self.a_au.powi(3)).sqrt()
     }
+    /// The six elements in their usual order: a (AU), e, i, Ω, ω, M (radians).
+    pub fn to_array(&self) -> [f64; 6] {
+        let el = self;
+        [
+            el.a_au,
+            el.e,
+            el.inc_rad,
+            el.node_rad,
+            el.argperi_rad,
+            el.mean_anomaly_rad,
+        ]
+    }
+
     /// Longitude of perihelion ϖ = Ω + ω, in [0, 2π).
     pub fn varpi(&self) -> f64 {
         (self.node_rad + self.argperi_rad).rem_euclid(TAU)
