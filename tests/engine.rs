@@ -7,7 +7,7 @@ use std::path::Path;
 
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
-use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
+use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use seine::io::objects::ObjectTable;
 use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
@@ -103,14 +103,14 @@ fn aimed_visits(objects: &ObjectTable, seed: u64, n_nights: usize, offset_deg: f
 }
 
 fn run_all(objects: &ObjectTable, surveys: &[PreparedSurvey], mode: Candidates) -> Vec<ObjectOutcome> {
-    run_recording(objects, surveys, mode, Record::Everything)
+    run_recording(objects, surveys, mode, StopRule::Everything)
 }
 
 fn run_recording(
     objects: &ObjectTable,
     surveys: &[PreparedSurvey],
     mode: Candidates,
-    record: Record,
+    record: StopRule,
 ) -> Vec<ObjectOutcome> {
     let mut scratch = Vec::new();
     (0..objects.len())
@@ -171,8 +171,12 @@ fn index_agrees_with_brute_force_on_every_decision() {
 }
 
 /// The discovery event of survey `s`, if any.
+/// Survey s's discovering event, without what it measured (the stop rules leave that out).
 fn discovery_of(o: &ObjectOutcome, s: usize) -> Option<seine::engine::Event> {
-    o.surveys[s].discovery_event.map(|e| o.events[e])
+    o.surveys[s].discovery_event.map(|e| seine::engine::Event {
+        measured: Default::default(),
+        ..o.events[e]
+    })
 }
 
 #[test]
@@ -194,6 +198,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
             "fast",
             "[motion]\nmin_rate_arcsec_per_hr = 1.5\nmax_rate_arcsec_per_hr = 500.0\n",
         ),
+        // Per tracklet, and a table that is not monotone in magnitude (the bound on p must
+        // hold for both).
+        (
+            "tracklet",
+            "[efficiency]\nmodel = \"tanh-product\"\npeak = 0.9\nfall_width_mag = 0.15\ntail_width_mag = 0.45\nper = \"tracklet\"\n",
+        ),
+        (
+            "table",
+            "[efficiency]\nmodel = \"table\"\ndm = [-3.0, -1.0, 0.0, 0.5, 1.5]\nrates = [0.0, 10.0]\neta = [[0.5, 0.4], [0.9, 0.8], [0.4, 0.3], [0.6, 0.2], [0.0, 0.0]]\n",
+        ),
     ]
     .iter()
     .map(|(name, extra)| {
@@ -207,9 +221,9 @@ fn stopping_at_the_verdict_changes_no_verdict() {
         ))
     })
     .collect();
-    let all = run_recording(&objects, &surveys, Candidates::Indexed, Record::Everything);
-    let until_secured = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilSecured);
-    let until_found = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilDiscovery);
+    let all = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::Everything);
+    let until_secured = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::UntilSecured);
+    let until_found = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::UntilDiscovery);
     let (mut skipped, mut discovered, mut secured) = (vec![0; surveys.len()], 0, 0);
     for i in 0..objects.len() {
         let orbit = Orbit::new(objects.elements[i]);
@@ -234,6 +248,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
                 discovery_of(&all[i], s),
                 discovery_of(&until_secured[i], s),
                 "object {i} survey {s}"
+            );
+            // The bound on the detection probability bounds every visit's (what lets the
+            // stop rules skip a survey whose efficiency draws all lie above it).
+            let bound = ps.reach.p_bound(&objects, i, &orbit);
+            assert!(
+                all[i]
+                    .events
+                    .iter()
+                    .all(|e| e.survey as usize != s || e.p_detect <= bound),
+                "object {i} survey {s}: bound {bound}"
             );
             if !ps.reach.could_detect(&objects, i, &orbit) {
                 skipped[s] += 1;
