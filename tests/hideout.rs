@@ -207,6 +207,15 @@ fn the_size_prior_sets_h_within_its_bounds() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("give both diameter_km and albedo"), "{e}");
+    // Through the one spec parser: a misspelt key names its line and column, and the key meant.
+    let typo = half.replace("diameter_km =", "diameter_kms =");
+    let e = Prior::read(&prior(dir.path(), &typo), None, None)
+        .unwrap_err()
+        .to_string();
+    assert!(
+        e.contains("line ") && e.contains("column ") && e.contains("did you mean `diameter_km`"),
+        "{e}"
+    );
 }
 
 /// The posterior map's total probability equals the surviving fraction, and the credible

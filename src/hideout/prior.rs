@@ -13,6 +13,7 @@ use serde::Deserialize;
 
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
+use crate::io::spec_text::{parse_toml, read_spec_text};
 use crate::population::prepared::Prepared;
 use crate::population::{Distribution, Population, Spec};
 use crate::rng::{Purpose, object_stream};
@@ -36,6 +37,12 @@ pub fn diameter_from_h(h: f64, albedo: f64) -> f64 {
 pub struct SizeSection {
     pub diameter_km: Option<Distribution>,
     pub albedo: Option<Distribution>,
+}
+
+/// The `[size]` table of a prior spec alone (the other tables are the population spec's).
+#[derive(Debug, Deserialize)]
+struct SizeOnly {
+    size: Option<SizeSection>,
 }
 
 /// Diameter and albedo, drawn from each draw's own `Analysis` stream (the spec's own
@@ -71,8 +78,7 @@ pub fn parse_distribution(text: &str, what: &str) -> Result<Distribution> {
 impl Prior {
     /// Read a prior spec; `diameter` and `albedo` (command-line distributions) override `[size]`.
     pub fn read(path: &Path, diameter: Option<Distribution>, albedo: Option<Distribution>) -> Result<Prior> {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| Error::input(format!("{}: cannot read the prior spec: {e}", path.display())))?;
+        let text = read_spec_text(path, "prior spec")?;
         Self::parse(&text, path, diameter, albedo)
     }
 
@@ -82,18 +88,11 @@ impl Prior {
         diameter: Option<Distribution>,
         albedo: Option<Distribution>,
     ) -> Result<Prior> {
-        let mut table: toml::Table =
-            toml::from_str(text).map_err(|e| Error::input(format!("{}: {}", path.display(), e.message())))?;
-        let section = table.remove("size");
-        let (file_d, file_p) = match section {
-            Some(v) => {
-                let s: SizeSection = v.try_into().map_err(|e: toml::de::Error| {
-                    Error::input(format!("{}: key `size`: {}", path.display(), e.message()))
-                })?;
-                (s.diameter_km, s.albedo)
-            }
-            None => (None, None),
-        };
+        // Through the one spec parser: errors name the line, column and key, with a hint.
+        let mut table: toml::Table = parse_toml(text, path)?;
+        let size: SizeOnly = parse_toml(text, path)?;
+        table.remove("size");
+        let (file_d, file_p) = size.size.map_or((None, None), |s| (s.diameter_km, s.albedo));
         let (d, p) = (diameter.or(file_d), albedo.or(file_p));
         let size = size_prior(path, d, p)?;
         let population = match size {
