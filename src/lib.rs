@@ -1,6 +1,6 @@
 //! `seine`: forward-model what a sky survey of the distant solar system would detect.
 //!
-//! The library holds every stage (time, orbits, sky, population, survey, engine, analysis,
+//! The library holds every stage (foundation: units, constants, the ecliptic rotation; time, orbits, sky, population, survey, engine, analysis,
 //! I/O, report); the `seine` binary is a thin command-line layer over it.
 
 pub mod analysis;
@@ -8,7 +8,9 @@ pub mod budget;
 pub mod engine;
 pub mod error;
 pub mod fit;
+pub mod foundation;
 pub mod hideout;
+pub mod interrupt;
 pub mod io;
 pub mod orbit;
 pub mod population;

@@ -7,7 +7,8 @@ fn main() {
         Ok(cli) => cli,
         Err(e) => seine_cli::arguments::exit_with(e),
     };
-    if let Err(e) = seine_cli::run(cli) {
+    // Every command: an interrupt removes the temporaries of files being written.
+    if let Err(e) = seine::interrupt::install().and_then(|()| seine_cli::run(cli)) {
         eprintln!("seine: {e}");
         std::process::exit(2);
     }

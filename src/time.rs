@@ -7,6 +7,11 @@
 //!
 //! UTC MJDs count days of 86400 s; an epoch inside a leap second is not representable, as
 //! is usual for MJD time stamps in pointing logs.
+//!
+//! Where both scales meet (the Earth's rotation wants UTC ≈ UT1, the ephemerides TDB), epochs
+//! travel as `MjdUtc` and `MjdTdb`, so passing one where the other is expected does not
+//! compile; the conversions between them are the methods below. Columns of epochs in a
+//! declared scale (visits, epochs tables) stay numbers with that scale beside them.
 
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
@@ -31,6 +36,28 @@ impl TimeScale {
             "tdb" => Some(Self::Tdb),
             _ => None,
         }
+    }
+}
+
+/// A UTC epoch, MJD (days of 86400 s since 1858-11-17 UTC).
+#[derive(Debug, Clone, Copy, PartialEq, PartialOrd)]
+pub struct MjdUtc(pub f64);
+
+/// A TDB epoch, MJD (the time argument of the ephemerides and of orbital elements).
+#[derive(Debug, Clone, Copy, PartialEq, PartialOrd)]
+pub struct MjdTdb(pub f64);
+
+impl MjdUtc {
+    /// The same instant in TDB; fails before 1972 (no leap-second offset).
+    pub fn to_tdb(self) -> Result<MjdTdb> {
+        to_tdb(self.0, TimeScale::Utc)
+    }
+}
+
+impl MjdTdb {
+    /// The same instant in UTC; fails before 1972 (no leap-second offset).
+    pub fn to_utc(self) -> Result<MjdUtc> {
+        to_utc(self.0, TimeScale::Tdb)
     }
 }
 
@@ -103,10 +130,10 @@ pub fn tt_minus_utc_s(utc_mjd: f64) -> Option<f64> {
     tai_minus_utc_s(utc_mjd).map(|d| d + TT_MINUS_TAI_S)
 }
 
-/// Convert an MJD in `scale` to TDB MJD.
-pub fn to_tdb_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
+/// Convert an MJD in `scale` to TDB.
+pub fn to_tdb(mjd: f64, scale: TimeScale) -> Result<MjdTdb> {
     let tt = match scale {
-        TimeScale::Tdb => return Ok(mjd),
+        TimeScale::Tdb => return Ok(MjdTdb(mjd)),
         TimeScale::Tt => mjd,
         TimeScale::Tai => mjd + TT_MINUS_TAI_S / SECONDS_PER_DAY,
         TimeScale::Utc => {
@@ -118,13 +145,13 @@ pub fn to_tdb_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
             mjd + d / SECONDS_PER_DAY
         }
     };
-    Ok(tt + tdb_minus_tt_s(tt) / SECONDS_PER_DAY)
+    Ok(MjdTdb(tt + tdb_minus_tt_s(tt) / SECONDS_PER_DAY))
 }
 
-/// Convert an MJD in `scale` to UTC MJD (used for the Earth's rotation and night numbers).
-pub fn to_utc_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
+/// Convert an MJD in `scale` to UTC (used for the Earth's rotation and night numbers).
+pub fn to_utc(mjd: f64, scale: TimeScale) -> Result<MjdUtc> {
     let tai = match scale {
-        TimeScale::Utc => return Ok(mjd),
+        TimeScale::Utc => return Ok(MjdUtc(mjd)),
         TimeScale::Tai => mjd,
         TimeScale::Tt => mjd - TT_MINUS_TAI_S / SECONDS_PER_DAY,
         TimeScale::Tdb => {
@@ -140,12 +167,7 @@ pub fn to_utc_mjd(mjd: f64, scale: TimeScale) -> Result<f64> {
     };
     let guess = tai - tai_minus_utc_s(tai).ok_or_else(before_1972)? / SECONDS_PER_DAY;
     let d = tai_minus_utc_s(guess).ok_or_else(before_1972)?;
-    Ok(tai - d / SECONDS_PER_DAY)
-}
-
-/// Convert a TDB MJD to a UTC MJD (inverse of `to_tdb_mjd` for UTC).
-pub fn tdb_to_utc_mjd(tdb_mjd: f64) -> Result<f64> {
-    to_utc_mjd(tdb_mjd, TimeScale::Tdb)
+    Ok(MjdUtc(tai - d / SECONDS_PER_DAY))
 }
 
 #[cfg(test)]
@@ -163,9 +185,8 @@ mod tests {
     #[test]
     fn utc_tdb_round_trip() {
         for mjd in [48000.3, 51544.5, 57753.9, 60000.123456, 65000.0] {
-            let tdb = to_tdb_mjd(mjd, TimeScale::Utc).unwrap();
-            let back = tdb_to_utc_mjd(tdb).unwrap();
-            assert!((back - mjd).abs() * 86400.0 < 1e-6, "{mjd}");
+            let back = MjdUtc(mjd).to_tdb().unwrap().to_utc().unwrap();
+            assert!((back.0 - mjd).abs() * 86400.0 < 1e-6, "{mjd}");
         }
     }
 }

@@ -6,9 +6,9 @@ use common::{Fixture, fixture};
 use nalgebra::Vector3;
 use seine::io::objects::ObjectTable;
 use seine::orbit::{Center, Elements, Orbit};
+use seine::population::ephemeris::ephemeris_table;
 use seine::sky::apparent::observe;
 use seine::sky::earth::{EarthSun, earth_sun_exact};
-use seine::sky::ephemeris::ephemeris_table;
 use seine::sky::observer::{ObserverState, Site};
 use seine::time::{self, TimeScale};
 
@@ -281,7 +281,7 @@ fn barycentric_elements_ephemeris() {
 /// A circular-orbit object placed exactly at opposition as seen from the geocentre.
 fn opposition_rate(r_au: f64, tdb: f64) -> f64 {
     let es = earth_sun_exact(tdb);
-    let obs = ObserverState::new(&es, None, tdb, tdb);
+    let obs = ObserverState::geocentre(&es, seine::time::MjdTdb(tdb));
     // Ecliptic longitude of the anti-Sun direction: the object on the Earth–Sun line.
     let dir = seine::sky::frames::icrs_to_ecliptic(&es.earth_helio).normalize();
     let lon = dir.y.atan2(dir.x);
@@ -292,7 +292,7 @@ fn opposition_rate(r_au: f64, tdb: f64) -> f64 {
         node: 0.0,
         argperi: 0.0,
         mean_anomaly: lon,
-        epoch_mjd_tdb: tdb - r_au / seine::orbit::C_AU_PER_DAY,
+        epoch_mjd_tdb: tdb - r_au / seine::foundation::constants::C_AU_PER_DAY,
         center: Center::Heliocentric,
     };
     observe(&Orbit::new(el), &obs).rate_arcsec_per_hr()

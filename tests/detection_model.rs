@@ -18,13 +18,13 @@ use std::path::Path;
 
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
-use seine::engine::{Candidates, PreparedSurvey, Record, observe_object};
+use seine::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use seine::io::objects::ObjectTable;
 use seine::orbit::Orbit;
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::lon_lat;
+use seine::sky::observer::observer_states;
 use seine::survey::Survey;
 use seine::survey::footprint::from_focal_plane;
 use seine::time::TimeScale;
@@ -191,7 +191,7 @@ fn triplets_found(objects: &ObjectTable, survey: Survey, mode: Candidates) -> f6
     let found = (0..objects.len())
         .filter(|&i| {
             let rng = object_stream(3, objects.ids[i], Purpose::Observe);
-            let out = observe_object(objects, i, &surveys, (mode, Record::Everything), rng, &mut scratch);
+            let out = observe_object(objects, i, &surveys, (mode, StopRule::Everything), rng, &mut scratch);
             let own = |e: &&seine::engine::Event| (e.visit as usize) / 3 == i;
             out.events.iter().filter(own).filter(|e| e.detected).count() == 3
         })

@@ -124,6 +124,14 @@ fn interrupt_after(child: &mut Child, out: &Path, chunks: usize, signal: &str) {
     assert!(st.success());
 }
 
+fn assert_no_temporaries(out: &Path) {
+    let leftovers: Vec<_> = walk(out)
+        .into_iter()
+        .filter(|p| p.to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "temporary files left: {leftovers:?}");
+}
+
 fn no_final_tables(out: &Path) {
     for t in ["objects.parquet", "detections.parquet", "summary.json"] {
         assert!(!out.join(t).exists(), "{t} exists after an interrupted run");
@@ -137,27 +145,40 @@ fn killed_run_resumes_to_identical_output() {
     let t = Instant::now();
     s.observe("whole", &chunked);
     eprintln!("uninterrupted run: {:.2} s", t.elapsed().as_secs_f64());
-    for (signal, name) in [("-KILL", "killed"), ("-INT", "interrupted")] {
+    // A second SIGINT ends the run at once (during the chunk in flight): its temporaries go too.
+    for (signal, name, twice) in [
+        ("-KILL", "killed", false),
+        ("-INT", "interrupted", false),
+        ("-INT", "interrupted-twice", true),
+    ] {
         let out = s.path(name);
         let mut child = s.observe_cmd(name, &chunked).stderr(Stdio::piped()).spawn().unwrap();
         interrupt_after(&mut child, &out, 3, signal);
+        if twice {
+            std::thread::sleep(Duration::from_millis(5));
+            let st = Command::new("kill")
+                .args([signal, &child.id().to_string()])
+                .status()
+                .unwrap();
+            assert!(st.success());
+        }
         let o = child.wait_with_output().unwrap();
         if signal == "-INT" {
-            // A clean stop: status 2 and the advice to resume.
+            // A clean stop: status 2 and the advice to resume (or, stopped at once, the word).
             assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
-            assert!(stderr(&o).contains("--resume"), "{}", stderr(&o));
+            let said = if twice { "interrupted" } else { "--resume" };
+            assert!(stderr(&o).contains(said), "{}", stderr(&o));
         } else {
             assert_eq!(o.status.code(), None, "SIGKILL ends the process without a status");
         }
         no_final_tables(&out);
+        if signal == "-INT" {
+            assert_no_temporaries(&out);
+        }
         let resumed = s.observe(name, &[&chunked[..], &["--resume"]].concat());
         assert!(stderr(&resumed).contains("chunks reused"), "{}", stderr(&resumed));
         assert_same_outputs(&s.path("whole"), &out);
-        let leftovers: Vec<_> = walk(&out)
-            .into_iter()
-            .filter(|p| p.to_string_lossy().ends_with(".tmp"))
-            .collect();
-        assert!(leftovers.is_empty(), "temporary files left: {leftovers:?}");
+        assert_no_temporaries(&out);
     }
 }
 

@@ -7,14 +7,14 @@ use std::path::Path;
 
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
-use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
+use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use seine::io::objects::ObjectTable;
 use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::lon_lat;
+use seine::sky::observer::observer_states;
 use seine::survey::Survey;
 use seine::time::TimeScale;
 
@@ -103,14 +103,14 @@ fn aimed_visits(objects: &ObjectTable, seed: u64, n_nights: usize, offset_deg: f
 }
 
 fn run_all(objects: &ObjectTable, surveys: &[PreparedSurvey], mode: Candidates) -> Vec<ObjectOutcome> {
-    run_recording(objects, surveys, mode, Record::Everything)
+    run_recording(objects, surveys, mode, StopRule::Everything)
 }
 
 fn run_recording(
     objects: &ObjectTable,
     surveys: &[PreparedSurvey],
     mode: Candidates,
-    record: Record,
+    record: StopRule,
 ) -> Vec<ObjectOutcome> {
     let mut scratch = Vec::new();
     (0..objects.len())
@@ -171,8 +171,12 @@ fn index_agrees_with_brute_force_on_every_decision() {
 }
 
 /// The discovery event of survey `s`, if any.
+/// Survey s's discovering event, without what it measured (the stop rules leave that out).
 fn discovery_of(o: &ObjectOutcome, s: usize) -> Option<seine::engine::Event> {
-    o.surveys[s].discovery_event.map(|e| o.events[e])
+    o.surveys[s].discovery_event.map(|e| seine::engine::Event {
+        measured: Default::default(),
+        ..o.events[e]
+    })
 }
 
 #[test]
@@ -194,6 +198,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
             "fast",
             "[motion]\nmin_rate_arcsec_per_hr = 1.5\nmax_rate_arcsec_per_hr = 500.0\n",
         ),
+        // Per tracklet, and a table that is not monotone in magnitude (the bound on p must
+        // hold for both).
+        (
+            "tracklet",
+            "[efficiency]\nmodel = \"tanh-product\"\npeak = 0.9\nfall_width_mag = 0.15\ntail_width_mag = 0.45\nper = \"tracklet\"\n",
+        ),
+        (
+            "table",
+            "[efficiency]\nmodel = \"table\"\ndm = [-3.0, -1.0, 0.0, 0.5, 1.5]\nrates = [0.0, 10.0]\neta = [[0.5, 0.4], [0.9, 0.8], [0.4, 0.3], [0.6, 0.2], [0.0, 0.0]]\n",
+        ),
     ]
     .iter()
     .map(|(name, extra)| {
@@ -207,9 +221,9 @@ fn stopping_at_the_verdict_changes_no_verdict() {
         ))
     })
     .collect();
-    let all = run_recording(&objects, &surveys, Candidates::Indexed, Record::Everything);
-    let until_secured = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilSecured);
-    let until_found = run_recording(&objects, &surveys, Candidates::Indexed, Record::UntilDiscovery);
+    let all = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::Everything);
+    let until_secured = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::UntilSecured);
+    let until_found = run_recording(&objects, &surveys, Candidates::Indexed, StopRule::UntilDiscovery);
     let (mut skipped, mut discovered, mut secured) = (vec![0; surveys.len()], 0, 0);
     for i in 0..objects.len() {
         let orbit = Orbit::new(objects.elements[i]);
@@ -234,6 +248,16 @@ fn stopping_at_the_verdict_changes_no_verdict() {
                 discovery_of(&all[i], s),
                 discovery_of(&until_secured[i], s),
                 "object {i} survey {s}"
+            );
+            // The bound on the detection probability bounds every visit's (what lets the
+            // stop rules skip a survey whose efficiency draws all lie above it).
+            let bound = ps.reach.p_bound(&objects, i, &orbit);
+            assert!(
+                all[i]
+                    .events
+                    .iter()
+                    .all(|e| e.survey as usize != s || e.p_detect <= bound),
+                "object {i} survey {s}: bound {bound}"
             );
             if !ps.reach.could_detect(&objects, i, &orbit) {
                 skipped[s] += 1;
@@ -294,13 +318,13 @@ fn object_at(ra_deg: f64, dec_deg: f64, r_au: f64, mjd: f64, h_mag: f64) -> Obje
     let dir = seine::sky::frames::unit_vector(ra_deg.to_radians(), dec_deg.to_radians());
     let mut el = t.elements[0];
     for _ in 0..4 {
-        let tau = r_au / seine::orbit::C_AU_PER_DAY;
+        let tau = r_au / seine::foundation::constants::C_AU_PER_DAY;
         let pos_bary = obs.pos + dir * r_au;
         let sun_then = obs.sun_pos - obs.sun_vel * tau;
         let helio = seine::sky::frames::icrs_to_ecliptic(&(pos_bary - sun_then));
         let h = helio.norm();
         let up = nalgebra::Vector3::new(0.0, 0.0, 1.0);
-        let vel = up.cross(&helio).normalize() * (seine::orbit::GM_SUN / h).sqrt();
+        let vel = up.cross(&helio).normalize() * (seine::foundation::constants::GM_SUN / h).sqrt();
         el = Elements::from_state(&helio, &vel, obs.tdb_mjd - tau, Center::Heliocentric);
         t.elements[0] = el;
         let a = observe(&Orbit::new(el), &obs);

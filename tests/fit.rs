@@ -8,8 +8,8 @@ mod scenario;
 
 use common::Fixture;
 use seine::fit::Observation;
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::unit_vector;
+use seine::sky::observer::observer_states;
 use seine::survey::visits::night_of;
 use seine::time::TimeScale;
 

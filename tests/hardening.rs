@@ -155,6 +155,19 @@ fn duplicate_ids_are_refused() {
     c.fails(&c.observe(&[]), &["objects.csv", "row 2", "id", "unique"]);
 }
 
+/// Ids that are not non-negative integers of 64 bits: negative, or too long for 64 bits
+/// (a 23-digit id is one sentence, not a parser dump).
+#[test]
+fn ids_that_are_not_non_negative_integers_are_refused() {
+    let c = Case::new(&[("objects.csv", &OBJECTS.replace("\n1,60.0", "\n-7,60.0"))]);
+    c.fails(&c.observe(&[]), &["objects.csv", "row 2", "id", "non-negative", "-7"]);
+    let c = Case::new(&[(
+        "objects.csv",
+        &OBJECTS.replace("\n1,60.0", "\n12345678901234567890123,60.0"),
+    )]);
+    c.fails(&c.observe(&[]), &["objects.csv", "id"]);
+}
+
 /// An unknown band: a visit band with no colour column while the objects give colours for
 /// other bands (a misspelt band or a missing column); see `engine::run::check_bands`.
 #[test]
@@ -202,6 +215,25 @@ fn missing_visits_of_a_planned_survey_repeat_the_command_of_its_header() {
     );
 }
 
+/// A cadence plan whose nights give no visit (here one night with every field too close to
+/// the Sun) is refused with the nights' fates, not written as an empty survey.
+#[test]
+fn a_plan_that_makes_no_visit_is_refused() {
+    let shipped =
+        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/survey-configs/deep-plan.toml")).unwrap();
+    let plan = shipped
+        .replace("last_night = 61830", "last_night = 61440")
+        .replace("weather_loss = 0.2", "weather_loss = 0.0")
+        .replace("ecliptic_lon_min_deg = 155.0", "ecliptic_lon_min_deg = 315.0")
+        .replace("ecliptic_lon_max_deg = 165.0", "ecliptic_lon_max_deg = 325.0");
+    let c = Case::new(&[]);
+    std::fs::write(c.dir.path().join("plan.toml"), plan).unwrap();
+    c.fails(
+        &args(&["plan", "--plan", &c.p("plan.toml"), "--out", &c.p("v.parquet")]),
+        &["plan.toml", "no visit", "1 no-field"],
+    );
+}
+
 #[test]
 fn a_cadence_plan_given_as_a_survey_spec_is_named_as_such() {
     let c = Case::new(&[(
@@ -223,69 +255,46 @@ fn a_survey_spec_given_as_a_cadence_plan_is_named_as_such() {
 }
 
 /// A key or value that was renamed: the message names the new one, "`OLD` was renamed `NEW`".
-fn refuses_renamed(spec: &str, old: &str, new: &str) {
-    let c = Case::new(&[("survey.toml", spec)]);
-    c.fails(
-        &c.observe(&[]),
-        &["survey.toml", &format!("`{old}` was renamed `{new}`")],
-    );
-}
-
+/// One case per renamed word of the survey spec: (what is appended to the spec, old, new).
 #[test]
-fn renamed_fill_factor() {
-    refuses_renamed(
-        &format!("{SPEC}fill_factor = 0.9\n"),
-        "fill_factor",
-        "random_live_fraction",
-    );
-}
-
-#[test]
-fn renamed_min_rate() {
-    refuses_renamed(
-        &format!("{SPEC}[motion]\nmin_rate = 1.0\n"),
-        "min_rate",
-        "min_rate_arcsec_per_hr",
-    );
-}
-
-#[test]
-fn renamed_max_rate() {
-    refuses_renamed(
-        &format!("{SPEC}[motion]\nmax_rate = 100.0\n"),
-        "max_rate",
-        "max_rate_arcsec_per_hr",
-    );
-}
-
-#[test]
-fn renamed_track_after_days() {
-    let spec = format!("{SPEC}[linking]\ntrack_after_days = 30.0\n");
-    refuses_renamed(&spec, "track_after_days", "secure_after_days");
-}
-
-#[test]
-fn renamed_efficiency_blocks() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"step\"\n[efficiency.blocks.deep]\npeak = 0.5\n");
-    refuses_renamed(&spec, "blocks", "classes");
-}
-
-#[test]
-fn renamed_double_tanh_model() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"double-tanh\"\nfall_width_mag = 0.2\ntail_width_mag = 0.5\n");
-    refuses_renamed(&spec, "double-tanh", "tanh-product");
-}
-
-#[test]
-fn renamed_w1_mag() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nw1_mag = 0.2\ntail_width_mag = 0.5\n");
-    refuses_renamed(&spec, "w1_mag", "fall_width_mag");
-}
-
-#[test]
-fn renamed_w2_mag() {
-    let spec = format!("{SPEC}[efficiency]\nmodel = \"tanh-product\"\nfall_width_mag = 0.2\nw2_mag = 0.5\n");
-    refuses_renamed(&spec, "w2_mag", "tail_width_mag");
+fn renamed_keys_and_values_name_their_new_word() {
+    let cases = [
+        ("fill_factor = 0.9\n", "fill_factor", "random_live_fraction"),
+        ("[motion]\nmin_rate = 1.0\n", "min_rate", "min_rate_arcsec_per_hr"),
+        ("[motion]\nmax_rate = 100.0\n", "max_rate", "max_rate_arcsec_per_hr"),
+        (
+            "[linking]\ntrack_after_days = 30.0\n",
+            "track_after_days",
+            "secure_after_days",
+        ),
+        (
+            "[efficiency]\nmodel = \"step\"\n[efficiency.blocks.deep]\npeak = 0.5\n",
+            "blocks",
+            "classes",
+        ),
+        (
+            "[efficiency]\nmodel = \"double-tanh\"\nfall_width_mag = 0.2\ntail_width_mag = 0.5\n",
+            "double-tanh",
+            "tanh-product",
+        ),
+        (
+            "[efficiency]\nmodel = \"tanh-product\"\nw1_mag = 0.2\ntail_width_mag = 0.5\n",
+            "w1_mag",
+            "fall_width_mag",
+        ),
+        (
+            "[efficiency]\nmodel = \"tanh-product\"\nfall_width_mag = 0.2\nw2_mag = 0.5\n",
+            "w2_mag",
+            "tail_width_mag",
+        ),
+    ];
+    for (tail, old, new) in cases {
+        let c = Case::new(&[("survey.toml", &format!("{SPEC}{tail}"))]);
+        c.fails(
+            &c.observe(&[]),
+            &["survey.toml", &format!("`{old}` was renamed `{new}`")],
+        );
+    }
 }
 
 #[test]
@@ -607,6 +616,19 @@ fn merges_check_their_shards() {
     assert!(o.status.success(), "{}", common::stderr(&o));
     let out = c.p("out");
     c.fails(&args(&["merge", &out, "--out", &out]), &["one of the inputs"]);
+    // A damaged part (one byte changed in the middle) differs from its manifest's checksum.
+    let part = common::walk(&c.dir.path().join("out"))
+        .into_iter()
+        .find(|p| p.to_string_lossy().contains("parts") && p.extension().is_some_and(|e| e == "parquet"))
+        .expect("a part of the shard");
+    let mut bytes = std::fs::read(&part).unwrap();
+    let mid = bytes.len() / 2;
+    bytes[mid] ^= 0x55;
+    std::fs::write(&part, bytes).unwrap();
+    c.fails(
+        &args(&["merge", &out, "--out", &c.p("merged")]),
+        &["checksum", "--resume"],
+    );
 }
 
 /// The orbit-fit options outside their plausible range (src/ranges.rs): observe's astrometric

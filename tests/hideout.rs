@@ -200,6 +200,13 @@ fn the_size_prior_sets_h_within_its_bounds() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("h_mag"), "{e}");
+    // A diameter without an albedo (or the reverse) is refused, not read with a default.
+    let half = PRIOR.replace("h_mag = { dist = \"fixed\", value = -3.0 }", "")
+        + "[size]\ndiameter_km = { dist = \"fixed\", value = 5000.0 }\n";
+    let e = Prior::read(&prior(dir.path(), &half), None, None)
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("give both diameter_km and albedo"), "{e}");
 }
 
 /// The posterior map's total probability equals the surviving fraction, and the credible

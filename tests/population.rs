@@ -463,7 +463,7 @@ h_mag = { dist = "fixed", value = 7.0 }
     );
     let df = pop.frame(pop.draw_ids(1, 0..3).unwrap());
     let m = df.column("mean_anomaly_deg").unwrap().f64().unwrap().get(0).unwrap();
-    let n = (seine::orbit::GM_SUN / 1.0e6).sqrt();
+    let n = (seine::foundation::constants::GM_SUN / 1.0e6).sqrt();
     assert!((m - (n * 10000.0).to_degrees().rem_euclid(360.0)).abs() < 1e-9, "{m}");
 }
 

@@ -14,7 +14,7 @@ use seine::sky::horizon::{LocalSky, airmass_kasten_young, airmass_secz, dark_int
 use seine::sky::observer::Site;
 use seine::survey::Survey;
 use seine::survey::footprint::{Footprint, from_focal_plane};
-use seine::time::{TimeScale, to_tdb_mjd};
+use seine::time::MjdUtc;
 
 const DEG: f64 = std::f64::consts::PI / 180.0;
 
@@ -44,7 +44,7 @@ fn sun_altitude_matches_astropy() {
     let site = fixture_site();
     let mut worst: f64 = 0.0;
     for row in read_csv("sun_altaz.csv") {
-        let alt = sun_altitude(&site, row[0]).unwrap() / DEG;
+        let alt = sun_altitude(&site, MjdUtc(row[0])).unwrap() / DEG;
         worst = worst.max((alt - row[1]).abs());
     }
     assert!(worst < 0.01, "worst Sun altitude difference {worst}°");
@@ -59,7 +59,8 @@ fn field_altitude_and_airmass_match_astropy() {
     let (mut worst_alt, mut worst_x): (f64, f64) = (0.0, 0.0);
     for row in read_csv("sun_altaz.csv") {
         let (utc, ra, dec, alt_ref, secz_ref, ky_ref) = (row[0], row[2], row[3], row[4], row[5], row[6]);
-        let sky = LocalSky::new(&site, utc, &earth_sun_exact(to_tdb_mjd(utc, TimeScale::Utc).unwrap())).unwrap();
+        let utc = MjdUtc(utc);
+        let sky = LocalSky::new(&site, utc, &earth_sun_exact(utc.to_tdb().unwrap().0)).unwrap();
         let alt = sky.altitude(&unit_vector(ra * DEG, dec * DEG));
         worst_alt = worst_alt.max((alt / DEG - alt_ref).abs());
         // The formulas themselves, at astropy's altitude: exact agreement expected.
@@ -80,7 +81,7 @@ fn twilight_times_match_astropy() {
     let site = fixture_site();
     let mut worst: f64 = 0.0;
     for row in read_csv("twilight.csv") {
-        let (dusk, dawn) = dark_interval(&site, row[0] as i64, -18.0, |t| sun_altitude(&site, t))
+        let (dusk, dawn) = dark_interval(&site, row[0] as i64, -18.0, |t| sun_altitude(&site, MjdUtc(t)))
             .unwrap()
             .unwrap();
         worst = worst.max((dusk - row[1]).abs()).max((dawn - row[2]).abs());
@@ -532,17 +533,21 @@ fn no_random_plan_breaks_its_limits() {
             p.exposure_s,
         );
         let site = file.site;
-        let plan = make_plan(file.clone()).unwrap_or_else(|e| panic!("{e}\n{text}"));
+        // A plan with no visit is refused (its nights' fates said); nothing to recheck.
+        let plan = match make_plan(file.clone()) {
+            Err(e) if e.to_string().contains("makes no visit") => continue,
+            made => made.unwrap_or_else(|e| panic!("{e}\n{text}")),
+        };
         let v = &plan.visits;
-        let tdb0 = to_tdb_mjd(p.first_night as f64, TimeScale::Utc).unwrap();
+        let tdb0 = MjdUtc(p.first_night as f64).to_tdb().unwrap().0;
         let grid = seine::sky::earth::EphemerisGrid::covering(tdb0, tdb0 + (p.last_night - p.first_night) as f64 + 2.0);
         n_visits += v.mjd.len();
         n_plans_with_visits += (!v.mjd.is_empty()) as usize;
         for i in 0..v.mjd.len() {
             let dir = unit_vector(v.ra_deg[i] * DEG, v.dec_deg[i] * DEG);
             for dt in [-0.5, 0.0, 0.5] {
-                let t = v.mjd[i] + dt * exp / 86400.0;
-                let sky = LocalSky::new(&site, t, &grid.at(to_tdb_mjd(t, TimeScale::Utc).unwrap())).unwrap();
+                let t = MjdUtc(v.mjd[i] + dt * exp / 86400.0);
+                let sky = LocalSky::new(&site, t, &grid.at(t.to_tdb().unwrap().0)).unwrap();
                 let (sun, alt, el) = (
                     sky.sun_altitude() / DEG,
                     sky.altitude(&dir),
@@ -558,8 +563,9 @@ fn no_random_plan_breaks_its_limits() {
                 );
                 assert!(el >= emin, "plan {k} visit {i}: elongation {el}° < {emin}°\n{text}");
             }
-            let sky = LocalSky::new(&site, v.mjd[i], &grid.at(to_tdb_mjd(v.mjd[i], TimeScale::Utc).unwrap())).unwrap();
-            let moon = seine::sky::moon::moon_view(v.mjd[i], &sky.site_geo, &sky.sun_dir).unwrap();
+            let t = MjdUtc(v.mjd[i]);
+            let sky = LocalSky::new(&site, t, &grid.at(t.to_tdb().unwrap().0)).unwrap();
+            let moon = seine::sky::moon::moon_view(t, &sky.site_geo, &sky.sun_dir).unwrap();
             let rho = seine::sky::frames::separation(&moon.dir, &dir) / DEG;
             assert!(
                 rho >= moon_min,

@@ -17,7 +17,7 @@ use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
 use super::trials::{TrialObject, angle_stream, trial_id};
-use crate::engine::PreparedSurvey;
+use crate::engine::{PreparedSurvey, StopRule};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
 
@@ -312,7 +312,10 @@ fn one_map(
                 |(obj, scratch), c| {
                     let tid = trial_id(id, pass * cells as u64 + c as u64, span);
                     let (el, x) = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
-                    let found = obj.observe(el, surveys, seed, tid, scratch).discovered();
+                    // Only whether the trial was discovered counts in a map.
+                    let found = obj
+                        .observe(el, surveys, (seed, tid), StopRule::UntilDiscovery, scratch)
+                        .discovered();
                     found.then_some((x, el.node))
                 },
             )

@@ -19,7 +19,7 @@ use super::binomial::{Tally, kish_n_of};
 use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
 use super::marginals::{Statistic, WeightedEcdf};
 use super::space::{Coordinate, Space};
-use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Center;
@@ -155,7 +155,7 @@ pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> 
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
             let rng = object_stream(seed, t.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, Record::UntilDiscovery);
+            let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
             observe_object(t, i, surveys, modes, rng, scratch).discovered()
         })
         .collect();

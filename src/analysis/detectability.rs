@@ -12,7 +12,7 @@ use rayon::prelude::*;
 
 use super::binomial::Proportion;
 use super::trials::{TrialObject, angle_stream, trial_id};
-use crate::engine::PreparedSurvey;
+use crate::engine::{PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col};
@@ -100,7 +100,7 @@ fn one_object(
     for k in 0..trials {
         let tid = trial_id(objects.ids[i], k, trials);
         let el = redraw.apply(&base, &mut angle_stream(seed, tid));
-        let out = obj.observe(el, surveys, seed, tid, scratch);
+        let out = obj.observe(el, surveys, (seed, tid), StopRule::UntilSecured, scratch);
         found += out.discovered() as u64;
         secured += out.surveys.iter().any(|s| s.secured) as u64;
         for (n, s) in by_survey.iter_mut().zip(&out.surveys) {

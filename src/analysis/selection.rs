@@ -10,7 +10,7 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 
 use super::binomial::{Proportion, Tally, grid_cell, grid_index};
-use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col, proportion_columns};
@@ -76,7 +76,7 @@ pub fn selection_function(
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
             let rng = object_stream(seed, population.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, Record::UntilDiscovery);
+            let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
             observe_object(population, i, surveys, modes, rng, scratch).discovered()
         })
         .collect();

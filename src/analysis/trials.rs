@@ -9,7 +9,7 @@
 
 use rand_pcg::Pcg64;
 
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
 use crate::rng::{Purpose, object_stream};
@@ -53,19 +53,19 @@ impl TrialObject {
         self.table.elements[0]
     }
 
-    /// Run the surveys on the object with elements `el`, detection draws from trial `trial`.
+    /// Run the surveys on the object with elements `el`, detection draws from trial `trial`,
+    /// each survey until the verdict `stop` asks for (a trial needs no more: detectability
+    /// asks whether it was secured, a bias map only whether it was discovered).
     pub fn observe(
         &mut self,
         el: Elements,
         surveys: &[PreparedSurvey],
-        seed: u64,
-        trial: i64,
+        (seed, trial): (u64, i64),
+        stop: StopRule,
         scratch: &mut Vec<usize>,
     ) -> ObjectOutcome {
         self.table.elements[0] = el;
-        // The verdicts (discovered, secured) are all a trial needs.
         let rng = object_stream(seed, trial, Purpose::Observe);
-        let modes = (Candidates::Indexed, Record::UntilSecured);
-        observe_object(&self.table, 0, surveys, modes, rng, scratch)
+        observe_object(&self.table, 0, surveys, (Candidates::Indexed, stop), rng, scratch)
     }
 }

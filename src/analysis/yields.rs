@@ -12,7 +12,7 @@
 use rayon::prelude::*;
 
 use super::binomial::{Proportion, Tally};
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
@@ -50,7 +50,7 @@ fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec
         .map_init(Vec::new, |scratch, i| {
             // Verdicts and the discovery's distance are all a yield needs.
             let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, Record::UntilSecured);
+            let modes = (Candidates::Indexed, StopRule::UntilSecured);
             let out = observe_object(objects, i, surveys, modes, rng, scratch);
             per_survey(&out, surveys)
         })

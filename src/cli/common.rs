@@ -133,36 +133,10 @@ pub fn shard_from(
 }
 
 /// A flag raised by the first SIGINT or SIGTERM (a batch scheduler's preemption), so that a
-/// long run stops cleanly after the chunk in flight; a second signal ends the process at once.
+/// long run stops cleanly after the chunk in flight; a second signal ends the process at once,
+/// removing its temporaries (`seine::interrupt`).
 pub fn stop_flag() -> Result<std::sync::Arc<std::sync::atomic::AtomicBool>> {
-    use signal_hook::consts::{SIGINT, SIGTERM};
-    use signal_hook::flag;
-    let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
-    for sig in [SIGINT, SIGTERM] {
-        // Order matters: the conditional shutdown sees the flag as it was before this signal.
-        flag::register_conditional_shutdown(sig, 130, std::sync::Arc::clone(&stop))
-            .and_then(|_| flag::register(sig, std::sync::Arc::clone(&stop)))
-            .map_err(|e| Error::io(format!("cannot install the interrupt handler: {e}")))?;
-    }
-    Ok(stop)
-}
-
-/// For a command that writes one file through a temporary (`draw`): on SIGINT or SIGTERM,
-/// remove the temporary of `out` and end with status 2, so that no hidden partial file stays.
-pub fn remove_temporary_on_signal(out: &std::path::Path) -> Result<()> {
-    use signal_hook::consts::{SIGINT, SIGTERM};
-    let mut signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM])
-        .map_err(|e| Error::io(format!("cannot install the interrupt handler: {e}")))?;
-    let tmp = seine::io::table::temporary_name(out);
-    let out = out.to_path_buf();
-    std::thread::spawn(move || {
-        if signals.forever().next().is_some() {
-            let _ = std::fs::remove_file(&tmp);
-            eprintln!("seine: interrupted; {} was not written", out.display());
-            std::process::exit(2);
-        }
-    });
-    Ok(())
+    seine::interrupt::graceful_stop()
 }
 
 /// `--format parquet|csv` of an output directory's tables.

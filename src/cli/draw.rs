@@ -68,7 +68,6 @@ pub fn run(a: Args) -> Result<()> {
 }
 
 fn run_in_pool(a: Args) -> Result<()> {
-    super::common::remove_temporary_on_signal(&a.out)?;
     let shard = a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64));
     let spec = Spec::read(&a.spec)?;
     let text = std::fs::read_to_string(&a.spec).unwrap_or_default();

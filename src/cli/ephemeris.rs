@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_table};
-use seine::sky::ephemeris::ephemeris_table;
+use seine::population::ephemeris::ephemeris_table;
 use seine::time::TimeScale;
 use seine::{Error, Result};
 

@@ -183,7 +183,7 @@ fn last_visit(surveys: &[PreparedSurvey]) -> Result<f64> {
     let mut last = f64::NEG_INFINITY;
     for s in surveys {
         for &t in &s.survey.visits.mjd {
-            last = last.max(seine::time::to_utc_mjd(t, s.survey.time_scale)?);
+            last = last.max(seine::time::to_utc(t, s.survey.time_scale)?.0);
         }
     }
     Ok(last)

@@ -23,17 +23,18 @@ use rayon::prelude::*;
 use super::reach::Reach;
 use super::stripes::{Cone, Stripes};
 use super::track::Track;
-use crate::orbit::constants::C_AU_PER_DAY;
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Elements, Orbit};
 use crate::sky::earth::EarthSource;
 use crate::sky::observer::ObserverState;
 use crate::survey::Survey;
+use crate::time::{MjdTdb, MjdUtc};
 
 /// Block length in days: short enough that a 30 AU object moves < 0.15° from its node,
 /// long enough that node positions cost little next to the in-field work.
 pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
-const SITE_OFFSET_AU: f64 = 6400.0 / crate::orbit::constants::AU_KM;
+const SITE_OFFSET_AU: f64 = 6400.0 / crate::foundation::constants::AU_KM;
 /// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
 pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).
@@ -83,8 +84,8 @@ impl PreparedSurvey {
                 ObserverState::new(
                     &source.at(v.tdb_mjd[i]),
                     survey.site.as_ref(),
-                    v.utc_mjd[i],
-                    v.tdb_mjd[i],
+                    MjdUtc(v.utc_mjd[i]),
+                    MjdTdb(v.tdb_mjd[i]),
                 )
             })
             .collect();
@@ -294,7 +295,7 @@ fn make_blocks(survey: &Survey, ra: &[f64], dec: &[f64], source: &EarthSource, h
                 cap: BlockCap::new(range.clone().map(|i| v.center[i])),
                 node_tdb: node,
                 half_span: 0.5 * (t1 - t0),
-                node_observer: ObserverState::new(&source.at(node), None, node, node),
+                node_observer: ObserverState::geocentre(&source.at(node), MjdTdb(node)),
                 stripes: Stripes::new(height, range.clone(), node, tdb, ra, dec, &v.center),
                 visits: range,
             }

@@ -4,7 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-use super::parts::{MANIFEST, Manifest, part_path};
+use super::parts::{MANIFEST, Manifest, file_sha256, part_path};
 use super::run::concat_tables;
 use super::summary::Summary;
 use crate::error::{Error, Result, io_at};
@@ -58,15 +58,24 @@ pub fn refuse_output_among_inputs(inputs: &[PathBuf], out: &Path) -> Result<()> 
     Ok(())
 }
 
-/// Every part a manifest lists must be there before anything is written.
+/// Every part a manifest lists must be there, and be the file the manifest recorded (its
+/// SHA-256: a damaged or replaced part is refused), before anything is written.
 fn check_parts_present(shards: &[(PathBuf, Manifest)]) -> Result<()> {
     for (dir, m) in shards {
         for c in &m.chunks {
-            for table in ["objects", "detections"] {
+            for (table, sha) in [("objects", &c.objects_sha256), ("detections", &c.detections_sha256)] {
                 let p = part_path(dir, table, c.index);
                 if !p.is_file() {
                     return Err(Error::input(format!(
                         "{}: missing part {} listed in its {MANIFEST}; rerun that shard with --resume",
+                        dir.display(),
+                        p.display()
+                    )));
+                }
+                if file_sha256(&p)? != *sha {
+                    return Err(Error::input(format!(
+                        "{}: part {} differs from the checksum in its {MANIFEST} (damaged or \
+                         replaced); rerun that shard with --resume",
                         dir.display(),
                         p.display()
                     )));

@@ -7,7 +7,7 @@
 //! light-time-corrected position only for candidate visits whose centre lies within the footprint's bounding
 //! radius plus the object's largest possible motion since the node. Everything else is
 //! bookkeeping. `Candidates::All` is the plain brute force, kept for verification.
-//! Analyses that need only who discovered what (`Record::UntilDiscovery`) stop each survey
+//! Analyses that need only who discovered what (`StopRule::UntilDiscovery`) stop each survey
 //! at its discovery and skip surveys that provably cannot detect the object (`reach`).
 
 pub mod discoveries;
@@ -24,5 +24,5 @@ pub mod track;
 
 pub use index::{Candidates, PreparedSurvey};
 pub use outcome::{Event, ObjectOutcome, SurveyOutcome};
-pub use pipeline::{Record, observe_object};
+pub use pipeline::{StopRule, observe_object};
 pub use run::{ObserveOptions, ObserveReport, observe};

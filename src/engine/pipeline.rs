@@ -5,7 +5,7 @@
 //! 64-bit key per survey (in the order given); survey s draws from `rng::substream(key_s)`,
 //! two uniforms per in-field event in visit order, the first against the random live fraction and
 //! the second against p_detect (`survey::decision`: with the dead regions, the one detection rule). A survey's draws depend only on its own in-field set, so any
-//! candidate strategy gives identical draws, and a survey that stops early (`Record`) moves
+//! candidate strategy gives identical draws, and a survey that stops early (`StopRule`) moves
 //! no other survey's draws.
 
 use rand::{Rng, RngExt};
@@ -20,16 +20,18 @@ use crate::sky::apparent::{direction_from, observe_from};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};
 use crate::survey::Detection;
 
-/// How much of an object's history the engine works out.
+/// The stop rule: how much of an object's history the engine works out, survey by survey.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum Record {
+pub enum StopRule {
     /// Every in-field event and each survey's whole verdict (`seine observe`).
     #[default]
     Everything,
     /// Each survey only until its verdict is settled: up to the detection that makes the
     /// object secured (or to the end, if it never is), and not at all where `reach` proves
-    /// the survey cannot detect the object. `discovered`, `secured` and the discovery are
-    /// exact; the counts cover only the events worked out.
+    /// the survey cannot detect the object or where no candidate's efficiency draw is below
+    /// its bound on the detection probability (`never_detects`). `discovered`, `secured` and
+    /// the discovery are exact; the counts cover only the events worked out, and the events
+    /// carry no measurement (`Event::measured` is the default).
     UntilSecured,
     /// As `UntilSecured`, but each survey stops at the discovery: `secured` is not worked
     /// out (false). For analyses that need only who discovered what, and when.
@@ -41,7 +43,7 @@ pub fn observe_object(
     objects: &ObjectTable,
     i: usize,
     surveys: &[PreparedSurvey],
-    (mode, record): (Candidates, Record),
+    (mode, stop): (Candidates, StopRule),
     mut rng: Pcg64,
     scratch: &mut Vec<usize>,
 ) -> ObjectOutcome {
@@ -54,9 +56,12 @@ pub fn observe_object(
     for (s, ps) in surveys.iter().enumerate() {
         // Every survey takes its key, skipped or not, so that the keys stay in survey order.
         let key = rng.next_u64();
-        if record != Record::Everything && !ps.reach.could_detect(objects, i, &orbit) {
-            out.surveys.push(SurveyOutcome::default());
-            continue;
+        if stop != StopRule::Everything {
+            let p_max = ps.reach.p_bound(objects, i, &orbit);
+            if p_max == 0.0 || never_detects(ps, &orbit, mode, key, p_max, scratch) {
+                out.surveys.push(SurveyOutcome::default());
+                continue;
+            }
         }
         let mut draws = substream(key);
         let mut walk = ps.walk(&orbit, mode);
@@ -75,13 +80,16 @@ pub fn observe_object(
                 };
                 let u = (draws.random::<f64>(), draws.random::<f64>());
                 ev.detected = decide.detects(v, (ev.ra_rad, ev.dec_rad), ev.p_detect, u);
-                ev.measured = ps
-                    .survey
-                    .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
+                if stop == StopRule::Everything {
+                    // What a detection measures is for the output tables only.
+                    ev.measured = ps
+                        .survey
+                        .measure(v, ev.mag, ev.rate_arcsec_per_hr, ev.detected.then_some(u.1));
+                }
                 out.events.push(ev);
                 if ev.detected {
                     dets.push(detection(ps, &ev));
-                    if settled(ps, record, &dets, &mut discovered_mjd) {
+                    if settled(ps, stop, &dets, &mut discovered_mjd) {
                         break 'blocks;
                     }
                 }
@@ -90,6 +98,32 @@ pub fn observe_object(
         out.surveys.push(link_survey(ps, &dets, &out.events[first..], first));
     }
     out
+}
+
+/// Whether the survey provably detects nothing of the object, without a single exact
+/// position: every candidate's efficiency draw (the second of its pair in the survey's stream,
+/// `key`) is at least `p_max`, the bound on its detection probability (`reach::p_bound`).
+/// The candidates hold every in-field event and the k-th in-field event takes the k-th pair,
+/// so no event then passes the efficiency test. Stops at the first draw below the bound.
+fn never_detects(
+    ps: &PreparedSurvey,
+    orbit: &Orbit,
+    mode: Candidates,
+    key: u64,
+    p_max: f64,
+    scratch: &mut Vec<usize>,
+) -> bool {
+    let mut draws = substream(key);
+    let mut walk = ps.walk(orbit, mode);
+    while walk.next_block(scratch) {
+        for _ in 0..scratch.len() {
+            let _live: f64 = draws.random();
+            if draws.random::<f64>() < p_max {
+                return false;
+            }
+        }
+    }
+    true
 }
 
 /// The exact test of one candidate visit; an event when the object is in the footprint.
@@ -140,15 +174,15 @@ fn in_field_event(
 }
 
 /// Whether, with `dets` the survey's detections so far, the survey's verdict is settled for
-/// `record`; `discovered_mjd` keeps the discovery's epoch between calls.
-fn settled(ps: &PreparedSurvey, record: Record, dets: &[Detection], discovered_mjd: &mut Option<f64>) -> bool {
+/// `stop`; `discovered_mjd` keeps the discovery's epoch between calls.
+fn settled(ps: &PreparedSurvey, stop: StopRule, dets: &[Detection], discovered_mjd: &mut Option<f64>) -> bool {
     let rules = &ps.survey.linking;
     let last = dets.last().expect("called after a detection").mjd;
-    match (record, *discovered_mjd) {
-        (Record::Everything, _) => false,
-        (Record::UntilDiscovery, _) => rules.discovers_at_last(dets),
-        (Record::UntilSecured, Some(t)) => last - t >= rules.secure_after_days,
-        (Record::UntilSecured, None) => {
+    match (stop, *discovered_mjd) {
+        (StopRule::Everything, _) => false,
+        (StopRule::UntilDiscovery, _) => rules.discovers_at_last(dets),
+        (StopRule::UntilSecured, Some(t)) => last - t >= rules.secure_after_days,
+        (StopRule::UntilSecured, None) => {
             if rules.discovers_at_last(dets) {
                 *discovered_mjd = Some(last);
             }

@@ -13,11 +13,18 @@
 //! and light-curve offset it can have. A survey whose rate window starts above that rate,
 //! or whose efficiency is zero (see `survey::efficiency`) at that magnitude in every visit,
 //! cannot detect the object: skipping it changes no outcome.
+//!
+//! The same magnitude bound gives an upper bound on the detection probability in any visit
+//! (`p_bound`: the deepest visit of each efficiency class at that magnitude). A survey
+//! detects an object only if some in-field event's efficiency draw falls below its
+//! probability (`survey::decision`), so when none of the first n draws of the survey's
+//! stream falls below the bound, n or fewer in-field events detect nothing
+//! (`pipeline::never_detects`).
 
 use super::index::{OBSERVER_SPEED, speed_bound};
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::orbit::constants::C_AU_PER_DAY;
 use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 
@@ -38,6 +45,8 @@ pub struct Reach {
     min_rate_arcsec_per_hr: f64,
     /// Magnitude at and beyond which every visit's detection probability is zero (+∞: none).
     zero_beyond_mag: f64,
+    /// Each efficiency class with visits: its model and its deepest visit's depth.
+    deepest: Vec<(crate::survey::efficiency::Efficiency, f64)>,
     /// Bands of the visits other than the reference band.
     other_bands: Vec<String>,
 }
@@ -55,11 +64,15 @@ impl Reach {
         for (&b, &d) in v.efficiency_class.iter().zip(&v.depth_mag) {
             deepest[b as usize] = deepest[b as usize].max(d);
         }
-        let zero_beyond_mag = deepest
+        let deepest: Vec<_> = deepest
             .iter()
             .enumerate()
             .filter(|(_, d)| d.is_finite())
-            .map(|(b, d)| survey.efficiency.for_class(b as u16).zero_beyond_mag(*d))
+            .map(|(b, d)| (survey.efficiency.for_class(b as u16).clone(), *d))
+            .collect();
+        let zero_beyond_mag = deepest
+            .iter()
+            .map(|(eff, d)| eff.zero_beyond_mag(*d))
             .fold(f64::NEG_INFINITY, f64::max);
         let mut used = vec![false; v.band_names.len()];
         v.band.iter().for_each(|&b| used[b as usize] = true);
@@ -75,24 +88,38 @@ impl Reach {
             half_span_days: 0.5 * (t1 - t0),
             min_rate_arcsec_per_hr: survey.motion.min_rate_arcsec_per_hr,
             zero_beyond_mag,
+            deepest,
             other_bands,
         }
     }
 
     /// False only when the survey provably cannot detect object `i` (its orbit `orbit`).
     pub fn could_detect(&self, objects: &ObjectTable, i: usize, orbit: &Orbit) -> bool {
+        self.p_bound(objects, i, orbit) > 0.0
+    }
+
+    /// An upper bound on object `i`'s detection probability in any visit of the survey: 0
+    /// when the survey provably cannot detect it, 1 when nothing is known.
+    pub fn p_bound(&self, objects: &ObjectTable, i: usize, orbit: &Orbit) -> f64 {
         if !self.mid_tdb.is_finite() {
-            return false; // no visits
+            return 0.0; // no visits
         }
         let v_obj = speed_bound(&orbit.elements);
         let Some(delta_min) = self.nearest_au(orbit, v_obj) else {
-            return true;
+            return 1.0;
         };
         let max_reachable_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
         if max_reachable_rate < self.min_rate_arcsec_per_hr {
-            return false;
+            return 0.0;
         }
-        self.brightest_mag(objects, i, delta_min) < self.zero_beyond_mag
+        let mag = self.brightest_mag(objects, i, delta_min);
+        if !(mag < self.zero_beyond_mag) {
+            return 0.0;
+        }
+        self.deepest
+            .iter()
+            .map(|(eff, depth)| eff.largest_p(mag, *depth))
+            .fold(0.0, f64::max)
     }
 
     /// A lower bound on the observer–object distance over the span, AU; `None` if too close.

@@ -13,7 +13,7 @@ use super::discoveries;
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
 use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
-use super::pipeline::{Record, observe_object};
+use super::pipeline::{StopRule, observe_object};
 use super::summary::Summary;
 use crate::error::{Error, Result};
 use crate::io::objects::{ObjectSource, ObjectTable};
@@ -265,7 +265,14 @@ fn compute_chunk(
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
             let rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
-            observe_object(objects, i, surveys, (opts.candidates, Record::Everything), rng, scratch)
+            observe_object(
+                objects,
+                i,
+                surveys,
+                (opts.candidates, StopRule::Everything),
+                rng,
+                scratch,
+            )
         })
         .collect();
     let mut summary = Summary::new(surveys);

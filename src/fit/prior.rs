@@ -5,7 +5,7 @@
 //! no source); with v = (α̇, β̇, γ̇)/γ and r ≈ 1/γ, each of α̇, β̇, γ̇ is N(0, GM γ³/3). GM is the
 //! Sun's: the prior is a scale, and the planets' 0.13 % does not matter to it.
 
-use crate::orbit::constants::GM_SUN;
+use crate::foundation::constants::GM_SUN;
 
 /// 1σ of α̇, β̇ or γ̇ under the prior, per day, at inverse distance γ (AU⁻¹).
 pub fn velocity_sigma(gamma: f64) -> f64 {

@@ -7,7 +7,7 @@ use super::astrometry::Observation;
 use crate::engine::index::PreparedSurvey;
 use crate::engine::outcome::{Event, ObjectOutcome};
 use crate::error::{Error, Result};
-use crate::orbit::constants::ARCSEC;
+use crate::foundation::units::ARCSEC;
 use crate::ranges::check_option;
 use crate::sky::frames::unit_vector;
 

@@ -2,7 +2,7 @@
 
 use rayon::prelude::*;
 
-use crate::engine::{Candidates, PreparedSurvey, Record, observe_object};
+use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
 use crate::rng::{Purpose, object_stream};
@@ -58,7 +58,7 @@ fn evaluate_one(
     // The same stream `seine observe` uses, so a draw's fate matches observe on the same table.
     // Only who discovered the draw matters here: each survey stops at its discovery.
     let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-    let modes = (Candidates::Indexed, Record::UntilDiscovery);
+    let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
     let out = observe_object(objects, i, surveys, modes, rng, scratch);
     let discovered_by = out
         .surveys

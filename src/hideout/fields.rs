@@ -3,8 +3,6 @@
 //! then the best field among the cells not yet taken, and so on. A field holds the cells
 //! whose centres lie within the radius, so the radius should span several cells.
 
-use std::f64::consts::PI;
-
 use super::tally::{MAG_BINS, MAG_LO, MAG_STEP, SkyTally};
 use crate::sky::frames::{separation, unit_vector};
 
@@ -28,16 +26,9 @@ pub struct Field {
 
 /// Cells of `order` whose centres lie within `radius` of (ra, dec).
 pub fn cells_within(order: u8, ra: f64, dec: f64, radius: f64) -> Vec<usize> {
-    let centre = unit_vector(ra, dec);
-    // Widen the cone by more than a cell's half-diagonal so no cell whose centre is inside is missed.
-    let margin = 2.0 * (PI / (3.0 * 4f64.powi(order as i32))).sqrt();
-    cdshealpix::nested::cone_coverage_approx_flat(order, ra, dec, (radius + margin).min(PI))
-        .iter()
-        .map(|&h| h as usize)
-        .filter(|&h| {
-            let (lon, lat) = cdshealpix::nested::center(order, h as u64);
-            separation(&centre, &unit_vector(lon, lat)) <= radius
-        })
+    crate::sky::healpix::cells_in_cap(order, ra, dec, radius)
+        .into_iter()
+        .map(|h| h as usize)
         .collect()
 }
 

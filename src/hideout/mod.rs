@@ -25,20 +25,20 @@ use std::time::Instant;
 
 pub use evaluate::{DrawResult, evaluate};
 pub use prior::{Prior, diameter_from_h, h_from_diameter};
-pub use summary::{RunInfo, Summary};
-pub use tally::{Binned, Tally};
+pub use summary::{HideoutSummary, RunInfo};
+pub use tally::{ExclusionBins, Tally};
 
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::table::{Format, write_atomic, write_table};
 use crate::shard::shard_ids;
-use crate::sky::ephemeris::observer_states;
 use crate::sky::observer::ObserverState;
+use crate::sky::observer::observer_states;
 use crate::time::TimeScale;
 
-/// The whole sky in square degrees, 4π (180/π)².
-pub const SKY_SQ_DEG: f64 = 41252.96124941928;
+/// The whole sky in square degrees (defined with the HEALPix helpers).
+pub use crate::sky::healpix::SKY_SQ_DEG;
 
 /// Draws per chunk: bounds memory whatever the prior's size.
 pub const CHUNK: usize = 1 << 16;
@@ -68,7 +68,7 @@ pub struct HideoutOptions {
 /// What `finish` wrote: the summary, in the output directory.
 #[derive(Debug, Clone)]
 pub struct Written {
-    pub summary: Summary,
+    pub summary: HideoutSummary,
     pub dir: PathBuf,
 }
 
@@ -78,7 +78,7 @@ pub fn epoch_observer(epoch_mjd_utc: f64) -> Result<ObserverState> {
 }
 
 /// Default bins: 10 equal bins over the pilot draws' range of a and of H (end bins open).
-pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(Binned, Binned)> {
+pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(ExclusionBins, ExclusionBins)> {
     let pilot = if opts.a_bins.is_none() || opts.h_bins.is_none() {
         Some(prior.draw(opts.seed, 0..PILOT.min(opts.count).max(1) as i64)?)
     } else {
@@ -101,8 +101,8 @@ pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(Binned, Bin
     });
     let h = pick(opts.h_bins, &|| p.map_or(vec![], |t| t.h_mag.clone()));
     Ok((
-        Binned::linear("a_au", a.0, a.1, a.2),
-        Binned::linear("h_mag", h.0, h.1, h.2),
+        ExclusionBins::linear("a_au", a.0, a.1, a.2),
+        ExclusionBins::linear("h_mag", h.0, h.1, h.2),
     ))
 }
 
@@ -219,8 +219,8 @@ fn make_summary(
     r68: (&moc::Moc, &[u64]),
     r95: (&moc::Moc, &[u64]),
     w_surv: f64,
-) -> Summary {
-    let mut s = Summary {
+) -> HideoutSummary {
+    let mut s = HideoutSummary {
         per_survey: summary::per_survey(&run, t),
         best_field: ranked
             .first()
@@ -245,7 +245,7 @@ fn make_summary(
 }
 
 /// Read a finished run's (or shard's) summary.
-pub fn read_summary(dir: &Path) -> Result<Summary> {
+pub fn read_summary(dir: &Path) -> Result<HideoutSummary> {
     let path = dir.join("summary.json");
     let text = std::fs::read_to_string(&path)
         .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;

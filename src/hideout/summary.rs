@@ -54,7 +54,7 @@ pub struct BestField {
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize)]
-pub struct Summary {
+pub struct HideoutSummary {
     #[serde(flatten)]
     pub run: RunInfo,
     pub n_draws: u64,
@@ -117,7 +117,7 @@ pub fn per_survey(run: &RunInfo, tally: &Tally) -> Vec<SurveyShare> {
 }
 
 /// The conclusion in plain words, with its numbers.
-pub fn conclusion(s: &Summary) -> String {
+pub fn conclusion(s: &HideoutSummary) -> String {
     let n = s.run.surveys.len();
     let surveys = if n == 1 {
         "this survey".to_string()
@@ -153,7 +153,7 @@ pub fn conclusion(s: &Summary) -> String {
 
 /// The excluded fraction with its error; with no draw found, the 95% upper limit 3/n_eff
 /// ("rule of three": Hanley & Lippman-Hand 1983, JAMA 249, 1743; from memory).
-fn probability(s: &Summary) -> String {
+fn probability(s: &HideoutSummary) -> String {
     if s.n_excluded == 0 && s.n_draws > 0 {
         let n = s.n_draws;
         return format!(

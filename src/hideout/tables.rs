@@ -6,12 +6,11 @@ use std::path::Path;
 use polars::prelude::*;
 
 use super::fields::Field;
-use super::tally::{BinSums, Binned, MAG_BINS, MAG_LO, MAG_STEP, SkyTally, Tally};
+use super::tally::{BinSums, ExclusionBins, MAG_BINS, MAG_LO, MAG_STEP, SkyTally, Tally};
 use crate::error::{Error, Result};
+use crate::foundation::units::DEG;
 use crate::io::table::{Columns, read_table};
 use crate::sky::frames::radec_to_ecliptic;
-
-const DEG: f64 = std::f64::consts::PI / 180.0;
 
 fn frame(cols: Vec<Column>) -> Result<DataFrame> {
     let h = cols.first().map_or(0, |c| c.len());
@@ -191,7 +190,7 @@ pub fn read_tally(dir: &Path, ext: &str, order: u8, n_surveys: usize) -> Result<
     Ok(t)
 }
 
-fn read_excluded(path: &Path) -> Result<(Binned, Binned, BinSums)> {
+fn read_excluded(path: &Path) -> Result<(ExclusionBins, ExclusionBins, BinSums)> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let q = c.str("quantity")?;
@@ -207,7 +206,7 @@ fn read_excluded(path: &Path) -> Result<(Binned, Binned, BinSums)> {
         w_excluded: we[k],
         w2_excluded: w2e[k],
     };
-    let binned = |name: &str| -> Result<Binned> {
+    let binned = |name: &str| -> Result<ExclusionBins> {
         let rows: Vec<usize> = (0..q.len()).filter(|&k| q[k] == name).collect();
         let mut edges: Vec<f64> = rows.iter().filter_map(|&k| lo[k]).collect();
         edges.push(
@@ -215,7 +214,7 @@ fn read_excluded(path: &Path) -> Result<(Binned, Binned, BinSums)> {
                 .and_then(|&k| hi[k])
                 .ok_or_else(|| Error::input(format!("{}: no `{name}` rows with lo and hi", path.display())))?,
         );
-        let mut b = Binned::new(name, edges);
+        let mut b = ExclusionBins::new(name, edges);
         b.bins = rows.iter().map(|&k| sums(k)).collect();
         Ok(b)
     };

@@ -60,16 +60,16 @@ impl BinSums {
 
 /// A one-dimensional binning of a quantity; the end bins are open (they take the values beyond).
 #[derive(Debug, Clone, PartialEq)]
-pub struct Binned {
+pub struct ExclusionBins {
     pub quantity: String,
     pub edges: Vec<f64>,
     pub bins: Vec<BinSums>,
 }
 
-impl Binned {
+impl ExclusionBins {
     pub fn new(quantity: &str, edges: Vec<f64>) -> Self {
         let n = edges.len().saturating_sub(1).max(1);
-        Binned {
+        ExclusionBins {
             quantity: quantity.to_string(),
             edges,
             bins: vec![BinSums::default(); n],
@@ -175,8 +175,8 @@ pub fn mag_bin(mag: f64) -> usize {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Tally {
     pub total: BinSums,
-    pub a: Binned,
-    pub h: Binned,
+    pub a: ExclusionBins,
+    pub h: ExclusionBins,
     pub sky: SkyTally,
     /// Σ w of the draws each survey discovered (a draw found by two counts in both).
     pub w_discovered_by: Vec<f64>,
@@ -185,7 +185,7 @@ pub struct Tally {
 }
 
 impl Tally {
-    pub fn new(a: Binned, h: Binned, order: u8, n_surveys: usize) -> Self {
+    pub fn new(a: ExclusionBins, h: ExclusionBins, order: u8, n_surveys: usize) -> Self {
         Tally {
             total: BinSums::default(),
             a,

@@ -96,6 +96,10 @@ impl ObjectTable {
         };
         let mut seen = HashSet::with_capacity(n);
         for (i, id) in ids.iter().enumerate() {
+            // Ids name random streams and shard ranges, which count from 0.
+            if *id < 0 {
+                return Err(c.bad_value(i, "id", &format!("a non-negative integer, found {id}")));
+            }
             if !seen.insert(*id) {
                 return Err(c.bad_value(i, "id", &format!("a unique id, found {id} again")));
             }

@@ -11,8 +11,9 @@ use polars::io::parquet::write::BatchedWriter as ParquetBatched;
 use polars::prelude::*;
 
 use super::provenance::Provenance;
-use super::table::{Format, sidecar_path, temporary_name, write_atomic};
+use super::table::{Format, sidecar_path, write_atomic};
 use crate::error::{Error, Result, io_at};
+use crate::interrupt::temporary_for;
 
 enum Writer {
     /// Not yet opened: the schema comes with the first chunk.
@@ -41,7 +42,7 @@ impl TableSink {
             std::fs::create_dir_all(parent)
                 .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
         }
-        let tmp = temporary_name(path);
+        let tmp = temporary_for(path);
         Ok(TableSink {
             path: path.to_path_buf(),
             tmp,

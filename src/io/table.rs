@@ -9,6 +9,8 @@ use polars::prelude::*;
 
 use super::provenance::Provenance;
 use crate::error::{Error, Result, io_at};
+use crate::interrupt::temporary_for;
+pub use crate::interrupt::temporary_name;
 
 /// Table formats, chosen by the file extension.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -189,7 +191,7 @@ pub fn write_table(df: &mut DataFrame, path: &Path, provenance: &Provenance) -> 
         std::fs::create_dir_all(parent)
             .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
     }
-    let tmp = temporary_name(path);
+    let tmp = temporary_for(path);
     let result = (|| {
         let mut f =
             File::create(&tmp).map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
@@ -220,7 +222,7 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
         std::fs::create_dir_all(parent)
             .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", parent.display())))?;
     }
-    let tmp = temporary_name(path);
+    let tmp = temporary_for(path);
     std::fs::write(&tmp, bytes).map_err(|e| Error::input(format!("{}: cannot write here: {e}", path.display())))?;
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
@@ -233,14 +235,6 @@ pub fn sidecar_path(path: &Path) -> PathBuf {
     let mut s = path.as_os_str().to_owned();
     s.push(".provenance.json");
     PathBuf::from(s)
-}
-
-pub fn temporary_name(path: &Path) -> PathBuf {
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_default();
-    path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
 }
 
 /// Typed, checked access to the columns of a table read from `path`.

@@ -4,8 +4,9 @@
 //! Dynamics*, 1999, ch. 2). State vectors here are in the same frame as the elements
 //! (ecliptic J2000), in AU and AU/day.
 
-use super::constants::{GM_SUN, TAU, gm_total};
 use super::kepler::{eccentric_anomaly, mean_from_eccentric};
+use crate::foundation::constants::{GM_SUN, gm_total};
+use crate::foundation::units::TAU;
 use nalgebra::Vector3;
 use serde::{Deserialize, Serialize};
 

@@ -2,12 +2,13 @@
 //!
 //! Elements are osculating, ecliptic and equinox J2000, heliocentric unless marked
 //! barycentric. Inside, angles are radians and times TDB MJD.
+//!
+//! The two-body core knows no observer: it builds on `crate::foundation` (constants, the
+//! ecliptic → ICRS rotation) and `crate::time` only; `sky` builds on it.
 
-pub mod constants;
 pub mod elements;
 pub mod kepler;
 pub mod propagate;
 
-pub use constants::*;
 pub use elements::{Center, Elements};
 pub use propagate::Orbit;

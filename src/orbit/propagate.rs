@@ -3,7 +3,7 @@
 
 use super::elements::{Center, Elements, perifocal_axes, plane_state};
 use super::kepler::eccentric_anomaly;
-use crate::sky::frames::ecliptic_to_icrs;
+use crate::foundation::ecliptic::ecliptic_to_icrs;
 use nalgebra::Vector3;
 
 /// An object's orbit ready for fast evaluation; positions are ICRS-oriented, AU and AU/day,

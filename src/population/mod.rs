@@ -1,9 +1,11 @@
 //! Populations: distributions, the population spec, the sampler (`seine draw`), and the
 //! import and cloning of simulation particles (resonance-keeping
-//! cloning), and the heliocentric ↔ barycentric conversion of elements.
+//! cloning), the heliocentric ↔ barycentric conversion of elements, and the ephemerides of
+//! an objects table (`seine ephemeris`).
 
 pub mod clone;
 pub mod distribution;
+pub mod ephemeris;
 pub mod prepared;
 pub mod recenter;
 pub mod resonance;

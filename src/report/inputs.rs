@@ -681,7 +681,7 @@ pub fn effort_of(s: &Survey) -> Effort {
         .and_then(|j| j["coverage"]["covered_sq_deg"].as_f64());
     let area_sq_deg = area.unwrap_or_else(|| {
         let cells = super::figures::sky::visit_cells(&[s], super::figures::sky::MAP_ORDER);
-        cells.len() as f64 * 41252.96 / cdshealpix::nested::n_hash(super::figures::sky::MAP_ORDER) as f64
+        crate::sky::healpix::area_sq_deg(cells.len(), super::figures::sky::MAP_ORDER)
     });
     Effort {
         visits: s.visits.len() as u64,

@@ -13,7 +13,7 @@ use nalgebra::Vector3;
 
 use super::frames::lon_lat;
 use super::observer::ObserverState;
-use crate::orbit::constants::C_AU_PER_DAY;
+use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Orbit};
 
 pub(crate) const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;

@@ -12,7 +12,7 @@
 
 use nalgebra::Vector3;
 
-use crate::orbit::constants::SUN_PLANET_MASS_RATIOS;
+use crate::foundation::constants::SUN_PLANET_MASS_RATIOS;
 use crate::time::JD_MINUS_MJD;
 
 /// Positions (AU) and velocities (AU/day), ICRS axes: the Earth relative to the Sun and the

@@ -1,27 +1,11 @@
 //! Reference frames: ecliptic J2000 ↔ ICRS, right ascension and declination, galactic.
 
-use crate::orbit::constants::{ARCSEC, TAU};
+use crate::foundation::units::TAU;
 use nalgebra::{Matrix3, Vector3};
 
-/// Obliquity of the ecliptic at J2000 used with ecliptic orbital elements: 84381.448″
-/// (IAU 1976; Lieske et al. 1977, A&A 58, 1, from memory), the obliquity of the usual "ecliptic and mean
-/// equinox of J2000" frame of orbital elements. IAU 2006 gives 84381.406″; the 0.042″
-/// difference moves no position by more than that.
-pub const OBLIQUITY_J2000: f64 = 84381.448 * ARCSEC;
-
-/// Rotate a vector from ecliptic J2000 axes to ICRS axes (rotation about x by ε).
-#[inline]
-pub fn ecliptic_to_icrs(v: &Vector3<f64>) -> Vector3<f64> {
-    let (s, c) = OBLIQUITY_J2000.sin_cos();
-    Vector3::new(v.x, c * v.y - s * v.z, s * v.y + c * v.z)
-}
-
-/// Rotate a vector from ICRS axes to ecliptic J2000 axes.
-#[inline]
-pub fn icrs_to_ecliptic(v: &Vector3<f64>) -> Vector3<f64> {
-    let (s, c) = OBLIQUITY_J2000.sin_cos();
-    Vector3::new(v.x, c * v.y + s * v.z, -s * v.y + c * v.z)
-}
+/// The ecliptic J2000 ↔ ICRS rotation is defined in the foundation (below `orbit`, which uses
+/// it too); it is offered here with the other frame conversions.
+pub use crate::foundation::ecliptic::{OBLIQUITY_J2000, ecliptic_to_icrs, icrs_to_ecliptic};
 
 /// Longitude in [0, 2π) and latitude of a vector (RA/Dec for ICRS, λ/β for ecliptic).
 #[inline]

@@ -21,13 +21,14 @@ use nalgebra::{Matrix3, Vector3};
 use super::earth::EarthSun;
 use super::observer::{Site, earth_rotation_angle};
 use crate::error::Result;
-use crate::orbit::constants::{ARCSEC, C_AU_PER_DAY, DEG};
-use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
+use crate::foundation::constants::C_AU_PER_DAY;
+use crate::foundation::units::{ARCSEC, DEG};
+use crate::time::{MJD_J2000, MjdTdb, MjdUtc};
 
 /// IAU 1976 precession matrix, ICRS (≈ mean J2000) → mean equator and equinox of date.
-/// `tt_mjd`: the epoch in TT (TDB is as good here).
-pub fn precession_matrix(tt_mjd: f64) -> Matrix3<f64> {
-    let t = (tt_mjd - MJD_J2000) / 36525.0;
+/// The formula's argument is TT; TDB differs by < 2 ms, which turns the matrix by < 1e-13 rad.
+pub fn precession_matrix(tdb: MjdTdb) -> Matrix3<f64> {
+    let t = (tdb.0 - MJD_J2000) / 36525.0;
     let zeta = (2306.2181 * t + 0.30188 * t * t + 0.017998 * t * t * t) * ARCSEC;
     let z = (2306.2181 * t + 1.09468 * t * t + 0.018203 * t * t * t) * ARCSEC;
     let theta = (2004.3109 * t - 0.42665 * t * t - 0.041833 * t * t * t) * ARCSEC;
@@ -46,12 +47,13 @@ fn rot_y(a: f64) -> Matrix3<f64> {
     Matrix3::new(c, 0.0, -s, 0.0, 1.0, 0.0, s, 0.0, c)
 }
 
-/// Greenwich mean sidereal time (radians), IAU 2006: ERA(UT1) + polynomial in TT centuries.
-pub fn gmst_rad(ut1_mjd: f64, tt_mjd: f64) -> f64 {
-    let t = (tt_mjd - MJD_J2000) / 36525.0;
+/// Greenwich mean sidereal time (radians), IAU 2006: ERA(UT1) + polynomial in TT centuries,
+/// with UT1 taken as UTC and TT as TDB (< 2 ms apart: < 1e-12 rad in the polynomial).
+pub fn gmst_rad(ut1: MjdUtc, tdb: MjdTdb) -> f64 {
+    let t = (tdb.0 - MJD_J2000) / 36525.0;
     let poly =
         0.014506 + t * (4612.156534 + t * (1.3915817 + t * (-0.00000044 + t * (-0.000029956 - t * 0.0000000368))));
-    (earth_rotation_angle(ut1_mjd) + poly * ARCSEC).rem_euclid(std::f64::consts::TAU)
+    (earth_rotation_angle(ut1) + poly * ARCSEC).rem_euclid(std::f64::consts::TAU)
 }
 
 /// Kasten & Young (1989) relative airmass at a true altitude (radians); infinite below −6°.
@@ -90,12 +92,12 @@ pub struct LocalSky {
 impl LocalSky {
     /// `earth` must be the Earth and Sun at the TDB of `utc_mjd`. Fails for a UTC epoch the
     /// leap-second table does not cover (before 1972).
-    pub fn new(site: &Site, utc_mjd: f64, earth: &EarthSun) -> Result<Self> {
-        let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
-        let last = gmst_rad(utc_mjd, tt) + site.longitude_deg * DEG;
-        let to_local = rot_z(last) * precession_matrix(tt);
+    pub fn new(site: &Site, utc: MjdUtc, earth: &EarthSun) -> Result<Self> {
+        let tdb = utc.to_tdb()?;
+        let last = gmst_rad(utc, tdb) + site.longitude_deg * DEG;
+        let to_local = rot_z(last) * precession_matrix(tdb);
         let lat = site.latitude_deg * DEG;
-        let (site_pos, site_vel) = site.geocentric(utc_mjd);
+        let (site_pos, site_vel) = site.geocentric(utc);
         let sun = -earth.earth_helio - site_pos;
         Ok(LocalSky {
             to_local,
@@ -125,9 +127,9 @@ impl LocalSky {
 }
 
 /// The Sun's altitude (radians) at a site and UTC MJD, with an exact Earth ephemeris.
-pub fn sun_altitude(site: &Site, utc_mjd: f64) -> Result<f64> {
-    let tdb = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
-    Ok(LocalSky::new(site, utc_mjd, &super::earth::earth_sun_exact(tdb))?.sun_altitude())
+pub fn sun_altitude(site: &Site, utc: MjdUtc) -> Result<f64> {
+    let tdb = utc.to_tdb()?;
+    Ok(LocalSky::new(site, utc, &super::earth::earth_sun_exact(tdb.0))?.sun_altitude())
 }
 
 /// UTC MJD of local mean noon that starts night `night` (the DESIGN.md night numbering).
@@ -190,7 +192,7 @@ mod tests {
             latitude_deg: 80.0,
             elevation_m: 0.0,
         };
-        let at = |t: f64| sun_altitude(&site, t);
+        let at = |t: f64| sun_altitude(&site, MjdUtc(t));
         assert_eq!(dark_interval(&site, 61577, -12.0, at).unwrap(), None); // 2027-06-21
         let (a, b) = dark_interval(&site, 61760, -12.0, at).unwrap().unwrap(); // 2027-12-21
         assert!((b - a - 1.0).abs() < 1e-9);
@@ -210,7 +212,7 @@ mod tests {
     fn gmst_at_j2000() {
         // GMST at 2000-01-01 12:00 UT1 = 18h 41m 50.54841s (IAU 1982 value; the IAU 2006
         // formula agrees to a few ms). From memory, Explanatory Supplement (1992) §2.24.
-        let g = gmst_rad(MJD_J2000, MJD_J2000) / DEG / 15.0;
+        let g = gmst_rad(MjdUtc(MJD_J2000), MjdTdb(MJD_J2000)) / DEG / 15.0;
         let expect = 18.0 + 41.0 / 60.0 + 50.54841 / 3600.0;
         assert!((g - expect).abs() * 3600.0 < 0.05, "{g}");
     }

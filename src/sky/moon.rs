@@ -15,15 +15,17 @@ use nalgebra::Vector3;
 
 use super::horizon::precession_matrix;
 use crate::error::Result;
-use crate::orbit::constants::{AU_KM, DEG};
+use crate::foundation::constants::AU_KM;
+use crate::foundation::units::DEG;
 use crate::sky::frames::{separation, unit_vector};
-use crate::time::{MJD_J2000, TimeScale, to_tdb_mjd};
+use crate::time::{MJD_J2000, MjdTdb, MjdUtc};
 
 const EARTH_RADIUS_KM: f64 = 6378.14;
 
-/// Geocentric ecliptic longitude, latitude (of date, radians) and distance (km) of the Moon at a TT MJD.
-pub fn moon_ecliptic_of_date(tt_mjd: f64) -> (f64, f64, f64) {
-    let t = (tt_mjd - MJD_J2000) / 36525.0;
+/// Geocentric ecliptic longitude, latitude (of date, radians) and distance (km) of the Moon.
+/// The series' argument is TT; TDB differs by < 2 ms, far below the series' accuracy.
+pub fn moon_ecliptic_of_date(tdb: MjdTdb) -> (f64, f64, f64) {
+    let t = (tdb.0 - MJD_J2000) / 36525.0;
     let s = |a: f64, b: f64| ((a + b * t) * DEG).sin();
     let c = |a: f64, b: f64| ((a + b * t) * DEG).cos();
     let lon = 218.32 + 481267.881 * t + 6.29 * s(135.0, 477198.87) - 1.27 * s(259.3, -413335.36)
@@ -45,16 +47,16 @@ pub fn moon_ecliptic_of_date(tt_mjd: f64) -> (f64, f64, f64) {
     )
 }
 
-/// Geocentric ICRS position of the Moon, AU, at a TT MJD.
-pub fn moon_geocentric_icrs(tt_mjd: f64) -> Vector3<f64> {
-    let (lon, lat, dist_km) = moon_ecliptic_of_date(tt_mjd);
-    let t = (tt_mjd - MJD_J2000) / 36525.0;
+/// Geocentric ICRS position of the Moon, AU (TT taken as TDB, as above).
+pub fn moon_geocentric_icrs(tdb: MjdTdb) -> Vector3<f64> {
+    let (lon, lat, dist_km) = moon_ecliptic_of_date(tdb);
+    let t = (tdb.0 - MJD_J2000) / 36525.0;
     // Mean obliquity of date (IAU 1976 leading terms), then back from the equator of date to ICRS.
     let eps = (84381.448 - 46.815 * t) / 3600.0 * DEG;
     let e = unit_vector(lon, lat);
     let (se, ce) = eps.sin_cos();
     let equ_of_date = Vector3::new(e.x, ce * e.y - se * e.z, se * e.y + ce * e.z);
-    precession_matrix(tt_mjd).transpose() * equ_of_date * (dist_km / AU_KM)
+    precession_matrix(tdb).transpose() * equ_of_date * (dist_km / AU_KM)
 }
 
 /// Sky brightness added by the Moon (nanolamberts), Krisciunas & Schaefer (1991).
@@ -84,9 +86,8 @@ pub struct MoonView {
 
 /// `site_geo_au`: the site's geocentric ICRS position; `sun_dir`: topocentric Sun direction.
 /// Fails for a UTC epoch the leap-second table does not cover (before 1972).
-pub fn moon_view(utc_mjd: f64, site_geo_au: &Vector3<f64>, sun_dir: &Vector3<f64>) -> Result<MoonView> {
-    let tt = to_tdb_mjd(utc_mjd, TimeScale::Utc)?;
-    let topo = moon_geocentric_icrs(tt) - site_geo_au;
+pub fn moon_view(utc: MjdUtc, site_geo_au: &Vector3<f64>, sun_dir: &Vector3<f64>) -> Result<MoonView> {
+    let topo = moon_geocentric_icrs(utc.to_tdb()?) - site_geo_au;
     let dir = topo.normalize();
     // The Sun is 390 times farther: the phase angle is 180° minus the Sun–Moon elongation (to 0.15°).
     Ok(MoonView {
@@ -103,7 +104,7 @@ mod tests {
     fn meeus_example_47a() {
         // Meeus (1998) example 47.a, 1992 April 12.0 TD (from memory): λ = 133.162655°,
         // β = −3.229126°, Δ = 368409.7 km. The low-precision series is good to ~0.3°.
-        let tt = 2448724.5 - 2400000.5;
+        let tt = MjdTdb(2448724.5 - 2400000.5); // TT, taken as TDB (< 2 ms apart)
         let (lon, lat, d) = moon_ecliptic_of_date(tt);
         assert!((lon / DEG - 133.162655).abs() < 0.3, "{}", lon / DEG);
         assert!((lat / DEG + 3.229126).abs() < 0.2, "{}", lat / DEG);

@@ -11,9 +11,13 @@
 use nalgebra::Vector3;
 use serde::{Deserialize, Serialize};
 
-use super::earth::EarthSun;
-use crate::orbit::constants::{AU_KM, TAU};
-use crate::time::{JD_MINUS_MJD, MJD_J2000};
+use rayon::prelude::*;
+
+use super::earth::{EarthSource, EarthSun};
+use crate::error::Result;
+use crate::foundation::constants::AU_KM;
+use crate::foundation::units::TAU;
+use crate::time::{JD_MINUS_MJD, MjdTdb, MjdUtc, TimeScale, to_tdb, to_utc};
 
 const WGS84_A_KM: f64 = 6378.137;
 const WGS84_F: f64 = 1.0 / 298.257223563;
@@ -45,17 +49,17 @@ impl Site {
     }
 
     /// Geocentric position (AU) and velocity (AU/day) of the site, ICRS axes, at a UTC MJD.
-    pub fn geocentric(&self, utc_mjd: f64) -> (Vector3<f64>, Vector3<f64>) {
+    pub fn geocentric(&self, utc: MjdUtc) -> (Vector3<f64>, Vector3<f64>) {
         let r = self.terrestrial_au();
-        let (s, c) = earth_rotation_angle(utc_mjd).sin_cos();
+        let (s, c) = earth_rotation_angle(utc).sin_cos();
         let pos = Vector3::new(c * r.x - s * r.y, s * r.x + c * r.y, r.z);
         let vel = Vector3::new(-pos.y, pos.x, 0.0) * ERA_RATE;
         (pos, vel)
     }
 
     /// Local Earth rotation angle (the analogue of local sidereal time), radians.
-    pub fn local_rotation_angle(&self, utc_mjd: f64) -> f64 {
-        (earth_rotation_angle(utc_mjd) + self.longitude_deg.to_radians()).rem_euclid(TAU)
+    pub fn local_rotation_angle(&self, utc: MjdUtc) -> f64 {
+        (earth_rotation_angle(utc) + self.longitude_deg.to_radians()).rem_euclid(TAU)
     }
 
     /// Check the values, naming the key that is out of range.
@@ -82,11 +86,10 @@ impl Site {
     }
 }
 
-/// Earth rotation angle (radians, [0, 2π)) at a UT1 ≈ UTC MJD (IAU 2000).
-pub fn earth_rotation_angle(ut1_mjd: f64) -> f64 {
+/// Earth rotation angle (radians, [0, 2π)) at a UTC epoch taken as UT1 (IAU 2000).
+pub fn earth_rotation_angle(ut1: MjdUtc) -> f64 {
     // Split the day fraction off first to keep precision.
-    let d = ut1_mjd + JD_MINUS_MJD - 2451545.0;
-    let _ = MJD_J2000;
+    let d = ut1.0 + JD_MINUS_MJD - 2451545.0;
     let frac = d.rem_euclid(1.0);
     (TAU * (frac + 0.779_057_273_264_0 + 0.002_737_811_911_354_48 * d)).rem_euclid(TAU)
 }
@@ -102,26 +105,52 @@ pub struct ObserverState {
 }
 
 impl ObserverState {
-    pub fn new(earth: &EarthSun, site: Option<&Site>, utc_mjd: f64, tdb_mjd: f64) -> Self {
-        let (dp, dv) = site.map_or((Vector3::zeros(), Vector3::zeros()), |s| s.geocentric(utc_mjd));
+    /// The observer at a site (the geocentre for `None`); `earth` is the Earth and Sun at `tdb`,
+    /// and `utc` the same instant in UTC (it turns the site with the Earth).
+    pub fn new(earth: &EarthSun, site: Option<&Site>, utc: MjdUtc, tdb: MjdTdb) -> Self {
+        let (dp, dv) = site.map_or((Vector3::zeros(), Vector3::zeros()), |s| s.geocentric(utc));
         ObserverState {
-            tdb_mjd,
+            tdb_mjd: tdb.0,
             pos: earth.earth_bary() + dp,
             vel: earth.earth_bary_vel() + dv,
             sun_pos: earth.sun_bary,
             sun_vel: earth.sun_bary_vel,
         }
     }
+
+    /// The observer at the geocentre, which needs no UTC: `earth` is the Earth and Sun at `tdb`.
+    pub fn geocentre(earth: &EarthSun, tdb: MjdTdb) -> Self {
+        ObserverState {
+            tdb_mjd: tdb.0,
+            pos: earth.earth_bary(),
+            vel: earth.earth_bary_vel(),
+            sun_pos: earth.sun_bary,
+            sun_vel: earth.sun_bary_vel,
+        }
+    }
+}
+
+/// Observer states for a list of epochs given in `scale`.
+pub fn observer_states(mjd: &[f64], scale: TimeScale, site: Option<&Site>) -> Result<Vec<ObserverState>> {
+    let tdb: Vec<MjdTdb> = mjd.iter().map(|&t| to_tdb(t, scale)).collect::<Result<_>>()?;
+    let utc: Vec<MjdUtc> = mjd.iter().map(|&t| to_utc(t, scale)).collect::<Result<_>>()?;
+    let source = EarthSource::for_epochs(&tdb.iter().map(|t| t.0).collect::<Vec<f64>>());
+    Ok(tdb
+        .par_iter()
+        .zip(utc.par_iter())
+        .map(|(&t, &u)| ObserverState::new(&source.at(t.0), site, u, t))
+        .collect())
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::time::MJD_J2000;
 
     #[test]
     fn era_at_j2000() {
         // At JD(UT1) 2451545.0 the ERA is 2π × 0.7790572732640 by definition.
-        let era = earth_rotation_angle(MJD_J2000);
+        let era = earth_rotation_angle(MjdUtc(MJD_J2000));
         assert!((era - TAU * 0.779_057_273_264).abs() < 1e-12);
     }
 

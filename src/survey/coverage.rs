@@ -2,19 +2,19 @@
 //! visits per field, nights used and time used per night, the depth distribution, and the
 //! covered sky as an IVOA MOC.
 //!
-//! Area is counted on HEALPix cells (Górski et al. 2005, ApJ 622, 759) of order 9
-//! (0.0131 deg² each): a cell is covered when its centre lies inside a footprint (exact
-//! containment), so areas carry an edge error of about one cell width (0.11°) times the
-//! perimeter. The MOC is written in the JSON serialization of IVOA MOC 2.0 (cells of order 9,
-//! not merged into coarser cells).
+//! Area is counted on HEALPix cells of order 9 (0.0131 deg² each; `sky/healpix.rs`): a cell
+//! is covered when its centre lies inside a footprint (exact containment), so areas carry an
+//! edge error of about one cell width (0.11°) times the perimeter. The MOC is written in the
+//! JSON encoding of IVOA MOC 2.0 (canonical form, MOC order 9), by `sky/healpix.rs`.
 
 use std::collections::{BTreeMap, HashMap};
 
 use serde::Serialize;
 
 use super::footprint::Footprint;
-use crate::orbit::constants::DEG;
-use crate::sky::frames::{radec_to_ecliptic, unit_vector};
+use crate::foundation::units::DEG;
+use crate::sky::frames::radec_to_ecliptic;
+use crate::sky::healpix::{self, Moc};
 
 pub const HEALPIX_ORDER: u8 = 9;
 const LAT_BIN_DEG: f64 = 5.0;
@@ -86,23 +86,8 @@ fn distinct_nights_capped(fields: &[usize], nights_of: &[Vec<i64>], cap: usize) 
     seen.len()
 }
 
-/// Cells of order `HEALPIX_ORDER` whose centres lie in the footprint at one pointing.
-fn cells_of(fp: &Footprint, p: &Pointing) -> Vec<u64> {
-    let (ra, dec) = (p.ra_deg * DEG, p.dec_deg * DEG);
-    // Widen the cone by a cell so that no cell whose centre is inside is missed.
-    let r = fp.bounding_radius_rad() + 0.003;
-    cdshealpix::nested::cone_coverage_approx_flat(HEALPIX_ORDER, ra, dec, r)
-        .iter()
-        .copied()
-        .filter(|&h| {
-            let (lon, lat) = cdshealpix::nested::center(HEALPIX_ORDER, h);
-            fp.contains(ra, dec, p.rotation_deg, &unit_vector(lon, lat))
-        })
-        .collect()
-}
-
 pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
-    let cell_sq_deg = 4.0 * std::f64::consts::PI / cdshealpix::nested::n_hash(HEALPIX_ORDER) as f64 / (DEG * DEG);
+    let cell_sq_deg = healpix::cell_area_sq_deg(HEALPIX_ORDER);
     // Distinct nights per distinct footprint first (a field is visited many times), then
     // nights per cell as the union over the few footprints that cover it, counted up to 5.
     let mut footprints: HashMap<(i64, u64, u64), (usize, Vec<i64>)> = HashMap::new();
@@ -124,7 +109,7 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
     }
     let mut cell_fields: HashMap<u64, Vec<usize>> = HashMap::new();
     for (i, p) in first_pointing.iter().enumerate() {
-        for c in cells_of(fp, p) {
+        for c in fp.healpix_cells(HEALPIX_ORDER, p.ra_deg * DEG, p.dec_deg * DEG, p.rotation_deg) {
             cell_fields.entry(c).or_default().push(i);
         }
     }
@@ -148,7 +133,7 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
         })
         .collect();
     for (&c, &n_nights) in &cell_nights {
-        let (lon, lat) = cdshealpix::nested::center(HEALPIX_ORDER, c);
+        let (lon, lat) = healpix::center(HEALPIX_ORDER, c);
         let beta = radec_to_ecliptic(lon, lat).1 / DEG;
         let last = bins.len() - 1;
         let b = &mut bins[(((beta + 90.0) / LAT_BIN_DEG) as usize).min(last)];
@@ -208,40 +193,11 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
 }
 
 impl Coverage {
-    /// The covered sky in the JSON serialization of IVOA MOC 2.0, `{"ORDER": [cells], ...}`,
-    /// normalized: four complete siblings are replaced by their parent, down to order 0.
+    /// The covered sky in the JSON encoding of IVOA MOC 2.0, `{"ORDER": [cells], ...}`, in
+    /// canonical form (four complete siblings are written as their parent).
     pub fn moc_json(&self) -> String {
-        let mut map = serde_json::Map::new();
-        let mut level: Vec<u64> = self.cells.clone();
-        for order in (1..=HEALPIX_ORDER).rev() {
-            let (keep, parents) = merge_siblings(&level);
-            if !keep.is_empty() {
-                map.insert(order.to_string(), serde_json::json!(keep));
-            }
-            level = parents;
-        }
-        if !level.is_empty() {
-            map.insert("0".into(), serde_json::json!(level));
-        }
-        serde_json::Value::Object(map).to_string()
+        Moc::from_cells(HEALPIX_ORDER, &self.cells).to_json()
     }
-}
-
-/// Split sorted cells into those kept at this order and the parents of complete sibling quads.
-fn merge_siblings(cells: &[u64]) -> (Vec<u64>, Vec<u64>) {
-    let (mut keep, mut parents) = (Vec::new(), Vec::new());
-    let mut i = 0;
-    while i < cells.len() {
-        let quad = cells[i] & !3;
-        if cells[i] == quad && cells.get(i + 3) == Some(&(quad + 3)) {
-            parents.push(quad >> 2);
-            i += 4;
-        } else {
-            keep.push(cells[i]);
-            i += 1;
-        }
-    }
-    (keep, parents)
 }
 
 #[cfg(test)]
@@ -276,11 +232,5 @@ mod tests {
         );
         let five: f64 = c.by_ecliptic_latitude.iter().map(|b| b.covered_5_nights_sq_deg).sum();
         assert_eq!(five, 0.0);
-    }
-
-    #[test]
-    fn moc_merges_complete_quads() {
-        let (keep, parents) = merge_siblings(&[4, 5, 6, 7, 9, 12, 13, 14]);
-        assert_eq!((keep, parents), (vec![9, 12, 13, 14], vec![1]));
     }
 }

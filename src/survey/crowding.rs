@@ -16,6 +16,7 @@
 
 use crate::rng::splitmix64;
 use crate::sky::frames::radec_to_galactic;
+use crate::sky::healpix::cell_at;
 
 /// Where the dead fraction comes from.
 #[derive(Debug, Clone, PartialEq)]
@@ -48,7 +49,7 @@ impl DeadFraction {
                 (pole / b.sin().abs()).min(*max)
             }
             DeadFraction::Table { order, cells } => {
-                let h = cell(*order, ra, dec);
+                let h = cell_at(*order, ra, dec);
                 cells
                     .binary_search_by_key(&h, |c| c.0)
                     .map_or(0.0, |k| 1.0 - cells[k].1)
@@ -60,16 +61,10 @@ impl DeadFraction {
 impl Crowding {
     /// Whether a star hides a source at (ra, dec), radians.
     pub fn hides(&self, ra: f64, dec: f64) -> bool {
-        let c = cell(self.cell_order, ra, dec);
+        let c = cell_at(self.cell_order, ra, dec);
         let u = (splitmix64(self.seed ^ splitmix64(c)) >> 11) as f64 * (1.0 / 9_007_199_254_740_992.0);
         u < self.dead.at(ra, dec)
     }
-}
-
-/// The nested HEALPix cell of `order` holding (ra, dec), radians.
-fn cell(order: u8, ra: f64, dec: f64) -> u64 {
-    use std::f64::consts::{FRAC_PI_2, TAU};
-    cdshealpix::nested::hash(order, ra.rem_euclid(TAU), dec.clamp(-FRAC_PI_2, FRAC_PI_2))
 }
 
 #[cfg(test)]

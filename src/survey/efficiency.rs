@@ -153,6 +153,32 @@ impl Efficiency {
         if eta < P_NEGLIGIBLE { 0.0 } else { eta }
     }
 
+    /// An upper bound on `p` for a source no brighter than `mag` (before any trailing loss) in
+    /// a visit no deeper than `depth`, at any rate. Step, logistic and tanh-product fall with
+    /// m − depth and a trailing loss only adds to m, so η(mag, depth) bounds them; a table
+    /// mixes only neighbouring rows, so its largest entry from the row at or before `mag` on
+    /// bounds it. Zero where `p` is zero (below 2⁻⁵³).
+    pub fn largest_p(&self, mag: f64, depth: f64) -> f64 {
+        let bound = match &self.shape {
+            Shape::Table {
+                mags,
+                relative_to_depth,
+                eta,
+                ..
+            } => {
+                let x = if *relative_to_depth { mag - depth } else { mag };
+                let first = mags.partition_point(|&m| m <= x).saturating_sub(1);
+                eta[first..].iter().flatten().copied().fold(0.0, f64::max)
+            }
+            _ => self.eta(mag, depth, 0.0),
+        };
+        match bound {
+            b if b.is_nan() => 1.0, // no bound known: nothing can be ruled out
+            b if b < P_NEGLIGIBLE => 0.0,
+            b => b,
+        }
+    }
+
     /// The magnitude (before any trailing loss) at and beyond which `p` is zero at every rate
     /// in a visit of depth `depth`: +∞ when there is none, −∞ when `p` is zero everywhere.
     /// It is 10⁻⁶ mag past the exact crossing, so that rounding in m − depth cannot undo it.

@@ -9,7 +9,7 @@
 
 use nalgebra::Vector3;
 
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 
 /// The one enum of footprints. Sizes are in degrees of the tangent plane.
 #[derive(Debug, Clone, PartialEq)]
@@ -69,6 +69,15 @@ impl Footprint {
             Footprint::Rectangle { width_deg, height_deg } => x.abs() <= 0.5 * width_deg && y.abs() <= 0.5 * height_deg,
             Footprint::Mosaic { chips } => chips.iter().any(|p| point_in_polygon(p, x, y)),
         }
+    }
+
+    /// HEALPix cells of `order` (ascending) whose centres lie inside the footprint at one
+    /// pointing (centre in radians, rotation in degrees): the rule of every coverage count.
+    pub fn healpix_cells(&self, order: u8, center_ra_rad: f64, center_dec_rad: f64, rotation_deg: f64) -> Vec<u64> {
+        let r = self.bounding_radius_rad();
+        crate::sky::healpix::cells_where(order, center_ra_rad, center_dec_rad, r, |u| {
+            self.contains(center_ra_rad, center_dec_rad, rotation_deg, u)
+        })
     }
 
     /// Angular radius (rad) of a circle about the centre that contains the whole footprint (for indexing).

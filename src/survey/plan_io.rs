@@ -16,7 +16,7 @@ use crate::io::Provenance;
 use crate::io::table::{write_atomic, write_table};
 use crate::sky::earth::EphemerisGrid;
 use crate::sky::horizon::{LocalSky, dark_interval};
-use crate::time::{TimeScale, to_tdb_mjd};
+use crate::time::MjdUtc;
 use std::collections::BTreeMap;
 
 pub struct PlanOutputs {
@@ -178,7 +178,8 @@ pub fn survey_coverage(s: &Survey) -> Result<(Coverage, Vec<NightLog>)> {
         .zip(v.tdb_mjd.last())
         .map(|(lo, hi)| EphemerisGrid::covering(lo - 2.0, hi + 2.0));
     let sun_altitude = |site, utc: f64| -> Result<f64> {
-        let tdb = to_tdb_mjd(utc, TimeScale::Utc)?;
+        let utc = MjdUtc(utc);
+        let tdb = utc.to_tdb()?.0;
         // `at` evaluates directly outside the grid; no grid means no visits, hence no night.
         let earth = grid
             .as_ref()

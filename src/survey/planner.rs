@@ -21,14 +21,14 @@ use super::footprint::Footprint;
 use super::linking::LinkingRules;
 use super::spec::{EfficiencySpec, FieldSpec, RateWindow};
 use crate::error::{Error, Result};
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 use crate::rng::{Purpose, run_stream};
 use crate::sky::earth::EphemerisGrid;
 use crate::sky::frames::{ecliptic_to_icrs, icrs_to_ecliptic, lon_lat, radec_to_galactic, unit_vector};
 use crate::sky::horizon::{LocalSky, airmass_kasten_young, dark_interval};
 use crate::sky::moon::{moon_sky_nl, moon_view, nl_from_mag_arcsec2};
 use crate::sky::observer::Site;
-use crate::time::{TimeScale, to_tdb_mjd};
+use crate::time::{MjdUtc, TimeScale};
 
 /// The plan file (TOML). `[efficiency]`, `[motion]` and `[linking]` are copied into the survey spec.
 #[derive(Debug, Clone, Serialize, Deserialize)]
@@ -420,8 +420,8 @@ struct Scheduler<'a> {
 impl Scheduler<'_> {
     /// The local sky at a UTC epoch (the plan's first night was checked to be one UTC serves).
     fn sky(&self, utc: f64) -> Result<LocalSky> {
-        let tdb = to_tdb_mjd(utc, TimeScale::Utc)?;
-        LocalSky::new(&self.file.site, utc, &self.grid.at(tdb))
+        let utc = MjdUtc(utc);
+        LocalSky::new(&self.file.site, utc, &self.grid.at(utc.to_tdb()?.0))
     }
 
     fn slot_days(&self) -> f64 {
@@ -499,7 +499,7 @@ impl Scheduler<'_> {
         }
         let sky = self.sky(t)?;
         let f = &self.fields[i];
-        let moon = moon_view(t, &sky.site_geo, &sky.sun_dir)?;
+        let moon = moon_view(MjdUtc(t), &sky.site_geo, &sky.sun_dir)?;
         let rho = crate::sky::frames::separation(&moon.dir, &f.dir) / DEG;
         if rho < d.min_moon_separation_deg {
             return Ok(None);
@@ -580,7 +580,7 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
         return Err(Error::input("region: no field is left after the galactic-plane cut"));
     }
     let (first, last) = (file.plan.first_night, file.plan.last_night);
-    let lo = to_tdb_mjd(first as f64, TimeScale::Utc)?;
+    let lo = MjdUtc(first as f64).to_tdb()?.0;
     let grid = EphemerisGrid::covering(lo - 1.0, lo + (last - first) as f64 + 3.0);
     let n = fields.len();
     let mut s = Scheduler {
@@ -603,6 +603,9 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
         b.finish_and_clear();
     }
     let Scheduler { fields, out, .. } = s;
+    if out.mjd.is_empty() {
+        return Err(Error::input(no_visit_reason(&nights)));
+    }
     Ok(Plan {
         file,
         footprint,
@@ -610,6 +613,23 @@ pub fn make_plan_with_progress(file: PlanFile, progress: bool) -> Result<Plan> {
         visits: out,
         nights,
     })
+}
+
+/// Why a plan has no visit, from its nights' fates (the most common one first).
+fn no_visit_reason(nights: &[NightLog]) -> String {
+    let mut fates: BTreeMap<&str, usize> = BTreeMap::new();
+    for n in nights {
+        *fates.entry(n.status.as_str()).or_default() += 1;
+    }
+    let mut fates: Vec<_> = fates.into_iter().collect();
+    fates.sort_by(|a, b| b.1.cmp(&a.1));
+    let told: Vec<String> = fates.iter().map(|(s, k)| format!("{k} {s}")).collect();
+    format!(
+        "the plan makes no visit (its {} nights: {}); widen the nights, the region or the \
+         altitude and Sun limits",
+        nights.len(),
+        told.join(", ")
+    )
 }
 
 fn plan_night(s: &mut Scheduler, night: i64) -> Result<NightLog> {

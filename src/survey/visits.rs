@@ -17,7 +17,7 @@ use crate::io::table::{Columns, read_table};
 use crate::ranges::check_column;
 use crate::sky::frames::unit_vector;
 use crate::sky::observer::Site;
-use crate::time::{TimeScale, to_tdb_mjd, to_utc_mjd};
+use crate::time::{TimeScale, to_tdb, to_utc};
 
 #[derive(Debug, Clone, Default)]
 pub struct Visits {
@@ -150,8 +150,8 @@ impl Visits {
         let mut tdb = Vec::with_capacity(mjd.len());
         for (i, &t) in mjd.iter().enumerate() {
             let in_row = |e: Error| Error::input(format!("{} row {}, column `mjd`: {e}", path.display(), i + 1));
-            utc.push(to_utc_mjd(t, scale).map_err(in_row)?);
-            tdb.push(to_tdb_mjd(t, scale).map_err(in_row)?);
+            utc.push(to_utc(t, scale).map_err(in_row)?.0);
+            tdb.push(to_tdb(t, scale).map_err(in_row)?.0);
         }
         let (band, band_names) = intern(&band, path, "band")?;
         let (efficiency_class, class_names) = intern(&efficiency_class, path, "efficiency_class")?;

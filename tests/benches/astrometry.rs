@@ -6,7 +6,7 @@ use std::time::Instant;
 
 use seine::orbit::{Center, Elements, Orbit};
 use seine::sky::apparent::{direction, direction_from, observe};
-use seine::sky::ephemeris::observer_states;
+use seine::sky::observer::observer_states;
 use seine::time::TimeScale;
 
 /// CPU seconds used by this process so far (user + system, from /proc; 10 ms ticks). The

@@ -19,7 +19,7 @@ use std::path::Path;
 use std::time::Instant;
 
 use rayon::prelude::*;
-use seine::engine::{Candidates, ObjectOutcome, ObserveOptions, PreparedSurvey, Record, observe, observe_object};
+use seine::engine::{Candidates, ObjectOutcome, ObserveOptions, PreparedSurvey, StopRule, observe, observe_object};
 use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
 use seine::rng::{Purpose, object_stream};
@@ -49,7 +49,7 @@ fn run(surveys: &[PreparedSurvey], objects: &ObjectTable, n: usize, mode: Candid
         .into_par_iter()
         .map_init(Vec::new, |scratch, i| {
             let rng = object_stream(0, objects.ids[i], Purpose::Observe);
-            observe_object(objects, i, surveys, (mode, Record::Everything), rng, scratch)
+            observe_object(objects, i, surveys, (mode, StopRule::Everything), rng, scratch)
         })
         .collect()
 }

@@ -7,9 +7,9 @@ use rand_pcg::Pcg64;
 use seine::fit::Observation;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::sky::apparent::observe_from;
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::{icrs_to_ecliptic, lon_lat};
 use seine::sky::observer::Site;
+use seine::sky::observer::observer_states;
 use seine::survey::visits::night_of;
 use seine::time::TimeScale;
 

@@ -7,8 +7,8 @@ use std::process::Output;
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
 use seine::io::table::{Columns, frame_f64, read_table};
-use seine::sky::ephemeris::observer_states;
 use seine::sky::frames::{ecliptic_to_radec, icrs_to_ecliptic, lon_lat};
+use seine::sky::observer::observer_states;
 use seine::time::TimeScale;
 
 pub fn fixture(name: &str) -> PathBuf {

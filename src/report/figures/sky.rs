@@ -16,10 +16,11 @@ use std::f64::consts::{FRAC_PI_2, PI, SQRT_2};
 
 use super::svg::{Anchor, Svg, rgb};
 use crate::error::Result;
-use crate::orbit::constants::DEG;
+use crate::foundation::units::DEG;
 use crate::report::figure::Figure;
 use crate::report::style;
-use crate::sky::frames::{radec_to_ecliptic, unit_vector};
+use crate::sky::frames::radec_to_ecliptic;
+use crate::sky::healpix::{area_sq_deg, cell_size_rad};
 use crate::survey::Survey;
 
 /// HEALPix order of the whole-sky map's cells (0.84 deg², about 0.9° across).
@@ -27,7 +28,6 @@ pub const MAP_ORDER: u8 = 6;
 /// A coverage whose bounding box is under this on both sides also gets a zoomed map.
 pub const ZOOM_MAX_DEG: f64 = 45.0;
 const CENTRE_LON: f64 = PI;
-const SKY_SQ_DEG: f64 = 41252.96;
 
 /// Hammer–Aitoff (x, y) of an ecliptic longitude and latitude (radians); x ∈ [−2√2, 2√2],
 /// y ∈ [−√2, √2], longitude increasing to the left of the centre.
@@ -59,32 +59,16 @@ pub fn visit_cells(surveys: &[&Survey], order: u8) -> Vec<(u64, u64)> {
             let k = (key(v.ra_deg[i]), key(v.dec_deg[i]), key(v.rotation_deg[i]));
             pointings.entry(k).or_insert((i, 0)).1 += 1;
         }
-        let r = survey.footprint.bounding_radius_rad() + 2.0 * cell_size_rad(order);
         for &(i, repeats) in pointings.values() {
             let (ra, dec) = (v.ra_deg[i] * DEG, v.dec_deg[i] * DEG);
-            for &h in cdshealpix::nested::cone_coverage_approx_flat(order, ra, dec, r).iter() {
-                let (lon, lat) = cdshealpix::nested::center(order, h);
-                if survey
-                    .footprint
-                    .contains(ra, dec, v.rotation_deg[i], &unit_vector(lon, lat))
-                {
-                    *counts.entry(h).or_default() += repeats;
-                }
+            for h in survey.footprint.healpix_cells(order, ra, dec, v.rotation_deg[i]) {
+                *counts.entry(h).or_default() += repeats;
             }
         }
     }
     let mut cells: Vec<(u64, u64)> = counts.into_iter().collect();
     cells.sort_unstable();
     cells
-}
-
-/// The side of a HEALPix cell of `order` (square root of its area), radians.
-fn cell_size_rad(order: u8) -> f64 {
-    (4.0 * PI / cdshealpix::nested::n_hash(order) as f64).sqrt()
-}
-
-fn area_sq_deg(n_cells: usize, order: u8) -> f64 {
-    n_cells as f64 * SKY_SQ_DEG / cdshealpix::nested::n_hash(order) as f64
 }
 
 /// The maps of one coverage: the whole sky, and a zoom when the coverage is small. `label`

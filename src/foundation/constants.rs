@@ -1,9 +1,9 @@
-//! Physical constants and their sources.
+//! Physical and astronomical constants, each with its source.
 
 /// Gaussian gravitational constant k, AU^1.5 / day (IAU 1976; exact by definition in the
 /// pre-2012 system, retained here as the conventional value for GM_sun in AU and days).
 pub const GAUSS_K: f64 = 0.01720209895;
-/// GM of the Sun, AU^3 / day^2.
+/// GM of the Sun, AU^3 / day^2 (k², IAU 1976).
 pub const GM_SUN: f64 = GAUSS_K * GAUSS_K;
 /// Speed of light, AU / day: 299 792 458 m/s × 86400 s / 149 597 870 700 m (IAU 2012 au).
 pub const C_AU_PER_DAY: f64 = 173.144_632_684_669_3;
@@ -27,7 +27,3 @@ pub const SUN_PLANET_MASS_RATIOS: [f64; 8] = [
 pub fn gm_total() -> f64 {
     GM_SUN * (1.0 + SUN_PLANET_MASS_RATIOS.iter().map(|r| 1.0 / r).sum::<f64>())
 }
-
-pub const DEG: f64 = std::f64::consts::PI / 180.0;
-pub const ARCSEC: f64 = DEG / 3600.0;
-pub const TAU: f64 = std::f64::consts::TAU;

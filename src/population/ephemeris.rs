@@ -1,28 +1,17 @@
 //! Ephemerides of many objects at many epochs: the library side of `seine ephemeris`.
+//!
+//! It reads the objects table, so it sits above `sky` (which knows no table).
 
 use polars::prelude::*;
 use rayon::prelude::*;
 
-use super::apparent::observe_from;
-use super::earth::EarthSource;
-use super::observer::{ObserverState, Site};
-use super::photometry::{apparent_mag, light_curve_offset};
 use crate::error::Result;
 use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
-use crate::time::{TimeScale, to_tdb_mjd, to_utc_mjd};
-
-/// Observer states for a list of epochs given in `scale`.
-pub fn observer_states(mjd: &[f64], scale: TimeScale, site: Option<&Site>) -> Result<Vec<ObserverState>> {
-    let tdb: Vec<f64> = mjd.iter().map(|&t| to_tdb_mjd(t, scale)).collect::<Result<_>>()?;
-    let utc: Vec<f64> = mjd.iter().map(|&t| to_utc_mjd(t, scale)).collect::<Result<_>>()?;
-    let source = EarthSource::for_epochs(&tdb);
-    Ok(tdb
-        .par_iter()
-        .zip(utc.par_iter())
-        .map(|(&t, &u)| ObserverState::new(&source.at(t), site, u, t))
-        .collect())
-}
+use crate::sky::apparent::observe_from;
+use crate::sky::observer::{Site, observer_states};
+use crate::sky::photometry::{apparent_mag, light_curve_offset};
+use crate::time::TimeScale;
 
 /// One row per object and epoch, ordered by object then epoch:
 /// `id, mjd, ra_deg, dec_deg, r_au, delta_au, phase_deg, mag, elong_deg,
