@@ -5,6 +5,7 @@
 
 pub mod analysis;
 pub mod budget;
+pub mod commands;
 pub mod engine;
 pub mod error;
 pub mod fit;

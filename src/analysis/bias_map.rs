@@ -31,6 +31,15 @@ pub enum MapAxes {
 }
 
 impl MapAxes {
+    /// The axes by their option name: `varpi-node` or `argperi-node`.
+    pub fn parse(s: &str) -> Option<Self> {
+        match s {
+            "varpi-node" => Some(MapAxes::VarpiNode),
+            "argperi-node" => Some(MapAxes::ArgperiNode),
+            _ => None,
+        }
+    }
+
     pub fn x_name(self) -> &'static str {
         match self {
             MapAxes::VarpiNode => "varpi",

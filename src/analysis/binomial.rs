@@ -18,6 +18,28 @@ pub fn log_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
     (0..=n).map(|k| (a + (b - a) * k as f64 / n as f64).exp()).collect()
 }
 
+/// Comma-separated increasing bin edges, as an option `option` gives them (e.g. `--h-edges`).
+pub fn parse_edges(option: &str, text: &str) -> crate::Result<Vec<f64>> {
+    use crate::Error;
+    let v: Vec<f64> = text
+        .split(',')
+        .map(|x| x.trim().parse::<f64>())
+        .collect::<std::result::Result<_, _>>()
+        .map_err(|_| Error::input(format!("{option} `{text}`: expected comma-separated numbers")))?;
+    check_edges(option, &v)?;
+    Ok(v)
+}
+
+/// At least two increasing bin edges.
+pub fn check_edges(option: &str, edges: &[f64]) -> crate::Result<()> {
+    if edges.len() < 2 || edges.windows(2).any(|w| !(w[1] > w[0])) {
+        return Err(crate::Error::input(format!(
+            "{option} {edges:?}: expected at least two increasing bin edges"
+        )));
+    }
+    Ok(())
+}
+
 /// The bin of `x` among `edges`: bins are [e_k, e_k+1), the last one with its top edge;
 /// None outside (and for NaN).
 pub fn bin_index(edges: &[f64], x: f64) -> Option<usize> {
@@ -234,6 +256,33 @@ pub fn weighted_quantile(values: &[f64], weights: &[f64], q: f64) -> f64 {
         }
     }
     order.last().map_or(f64::NAN, |i| values[*i])
+}
+
+/// The columns of a list of proportions in an output table: `discovered` (count), `fraction`
+/// (weighted), `n_eff`, `std_error`, `wilson_lo`, `wilson_hi`.
+pub fn proportion_columns(p: &[Proportion]) -> Vec<polars::prelude::Column> {
+    use crate::io::out_dir::col;
+    vec![
+        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
+        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
+        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
+        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
+        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
+        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
+    ]
+}
+
+/// A proportion as a percentage with sensible digits, for conclusions: one decimal from 10%,
+/// two from 0.1%, three below.
+pub fn pct(p: f64) -> String {
+    let x = 100.0 * p;
+    if x >= 10.0 {
+        format!("{x:.1}%")
+    } else if x >= 0.1 {
+        format!("{x:.2}%")
+    } else {
+        format!("{x:.3}%")
+    }
 }
 
 #[cfg(test)]

@@ -44,6 +44,16 @@ impl Redraw {
         }
     }
 
+    /// The option value that names it (`parse` takes it back), as `summary.json` records it.
+    pub fn name(self) -> &'static str {
+        match self {
+            Redraw::MeanAnomaly => "m",
+            Redraw::Node => "node",
+            Redraw::Argperi => "argperi",
+            Redraw::All => "all",
+        }
+    }
+
     /// The trial's elements, drawn in a fixed order: M, then Ω, then ω.
     pub fn apply(self, el: &Elements, rng: &mut rand_pcg::Pcg64) -> Elements {
         let mut out = *el;

@@ -3,8 +3,10 @@
 //! likelihood, and cadence yields; plus the statistics they rest on.
 
 pub mod bias_map;
+pub mod bias_map_tables;
 pub mod binomial;
 pub mod circular;
+pub mod cluster_tables;
 pub mod cluster_test;
 pub mod compare;
 pub mod comparison;

@@ -9,11 +9,11 @@ use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
 
-use super::binomial::{Proportion, Tally, grid_cell, grid_index};
+use super::binomial::{Proportion, Tally, grid_cell, grid_index, proportion_columns};
 use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::error::{Error, Result};
 use crate::io::objects::ObjectTable;
-use crate::io::out_dir::{OutDir, col, proportion_columns};
+use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 use crate::rng::{Purpose, object_stream};
 

@@ -5,11 +5,11 @@
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use super::binomial::{Proportion, Tally};
+use super::binomial::{Proportion, Tally, pct, proportion_columns};
 use super::yields::YieldRow;
 use crate::engine::PreparedSurvey;
 use crate::error::Result;
-use crate::io::out_dir::{OutDir, col, proportion_columns};
+use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 use crate::survey::Survey;
 
@@ -133,17 +133,6 @@ fn best_survey(totals: &[Total]) -> String {
         .iter()
         .max_by(|a, b| a.discovered.fraction.total_cmp(&b.discovered.fraction))
         .map_or(String::new(), |t| t.survey.clone())
-}
-
-fn pct(p: f64) -> String {
-    let x = 100.0 * p;
-    if x >= 10.0 {
-        format!("{x:.1}%")
-    } else if x >= 0.1 {
-        format!("{x:.2}%")
-    } else {
-        format!("{x:.3}%")
-    }
 }
 
 /// One plain sentence with the numbers (fractions weighted; counts raw).

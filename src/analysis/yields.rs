@@ -16,6 +16,12 @@ use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe
 use crate::io::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
+/// The default bin edges (comma-separated, as the options take them) of the distance at
+/// discovery (AU), the absolute magnitude H (mag) and the semi-major axis a (AU).
+pub const DEFAULT_R_EDGES: &str = "0,30,40,50,70,100,150,250,500,1000,100000";
+pub const DEFAULT_H_EDGES: &str = "-5,3,4,5,6,7,8,9,10,20";
+pub const DEFAULT_A_EDGES: &str = "0,30,50,100,250,1000,100000";
+
 /// The binned quantities.
 pub const QUANTITIES: [&str; 3] = ["r_discovery_au", "h_mag", "a_au"];
 

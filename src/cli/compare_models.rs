@@ -1,17 +1,14 @@
-//! `seine compare-models`: which model population better explains the observed catalogue
-//! once both are seen through the surveys (science in `analysis::compare`, files in
-//! `analysis::comparison`).
+//! `seine compare-models`: arguments and printing; the run is `seine::commands::compare_models`.
 
 use std::path::PathBuf;
 
-use seine::analysis::compare::{CompareOptions, DensityChoice, Model, compare_models};
-use seine::analysis::comparison;
+use seine::analysis::compare::DensityChoice;
 use seine::analysis::space::Space;
-use seine::io::objects::ObjectTable;
+use seine::commands::compare_models::{CompareModelsOptions, ModelInput, compare};
 use seine::orbit::Center;
 use seine::{Error, Result};
 
-use super::common::*;
+use super::common::{CatalogueArgs, RunArgs};
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -22,7 +19,7 @@ pub struct Args {
     #[arg(long)]
     pub observed: PathBuf,
     #[command(flatten)]
-    pub selection: super::common::CatalogueArgs,
+    pub selection: CatalogueArgs,
     /// A model population NAME=OBJECTS (e.g. cloned simulation particles); repeat.
     #[arg(long = "model", required = true)]
     pub models: Vec<String>,
@@ -61,7 +58,6 @@ fn pair<'a>(option: &str, s: &'a str, value: &str) -> Result<(&'a str, &'a str)>
 }
 
 pub fn run(a: Args) -> Result<()> {
-    let space = Space::parse(&a.space)?;
     let density = match a.density.as_str() {
         "kde" => DensityChoice::Kernel,
         "binned" => DensityChoice::Binned {
@@ -79,48 +75,44 @@ pub fn run(a: Args) -> Result<()> {
                 .ok_or_else(|| Error::input(format!("--frame `{f}`: expected heliocentric or barycentric")))
         })
         .transpose()?;
-    let mut sizes = std::collections::HashMap::new();
-    for s in &a.population_sizes {
+    let opts = CompareModelsOptions {
+        space: Space::parse(&a.space)?,
+        models: models(&a.models, &a.population_sizes)?,
+        density,
+        frame,
+        surveys: a.surveys,
+        observed: a.observed,
+        selection: a.selection.selection()?,
+        synthetic: a.synthetic,
+        bootstrap: a.bootstrap,
+        run: a.run.options()?,
+    };
+    a.run.print(&compare(&opts)?);
+    Ok(())
+}
+
+/// `--model NAME=OBJECTS` with their `--population-size NAME=N`.
+fn models(models: &[String], sizes: &[String]) -> Result<Vec<ModelInput>> {
+    let mut by_name = std::collections::HashMap::new();
+    for s in sizes {
         let (name, n) = pair("--population-size", s, "N")?;
         let n: f64 = n
             .trim()
             .parse()
             .map_err(|_| Error::input(format!("--population-size `{s}`: expected NAME=N with a number N")))?;
-        sizes.insert(name.to_string(), n);
+        by_name.insert(name.to_string(), n);
     }
-    let mut prov = a.run.start()?;
-    let surveys = load_surveys(&a.surveys, &mut prov)?;
-    let observed = a.selection.read(&a.observed)?;
-    prov.add_input(&a.observed)?;
-    let mut models = Vec::new();
-    for m in &a.models {
+    let mut out = Vec::new();
+    for m in models {
         let (name, path) = pair("--model", m, "OBJECTS")?;
-        let path = PathBuf::from(path);
-        models.push(Model {
+        out.push(ModelInput {
             name: name.to_string(),
-            objects: ObjectTable::read(&path)?,
-            population_size: sizes.remove(name),
+            objects: PathBuf::from(path),
+            population_size: by_name.remove(name),
         });
-        prov.add_input(&path)?;
     }
-    if let Some(name) = sizes.keys().next() {
+    if let Some(name) = by_name.keys().next() {
         return Err(Error::input(format!("--population-size: no --model is named `{name}`")));
     }
-    let opts = CompareOptions {
-        observed,
-        models,
-        space,
-        density,
-        synthetic: a.synthetic,
-        bootstrap: a.bootstrap,
-        seed: a.run.seed,
-        frame,
-    };
-    opts.validate()?;
-    let result = compare_models(&surveys, opts)?;
-    let out = a.run.out_dir(prov)?;
-    let written = comparison::write(&out, &result)?;
-    let paths: Vec<&std::path::Path> = written.iter().map(|p| p.as_path()).collect();
-    a.run.report(&comparison::conclusion(&result), &paths);
-    Ok(())
+    Ok(out)
 }

@@ -1,18 +1,15 @@
-//! `seine detectability`: per-object discovery probability of a catalogue's objects with their
-//! unobserved angles redrawn (`--objects`), or the selection function of a population over
-//! (a, q, i, H) cells (`--population`). Science and files in `analysis::detectability` and
-//! `analysis::selection`.
+//! `seine detectability`: arguments and printing; the run is `seine::commands::detectability`.
 
 use std::path::PathBuf;
 
 use seine::Result;
-use seine::analysis::detectability::{self, Redraw, check_budget};
-use seine::analysis::selection::{self, GridEdges, selection_function};
-use seine::engine::run::survey_key;
-use seine::io::objects::ObjectTable;
-use seine::shard::shard_rows;
+use seine::analysis::detectability::Redraw;
+use seine::analysis::selection::GridEdges;
+use seine::commands::detectability::{DetectabilityOptions, Subject, detectability};
 
-use super::common::*;
+use seine::analysis::binomial::parse_edges;
+
+use super::common::{CatalogueArgs, RunArgs, ShardArgs};
 
 #[derive(clap::Args, Debug)]
 #[command(group(clap::ArgGroup::new("input").required(true).args(["objects", "population"])))]
@@ -24,7 +21,7 @@ pub struct Args {
     #[arg(long)]
     pub objects: Option<PathBuf>,
     #[command(flatten)]
-    pub selection: super::common::CatalogueArgs,
+    pub selection: CatalogueArgs,
     /// A population sample (e.g. from seine draw): the selection function P(discovered | a, q, i, H cell).
     #[arg(long)]
     pub population: Option<PathBuf>,
@@ -65,46 +62,22 @@ pub fn run(a: Args) -> Result<()> {
         inc_deg: parse_edges("--inc-edges", &a.inc_edges)?,
         h_mag: parse_edges("--h-edges", &a.h_edges)?,
     };
-    parse_format(&a.run.format)?;
-    let shard = a.shard.resolve()?;
-    let mut prov = a.run.start()?;
-    let surveys = load_surveys(&a.surveys, &mut prov)?;
-    if let Some(path) = &a.population {
-        let population = ObjectTable::read(path)?;
-        prov.add_input(path)?;
-        let out = a.run.out_dir(prov)?;
-        let (cells, outside) = selection_function(&population, &surveys, a.run.seed, &edges);
-        let table = selection::write(&out, &cells)?;
-        let conclusion = selection::conclusion(population.len(), &cells, outside);
-        let summary = out.summary(
-            serde_json::json!({"command": "detectability", "mode": "population", "objects": population.len(),
-                "cells_filled": cells.len(), "objects_outside_grid": outside}),
-            &conclusion,
-        )?;
-        a.run.report(&conclusion, &[&table, &summary]);
-        return Ok(());
-    }
-    let path = a.objects.as_ref().expect("clap requires --objects or --population");
-    let objects = a.selection.read(path)?;
-    prov.add_input(path)?;
-    let rows = shard_rows(objects.len(), shard);
-    check_budget(rows.len(), a.clones, a.over_budget)?;
-    let out = a.run.out_dir(prov)?;
-    let res = detectability::detectability(&objects, rows, &surveys, a.clones, redraw, a.run.seed);
-    let keys: Vec<String> = surveys.iter().map(|s| survey_key(&s.survey.name)).collect();
-    let table = detectability::write(&out, &objects, &res, &keys)?;
-    let conclusion = detectability::conclusion(&res, &objects, a.clones);
-    let summary = out.summary(
-        serde_json::json!({
-            "command": "detectability",
-            "mode": "catalogue",
-            "objects": res.len(),
-            "trials_per_object": a.clones,
-            "redraw": a.redraw,
-            "mean_p_discover": res.iter().map(|d| d.discovered.fraction).sum::<f64>() / res.len().max(1) as f64,
-        }),
-        &conclusion,
-    )?;
-    a.run.report(&conclusion, &[&table, &summary]);
+    let subject = match (a.population, a.objects) {
+        (Some(objects), _) => Subject::Population { objects, edges },
+        (None, objects) => Subject::Catalogue {
+            objects: objects.expect("clap requires --objects or --population"),
+            selection: a.selection.selection()?,
+            clones: a.clones,
+            redraw,
+            shard: a.shard.resolve()?,
+            over_budget: a.over_budget,
+        },
+    };
+    let opts = DetectabilityOptions {
+        surveys: a.surveys,
+        subject,
+        run: a.run.options()?,
+    };
+    a.run.print(&detectability(&opts)?);
     Ok(())
 }

@@ -6,6 +6,7 @@ use seine::io::Provenance;
 use seine::io::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_table};
 use seine::population::ephemeris::ephemeris_table;
+use seine::sky::observer::Site;
 use seine::time::TimeScale;
 use seine::{Error, Result};
 
@@ -38,7 +39,7 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let scale = TimeScale::parse(&a.time_scale)
         .ok_or_else(|| Error::input(format!("--time-scale `{}`: expected utc, tai, tt or tdb", a.time_scale)))?;
-    let mut site = a.site.as_deref().map(super::common::parse_site).transpose()?;
+    let mut site = a.site.as_deref().map(parse_site).transpose()?;
     seine::io::table::Format::of(&a.out)?;
     let objects = ObjectTable::read(&a.objects)?;
     let mut prov = Provenance::current();
@@ -74,4 +75,36 @@ pub fn run(a: Args) -> Result<()> {
         a.out.display()
     );
     Ok(())
+}
+
+/// Parse `LON_DEG,LAT_DEG[,ELEV_M]` into a site.
+fn parse_site(s: &str) -> Result<Site> {
+    let parts: Vec<&str> = s.split(',').map(str::trim).collect();
+    let num = |i: usize, what: &str| -> Result<f64> {
+        parts
+            .get(i)
+            .and_then(|p| p.parse::<f64>().ok())
+            .filter(|x| x.is_finite())
+            .ok_or_else(|| {
+                Error::input(format!(
+                    "--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M] with a number for {what}"
+                ))
+            })
+    };
+    if !(2..=3).contains(&parts.len()) {
+        return Err(Error::input(format!("--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M]")));
+    }
+    let site = Site {
+        longitude_deg: num(0, "the longitude")?,
+        latitude_deg: num(1, "the latitude")?,
+        elevation_m: if parts.len() == 3 {
+            num(2, "the elevation")?
+        } else {
+            0.0
+        },
+    };
+    if let Some(p) = site.problem() {
+        return Err(Error::input(format!("--site: {p}")));
+    }
+    Ok(site)
 }

@@ -1,14 +1,10 @@
-//! `seine observe`: run objects through one or more surveys.
+//! `seine observe`: arguments and printing; the run is `seine::commands::observe`.
 
 use std::path::PathBuf;
 
 use seine::Result;
-use seine::engine::run::observe_source;
-use seine::engine::{Candidates, ObserveOptions, PreparedSurvey};
+use seine::commands::observe::{ObserveCommand, observe};
 use seine::fit::{AstrometricErrors, FitOptions, FitSpan};
-use seine::io::Provenance;
-use seine::io::objects::{ObjectSource, ObjectTable};
-use seine::survey::Survey;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -76,67 +72,20 @@ fn fit_options(a: &Args) -> Result<Option<FitOptions>> {
 
 pub fn run(a: Args) -> Result<()> {
     super::common::set_threads(a.threads)?;
-    let format = super::common::parse_format(&a.format)?;
-    let shard = a.shard.resolve()?;
-    let fit = fit_options(&a)?;
-    let mut prov = Provenance::current().with_seed(a.seed);
-    let mut surveys = Vec::new();
-    for path in &a.surveys {
-        let s = Survey::load(path)?;
-        prov.add_input(path)?;
-        prov.add_input(&s.visits_path)?;
-        surveys.push(PreparedSurvey::new(s));
-    }
-    super::common::check_unique_survey_names(&surveys)?;
-    // A Parquet table is read chunk by chunk (bounded memory); a CSV table whole.
-    let table;
-    let objects = match seine::io::table::Format::of(&a.objects)? {
-        seine::io::table::Format::Parquet => ObjectSource::parquet(&a.objects, shard)?,
-        seine::io::table::Format::Csv => {
-            table = ObjectTable::read(&a.objects)?;
-            ObjectSource::Table(&table)
-        }
-    };
-    prov.add_input(&a.objects)?;
-    let opts = ObserveOptions {
+    let opts = ObserveCommand {
+        format: super::common::parse_format(&a.format)?,
+        shard: a.shard.resolve()?,
+        fit: fit_options(&a)?,
+        stop: Some(seine::interrupt::graceful_stop()?),
+        surveys: a.surveys,
+        objects: a.objects,
+        out: a.out,
         seed: a.seed,
-        shard,
-        format,
-        candidates: if a.brute_force {
-            Candidates::All
-        } else {
-            Candidates::Indexed
-        },
-        progress: !a.quiet,
-        chunk_size: a.chunk_size,
         resume: a.resume,
-        stop: Some(super::common::stop_flag()?),
-        fit,
+        chunk_size: a.chunk_size,
+        brute_force: a.brute_force,
+        progress: !a.quiet,
     };
-    let report = observe_source(&surveys, &objects, &a.out, &opts, &prov)?;
-    let s = &report.summary;
-    if !a.quiet {
-        eprintln!(
-            "seine observe: {} objects, {} discovered ({:.2}%), {} secured; {} in-field events, {:.2} candidates per event; {:.0} objects/s",
-            s.n_objects,
-            s.n_detected,
-            100.0 * s.detected_fraction,
-            s.n_secured,
-            s.in_field_events,
-            s.candidates_per_in_field_event,
-            s.objects_per_second
-        );
-        if report.chunks_reused > 0 {
-            eprintln!("resumed: {} of {} chunks reused", report.chunks_reused, report.chunks);
-        }
-        eprintln!(
-            "wrote {}, {}, {} ({} discoveries), {}",
-            report.objects_path.display(),
-            report.detections_path.display(),
-            report.discoveries_path.display(),
-            report.n_discoveries,
-            report.summary_path.display()
-        );
-    }
+    super::common::print_outcome(&observe(&opts)?, a.quiet);
     Ok(())
 }

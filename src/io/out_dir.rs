@@ -7,7 +7,6 @@ use polars::prelude::{Column, DataFrame, NamedFrom, Series};
 
 use super::Provenance;
 use super::table::{Format, write_atomic, write_table};
-use crate::analysis::binomial::Proportion;
 use crate::error::{Error, Result};
 
 /// The table `DIR/<stem>.parquet` (or `.csv`) an analysis wrote, when there is one.
@@ -64,17 +63,4 @@ where
     Series: NamedFrom<Vec<T>, [T]>,
 {
     <Series as NamedFrom<Vec<T>, [T]>>::new(name.into(), v).into()
-}
-
-/// The columns of a list of proportions: `discovered` (count), `fraction` (weighted), `n_eff`,
-/// `std_error`, `wilson_lo`, `wilson_hi`.
-pub fn proportion_columns(p: &[Proportion]) -> Vec<Column> {
-    vec![
-        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
-        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
-        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
-        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
-        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
-        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
-    ]
 }

@@ -35,6 +35,15 @@ impl Format {
             ))),
         }
     }
+    /// A format by name, as `--format parquet|csv` gives it.
+    pub fn parse(name: &str) -> Result<Format> {
+        match name {
+            "parquet" => Ok(Format::Parquet),
+            "csv" => Ok(Format::Csv),
+            other => Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
+        }
+    }
+
     pub fn extension(self) -> &'static str {
         match self {
             Format::Csv => "csv",
@@ -331,6 +340,17 @@ impl<'a> Columns<'a> {
         } else {
             Ok(None)
         }
+    }
+
+    /// A numeric column whose empty cells are None (e.g. a discovery's columns, empty where
+    /// there was none).
+    pub fn f64_nullable(&self, name: &str) -> Result<Vec<Option<f64>>> {
+        let col = self.df.column(name).map_err(|_| self.missing(name))?;
+        let s = col
+            .as_materialized_series()
+            .cast(&DataType::Float64)
+            .map_err(|e| io_at(self.path, e))?;
+        Ok(s.f64().map_err(|e| io_at(self.path, e))?.iter().collect())
     }
 
     /// An integer column (floats with no fractional part are accepted).

@@ -8,7 +8,7 @@ use polars::prelude::*;
 
 use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, PlanYield, RoseBin};
 use crate::analysis::comparison;
-use crate::analysis::{detectability, selection, yield_tables};
+use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection, yield_tables};
 use crate::engine::discoveries::{self, Discovery};
 use crate::error::{Error, Result, io_at};
 use crate::io::objects::ObjectTable;
@@ -221,11 +221,11 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
         specs.push(f.to_path_buf());
     } else if let Some(stem) = name.strip_suffix(".coverage.json") {
         inputs.coverage.push(read_coverage(f, stem)?);
-    } else if name.starts_with("bias_map") && (name.ends_with(".csv") || name.ends_with(".parquet")) {
+    } else if bias_map_tables::is_map_table(&name) {
         inputs.bias_maps.extend(read_bias_maps(f)?);
-    } else if name == "rose.csv" || name == "rose.parquet" {
+    } else if cluster_tables::is_table(&name, cluster_tables::ROSE) {
         inputs.roses.extend(read_roses(f)?);
-    } else if name == "cluster_null.csv" || name == "cluster_null.parquet" {
+    } else if cluster_tables::is_table(&name, cluster_tables::NULL) {
         inputs.null_tests.extend(read_null_tests(f)?);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.push(read_yield_set(f)?);
@@ -329,24 +329,12 @@ fn bools(c: &Columns, name: &str) -> Result<Vec<bool>> {
     Ok(c.f64(name)?.into_iter().map(|x| x != 0.0).collect())
 }
 
-/// A column that is empty where an object was not discovered.
-fn nullable(df: &DataFrame, path: &Path, name: &str) -> Result<Vec<Option<f64>>> {
-    let col = df
-        .column(name)
-        .map_err(|_| Error::input(format!("{}: missing column `{name}`", path.display())))?;
-    let s = col
-        .as_materialized_series()
-        .cast(&DataType::Float64)
-        .map_err(|e| io_at(path, e))?;
-    Ok(s.f64().map_err(|e| io_at(path, e))?.iter().collect())
-}
-
 fn read_observed(path: &Path) -> Result<Observed> {
     let t = ObjectTable::read(path)?;
     let c = Columns::new(&t.frame, path);
     let el = &t.elements;
-    let ra = nullable(&t.frame, path, "discovery_ra_deg")?;
-    let dec = nullable(&t.frame, path, "discovery_dec_deg")?;
+    let ra = c.f64_nullable("discovery_ra_deg")?;
+    let dec = c.f64_nullable("discovery_dec_deg")?;
     Ok(Observed {
         a_au: el.iter().map(|e| e.a_au).collect(),
         q_au: el.iter().map(|e| e.q_au()).collect(),
@@ -357,7 +345,7 @@ fn read_observed(path: &Path) -> Result<Observed> {
         node_deg: el.iter().map(|e| e.node.to_degrees().rem_euclid(360.0)).collect(),
         weight: t.weight.clone(),
         detected: bools(&c, "detected")?,
-        discovery_r_au: nullable(&t.frame, path, "discovery_r_au")?,
+        discovery_r_au: c.f64_nullable("discovery_r_au")?,
         discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
         parent_id: if c.has("parent_id") {
             Some(c.i64("parent_id")?)
@@ -430,181 +418,63 @@ pub fn fraction_bins(run: &ObserveRun, quantity: &str) -> Vec<FractionBin> {
     bins
 }
 
-/// `bias_map*.csv`: columns `X_min, X_max, Y_min, Y_max` for two quantities and a value
-/// column (`fraction`, or `probability`); optional `id` splits it into one map per object.
+/// Map tables (`analysis::bias_map_tables::read_cells`) as heat maps of discovery probability.
 fn read_bias_maps(path: &Path) -> Result<Vec<HeatMap>> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    let names: Vec<String> = df.get_column_names().iter().map(|s| s.to_string()).collect();
-    // Bin columns: `X_min`/`X_max` (X named with its unit), or `Y_lo_deg`/`Y_hi_deg` as
-    // `seine bias-map` writes them; each pair gives (label, low column, high column).
-    let axes: Vec<(String, String, String)> = names
-        .iter()
-        .filter_map(|n| {
-            if let Some(stem) = n.strip_suffix("_min") {
-                let hi = format!("{stem}_max");
-                names.contains(&hi).then(|| (stem.to_string(), n.clone(), hi))
-            } else {
-                let stem = n.strip_suffix("_lo_deg")?;
-                let hi = format!("{stem}_hi_deg");
-                names.contains(&hi).then(|| (format!("{stem}_deg"), n.clone(), hi))
-            }
-        })
-        .collect();
-    let [(x, x_lo, x_hi), (y, y_lo, y_hi)] = axes.as_slice() else {
-        return Err(Error::input(format!(
-            "{}: expected bin columns for two quantities (X_min, X_max, Y_min, Y_max), found {}",
-            path.display(),
-            names.join(", ")
-        )));
-    };
-    let value = ["fraction", "probability", "p_discover"]
+    Ok(bias_map_tables::read_cells(path)?
         .into_iter()
-        .find(|v| c.has(v))
-        .ok_or_else(|| {
-            Error::input(format!(
-                "{}: missing the value column `fraction` (or `probability`, `p_discover`)",
-                path.display()
-            ))
-        })?;
-    let (x0, x1, y0, y1) = (c.f64(x_lo)?, c.f64(x_hi)?, c.f64(y_lo)?, c.f64(y_hi)?);
-    let v = c.f64(value)?;
-    let ids = if c.has("id") {
-        c.i64("id")?.into_iter().map(Some).collect()
-    } else {
-        vec![None; v.len()]
-    };
-    let mut maps: Vec<HeatMap> = Vec::new();
-    for i in 0..v.len() {
-        if maps.last().is_none_or(|m| m.id != ids[i]) {
-            maps.push(HeatMap {
-                x: x.clone(),
-                y: y.clone(),
-                value_label: "discovery probability".into(),
-                id: ids[i],
-                cells: Vec::new(),
-            });
-        }
-        let cell = HeatCell {
-            x_min: x0[i],
-            x_max: x1[i],
-            y_min: y0[i],
-            y_max: y1[i],
-            value: v[i],
-        };
-        maps.last_mut().expect("pushed above").cells.push(cell);
-    }
-    Ok(maps)
+        .map(|m| HeatMap {
+            x: m.x,
+            y: m.y,
+            value_label: "discovery probability".into(),
+            id: m.id,
+            cells: m
+                .cells
+                .iter()
+                .map(|&[x_min, x_max, y_min, y_max, value]| HeatCell {
+                    x_min,
+                    x_max,
+                    y_min,
+                    y_max,
+                    value,
+                })
+                .collect(),
+        })
+        .collect())
 }
 
-/// `rose.csv` (or `.parquet`, as `seine cluster-test` writes it): `quantity, bin_lo_deg,
-/// bin_hi_deg, observed` and optionally `null_lo, null_median, null_hi`.
+/// Rose tables (`analysis::cluster_tables::read_rose`), each quantity with the file it came from.
 fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>, String)>> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    let (q, lo, hi, obs) = (
-        c.str("quantity")?,
-        c.f64("bin_lo_deg")?,
-        c.f64("bin_hi_deg")?,
-        c.f64("observed")?,
-    );
-    let band = if c.has("null_lo") {
-        Some((c.f64("null_lo")?, c.f64("null_median")?, c.f64("null_hi")?))
-    } else {
-        None
-    };
     let source = path.display().to_string();
-    let mut out: Vec<(String, Vec<RoseBin>, String)> = Vec::new();
-    for i in 0..q.len() {
-        if out.last().is_none_or(|(name, _, _)| *name != q[i]) {
-            out.push((q[i].clone(), Vec::new(), source.clone()));
-        }
-        let null = band.as_ref().map(|(a, m, b)| NullBand {
-            lo: a[i],
-            median: m[i],
-            hi: b[i],
-        });
-        out.last_mut().expect("pushed above").1.push(RoseBin {
-            min_deg: lo[i],
-            max_deg: hi[i],
-            observed: obs[i],
-            null,
-        });
-    }
-    Ok(out)
+    Ok(cluster_tables::read_rose(path)?
+        .into_iter()
+        .map(|(quantity, rows)| {
+            let bins = rows
+                .into_iter()
+                .map(|r| RoseBin {
+                    min_deg: r.lo_deg,
+                    max_deg: r.hi_deg,
+                    observed: r.observed,
+                    null: r.null_band.map(|(lo, median, hi)| NullBand { lo, median, hi }),
+                })
+                .collect();
+            (quantity, bins, source.clone())
+        })
+        .collect())
 }
 
-/// `cluster_null.csv` (or `.parquet`, as `seine cluster-test` writes it): `statistic, value`
-/// (one row per statistic and null catalogue), optional `value_naive`; with the observed
-/// values and p-values (`statistic, observed, p_bias_aware`, optional `p_naive`) in
-/// `cluster_test.csv` (or `.parquet`) beside it.
+/// The cluster test's null distributions (`analysis::cluster_tables::read_null`).
 fn read_null_tests(path: &Path) -> Result<Vec<NullTest>> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    let (stat, value) = (c.str("statistic")?, c.f64("value")?);
-    let naive = if c.has("value_naive") {
-        Some(c.f64("value_naive")?)
-    } else {
-        None
-    };
-    let beside = ["cluster_test.parquet", "cluster_test.csv"].map(|n| path.with_file_name(n));
-    let Some(test_path) = beside.iter().find(|p| p.exists()) else {
-        return Err(Error::input(format!(
-            "{}: expected cluster_test.parquet or cluster_test.csv beside it (the observed values \
-             and p-values seine cluster-test writes)",
-            path.display()
-        )));
-    };
-    let tdf = read_table(test_path)?;
-    let tc = Columns::new(&tdf, test_path);
-    // The joint statistic has no single value (NaN): only the rows of sampled statistics are read.
-    let names = tc.str("statistic")?;
-    let (observed, p_bias) = (
-        nullable(&tdf, test_path, "observed")?,
-        nullable(&tdf, test_path, "p_bias_aware")?,
-    );
-    let p_naive = if tc.has("p_naive") {
-        Some(nullable(&tdf, test_path, "p_naive")?)
-    } else {
-        None
-    };
-    let mut tests: Vec<NullTest> = Vec::new();
-    for i in 0..stat.len() {
-        let s = &stat[i];
-        let k = match tests.iter().position(|t| t.statistic == *s) {
-            Some(k) => k,
-            None => {
-                let j = names.iter().position(|n| n == s).ok_or_else(|| {
-                    Error::input(format!(
-                        "{}: no row for statistic `{s}` of {}",
-                        test_path.display(),
-                        path.display()
-                    ))
-                })?;
-                let finite = |x: Option<f64>| x.filter(|x| x.is_finite());
-                let observed = finite(observed[j]).ok_or_else(|| {
-                    Error::input(format!(
-                        "{}: statistic `{s}`: expected a finite `observed` value",
-                        test_path.display()
-                    ))
-                })?;
-                tests.push(NullTest {
-                    statistic: s.clone(),
-                    observed,
-                    p_value: finite(p_bias[j]),
-                    p_value_naive: p_naive.as_ref().and_then(|p| finite(p[j])),
-                    samples: Vec::new(),
-                    naive_samples: Vec::new(),
-                });
-                tests.len() - 1
-            }
-        };
-        tests[k].samples.push(value[i]);
-        if let Some(v) = &naive {
-            tests[k].naive_samples.push(v[i]);
-        }
-    }
-    Ok(tests)
+    Ok(cluster_tables::read_null(path)?
+        .into_iter()
+        .map(|t| NullTest {
+            statistic: t.statistic,
+            observed: t.observed,
+            p_value: t.p_bias_aware,
+            p_value_naive: t.p_naive,
+            samples: t.values,
+            naive_samples: t.values_naive,
+        })
+        .collect())
 }
 
 /// `yield_cadence.*` (read by `analysis::yield_tables`), with the effort of each plan from

@@ -1,0 +1,252 @@
+//! The bias maps' output product: file names, columns, writing and reading of `bias_map.*`
+//! (one row per object and cell) and `map_discoveries.*` (the angles of every discovered
+//! trial). `seine bias-map` and `seine cluster-test` write through it; `cluster-test --bias-map`
+//! reads maps back through `read`, and `seine report` reads any map table through `read_cells`
+//! (which also takes the documented hand-made layout `X_min, X_max, Y_min, Y_max, fraction`).
+
+use std::path::{Path, PathBuf};
+
+use polars::prelude::Column;
+
+use super::bias_map::{BiasMap, MapAxes, MapGrid};
+use crate::error::{Error, Result};
+use crate::io::out_dir::{OutDir, col};
+use crate::io::table::{Columns, read_table};
+
+/// File stem of the map table: `DIR/bias_map.parquet` (or `.csv`).
+pub const MAPS: &str = "bias_map";
+/// File stem of the discovered trials' angles beside a map table.
+pub const FOUND: &str = "map_discoveries";
+
+const ID: &str = "id";
+const CELL: &str = "cell";
+const GRID_N_X: &str = "grid_n_x";
+const GRID_N_NODE: &str = "grid_n_node";
+const TRIALS: &str = "trials";
+const DISCOVERED: &str = "discovered";
+const P_DISCOVER: &str = "p_discover";
+const NODE: &str = "node";
+/// The value columns a map table may carry, in order of preference: the hand-made layout's
+/// `fraction` or `probability`, or `p_discover` as `seine bias-map` writes it.
+const VALUE_COLUMNS: [&str; 3] = ["fraction", "probability", P_DISCOVER];
+
+/// Whether a file name is a map table the report shows (`bias_map*.csv` or `.parquet`).
+pub fn is_map_table(name: &str) -> bool {
+    name.starts_with(MAPS) && (name.ends_with(".csv") || name.ends_with(".parquet"))
+}
+
+/// Write `bias_map.*` and `map_discoveries.*`; returns both paths.
+pub fn write(out: &OutDir, maps: &[BiasMap]) -> Result<[PathBuf; 2]> {
+    Ok([
+        out.write(MAPS, map_columns(maps))?,
+        out.write(FOUND, found_columns(maps))?,
+    ])
+}
+
+/// The first axis's name (`varpi` or `argperi`) of a list of maps.
+fn x_name(maps: &[BiasMap]) -> &'static str {
+    maps.first()
+        .map_or(MapAxes::VarpiNode.x_name(), |m| m.grid.axes.x_name())
+}
+
+/// `bias_map`: one row per object and cell: `id, cell, grid_n_x, grid_n_node`, the cell's
+/// bounds `X_lo_deg, X_hi_deg, node_lo_deg, node_hi_deg` (X = varpi or argperi), `trials,
+/// discovered, p_discover`.
+fn map_columns(maps: &[BiasMap]) -> Vec<Column> {
+    let rows: Vec<(&BiasMap, usize)> = maps
+        .iter()
+        .flat_map(|b| (0..b.trials.len()).map(move |c| (b, c)))
+        .collect();
+    let x = x_name(maps);
+    let bound = |k: usize| -> Vec<f64> {
+        rows.iter()
+            .map(|&(m, c)| {
+                let b = m.cell_bounds(c);
+                [b.0, b.1, b.2, b.3][k].to_degrees()
+            })
+            .collect()
+    };
+    let u = |f: &dyn Fn(&BiasMap, usize) -> u64| rows.iter().map(|&(m, c)| f(m, c)).collect::<Vec<u64>>();
+    vec![
+        col(ID, rows.iter().map(|&(m, _)| m.id).collect::<Vec<i64>>()),
+        col(CELL, u(&|_, c| c as u64)),
+        col(GRID_N_X, u(&|m, _| m.grid.n_x as u64)),
+        col(GRID_N_NODE, u(&|m, _| m.grid.n_node as u64)),
+        col(&lo_deg(x), bound(0)),
+        col(&hi_deg(x), bound(1)),
+        col(&lo_deg(NODE), bound(2)),
+        col(&hi_deg(NODE), bound(3)),
+        col(TRIALS, u(&|m, c| m.trials[c])),
+        col(DISCOVERED, u(&|m, c| m.discoveries[c])),
+        col(P_DISCOVER, rows.iter().map(|&(m, c)| m.p(c)).collect::<Vec<f64>>()),
+    ]
+}
+
+fn lo_deg(axis: &str) -> String {
+    format!("{axis}_lo_deg")
+}
+
+fn hi_deg(axis: &str) -> String {
+    format!("{axis}_hi_deg")
+}
+
+/// `map_discoveries`: one row per discovered trial, `id, varpi_deg` (or `argperi_deg`),
+/// `node_deg`, in trial order.
+fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
+    let x = x_name(maps);
+    let each =
+        |f: &dyn Fn(&(f64, f64)) -> f64| -> Vec<f64> { maps.iter().flat_map(|m| m.found.iter().map(f)).collect() };
+    vec![
+        col(
+            ID,
+            maps.iter()
+                .flat_map(|m| std::iter::repeat_n(m.id, m.found.len()))
+                .collect::<Vec<i64>>(),
+        ),
+        col(&format!("{x}_deg"), each(&|a| a.0.to_degrees())),
+        col(&format!("{NODE}_deg"), each(&|a| a.1.to_degrees())),
+    ]
+}
+
+/// Read a table written by `seine bias-map` back into maps, one per id, with the discovered
+/// trials' angles of `map_discoveries.*` beside it when there is that file.
+pub fn read(path: &Path) -> Result<Vec<BiasMap>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let axes = if c.has(&lo_deg(MapAxes::VarpiNode.x_name())) {
+        MapAxes::VarpiNode
+    } else {
+        MapAxes::ArgperiNode
+    };
+    let (ids, cells, nx, nn) = (c.i64(ID)?, c.i64(CELL)?, c.i64(GRID_N_X)?, c.i64(GRID_N_NODE)?);
+    let (trials, found) = (c.i64(TRIALS)?, c.i64(DISCOVERED)?);
+    let mut maps: Vec<BiasMap> = Vec::new();
+    for r in 0..c.len() {
+        if maps.last().is_none_or(|m| m.id != ids[r]) {
+            let grid = MapGrid {
+                axes,
+                n_x: nx[r] as usize,
+                n_node: nn[r] as usize,
+            };
+            maps.push(BiasMap::empty(ids[r], grid));
+        }
+        let m = maps.last_mut().expect("pushed above");
+        let cell = usize::try_from(cells[r]).ok().filter(|x| *x < m.trials.len());
+        let cell = cell.ok_or_else(|| c.bad_value(r, CELL, &format!("a cell below {}", m.trials.len())))?;
+        if trials[r] < 0 || found[r] < 0 || found[r] > trials[r] {
+            return Err(c.bad_value(r, DISCOVERED, "0 ≤ discovered ≤ trials"));
+        }
+        m.trials[cell] = trials[r] as u64;
+        m.discoveries[cell] = found[r] as u64;
+    }
+    read_found(path, &mut maps)?;
+    Ok(maps)
+}
+
+/// The discovered trials' angles from `map_discoveries.*` beside a map table, when there is
+/// one; each map's discoveries must match its count.
+fn read_found(path: &Path, maps: &mut [BiasMap]) -> Result<()> {
+    let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("parquet");
+    let beside = path.with_file_name(format!("{FOUND}.{ext}"));
+    if !beside.exists() {
+        return Ok(());
+    }
+    let df = read_table(&beside)?;
+    let c = Columns::new(&df, &beside);
+    let x_col = format!("{}_deg", x_name(maps));
+    let (ids, x, node) = (c.i64(ID)?, c.f64(&x_col)?, c.f64(&format!("{NODE}_deg"))?);
+    let index: std::collections::HashMap<i64, usize> = maps.iter().enumerate().map(|(k, m)| (m.id, k)).collect();
+    for r in 0..ids.len() {
+        let k = *index
+            .get(&ids[r])
+            .ok_or_else(|| c.bad_value(r, ID, "an id of the map table beside it"))?;
+        maps[k].found.push((x[r].to_radians(), node[r].to_radians()));
+    }
+    for m in maps.iter() {
+        if !m.found.is_empty() && m.found.len() as u64 != m.total_discoveries() {
+            return Err(Error::input(format!(
+                "{}: id {}: {} discovered angles, but {} discoveries in {}",
+                beside.display(),
+                m.id,
+                m.found.len(),
+                m.total_discoveries(),
+                path.display()
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// One map as cells over two named quantities, for drawing.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MapCells {
+    /// The quantities with their units, e.g. `varpi_deg`, `node_deg`.
+    pub x: String,
+    pub y: String,
+    /// The object the map belongs to, when the table has an `id` column.
+    pub id: Option<i64>,
+    /// (x_min, x_max, y_min, y_max, value) per cell.
+    pub cells: Vec<[f64; 5]>,
+}
+
+/// Read any map table as cells: bin columns `X_lo_deg`/`X_hi_deg` (as `seine bias-map` writes
+/// them) or `X_min`/`X_max` (X named with its unit) for two quantities, a value column
+/// (`fraction`, `probability` or `p_discover`), and an optional `id` that splits it into one
+/// map per object.
+pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let names: Vec<String> = df.get_column_names().iter().map(|s| s.to_string()).collect();
+    let axes = bin_axes(&names);
+    let [(x, x_lo, x_hi), (y, y_lo, y_hi)] = axes.as_slice() else {
+        return Err(Error::input(format!(
+            "{}: expected bin columns for two quantities (X_min, X_max, Y_min, Y_max), found {}",
+            path.display(),
+            names.join(", ")
+        )));
+    };
+    let value = VALUE_COLUMNS.into_iter().find(|v| c.has(v)).ok_or_else(|| {
+        Error::input(format!(
+            "{}: missing the value column `fraction` (or `probability`, `p_discover`)",
+            path.display()
+        ))
+    })?;
+    let (x0, x1, y0, y1) = (c.f64(x_lo)?, c.f64(x_hi)?, c.f64(y_lo)?, c.f64(y_hi)?);
+    let v = c.f64(value)?;
+    let ids = if c.has(ID) {
+        c.i64(ID)?.into_iter().map(Some).collect()
+    } else {
+        vec![None; v.len()]
+    };
+    let mut maps: Vec<MapCells> = Vec::new();
+    for i in 0..v.len() {
+        if maps.last().is_none_or(|m| m.id != ids[i]) {
+            maps.push(MapCells {
+                x: x.clone(),
+                y: y.clone(),
+                id: ids[i],
+                cells: Vec::new(),
+            });
+        }
+        let cell = [x0[i], x1[i], y0[i], y1[i], v[i]];
+        maps.last_mut().expect("pushed above").cells.push(cell);
+    }
+    Ok(maps)
+}
+
+/// The bin-column pairs among `names`: (the quantity with its unit, low column, high column).
+fn bin_axes(names: &[String]) -> Vec<(String, String, String)> {
+    names
+        .iter()
+        .filter_map(|n| {
+            if let Some(stem) = n.strip_suffix("_min") {
+                let hi = format!("{stem}_max");
+                names.contains(&hi).then(|| (stem.to_string(), n.clone(), hi))
+            } else {
+                let stem = n.strip_suffix("_lo_deg")?;
+                let hi = hi_deg(stem);
+                names.contains(&hi).then(|| (format!("{stem}_deg"), n.clone(), hi))
+            }
+        })
+        .collect()
+}

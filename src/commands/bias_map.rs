@@ -1,0 +1,239 @@
+//! `seine bias-map`: per-object discovery probability on a (ϖ, Ω) or (ω, Ω) grid, with a, e,
+//! i and H fixed and M redrawn (AJ 154, 65, 2017). The maps' science is in
+//! `analysis::bias_map`, their files in `analysis::bias_map_tables`; this is the run: options,
+//! checks, the maps of a shard of the catalogue, the SVG heat maps, the summary and conclusion.
+
+use std::path::PathBuf;
+
+use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use crate::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, bias_maps, svg};
+use crate::analysis::bias_map_tables;
+use crate::analysis::binomial::pct;
+use crate::engine::PreparedSurvey;
+use crate::error::{Error, Result};
+use crate::fit::catalogue::Selection;
+use crate::io::objects::ObjectTable;
+use crate::io::table::write_atomic;
+use crate::shard::shard_rows;
+
+/// How the maps are gridded and how far each grows (shared with `cluster-test`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct MapOptions {
+    pub grid: MapGrid,
+    /// Trials are added a pass at a time until a map holds this many discoveries …
+    pub min_discoveries: u64,
+    /// … or no further pass fits under this cap.
+    pub max_trials_per_object: u64,
+    /// Exactly this many trials per cell instead (no adaptive passes).
+    pub per_cell: Option<u64>,
+    /// Run past the budget of trials and memory: it is meant.
+    pub over_budget: bool,
+}
+
+impl MapOptions {
+    /// The checks: a grid of at least one cell, and a budget that allows one pass.
+    pub fn validate(&self) -> Result<()> {
+        if self.grid.n_x == 0 || self.grid.n_node == 0 {
+            return Err(Error::input(format!(
+                "--grid {},{}: expected NX,NNODE, two whole numbers ≥ 1",
+                self.grid.n_x, self.grid.n_node
+            )));
+        }
+        self.budget().map(|_| ())
+    }
+
+    /// How far each map grows.
+    pub fn budget(&self) -> Result<MapBudget> {
+        if let Some(n) = self.per_cell {
+            if n == 0 {
+                return Err(Error::input("--per-cell: expected at least 1"));
+            }
+            return Ok(MapBudget::fixed(n, self.grid));
+        }
+        if self.min_discoveries == 0 {
+            return Err(Error::input("--min-discoveries: expected at least 1"));
+        }
+        if self.max_trials_per_object < self.grid.cells() as u64 {
+            return Err(Error::input(format!(
+                "--max-trials-per-object {}: expected at least one pass of the {}-cell grid",
+                self.max_trials_per_object,
+                self.grid.cells()
+            )));
+        }
+        Ok(MapBudget {
+            min_discoveries: self.min_discoveries,
+            max_trials: self.max_trials_per_object,
+        })
+    }
+
+    /// Refuse maps of `objects` objects past the budget (unless `over_budget`): the trials of
+    /// fixed per-cell maps, and the memory the maps hold.
+    pub fn check_budget(&self, objects: usize) -> Result<()> {
+        let budget = self.budget()?;
+        let fixed = (budget.min_discoveries == u64::MAX).then_some(budget.max_trials);
+        crate::budget::check_bias_maps(objects, self.grid.cells() as f64, fixed, self.over_budget)
+    }
+
+    /// The maps of catalogue rows `rows`, with a progress bar over objects.
+    pub fn maps(
+        &self,
+        objects: &ObjectTable,
+        rows: std::ops::Range<usize>,
+        surveys: &[PreparedSurvey],
+        seed: u64,
+        progress: bool,
+    ) -> Result<Vec<BiasMap>> {
+        let budget = self.budget()?;
+        let bar = crate::progress::bar(rows.len() as u64, "bias maps", progress);
+        let tick = || {
+            if let Some(b) = &bar {
+                b.inc(1)
+            }
+        };
+        let maps = bias_maps(objects, rows, surveys, self.grid, budget, seed, &tick);
+        if let Some(b) = bar {
+            b.finish_and_clear();
+        }
+        Ok(maps)
+    }
+
+    /// Ids of maps without any discovery, and of maps short of the asked discoveries.
+    pub fn thin_maps(&self, maps: &[BiasMap]) -> Result<(Vec<i64>, Vec<i64>)> {
+        let min = self.budget()?.min_discoveries;
+        let ids = |f: &dyn Fn(u64) -> bool| -> Vec<i64> {
+            maps.iter().filter(|m| f(m.total_discoveries())).map(|m| m.id).collect()
+        };
+        Ok((ids(&|d| d == 0), ids(&|d| d > 0 && d < min && min != u64::MAX)))
+    }
+}
+
+/// The options of `seine bias-map`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BiasMapOptions {
+    /// Survey specs (discovered by any).
+    pub surveys: Vec<PathBuf>,
+    /// The catalogue, and which of its elements and rows are taken.
+    pub objects: PathBuf,
+    pub selection: Selection,
+    pub maps: MapOptions,
+    pub run: RunOptions,
+    /// Shard (k, n) of the catalogue's rows.
+    pub shard: Option<(usize, usize)>,
+    /// Write an SVG heat map per object under `DIR/maps/`.
+    pub svg: bool,
+}
+
+impl BiasMapOptions {
+    pub fn validate(&self) -> Result<()> {
+        self.maps.validate()
+    }
+}
+
+/// Run `seine bias-map`: the maps of the shard's catalogue objects, their tables, heat maps
+/// and `summary.json`.
+pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
+    opts.validate()?;
+    let budget = opts.maps.budget()?;
+    let mut prov = opts.run.provenance();
+    let surveys = load_surveys(&opts.surveys, &mut prov)?;
+    let (objects, note) = read_catalogue(&opts.selection, &opts.objects)?;
+    prov.add_input(&opts.objects)?;
+    let rows = shard_rows(objects.len(), opts.shard);
+    opts.maps.check_budget(rows.len())?;
+    let out = opts.run.out_dir(prov);
+    let maps = opts
+        .maps
+        .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
+    let [table, found] = bias_map_tables::write(&out, &maps)?;
+    if opts.svg {
+        write_svgs(opts, &objects, rows, &maps)?;
+    }
+    let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
+    let conclusion = conclude(&maps, &undiscovered, &thin);
+    let grid = opts.maps.grid;
+    let summary = out.summary(
+        serde_json::json!({
+            "command": "bias-map",
+            "objects": maps.len(),
+            "grid": [grid.n_x, grid.n_node],
+            "axes": grid.axes.x_name(),
+            "min_discoveries": (budget.min_discoveries != u64::MAX).then_some(budget.min_discoveries),
+            "max_trials_per_object": budget.max_trials,
+            "undiscovered_ids": undiscovered,
+            "below_min_discoveries_ids": thin,
+            "maps": maps.iter().map(|m| serde_json::json!({
+                "id": m.id,
+                "trials": m.total_trials(),
+                "discoveries": m.total_discoveries(),
+                "mean_p": m.mean_p(),
+            })).collect::<Vec<_>>(),
+        }),
+        &conclusion,
+    )?;
+    Ok(Outcome {
+        written: vec![table, found, summary],
+        conclusion,
+        notes: note.into_iter().collect(),
+    })
+}
+
+/// `DIR/maps/ID.svg`: each object's map with its own angles marked.
+fn write_svgs(
+    opts: &BiasMapOptions,
+    objects: &ObjectTable,
+    rows: std::ops::Range<usize>,
+    maps: &[BiasMap],
+) -> Result<()> {
+    for (m, i) in maps.iter().zip(rows) {
+        let el = &objects.elements[i];
+        let x = match opts.maps.grid.axes {
+            MapAxes::VarpiNode => (el.node + el.argperi).rem_euclid(std::f64::consts::TAU),
+            MapAxes::ArgperiNode => el.argperi,
+        };
+        write_atomic(
+            &opts.run.out.join("maps").join(format!("{}.svg", m.id)),
+            svg(m, Some((x, el.node))).as_bytes(),
+        )?;
+    }
+    Ok(())
+}
+
+fn conclude(maps: &[BiasMap], undiscovered: &[i64], thin: &[i64]) -> String {
+    if maps.is_empty() {
+        return "seine bias-map: no objects in this shard".into();
+    }
+    let mean: Vec<f64> = maps.iter().map(BiasMap::mean_p).collect();
+    // How uneven a map is: the spread of its cells' probability against its mean.
+    let contrast: Vec<f64> = maps
+        .iter()
+        .map(|m| (0..m.trials.len()).map(|c| m.p(c)).fold(0.0, f64::max) / m.mean_p().max(1e-300))
+        .collect();
+    let trials: Vec<u64> = maps.iter().map(BiasMap::total_trials).collect();
+    let mut s = format!(
+        "seine bias-map: {} objects on a {}×{} grid, {}–{} trials each. Mean chance of discovery over all angles {} (range {}–{}); \
+         the most favoured cell is on average {:.1}× the mean, so the surveys see these objects unevenly in {} and node.",
+        maps.len(),
+        maps[0].grid.n_x,
+        maps[0].grid.n_node,
+        trials.iter().min().copied().unwrap_or(0),
+        trials.iter().max().copied().unwrap_or(0),
+        pct(mean.iter().sum::<f64>() / mean.len() as f64),
+        pct(mean.iter().copied().fold(f64::INFINITY, f64::min)),
+        pct(mean.iter().copied().fold(0.0, f64::max)),
+        contrast.iter().filter(|c| c.is_finite()).sum::<f64>() / contrast.len() as f64,
+        maps[0].grid.axes.x_name(),
+    );
+    if !undiscovered.is_empty() {
+        s += &format!(
+            "\n  Warning: never discovered at any angle tried, ids {undiscovered:?}: cluster-test refuses \
+             these maps unless --drop-undiscovered (or raise --max-trials-per-object)."
+        );
+    }
+    if !thin.is_empty() {
+        s += &format!(
+            "\n  Note: maps short of the asked discoveries at the trial cap, ids {thin:?}: their \
+             p-values' errors (cluster-test) include this map noise."
+        );
+    }
+    s
+}

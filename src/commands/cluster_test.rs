@@ -1,0 +1,194 @@
+//! `seine cluster-test`: how significant the clustering of a catalogue's ϖ, Ω, ω, poles and
+//! perihelia is once the surveys' bias is accounted for (AJ 157, 62, 2019), beside the naive
+//! p-values. The statistics are in `analysis::cluster_test`, the files in
+//! `analysis::cluster_tables` (and the maps' in `analysis::bias_map_tables`); this is the run.
+
+use std::path::{Path, PathBuf};
+
+use super::bias_map::MapOptions;
+use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use crate::analysis::bias_map::BiasMap;
+use crate::analysis::binomial::pct;
+use crate::analysis::cluster_test::{self as ct, Angles, ClusterTest, TestOptions};
+use crate::analysis::{bias_map_tables, cluster_tables};
+use crate::error::{Error, Result};
+use crate::fit::catalogue::Selection;
+use crate::io::Provenance;
+use crate::io::objects::ObjectTable;
+
+/// The options of `seine cluster-test`.
+#[derive(Debug, Clone)]
+pub struct ClusterTestOptions {
+    /// Survey specs, to compute the bias maps here (without `bias_maps`).
+    pub surveys: Vec<PathBuf>,
+    /// The observed catalogue, and which of its elements and rows are taken.
+    pub catalog: PathBuf,
+    pub selection: Selection,
+    /// Map tables written by `seine bias-map` for these objects (several shards' tables).
+    pub bias_maps: Vec<PathBuf>,
+    pub maps: MapOptions,
+    /// Trials, replicas, cuts, rose bins and the seed of the synthetic catalogues.
+    pub test: TestOptions,
+    /// Leave out the objects whose bias map holds no discovery (otherwise refused).
+    pub drop_undiscovered: bool,
+    pub run: RunOptions,
+}
+
+impl ClusterTestOptions {
+    /// Every check that needs no input file: nothing is computed or written for a bad option.
+    pub fn validate(&self) -> Result<()> {
+        if self.test.replicas < 2 {
+            return Err(Error::input(format!(
+                "--replicas {}: expected at least 2 (the errors are their spread)",
+                self.test.replicas
+            )));
+        }
+        self.test.check()?;
+        self.maps.validate()?;
+        if self.bias_maps.is_empty() && self.surveys.is_empty() {
+            return Err(Error::input(
+                "cluster-test: give --survey (to compute bias maps) or --bias-map",
+            ));
+        }
+        Ok(())
+    }
+
+    /// The budget of the synthetic catalogues of `objects` objects.
+    fn check_budget(&self, objects: usize) -> Result<()> {
+        let draws = objects as f64 * self.test.trials as f64;
+        crate::budget::check(crate::budget::CLUSTER_TRIALS, draws, "--trials", self.maps.over_budget)?;
+        // The null samples held for cluster_null.*: about half a kilobyte per trial.
+        crate::budget::check_memory(512.0 * self.test.trials as f64, "--trials", self.maps.over_budget)
+    }
+}
+
+/// Run `seine cluster-test`: the maps (read or computed), the test, its tables and summary.
+pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
+    opts.validate()?;
+    let mut prov = opts.run.provenance();
+    let (catalog, note) = read_catalogue(&opts.selection, &opts.catalog)?;
+    prov.add_input(&opts.catalog)?;
+    opts.check_budget(catalog.len())?;
+    let maps = catalogue_maps(opts, &catalog, &mut prov)?;
+    let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
+    if !undiscovered.is_empty() && !opts.drop_undiscovered {
+        return Err(Error::input(format!(
+            "cluster-test: the bias maps of ids {undiscovered:?} hold no discovery (the surveys never found \
+             these objects at any angle tried); drawing them uniformly would bias the test. Give \
+             --drop-undiscovered to test the others, or raise --max-trials-per-object (run `seine bias-map` \
+             first to keep the maps)"
+        )));
+    }
+    let res = run_test(opts, &catalog, &maps)?;
+    let out = opts.run.out_dir(prov);
+    if opts.bias_maps.is_empty() {
+        bias_map_tables::write(&out, &maps)?;
+    }
+    let [table, null, rose] = cluster_tables::write(&out, &res)?;
+    let conclusion = conclude(&res, &undiscovered, &thin);
+    let mut value = serde_json::to_value(&res).map_err(|e| Error::io(e.to_string()))?;
+    value["command"] = "cluster-test".into();
+    value["dropped_undiscovered_ids"] = serde_json::json!(undiscovered);
+    value["below_min_discoveries_ids"] = serde_json::json!(thin);
+    let summary = out.summary(value, &conclusion)?;
+    Ok(Outcome {
+        written: vec![table, null, rose, summary],
+        conclusion,
+        notes: note.into_iter().collect(),
+    })
+}
+
+/// The catalogue's maps, in catalogue order: read from the given tables, or computed.
+fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut Provenance) -> Result<Vec<BiasMap>> {
+    let Some(first) = opts.bias_maps.first() else {
+        opts.maps.check_budget(catalog.len())?;
+        let surveys = load_surveys(&opts.surveys, prov)?;
+        return opts
+            .maps
+            .maps(catalog, 0..catalog.len(), &surveys, opts.run.seed, opts.run.progress);
+    };
+    let mut maps = Vec::new();
+    for p in &opts.bias_maps {
+        prov.add_input(p)?;
+        maps.extend(bias_map_tables::read(p)?);
+    }
+    order_maps(maps, catalog, first)
+}
+
+/// The test on the objects whose maps hold a discovery, with a progress bar over replicas.
+fn run_test(opts: &ClusterTestOptions, catalog: &ObjectTable, maps: &[BiasMap]) -> Result<ClusterTest> {
+    let keep: Vec<usize> = (0..maps.len()).filter(|j| maps[*j].total_discoveries() > 0).collect();
+    let angles = Angles::of(catalog).select(&keep);
+    let tested: Vec<BiasMap> = keep.iter().map(|j| maps[*j].clone()).collect();
+    let bar = crate::progress::bar(u64::from(opts.test.replicas) + 1, "map replicas", opts.run.progress);
+    let tick = || {
+        if let Some(b) = &bar {
+            b.inc(1)
+        }
+    };
+    let res = ct::cluster_test(&angles, &tested, &opts.test, &tick)?;
+    if let Some(b) = bar {
+        b.finish_and_clear();
+    }
+    Ok(res)
+}
+
+/// The maps in catalogue order; every catalogue id needs one.
+fn order_maps(maps: Vec<BiasMap>, catalog: &ObjectTable, path: &Path) -> Result<Vec<BiasMap>> {
+    let mut by_id: std::collections::HashMap<i64, _> = maps.into_iter().map(|m| (m.id, m)).collect();
+    catalog
+        .ids
+        .iter()
+        .map(|id| {
+            by_id
+                .remove(id)
+                .ok_or_else(|| Error::input(format!("{}: no bias map for catalogue id {id}", path.display())))
+        })
+        .collect()
+}
+
+fn conclude(t: &ClusterTest, dropped: &[i64], thin: &[i64]) -> String {
+    let r = |name: &str| t.result(name).expect("every statistic is reported");
+    let line = |label: &str, name: &str| {
+        let x = r(name);
+        format!(
+            "{label}: bias-aware chance {} ± {}, without bias correction {}",
+            pct(x.p_bias_aware),
+            pct(x.p_bias_aware_error),
+            pct(x.p_naive)
+        )
+    };
+    let family = t.results.len() - 1;
+    let mut s = format!(
+        "seine cluster-test: {} objects, {} synthetic catalogues drawn from their bias maps, errors from {} \
+         bootstrap replicas of the maps.\n  {} — the chance that the most significant of all {family} \
+         statistics{} is at least this significant: the number to quote unless one statistic was chosen \
+         before looking.\n  {} (mean ϖ {:.0}°, R/n = {:.2}).\n  {}.\n  {}.\n  {} (Fisher's combination).",
+        t.n_objects,
+        t.trials,
+        t.replicas,
+        line("Global (look-elsewhere)", ct::GLOBAL),
+        if t.results.iter().any(|x| x.sample != "all") {
+            " over all samples"
+        } else {
+            ""
+        },
+        line("ϖ clustering (Rayleigh)", "rayleigh_varpi"),
+        r("rayleigh_varpi").direction_lon_deg,
+        r("rayleigh_varpi").observed,
+        line("Ω clustering (Rayleigh)", "rayleigh_node"),
+        line("mean orbital pole", "mean_pole"),
+        line("poles and perihelia together", ct::COMBINED)
+    );
+    if !dropped.is_empty() {
+        s += &format!(
+            "\n  Warning: left out, their bias maps hold no discovery: ids {dropped:?} (--drop-undiscovered)."
+        );
+    }
+    if !thin.is_empty() {
+        s += &format!(
+            "\n  Note: maps short of the asked discoveries at the trial cap, ids {thin:?}; the errors include their noise."
+        );
+    }
+    s
+}

@@ -1,0 +1,107 @@
+//! Every command as a library call: one file per command, each with its options struct (its
+//! checks in one `validate`), the run, and an `Outcome` (what it wrote and its conclusion).
+//! The binary (`src/cli/`) only turns arguments into these options and prints the outcome; the
+//! demo calls the same functions. What the commands share sits here: the options of an
+//! analysis run, loading the surveys into the provenance, and the outcome.
+
+pub mod bias_map;
+pub mod cluster_test;
+pub mod compare_models;
+pub mod demo;
+pub mod detectability;
+pub mod observe;
+pub mod plan;
+pub mod yields;
+
+use std::path::{Path, PathBuf};
+
+use crate::engine::PreparedSurvey;
+use crate::error::{Error, Result};
+use crate::io::Provenance;
+use crate::io::out_dir::OutDir;
+use crate::io::table::Format;
+
+/// What a command wrote and concluded.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Outcome {
+    /// The tables and `summary.json`, in the order they are worth reading.
+    pub written: Vec<PathBuf>,
+    /// The command's conclusion in plain words, with the numbers.
+    pub conclusion: String,
+    /// Remarks on the inputs (e.g. what a catalogue cut left out), said whether or not the
+    /// conclusion is printed.
+    pub notes: Vec<String>,
+}
+
+/// Options every analysis command shares.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunOptions {
+    /// Output directory: the command's tables and `summary.json`.
+    pub out: PathBuf,
+    /// Run seed: with the object ids it fixes every random draw.
+    pub seed: u64,
+    /// Table format.
+    pub format: Format,
+    /// Progress bars on a terminal.
+    pub progress: bool,
+}
+
+impl RunOptions {
+    /// The provenance of a run, with its seed.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::current().with_seed(self.seed)
+    }
+
+    /// Where the run writes, with its provenance.
+    pub fn out_dir(&self, provenance: Provenance) -> OutDir {
+        OutDir::new(&self.out, self.format, provenance)
+    }
+}
+
+/// Survey names label output columns and rows; two surveys may not share one.
+pub fn check_unique_survey_names(surveys: &[PreparedSurvey]) -> Result<()> {
+    let mut seen = std::collections::HashSet::new();
+    for s in surveys {
+        let key = crate::engine::run::survey_key(&s.survey.name);
+        if !seen.insert(key.clone()) {
+            return Err(Error::input(format!(
+                "{}: survey name `{}` is already used by another --survey; names must differ",
+                s.survey.spec_path.display(),
+                s.survey.name
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Load and prepare every survey spec, recording each spec and then its visits table in the
+/// provenance (the visits are an input as much as the spec).
+pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<PreparedSurvey>> {
+    let mut surveys = Vec::new();
+    for path in paths {
+        let s = crate::survey::Survey::load(path)?;
+        prov.add_input(path)?;
+        prov.add_input(&s.visits_path)?;
+        surveys.push(PreparedSurvey::new(s));
+    }
+    check_unique_survey_names(&surveys)?;
+    Ok(surveys)
+}
+
+/// Read a catalogue under a selection (fitted elements, orbit-quality cut); the note says what
+/// the cut left out, when there is a cut.
+pub fn read_catalogue(
+    selection: &crate::fit::catalogue::Selection,
+    path: &Path,
+) -> Result<(crate::io::objects::ObjectTable, Option<String>)> {
+    let (table, left_out) = selection.read(path)?;
+    let note = (!selection.is_plain()).then(|| {
+        format!(
+            "{}: {} objects ({}), {left_out} left out by the cut",
+            path.display(),
+            table.len(),
+            selection.describe()
+        )
+    });
+    Ok((table, note))
+}
