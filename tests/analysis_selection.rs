@@ -115,7 +115,7 @@ fn bias_maps_favour_perihelia_towards_the_surveyed_patch() {
             "object {}: mean p {:.4}, map-weighted mean ϖ {mean:.0}°, inc {:.1}",
             m.id,
             m.mean_p(),
-            base.elements[m.id as usize].inc.to_degrees()
+            base.elements[m.id as usize].inc_rad.to_degrees()
         );
         assert!(
             (mean - 22.5).abs() < 45.0,

@@ -76,10 +76,10 @@ fn elements_rows(f: &Fixture) -> Vec<Elements> {
         .map(|k| Elements {
             a_au: a[k],
             e: e[k],
-            inc: i[k].to_radians(),
-            node: n[k].to_radians(),
-            argperi: w[k].to_radians(),
-            mean_anomaly: m[k].to_radians(),
+            inc_rad: i[k].to_radians(),
+            node_rad: n[k].to_radians(),
+            argperi_rad: w[k].to_radians(),
+            mean_anomaly_rad: m[k].to_radians(),
             epoch_mjd_tdb: ep[k],
             center: Center::Heliocentric,
         })
@@ -129,7 +129,7 @@ fn state_to_elements_round_trip() {
             el.a_au
         );
         assert!((back.e - el.e).abs() < 1e-10, "row {k}: e {} vs {}", back.e, el.e);
-        assert!((back.inc - el.inc).abs() < 1e-10, "row {k}: inc");
+        assert!((back.inc_rad - el.inc_rad).abs() < 1e-10, "row {k}: inc");
         // Angles are compared through the position they imply: where the node or the
         // perihelion is undefined (e = 0, i ≈ 0) only their sums are meaningful.
         let (r2, v2) = back.to_state();
@@ -288,10 +288,10 @@ fn opposition_rate(r_au: f64, tdb: f64) -> f64 {
     let el = Elements {
         a_au: r_au,
         e: 0.0,
-        inc: 0.0,
-        node: 0.0,
-        argperi: 0.0,
-        mean_anomaly: lon,
+        inc_rad: 0.0,
+        node_rad: 0.0,
+        argperi_rad: 0.0,
+        mean_anomaly_rad: lon,
         epoch_mjd_tdb: tdb - r_au / seine::foundation::constants::C_AU_PER_DAY,
         center: Center::Heliocentric,
     };

@@ -41,7 +41,7 @@ fn ks_p(x: &[f64], cdf: impl Fn(f64) -> f64) -> (f64, f64) {
 }
 
 fn element_vector(el: &Elements) -> [f64; 6] {
-    [el.a_au, el.e, el.inc, el.node, el.argperi, el.mean_anomaly]
+    el.to_array()
 }
 
 /// (fit − truth)/σ for the six elements, the truth taken at the fit's epoch.

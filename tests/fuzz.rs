@@ -396,7 +396,7 @@ proptest! {
     #[test]
     fn elements_state_round_trip(a in 1.0f64..5000.0, e in 0.0f64..0.999, inc in 0.0f64..3.14159,
                                  node in 0.0f64..6.2831, argperi in 0.0f64..6.2831, m in 0.0f64..6.2831) {
-        let el = Elements { a_au: a, e, inc, node, argperi, mean_anomaly: m, epoch_mjd_tdb: 61000.0, center: Center::Heliocentric };
+        let el = Elements { a_au: a, e, inc_rad: inc, node_rad: node, argperi_rad: argperi, mean_anomaly_rad: m, epoch_mjd_tdb: 61000.0, center: Center::Heliocentric };
         let (r, v) = el.to_state();
         let (r2, v2) = Elements::from_state(&r, &v, 61000.0, Center::Heliocentric).to_state();
         prop_assert!((r2 - r).norm() <= 1e-9 * r.norm(), "position: {} vs {}", r2, r);

@@ -452,12 +452,16 @@ fn extreme_distribution_parameters_draw_what_they_describe() {
     assert!(o.status.success(), "{}", common::stderr(&o));
     assert!(started.elapsed().as_secs() < 60);
     let t = seine::io::objects::ObjectTable::read(&out).unwrap();
-    let inc: Vec<f64> = t.elements.iter().map(|e| e.inc.to_degrees()).collect();
+    let inc: Vec<f64> = t.elements.iter().map(|e| e.inc_rad.to_degrees()).collect();
     assert!(inc.iter().all(|i| (30.0..=40.0).contains(i)));
     // Far-tail mean ≈ lo + σ²/(lo − mean) = 30.3 (scipy: 30.294); not piled up at 40.
     let mean = inc.iter().sum::<f64>() / inc.len() as f64;
     assert!((mean - 30.294).abs() < 0.05, "mean inclination {mean}");
-    assert!(t.elements.iter().all(|e| (e.node.to_degrees() - 100.0).abs() < 1e-6));
+    assert!(
+        t.elements
+            .iter()
+            .all(|e| (e.node_rad.to_degrees() - 100.0).abs() < 1e-6)
+    );
     let spec = POPULATION.replace("{ dist = \"isotropic\" }", "{ dist = \"sin-gaussian\", sigma = 1e6 }");
     let pop = common::write(dir.path(), "pop2.toml", &spec);
     let o = common::seine(&[

@@ -72,10 +72,10 @@ fn elements(v: [f64; 7]) -> Elements {
     Elements {
         a_au: v[0],
         e: v[1],
-        inc: v[2].to_radians(),
-        node: v[3].to_radians(),
-        argperi: v[4].to_radians(),
-        mean_anomaly: v[5].to_radians(),
+        inc_rad: v[2].to_radians(),
+        node_rad: v[3].to_radians(),
+        argperi_rad: v[4].to_radians(),
+        mean_anomaly_rad: v[5].to_radians(),
         epoch_mjd_tdb: v[6],
         center: Center::Heliocentric,
     }
@@ -110,10 +110,10 @@ fn heliocentric_to_barycentric_against_erfa_and_rebound() {
         worst_a = worst_a.max((b.a_au - want_a).abs() / want_a);
         worst_e = worst_e.max((b.e - c("bary_e")[i]).abs());
         for (got, want) in [
-            (b.inc.to_degrees(), c("bary_inc_deg")[i]),
-            (b.node.to_degrees(), c("bary_node_deg")[i]),
-            (b.argperi.to_degrees(), c("bary_argperi_deg")[i]),
-            (b.mean_anomaly.to_degrees(), c("bary_mean_anomaly_deg")[i]),
+            (b.inc_rad.to_degrees(), c("bary_inc_deg")[i]),
+            (b.node_rad.to_degrees(), c("bary_node_deg")[i]),
+            (b.argperi_rad.to_degrees(), c("bary_argperi_deg")[i]),
+            (b.mean_anomaly_rad.to_degrees(), c("bary_mean_anomaly_deg")[i]),
         ] {
             worst_ang = worst_ang.max(angle_diff_deg(got, want) * b.e.max(0.05));
         }

@@ -374,7 +374,7 @@ fn drawn_table_is_a_valid_objects_table() {
     let t = ObjectTable::from_frame(df.clone(), Path::new("drawn")).unwrap();
     assert_eq!(t.len(), 5000);
     for el in &t.elements {
-        assert!((40.0..=80.0).contains(&el.q_au()) && el.inc.to_degrees() <= 45.0);
+        assert!((40.0..=80.0).contains(&el.q_au()) && el.inc_rad.to_degrees() <= 45.0);
     }
     assert_eq!(t.colors.len(), 1);
     // ϖ = Ω + ω is von Mises about 150°: its mean direction is near 150°.

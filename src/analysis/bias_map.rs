@@ -325,7 +325,7 @@ fn one_map(
                     let found = obj
                         .observe(el, surveys, (seed, tid), StopRule::UntilDiscovery, scratch)
                         .discovered();
-                    found.then_some((x, el.node))
+                    found.then_some((x, el.node_rad))
                 },
             )
             .collect()
@@ -342,10 +342,10 @@ fn cell_trial(
     rng: &mut Pcg64,
 ) -> (Elements, f64) {
     let mut el = base;
-    el.mean_anomaly = rng.random::<f64>() * TAU;
+    el.mean_anomaly_rad = rng.random::<f64>() * TAU;
     let x = x0 + rng.random::<f64>() * (x1 - x0);
-    el.node = n0 + rng.random::<f64>() * (n1 - n0);
-    el.argperi = axes.argperi(x, el.node);
+    el.node_rad = n0 + rng.random::<f64>() * (n1 - n0);
+    el.argperi_rad = axes.argperi(x, el.node_rad);
     (el, x)
 }
 

@@ -282,9 +282,9 @@ impl Angles {
             ids: t.ids.clone(),
             a_au: t.elements.iter().map(|e| e.a_au).collect(),
             q_au: t.elements.iter().map(|e| e.q_au()).collect(),
-            inc: t.elements.iter().map(|e| e.inc).collect(),
-            node: t.elements.iter().map(|e| e.node).collect(),
-            argperi: t.elements.iter().map(|e| e.argperi).collect(),
+            inc: t.elements.iter().map(|e| e.inc_rad).collect(),
+            node: t.elements.iter().map(|e| e.node_rad).collect(),
+            argperi: t.elements.iter().map(|e| e.argperi_rad).collect(),
         }
     }
 

@@ -57,13 +57,13 @@ impl Redraw {
     /// The trial's elements, drawn in a fixed order: M, then Ω, then ω.
     pub fn apply(self, el: &Elements, rng: &mut rand_pcg::Pcg64) -> Elements {
         let mut out = *el;
-        out.mean_anomaly = rng.random::<f64>() * TAU;
+        out.mean_anomaly_rad = rng.random::<f64>() * TAU;
         let (u_node, u_peri) = (rng.random::<f64>(), rng.random::<f64>());
         if matches!(self, Redraw::Node | Redraw::All) {
-            out.node = u_node * TAU;
+            out.node_rad = u_node * TAU;
         }
         if matches!(self, Redraw::Argperi | Redraw::All) {
-            out.argperi = u_peri * TAU;
+            out.argperi_rad = u_peri * TAU;
         }
         out
     }
@@ -155,7 +155,7 @@ pub fn write(
         col("a_au", el(|e| e.a_au)),
         col("e", el(|e| e.e)),
         col("q_au", el(|e| e.q_au())),
-        col("inc_deg", el(|e| e.inc.to_degrees())),
+        col("inc_deg", el(|e| e.inc_rad.to_degrees())),
         col("h_mag", res.iter().map(|d| objects.h_mag[d.row]).collect::<Vec<f64>>()),
         col("trials", res.iter().map(|d| d.discovered.n).collect::<Vec<u64>>()),
         col("discovered", res.iter().map(|d| d.discovered.k).collect::<Vec<u64>>()),

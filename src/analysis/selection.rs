@@ -85,7 +85,7 @@ pub fn selection_function(
     let mut outside = 0;
     for (i, hit) in found.iter().enumerate() {
         let el = &population.elements[i];
-        let x = [el.a_au, el.q_au(), el.inc.to_degrees(), population.h_mag[i]];
+        let x = [el.a_au, el.q_au(), el.inc_rad.to_degrees(), population.h_mag[i]];
         match grid_index(&edges, &x) {
             Some(c) => cells.entry(c).or_default().add(population.weight[i], *hit),
             None => outside += 1,

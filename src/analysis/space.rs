@@ -81,10 +81,10 @@ impl Observable {
             Observable::E => el.e,
             Observable::Q => el.q_au(),
             Observable::Aphelion => el.aphelion_au(),
-            Observable::Inc => el.inc.to_degrees(),
-            Observable::Node => deg(el.node),
-            Observable::Argperi => deg(el.argperi),
-            Observable::Varpi => deg(el.node + el.argperi),
+            Observable::Inc => el.inc_rad.to_degrees(),
+            Observable::Node => deg(el.node_rad),
+            Observable::Argperi => deg(el.argperi_rad),
+            Observable::Varpi => deg(el.node_rad + el.argperi_rad),
             Observable::H => t.h_mag[i],
         }
     }

@@ -187,12 +187,12 @@ fn write_svgs(
     for (m, i) in maps.iter().zip(rows) {
         let el = &objects.elements[i];
         let x = match opts.maps.grid.axes {
-            MapAxes::VarpiNode => (el.node + el.argperi).rem_euclid(std::f64::consts::TAU),
-            MapAxes::ArgperiNode => el.argperi,
+            MapAxes::VarpiNode => (el.node_rad + el.argperi_rad).rem_euclid(std::f64::consts::TAU),
+            MapAxes::ArgperiNode => el.argperi_rad,
         };
         write_atomic(
             &opts.run.out.join("maps").join(format!("{}.svg", m.id)),
-            svg(m, Some((x, el.node))).as_bytes(),
+            svg(m, Some((x, el.node_rad))).as_bytes(),
         )?;
     }
     Ok(())

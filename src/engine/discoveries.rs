@@ -172,7 +172,7 @@ pub fn read(path: &Path) -> Result<Vec<Discovery>> {
                 rate_arcsec_per_hr: rate[i],
                 a_au: el.a_au,
                 q_au: el.q_au(),
-                inc_deg: el.inc.to_degrees(),
+                inc_deg: el.inc_rad.to_degrees(),
                 h_mag: objects.h_mag[i],
             }
         })

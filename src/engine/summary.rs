@@ -148,7 +148,7 @@ impl Summary {
             self.weight_detected += if det { w } else { 0.0 };
             self.candidates_evaluated += o.candidates;
             self.in_field_events += o.events.len() as u64;
-            let values = [el.a_au, el.q_au(), el.inc.to_degrees(), objects.h_mag[i]];
+            let values = [el.a_au, el.q_au(), el.inc_rad.to_degrees(), objects.h_mag[i]];
             for (b, x) in self.bins.iter_mut().zip(values) {
                 b.add(x, det, w, true);
             }

@@ -114,10 +114,10 @@ mod tests {
                 let el = Elements {
                     a_au,
                     e,
-                    inc: 0.3 * k as f64,
-                    node: 0.8 * k as f64,
-                    argperi: 1.1 * k as f64,
-                    mean_anomaly: 0.77 * k as f64,
+                    inc_rad: 0.3 * k as f64,
+                    node_rad: 0.8 * k as f64,
+                    argperi_rad: 1.1 * k as f64,
+                    mean_anomaly_rad: 0.77 * k as f64,
                     epoch_mjd_tdb: 60000.0,
                     center: if k % 2 == 0 {
                         Center::Heliocentric

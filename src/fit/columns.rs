@@ -42,7 +42,7 @@ pub fn columns(fits: &[Option<OrbitFit>]) -> Vec<Column> {
     for k in 0..6 {
         cols.push(col(element_column("fit", k), &|f| {
             f.elements.map(|el| {
-                let v = [el.a_au, el.e, el.inc, el.node, el.argperi, el.mean_anomaly][k];
+                let v = el.to_array()[k];
                 in_units(k, v)
             })
         }));

@@ -167,5 +167,5 @@ fn element_covariance(frame: &Frame, s: &Solution, at: &Elements) -> Option<Matr
 }
 
 fn element_vector(el: &Elements) -> Vector6<f64> {
-    Vector6::new(el.a_au, el.e, el.inc, el.node, el.argperi, el.mean_anomaly)
+    Vector6::from(el.to_array())
 }

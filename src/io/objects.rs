@@ -163,10 +163,10 @@ impl ObjectTable {
             let el = Elements {
                 a_au: a[i],
                 e: e[i],
-                inc: inc[i].to_radians(),
-                node: node[i].to_radians().rem_euclid(std::f64::consts::TAU),
-                argperi: argperi[i].to_radians().rem_euclid(std::f64::consts::TAU),
-                mean_anomaly: mean_anomaly[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                inc_rad: inc[i].to_radians(),
+                node_rad: node[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                argperi_rad: argperi[i].to_radians().rem_euclid(std::f64::consts::TAU),
+                mean_anomaly_rad: mean_anomaly[i].to_radians().rem_euclid(std::f64::consts::TAU),
                 epoch_mjd_tdb: epoch[i],
                 center: centers[i],
             };

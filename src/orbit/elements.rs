@@ -44,15 +44,20 @@ impl Center {
     }
 }
 
-/// Osculating elliptic elements; angles in radians, epoch a TDB MJD.
+/// Osculating elliptic elements; angles in radians (the tables' `inc_deg`… are converted on
+/// reading), epoch a TDB MJD.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Elements {
     pub a_au: f64,
     pub e: f64,
-    pub inc: f64,
-    pub node: f64,
-    pub argperi: f64,
-    pub mean_anomaly: f64,
+    /// Inclination to the ecliptic J2000, radians, [0, π].
+    pub inc_rad: f64,
+    /// Longitude of the ascending node, radians, [0, 2π).
+    pub node_rad: f64,
+    /// Argument of perihelion, radians, [0, 2π).
+    pub argperi_rad: f64,
+    /// Mean anomaly at the epoch, radians, [0, 2π).
+    pub mean_anomaly_rad: f64,
     pub epoch_mjd_tdb: f64,
     pub center: Center,
 }
@@ -68,9 +73,22 @@ impl Elements {
     pub fn mean_motion(&self) -> f64 {
         (self.center.gm() / self.a_au.powi(3)).sqrt()
     }
+    /// The six elements in their usual order: a (AU), e, i, Ω, ω, M (radians).
+    pub fn to_array(&self) -> [f64; 6] {
+        let el = self;
+        [
+            el.a_au,
+            el.e,
+            el.inc_rad,
+            el.node_rad,
+            el.argperi_rad,
+            el.mean_anomaly_rad,
+        ]
+    }
+
     /// Longitude of perihelion ϖ = Ω + ω, in [0, 2π).
     pub fn varpi(&self) -> f64 {
-        (self.node + self.argperi).rem_euclid(TAU)
+        (self.node_rad + self.argperi_rad).rem_euclid(TAU)
     }
 
     /// Why these elements cannot describe a bound orbit, naming the offending element.
@@ -78,10 +96,10 @@ impl Elements {
         let finite = [
             ("a_au", self.a_au),
             ("e", self.e),
-            ("inc_deg", self.inc),
-            ("node_deg", self.node),
-            ("argperi_deg", self.argperi),
-            ("mean_anomaly_deg", self.mean_anomaly),
+            ("inc_deg", self.inc_rad),
+            ("node_deg", self.node_rad),
+            ("argperi_deg", self.argperi_rad),
+            ("mean_anomaly_deg", self.mean_anomaly_rad),
             ("epoch_mjd", self.epoch_mjd_tdb),
         ];
         for (name, v) in finite {
@@ -95,16 +113,19 @@ impl Elements {
         if !(0.0..1.0).contains(&self.e) {
             return Some(("e", format!("0 ≤ e < 1 (bound orbits only), found {}", self.e)));
         }
-        if !(0.0..=std::f64::consts::PI).contains(&self.inc) {
-            return Some(("inc_deg", format!("0 ≤ inc ≤ 180 deg, found {}", self.inc.to_degrees())));
+        if !(0.0..=std::f64::consts::PI).contains(&self.inc_rad) {
+            return Some((
+                "inc_deg",
+                format!("0 ≤ inc ≤ 180 deg, found {}", self.inc_rad.to_degrees()),
+            ));
         }
         None
     }
 
     /// Heliocentric (or barycentric) state at the epoch, in the elements' frame.
     pub fn to_state(&self) -> (Vector3<f64>, Vector3<f64>) {
-        let (p, q) = perifocal_axes(self.inc, self.node, self.argperi);
-        let big_e = eccentric_anomaly(self.mean_anomaly, self.e);
+        let (p, q) = perifocal_axes(self.inc_rad, self.node_rad, self.argperi_rad);
+        let big_e = eccentric_anomaly(self.mean_anomaly_rad, self.e);
         plane_state(self.a_au, self.e, self.mean_motion(), big_e, &p, &q)
     }
 
@@ -143,10 +164,10 @@ impl Elements {
         Elements {
             a_au: a,
             e,
-            inc,
-            node,
-            argperi,
-            mean_anomaly,
+            inc_rad: inc,
+            node_rad: node,
+            argperi_rad: argperi,
+            mean_anomaly_rad: mean_anomaly,
             epoch_mjd_tdb,
             center,
         }
@@ -194,10 +215,10 @@ mod tests {
         let el = Elements {
             a_au: a,
             e,
-            inc: 0.2,
-            node: 1.0,
-            argperi: 5.0,
-            mean_anomaly: 0.0,
+            inc_rad: 0.2,
+            node_rad: 1.0,
+            argperi_rad: 5.0,
+            mean_anomaly_rad: 0.0,
             epoch_mjd_tdb: 60000.0,
             center: Center::Heliocentric,
         };

@@ -18,7 +18,7 @@ pub struct Orbit {
 
 impl Orbit {
     pub fn new(elements: Elements) -> Self {
-        let (p, q) = perifocal_axes(elements.inc, elements.node, elements.argperi);
+        let (p, q) = perifocal_axes(elements.inc_rad, elements.node_rad, elements.argperi_rad);
         Orbit {
             n: elements.mean_motion(),
             p: ecliptic_to_icrs(&p),
@@ -35,7 +35,7 @@ impl Orbit {
     #[inline]
     pub fn state(&self, tdb_mjd: f64) -> (Vector3<f64>, Vector3<f64>) {
         let el = &self.elements;
-        let m = el.mean_anomaly + self.n * (tdb_mjd - el.epoch_mjd_tdb);
+        let m = el.mean_anomaly_rad + self.n * (tdb_mjd - el.epoch_mjd_tdb);
         let big_e = eccentric_anomaly(m, el.e);
         plane_state(el.a_au, el.e, self.n, big_e, &self.p, &self.q)
     }

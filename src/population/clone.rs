@@ -113,10 +113,10 @@ impl Cloner {
             let (phi, lambda_n) = self.resonant[row];
             let c = r.clone_at(el, phi, lambda_n, u_node * std::f64::consts::TAU, u_m);
             let deg = |x: f64| x.to_degrees().rem_euclid(360.0);
-            return (deg(c.mean_anomaly), h, deg(c.node), deg(c.argperi));
+            return (deg(c.mean_anomaly_rad), h, deg(c.node_rad), deg(c.argperi_rad));
         }
-        let node = (el.node.to_degrees() + u_node * 360.0).rem_euclid(360.0);
-        (u_m * 360.0, h, node, el.argperi.to_degrees())
+        let node = (el.node_rad.to_degrees() + u_node * 360.0).rem_euclid(360.0);
+        (u_m * 360.0, h, node, el.argperi_rad.to_degrees())
     }
 }
 

@@ -38,8 +38,8 @@ impl Resonance {
 
     /// φ = p λ − q λ_N − (p − q) ϖ in [0, 2π).
     pub fn angle(&self, el: &Elements, lambda_neptune: f64) -> f64 {
-        let varpi = el.node + el.argperi;
-        let lambda = varpi + el.mean_anomaly;
+        let varpi = el.node_rad + el.argperi_rad;
+        let lambda = varpi + el.mean_anomaly_rad;
         let (p, q) = (self.p as f64, self.q as f64);
         (p * lambda - q * lambda_neptune - (p - q) * varpi).rem_euclid(TAU)
     }
@@ -49,11 +49,11 @@ impl Resonance {
     pub fn clone_at(&self, el: &Elements, phi: f64, lambda_neptune: f64, psi: f64, u_branch: f64) -> Elements {
         let (p, q) = (self.p as f64, self.q as f64);
         let mut out = *el;
-        out.node = (el.node - psi).rem_euclid(TAU);
-        let varpi = out.node + out.argperi;
+        out.node_rad = (el.node_rad - psi).rem_euclid(TAU);
+        let varpi = out.node_rad + out.argperi_rad;
         let j = (u_branch * p).floor().min(p - 1.0);
         let lambda = (phi + q * lambda_neptune + (p - q) * varpi + TAU * j) / p;
-        out.mean_anomaly = (lambda - varpi).rem_euclid(TAU);
+        out.mean_anomaly_rad = (lambda - varpi).rem_euclid(TAU);
         out
     }
 }
@@ -75,10 +75,10 @@ mod tests {
         let el = Elements {
             a_au: 39.4,
             e: 0.25,
-            inc: 0.3,
-            node: 1.0,
-            argperi: 2.0,
-            mean_anomaly: 0.5,
+            inc_rad: 0.3,
+            node_rad: 1.0,
+            argperi_rad: 2.0,
+            mean_anomaly_rad: 0.5,
             epoch_mjd_tdb: 60676.0,
             center: Center::Heliocentric,
         };

@@ -338,11 +338,11 @@ fn read_observed(path: &Path) -> Result<Observed> {
     Ok(Observed {
         a_au: el.iter().map(|e| e.a_au).collect(),
         q_au: el.iter().map(|e| e.q_au()).collect(),
-        inc_deg: el.iter().map(|e| e.inc.to_degrees()).collect(),
+        inc_deg: el.iter().map(|e| e.inc_rad.to_degrees()).collect(),
         h_mag: t.h_mag.clone(),
         r_au: el.iter().map(|e| e.to_state().0.norm()).collect(),
         varpi_deg: el.iter().map(|e| e.varpi().to_degrees()).collect(),
-        node_deg: el.iter().map(|e| e.node.to_degrees().rem_euclid(360.0)).collect(),
+        node_deg: el.iter().map(|e| e.node_rad.to_degrees().rem_euclid(360.0)).collect(),
         weight: t.weight.clone(),
         detected: bools(&c, "detected")?,
         discovery_r_au: c.f64_nullable("discovery_r_au")?,

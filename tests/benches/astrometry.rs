@@ -26,10 +26,10 @@ fn main() {
             Orbit::new(Elements {
                 a_au: 40.0 + 900.0 * x,
                 e: 0.9 * x,
-                inc: 3.0 * x,
-                node: 6.0 * x,
-                argperi: 1.0 + x,
-                mean_anomaly: 5.0 * x,
+                inc_rad: 3.0 * x,
+                node_rad: 6.0 * x,
+                argperi_rad: 1.0 + x,
+                mean_anomaly_rad: 5.0 * x,
                 epoch_mjd_tdb: 61000.0,
                 center: Center::Heliocentric,
             })

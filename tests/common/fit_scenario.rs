@@ -29,10 +29,10 @@ pub fn draw_elements(rng: &mut Pcg64) -> Elements {
     Elements {
         a_au: u(rng, 35.0, 90.0),
         e: u(rng, 0.02, 0.35),
-        inc: u(rng, 1.0, 40.0).to_radians(),
-        node: u(rng, 0.0, std::f64::consts::TAU),
-        argperi: u(rng, 0.0, std::f64::consts::TAU),
-        mean_anomaly: u(rng, 0.0, std::f64::consts::TAU),
+        inc_rad: u(rng, 1.0, 40.0).to_radians(),
+        node_rad: u(rng, 0.0, std::f64::consts::TAU),
+        argperi_rad: u(rng, 0.0, std::f64::consts::TAU),
+        mean_anomaly_rad: u(rng, 0.0, std::f64::consts::TAU),
         epoch_mjd_tdb: 61000.0,
         center: Center::Heliocentric,
     }
