@@ -259,6 +259,17 @@ fn run_cli(dir: &Path, s: &Path, pr: &Path, name: &str, extra: &[&str]) -> PathB
 }
 
 fn run_cli_n(dir: &Path, s: &Path, pr: &Path, name: &str, count: &str, extra: &[&str]) -> PathBuf {
+    run_cli_env(dir, (s, pr), (name, count), extra, &[])
+}
+
+/// As `run_cli_n`, with variables `env` set in the command's environment.
+fn run_cli_env(
+    dir: &Path,
+    (s, pr): (&Path, &Path),
+    (name, count): (&str, &str),
+    extra: &[&str],
+    env: &[(&str, String)],
+) -> PathBuf {
     let out = dir.join(name);
     let mut args = vec![
         "hideout",
@@ -281,7 +292,11 @@ fn run_cli_n(dir: &Path, s: &Path, pr: &Path, name: &str, count: &str, extra: &[
         out.to_str().unwrap(),
     ];
     args.extend_from_slice(extra);
-    let o = common::seine(&args);
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_seine"))
+        .args(&args)
+        .envs(env.iter().map(|(k, v)| (k, v)))
+        .output()
+        .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     out
 }
@@ -350,6 +365,66 @@ fn merged_shards_equal_the_single_run() {
     assert_eq!(w.n_draws, m.n_draws);
     assert_eq!(w.n_excluded, m.n_excluded);
     assert_eq!(w.region_95.moc_ascii, m.region_95.moc_ascii);
+}
+
+/// `seine merge` sums hideout shards given in any order, the shards of a Slurm job array
+/// (SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_COUNT) are the `--shard K/N` slices, and a merge
+/// that misses a shard, repeats one or writes into an input is refused with nothing written.
+#[test]
+fn seine_merge_sums_hideout_shards_from_a_job_array() {
+    let dir = tempfile::tempdir().unwrap();
+    let (s, pr) = (survey(dir.path(), 0.5), prior(dir.path(), PRIOR));
+    let whole = run_cli(dir.path(), &s, &pr, "whole", &[]);
+    let by_flag = run_cli(dir.path(), &s, &pr, "flag1", &["--shard", "1/3"]);
+    let task = |k: usize| {
+        let env = [
+            ("SLURM_ARRAY_TASK_ID", k.to_string()),
+            ("SLURM_ARRAY_TASK_COUNT", "3".to_string()),
+        ];
+        run_cli_env(dir.path(), (&s, &pr), (&format!("task{k}"), "2500"), &[], &env)
+    };
+    let tasks: Vec<PathBuf> = (0..3).map(task).collect();
+    assert_eq!(
+        column(&tasks[1], "excluded", "n_prior"),
+        column(&by_flag, "excluded", "n_prior")
+    );
+    let merge = |inputs: &[&PathBuf], out: &Path| {
+        let mut args = vec!["merge"];
+        args.extend(inputs.iter().map(|p| p.to_str().unwrap()));
+        args.extend(["--out", out.to_str().unwrap(), "--format", "csv", "--quiet"]);
+        common::seine(&args)
+    };
+    let merged = dir.path().join("merged");
+    let o = merge(&[&tasks[2], &tasks[0], &tasks[1]], &merged);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    for name in ["n_prior", "n_excluded"] {
+        assert_eq!(
+            column(&whole, "excluded", name),
+            column(&merged, "excluded", name),
+            "{name}"
+        );
+    }
+    let (w, m) = (
+        hideout::read_summary(&whole).unwrap(),
+        hideout::read_summary(&merged).unwrap(),
+    );
+    assert_eq!((w.n_draws, w.n_excluded), (m.n_draws, m.n_excluded));
+    assert_eq!(w.region_95.moc_ascii, m.region_95.moc_ascii);
+    // Refusals: status 2, one sentence, nothing written.
+    let refused = dir.path().join("refused");
+    for (inputs, says) in [
+        (vec![&tasks[0], &tasks[1]], "missing"),
+        (vec![&tasks[0], &tasks[1], &tasks[1], &tasks[2]], "once"),
+    ] {
+        let o = merge(&inputs, &refused);
+        assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+        assert!(common::stderr(&o).contains(says), "{}", common::stderr(&o));
+        assert!(!refused.exists());
+    }
+    let before = std::fs::read_to_string(tasks[0].join("summary.json")).unwrap();
+    let o = merge(&[&tasks[0], &tasks[1], &tasks[2]], &tasks[0]);
+    assert_eq!(o.status.code(), Some(2), "{}", common::stderr(&o));
+    assert_eq!(std::fs::read_to_string(tasks[0].join("summary.json")).unwrap(), before);
 }
 
 /// The tally does not depend on the thread count or the chunk size (draws are added in id order).

@@ -7,7 +7,6 @@ use seine::engine::PreparedSurvey;
 use seine::hideout::prior::parse_distribution;
 use seine::hideout::{self, HideoutOptions, Prior, RunInfo};
 use seine::io::Provenance;
-use seine::io::table::Format;
 use seine::survey::Survey;
 use seine::{Error, Result};
 
@@ -55,10 +54,11 @@ pub struct Args {
     /// Run seed: with a draw's id it fixes the draw and its detection draws.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
-    /// Take shard K of N (K from 0); sum the shards' directories with --merge.
-    #[arg(long)]
-    pub shard: Option<String>,
-    /// Sum finished shard directories (repeat) into --out instead of running.
+    /// Which contiguous slice of the draws' ids to take; sum the shards' directories with
+    /// `seine merge` (or --merge).
+    #[command(flatten)]
+    pub shard: super::common::ShardArgs,
+    /// Sum finished shard directories (repeat) into --out instead of running (as `seine merge`).
     #[arg(long)]
     pub merge: Vec<PathBuf>,
     /// Table format: parquet or csv.
@@ -77,24 +77,16 @@ pub struct Args {
 
 pub fn run(a: Args) -> Result<()> {
     super::common::set_threads(a.threads)?;
-    let format = match a.format.as_str() {
-        "parquet" => Format::Parquet,
-        "csv" => Format::Csv,
-        other => return Err(Error::input(format!("--format `{other}`: expected parquet or csv"))),
-    };
+    let format = super::common::parse_format(&a.format)?;
     let mut prov = Provenance::current();
-    let (tally, run, seconds, surveys) = if a.merge.is_empty() {
-        compute(&a, &mut prov)?
+    let w = if a.merge.is_empty() {
+        let (tally, run, seconds, surveys) = compute(&a, &mut prov)?;
+        let w = hideout::finish(&tally, run, seconds, &a.out, format, &prov)?;
+        hideout::write_coverage(&surveys, &a.out)?;
+        w
     } else {
-        seine::engine::merge::refuse_output_among_inputs(&a.merge, &a.out)?;
-        let (t, r, s) = hideout::merge(&a.merge, format)?;
-        (t, r, s, Vec::new())
+        hideout::merge_dirs(&a.merge, &a.out, format, &prov)?
     };
-    let w = hideout::finish(&tally, run, seconds, &a.out, format, &prov)?;
-    match a.merge.first() {
-        None => hideout::write_coverage(&surveys, &a.out)?,
-        Some(first) => hideout::copy_coverage(first, &a.out)?,
-    }
     if !a.quiet {
         eprintln!("{}", w.summary.conclusion);
         eprintln!(
@@ -118,8 +110,8 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
             "--n-fields 0: expected at least 1 field in the ranked list",
         ));
     }
-    let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
-    let draws = seine::shard::shard_ids(a.count, shard.map(|(k, n)| (k as u64, n as u64)));
+    let shard = a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64));
+    let draws = seine::shard::shard_ids(a.count, shard);
     let n_draws = (draws.end - draws.start) as f64;
     seine::budget::check(seine::budget::HIDEOUT_DRAWS, n_draws, "--count", a.over_budget)?;
     if !(0..=8).contains(&a.order) {
@@ -149,11 +141,10 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
         Some(t) => t,
         None => last_visit(&surveys)?,
     };
-    let shard = a.shard.as_deref().map(super::common::parse_shard).transpose()?;
     let opts = HideoutOptions {
         seed: a.seed,
         count: a.count,
-        shard: shard.map(|(k, n)| (k as u64, n as u64)),
+        shard,
         epoch_mjd: epoch,
         order: a.order,
         field_radius_deg: a.field_radius_deg,
@@ -169,7 +160,7 @@ fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, 
         surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
         seed: a.seed,
         count: a.count,
-        shard: a.shard.clone(),
+        shard: shard.map(|(k, n)| format!("{k}/{n}")),
         epoch_mjd_utc: epoch,
         healpix_order: a.order,
         field_radius_deg: a.field_radius_deg,

@@ -15,7 +15,7 @@
 //! decision. Candidates come block by block (`Walk`), so that a caller that has its
 //! verdict stops without querying the rest of the survey.
 
-use std::f64::consts::PI;
+use std::f64::consts::{FRAC_PI_2, PI};
 
 use nalgebra::Vector3;
 use rayon::prelude::*;
@@ -148,16 +148,25 @@ impl Walk<'_> {
     /// (time) order; false when the survey is done.
     pub fn next_block(&mut self, out: &mut Vec<usize>) -> bool {
         out.clear();
+        self.next_block_onto(out)
+    }
+
+    /// As `next_block`, but append to `out` (what it holds stays in front).
+    pub fn next_block_onto(&mut self, out: &mut Vec<usize>) -> bool {
+        let start = out.len();
         let blocks = &self.ps.blocks;
-        while out.is_empty() && self.next < blocks.len() {
+        while out.len() == start && self.next < blocks.len() {
             let b = &blocks[self.next];
             self.next += 1;
             match self.mode {
                 Candidates::All => out.extend(b.visits.clone()),
-                Candidates::Indexed => self.block_candidates(b, out),
+                Candidates::Indexed => {
+                    self.block_candidates(b, out);
+                    out[start..].sort_unstable();
+                }
             }
         }
-        !out.is_empty()
+        out.len() > start
     }
 
     fn block_candidates(&mut self, b: &Block, out: &mut Vec<usize>) {
@@ -193,7 +202,6 @@ impl Walk<'_> {
             r_max,
         };
         b.stripes.select(&cone, out);
-        out.sort_unstable();
     }
 }
 
@@ -202,6 +210,9 @@ impl Walk<'_> {
 struct BlockCap {
     center: Vector3<f64>,
     radius: f64,
+    /// cos and sin of `radius`, for the test without a cosine (`may_meet`).
+    cos_radius: f64,
+    sin_radius: f64,
 }
 
 impl BlockCap {
@@ -216,17 +227,28 @@ impl BlockCap {
             .map(|c| c.dot(&center).clamp(-1.0, 1.0).acos())
             .fold(0.0, f64::max);
         // Rounding in the angles: a ten-nanoradian margin.
+        let radius = radius + 1e-8;
         BlockCap {
             center,
-            radius: radius + 1e-8,
+            radius,
+            cos_radius: radius.cos(),
+            sin_radius: radius.sin(),
         }
     }
 
     /// False only when no point within `r` of the unit vector `dir` lies in the cap.
+    /// Most cones miss by far: for a cap radius R ≤ π/2, cos(R + r) ≥ cos R (1 − r²/2) −
+    /// sin R · r (cos r ≥ 1 − r²/2, sin r ≤ r), so a cosine below that bound (less a margin
+    /// for rounding) is decided without computing cos(R + r); the answer is the same.
     #[inline]
     fn may_meet(&self, dir: &Vector3<f64>, r: f64) -> bool {
         let reach = self.radius + r;
-        reach >= PI || dir.dot(&self.center) >= reach.cos()
+        if reach >= PI {
+            return true;
+        }
+        let c = dir.dot(&self.center);
+        let below = self.radius <= FRAC_PI_2 && c < self.cos_radius * (1.0 - 0.5 * r * r) - self.sin_radius * r - 1e-12;
+        !below && c >= reach.cos()
     }
 }
 

@@ -29,7 +29,7 @@ pub enum StopRule {
     /// Each survey only until its verdict is settled: up to the detection that makes the
     /// object secured (or to the end, if it never is), and not at all where `reach` proves
     /// the survey cannot detect the object or where no candidate's efficiency draw is below
-    /// its bound on the detection probability (`never_detects`). `discovered`, `secured` and
+    /// its bound on the detection probability (`Lookahead`). `discovered`, `secured` and
     /// the discovery are exact; the counts cover only the events worked out, and the events
     /// carry no measurement (`Event::measured` is the default).
     UntilSecured,
@@ -56,14 +56,19 @@ pub fn observe_object(
     for (s, ps) in surveys.iter().enumerate() {
         // Every survey takes its key, skipped or not, so that the keys stay in survey order.
         let key = rng.next_u64();
-        if stop != StopRule::Everything {
-            let p_max = ps.reach.p_bound(objects, i, &orbit);
-            if p_max == 0.0 || never_detects(ps, &orbit, mode, key, p_max, scratch) {
-                out.surveys.push(SurveyOutcome::default());
-                continue;
-            }
+        let p_max = match stop {
+            StopRule::Everything => None,
+            _ => Some(ps.reach.p_bound(objects, i, &orbit)),
+        };
+        if p_max == Some(0.0) {
+            out.surveys.push(SurveyOutcome::default());
+            continue;
         }
         let mut draws = substream(key);
+        // Under a stop rule the candidates are first only counted, and the efficiency draws
+        // they would take read ahead (`Lookahead`); their exact positions are worked out only
+        // once a draw falls below the bound on p_detect, and never if none does.
+        let mut lookahead = p_max.map(|p| Lookahead::new(&draws, p));
         let mut walk = ps.walk(&orbit, mode);
         let first = out.events.len();
         let mut dets: Vec<Detection> = Vec::new();
@@ -72,7 +77,21 @@ pub fn observe_object(
         // in-field events update it, so every candidate strategy computes bit-identical positions.
         let mut tau = f64::NAN;
         let mut decide = ps.survey.decisions();
-        'blocks: while walk.next_block(scratch) {
+        scratch.clear();
+        'blocks: loop {
+            if lookahead.is_none() {
+                scratch.clear();
+            }
+            let before = scratch.len();
+            if !walk.next_block_onto(scratch) {
+                break;
+            }
+            if let Some(ahead) = &mut lookahead {
+                if ahead.all_above(scratch.len() - before) {
+                    continue; // no detection possible yet: keep the candidates for later
+                }
+                lookahead = None;
+            }
             out.candidates += scratch.len() as u64;
             for &v in scratch.iter() {
                 let Some(mut ev) = in_field_event(objects, i, &orbit, ps, s, v, lc_phase, &mut tau) else {
@@ -100,30 +119,32 @@ pub fn observe_object(
     out
 }
 
-/// Whether the survey provably detects nothing of the object, without a single exact
-/// position: every candidate's efficiency draw (the second of its pair in the survey's stream,
-/// `key`) is at least `p_max`, the bound on its detection probability (`reach::p_bound`).
-/// The candidates hold every in-field event and the k-th in-field event takes the k-th pair,
-/// so no event then passes the efficiency test. Stops at the first draw below the bound.
-fn never_detects(
-    ps: &PreparedSurvey,
-    orbit: &Orbit,
-    mode: Candidates,
-    key: u64,
+/// The efficiency draws of a survey's stream read ahead of the exact positions: the second
+/// of each pair (one pair per in-field event, `survey::decision`) against `p_max`, the bound on
+/// the object's detection probability in any visit (`reach::p_bound`). The candidates hold
+/// every in-field event and the k-th in-field event takes the k-th pair, so while every
+/// draw for the candidates so far is at least `p_max`, none of them can be detected and the
+/// survey's verdict needs none of their positions.
+struct Lookahead {
+    draws: Pcg64,
     p_max: f64,
-    scratch: &mut Vec<usize>,
-) -> bool {
-    let mut draws = substream(key);
-    let mut walk = ps.walk(orbit, mode);
-    while walk.next_block(scratch) {
-        for _ in 0..scratch.len() {
-            let _live: f64 = draws.random();
-            if draws.random::<f64>() < p_max {
-                return false;
-            }
+}
+
+impl Lookahead {
+    fn new(draws: &Pcg64, p_max: f64) -> Self {
+        Lookahead {
+            draws: draws.clone(),
+            p_max,
         }
     }
-    true
+
+    /// Whether the next `n` pairs' efficiency draws are all at least `p_max`.
+    fn all_above(&mut self, n: usize) -> bool {
+        (0..n).all(|_| {
+            let _live: f64 = self.draws.random();
+            self.draws.random::<f64>() >= self.p_max
+        })
+    }
 }
 
 /// The exact test of one candidate visit; an event when the object is in the footprint.

@@ -19,7 +19,7 @@
 //! detects an object only if some in-field event's efficiency draw falls below its
 //! probability (`survey::decision`), so when none of the first n draws of the survey's
 //! stream falls below the bound, n or fewer in-field events detect nothing
-//! (`pipeline::never_detects`).
+//! (`pipeline::Lookahead`).
 
 use super::index::{OBSERVER_SPEED, speed_bound};
 use crate::foundation::constants::C_AU_PER_DAY;

@@ -87,10 +87,10 @@ impl Stripes {
             (r.sin() / dec0.cos()).min(1.0).asin()
         };
         let ra0 = cone.dir.y.atan2(cone.dir.x).rem_euclid(TAU);
-        let (cos_slack, cos_r_max) = (cone.slack.min(PI).cos(), r.cos());
+        let cos_r_max = r.cos();
         for s in &self.stripes[k_lo..=k_hi] {
             if half_width >= PI {
-                scan(s, 0, s.ra.len(), cone, cos_slack, cos_r_max, out);
+                scan(s, 0, s.ra.len(), cone, cos_r_max, out);
                 continue;
             }
             let (lo, hi) = (ra0 - half_width, ra0 + half_width);
@@ -108,7 +108,7 @@ impl Stripes {
                 }
                 let i = s.ra.partition_point(|&x| x < a);
                 let j = s.ra.partition_point(|&x| x <= b);
-                scan(s, i, j, cone, cos_slack, cos_r_max, out);
+                scan(s, i, j, cone, cos_r_max, out);
             }
         }
     }
@@ -122,21 +122,19 @@ fn accept_all(s: &Stripe, out: &mut Vec<usize>) {
     out.extend(s.entries.iter().map(|e| e.visit as usize));
 }
 
-/// Test entries i..j: inside slack (cos ≥ cos slack) and outside r_max are decided without
-/// the per-visit radius r; the rest are kept when cos ≥ 1 − r²/2, a lower bound of cos r
-/// (so no visit within r is lost; the few extra ones, within r⁴/24 in cosine, are tested
-/// exactly downstream) that costs no cosine.
-fn scan(s: &Stripe, i: usize, j: usize, cone: &Cone, cos_slack: f64, cos_r_max: f64, out: &mut Vec<usize>) {
+/// Test entries i..j: outside r_max is decided without the per-visit radius r; the rest are
+/// kept when cos ≥ 1 − r²/2, a lower bound of cos r (so no visit within r is lost; the few
+/// extra ones, within r⁴/24 in cosine, are tested exactly downstream) that costs no cosine.
+/// (Every entry within the slack passes that test too: r ≥ slack, and cos slack exceeds
+/// 1 − slack²/2 by about slack⁴/24, far above rounding for any footprint wider than an arcminute.)
+fn scan(s: &Stripe, i: usize, j: usize, cone: &Cone, cos_r_max: f64, out: &mut Vec<usize>) {
     for e in &s.entries[i..j] {
         let c = e.center.dot(cone.dir);
         if c < cos_r_max {
             continue;
         }
-        let keep = c >= cos_slack || {
-            let r = cone.slack + cone.omega * e.dt.abs();
-            c >= 1.0 - 0.5 * r * r
-        };
-        if keep {
+        let r = cone.slack + cone.omega * e.dt.abs();
+        if c >= 1.0 - 0.5 * r * r {
             out.push(e.visit as usize);
         }
     }

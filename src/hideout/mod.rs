@@ -295,9 +295,32 @@ fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
     Ok((run, n_draws, w, v["seconds"].as_f64().unwrap_or(0.0)))
 }
 
-/// Sum the tallies of shard directories (written in `format`) into one.
+/// Whether `dir` holds a hideout run's (or shard's) outputs: its summary and its excluded table.
+pub fn is_output_dir(dir: &Path) -> bool {
+    shard_format(dir).is_some() && dir.join("summary.json").is_file()
+}
+
+/// The table format a hideout run wrote in `dir` (by its excluded table), if any.
+fn shard_format(dir: &Path) -> Option<Format> {
+    [Format::Parquet, Format::Csv]
+        .into_iter()
+        .find(|f| dir.join(format!("excluded.{}", f.extension())).is_file())
+}
+
+/// `seine merge` (and `seine hideout --merge`) of hideout shard directories into `out`:
+/// every shard exactly once, all present, `out` none of them; on refusal nothing is written.
+/// Each shard is read in the format it was written in; the outputs are written in `format`.
+pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenance) -> Result<Written> {
+    crate::engine::merge::refuse_output_among_inputs(dirs, out)?;
+    let (tally, run, seconds) = merge(dirs)?;
+    let written = finish(&tally, run, seconds, out, format, prov)?;
+    copy_coverage(&dirs[0], out)?;
+    Ok(written)
+}
+
+/// Sum the tallies of shard directories into one.
 /// Each shard exactly once and all present: k of n for k = 0..n−1 (or one whole run alone).
-pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> {
+pub fn merge(dirs: &[PathBuf]) -> Result<(Tally, RunInfo, f64)> {
     let mut acc: Option<(Tally, RunInfo, f64)> = None;
     let mut seen: Vec<(Option<(u64, u64)>, &PathBuf)> = Vec::new();
     for dir in dirs {
@@ -323,6 +346,12 @@ pub fn merge(dirs: &[PathBuf], format: Format) -> Result<(Tally, RunInfo, f64)> 
             )));
         }
         seen.push((shard, dir));
+        let format = shard_format(dir).ok_or_else(|| {
+            Error::input(format!(
+                "{}: not a hideout output directory (no excluded.parquet or excluded.csv)",
+                dir.display()
+            ))
+        })?;
         let mut t = tables::read_tally(dir, format.extension(), run.healpix_order, run.surveys.len())?;
         t.n_draws = n_draws;
         t.w_discovered_by = w_discovered_by;
