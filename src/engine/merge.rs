@@ -4,6 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::outputs::{self, DETECTIONS, OBJECTS};
 use super::parts::{MANIFEST, Manifest, file_sha256, part_path};
 use super::run::concat_tables;
 use super::summary::Summary;
@@ -30,8 +31,8 @@ pub fn merge_observe(dirs: &[PathBuf], out: &Path, format: Format, provenance: P
     let result = write_merged(&shards, out, format, provenance);
     if result.is_err() {
         // Nothing written on failure: remove whatever of the merged outputs was finished.
-        for name in ["objects", "detections"] {
-            let _ = std::fs::remove_file(out.join(format!("{name}.{}", format.extension())));
+        for name in [OBJECTS, DETECTIONS] {
+            let _ = std::fs::remove_file(outputs::path(out, name, format));
         }
         let _ = std::fs::remove_file(super::discoveries::path(out, format));
     }
@@ -63,7 +64,7 @@ pub fn refuse_output_among_inputs(inputs: &[PathBuf], out: &Path) -> Result<()> 
 fn check_parts_present(shards: &[(PathBuf, Manifest)]) -> Result<()> {
     for (dir, m) in shards {
         for c in &m.chunks {
-            for (table, sha) in [("objects", &c.objects_sha256), ("detections", &c.detections_sha256)] {
+            for (table, sha) in [(OBJECTS, &c.objects_sha256), (DETECTIONS, &c.detections_sha256)] {
                 let p = part_path(dir, table, c.index);
                 if !p.is_file() {
                     return Err(Error::input(format!(
@@ -96,22 +97,21 @@ fn write_merged(
     let mut prov = provenance;
     prov.inputs = first.inputs.clone();
     prov.seed = Some(first.run.seed);
-    let ext = format.extension();
-    let objects_path = out.join(format!("objects.{ext}"));
-    let detections_path = out.join(format!("detections.{ext}"));
+    let objects_path = outputs::path(out, OBJECTS, format);
+    let detections_path = outputs::path(out, DETECTIONS, format);
     let parts = |table: &str| -> Vec<PathBuf> {
         shards
             .iter()
             .flat_map(|(dir, m)| m.chunks.iter().map(move |c| part_path(dir, table, c.index)))
             .collect()
     };
-    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+    for (table, path) in [(OBJECTS, &objects_path), (DETECTIONS, &detections_path)] {
         concat_tables(&parts(table), path, prov.clone(), None, false)?;
     }
     let discoveries_path = super::discoveries::path(out, format);
-    super::discoveries::write(&parts("objects"), &discoveries_path, &prov)?;
+    super::discoveries::write(&parts(OBJECTS), &discoveries_path, &prov)?;
     let summary = merged_summary(shards)?;
-    let summary_path = out.join("summary.json");
+    let summary_path = out.join(outputs::SUMMARY);
     write_atomic(&summary_path, summary.to_json().as_bytes())?;
     Ok(MergeReport {
         shards: shards.len(),
@@ -175,7 +175,7 @@ fn ordered_shards(dirs: &[PathBuf]) -> Result<Vec<(PathBuf, Manifest)>> {
 fn merged_summary(shards: &[(PathBuf, Manifest)]) -> Result<Summary> {
     let mut total: Option<Summary> = None;
     for (dir, _) in shards {
-        let path = dir.join("summary.json");
+        let path = dir.join(outputs::SUMMARY);
         let text = std::fs::read_to_string(&path).map_err(|e| io_at(&path, e))?;
         let s: Summary = serde_json::from_str(&text)
             .map_err(|e| Error::input(format!("{}: not a seine summary: {e}", path.display())))?;

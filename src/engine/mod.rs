@@ -14,6 +14,7 @@ pub mod discoveries;
 pub mod index;
 pub mod merge;
 pub mod outcome;
+pub mod outputs;
 pub mod parts;
 pub mod pipeline;
 pub mod reach;

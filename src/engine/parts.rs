@@ -12,10 +12,11 @@ use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 
+use super::outputs::{self, DETECTIONS, OBJECTS};
 use super::summary::Summary;
 use crate::error::{Error, Result, io_at};
 pub use crate::io::provenance::file_sha256;
-use crate::io::table::write_atomic;
+use crate::io::table::{Format, write_atomic};
 
 pub const MANIFEST: &str = "manifest.json";
 pub const PARTS: &str = "parts";
@@ -114,10 +115,10 @@ impl Manifest {
             let start = lo + i * self.run.chunk_size;
             let expect = (start, (start + self.run.chunk_size).min(self.rows.1));
             let same = |table: &str, sha: &str| file_sha256(&part_path(dir, table, i)).is_ok_and(|h| h == sha);
-            if e.index != i || e.rows != expect || !same("objects", &e.objects_sha256) {
+            if e.index != i || e.rows != expect || !same(OBJECTS, &e.objects_sha256) {
                 break;
             }
-            if !same("detections", &e.detections_sha256) {
+            if !same(DETECTIONS, &e.detections_sha256) {
                 break;
             }
             keep.push(e.clone());
@@ -130,19 +131,16 @@ impl Manifest {
 /// tables (present only when a run completed) and temporary files of killed writers.
 /// Part files are overwritten chunk by chunk; stale ones past the end are removed.
 pub fn clear_stale(dir: &Path, keep_chunks: usize) -> Result<()> {
-    for name in [
-        "objects.parquet",
-        "detections.parquet",
-        "objects.csv",
-        "detections.csv",
-        "objects.csv.provenance.json",
-        "detections.csv.provenance.json",
-        "summary.json",
-    ] {
-        remove_if_present(&dir.join(name))?;
+    for table in [OBJECTS, DETECTIONS] {
+        for format in [Format::Parquet, Format::Csv] {
+            let path = outputs::path(dir, table, format);
+            remove_if_present(&crate::io::table::sidecar_path(&path))?;
+            remove_if_present(&path)?;
+        }
     }
+    remove_if_present(&dir.join(outputs::SUMMARY))?;
     remove_temporaries(dir)?;
-    for table in ["objects", "detections"] {
+    for table in [OBJECTS, DETECTIONS] {
         let parts = dir.join(PARTS).join(table);
         let Ok(entries) = std::fs::read_dir(&parts) else {
             continue;

@@ -12,6 +12,7 @@ use rayon::prelude::*;
 use super::discoveries;
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
+use super::outputs::{self, DETECTIONS, OBJECTS};
 use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
 use super::pipeline::{StopRule, observe_object};
 use super::summary::Summary;
@@ -290,8 +291,8 @@ fn compute_chunk(
         sink.finish()?;
         file_sha256(&path)
     };
-    let objects_sha256 = write_part("objects", &obj)?;
-    let detections_sha256 = write_part("detections", &det)?;
+    let objects_sha256 = write_part(OBJECTS, &obj)?;
+    let detections_sha256 = write_part(DETECTIONS, &det)?;
     summary.elapsed_s = start.elapsed().as_secs_f64();
     Ok(ChunkEntry {
         index,
@@ -312,10 +313,9 @@ fn assemble(
     provenance: &Provenance,
     manifest: &Manifest,
 ) -> Result<ObserveReport> {
-    let ext = opts.format.extension();
-    let objects_path = out_dir.join(format!("objects.{ext}"));
-    let detections_path = out_dir.join(format!("detections.{ext}"));
-    let summary_path = out_dir.join("summary.json");
+    let objects_path = outputs::path(out_dir, OBJECTS, opts.format);
+    let detections_path = outputs::path(out_dir, DETECTIONS, opts.format);
+    let summary_path = out_dir.join(outputs::SUMMARY);
     let mut summary = Summary::new(surveys);
     let parts = |table: &str| -> Vec<PathBuf> {
         manifest
@@ -325,11 +325,11 @@ fn assemble(
             .collect()
     };
     let discoveries_path = discoveries::path(out_dir, opts.format);
-    let n_discoveries = discoveries::write(&parts("objects"), &discoveries_path, provenance)?;
+    let n_discoveries = discoveries::write(&parts(OBJECTS), &discoveries_path, provenance)?;
     // Parts that are not kept go as soon as they are copied: the disk holds the output about
     // once (plus one part) rather than twice.
     let consume = !keeps_parts(opts);
-    for (table, path) in [("objects", &objects_path), ("detections", &detections_path)] {
+    for (table, path) in [(OBJECTS, &objects_path), (DETECTIONS, &detections_path)] {
         concat_tables(&parts(table), path, provenance.clone(), opts.stop.as_deref(), consume)?;
     }
     for c in &manifest.chunks {

@@ -10,7 +10,7 @@ use crate::io::objects::ObjectTable;
 
 /// Counts in bins of one quantity; `detected_fraction` is weighted by the objects' weights.
 #[derive(Debug, Clone, Serialize, Deserialize)]
-pub struct Binned {
+pub struct BinCounts {
     pub quantity: String,
     pub edges: Vec<f64>,
     pub n: Vec<u64>,
@@ -19,10 +19,10 @@ pub struct Binned {
     pub weighted_detected: Vec<f64>,
 }
 
-impl Binned {
+impl BinCounts {
     fn new(quantity: &str, edges: Vec<f64>) -> Self {
         let k = edges.len() - 1;
-        Binned {
+        BinCounts {
             quantity: quantity.into(),
             edges,
             n: vec![0; k],
@@ -32,7 +32,7 @@ impl Binned {
         }
     }
     /// Add another summary's counts of the same bins (shards or chunks of one run).
-    fn absorb(&mut self, o: &Binned) {
+    fn absorb(&mut self, o: &BinCounts) {
         debug_assert_eq!(self.edges, o.edges);
         let add_u = |a: &mut Vec<u64>, b: &[u64]| a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
         let add_f = |a: &mut Vec<f64>, b: &[f64]| a.iter_mut().zip(b).for_each(|(x, y)| *x += y);
@@ -75,9 +75,9 @@ pub struct Summary {
     pub detected_fraction: f64,
     pub weighted_detected_fraction: f64,
     pub surveys: Vec<SurveySummary>,
-    pub bins: Vec<Binned>,
+    pub bins: Vec<BinCounts>,
     /// Distance from the Sun at discovery, AU (discovered objects only).
-    pub discovery_distance: Binned,
+    pub discovery_distance: BinCounts,
     pub candidates_evaluated: u64,
     pub in_field_events: u64,
     pub candidates_per_in_field_event: f64,
@@ -120,12 +120,12 @@ impl Summary {
                 })
                 .collect(),
             bins: vec![
-                Binned::new("a_au", log_edges(10.0, 10000.0, 8)),
-                Binned::new("q_au", log_edges(10.0, 10000.0, 8)),
-                Binned::new("inc_deg", lin_edges(0.0, 180.0, 10.0)),
-                Binned::new("h_mag", lin_edges(-10.0, 16.0, 0.5)),
+                BinCounts::new("a_au", log_edges(10.0, 10000.0, 8)),
+                BinCounts::new("q_au", log_edges(10.0, 10000.0, 8)),
+                BinCounts::new("inc_deg", lin_edges(0.0, 180.0, 10.0)),
+                BinCounts::new("h_mag", lin_edges(-10.0, 16.0, 0.5)),
             ],
-            discovery_distance: Binned::new("discovery_r_au", log_edges(10.0, 10000.0, 8)),
+            discovery_distance: BinCounts::new("discovery_r_au", log_edges(10.0, 10000.0, 8)),
             candidates_evaluated: 0,
             in_field_events: 0,
             candidates_per_in_field_event: 0.0,

@@ -17,6 +17,9 @@ pub fn find_table(dir: &Path, stem: &str) -> Option<PathBuf> {
         .find(|p| p.is_file())
 }
 
+/// The file name of every command's numbers and conclusion in its output directory.
+pub const SUMMARY: &str = "summary.json";
+
 /// Where the analysis commands write: `DIR/<stem>.<ext>` tables and `DIR/summary.json`.
 pub struct OutDir {
     pub dir: PathBuf,
@@ -50,7 +53,7 @@ impl OutDir {
     pub fn summary(&self, mut value: serde_json::Value, conclusion: &str) -> Result<PathBuf> {
         value["conclusion"] = conclusion.into();
         value["provenance"] = serde_json::to_value(&self.provenance).map_err(|e| Error::io(e.to_string()))?;
-        let path = self.dir.join("summary.json");
+        let path = self.dir.join(SUMMARY);
         let text = serde_json::to_string_pretty(&value).map_err(|e| Error::io(e.to_string()))?;
         write_atomic(&path, text.as_bytes())?;
         Ok(path)

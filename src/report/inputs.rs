@@ -10,11 +10,11 @@ use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, 
 use crate::analysis::comparison;
 use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection, yield_tables};
 use crate::engine::discoveries::{self, Discovery};
+use crate::engine::outputs;
 use crate::error::{Error, Result, io_at};
-use crate::io::objects::ObjectTable;
 use crate::io::provenance::{Provenance, read_provenance};
-use crate::io::table::{Columns, read_table};
 use crate::survey::Survey;
+use crate::survey::plan_io::{self, PlanOutputs};
 
 /// One `observe` output directory.
 pub struct ObserveRun {
@@ -58,32 +58,7 @@ pub struct YieldSet {
     pub rows: Vec<PlanYield>,
 }
 
-/// The per-object columns the figures use.
-pub struct Observed {
-    pub a_au: Vec<f64>,
-    pub q_au: Vec<f64>,
-    pub inc_deg: Vec<f64>,
-    pub h_mag: Vec<f64>,
-    /// Heliocentric distance at the element epoch, AU.
-    pub r_au: Vec<f64>,
-    pub varpi_deg: Vec<f64>,
-    pub node_deg: Vec<f64>,
-    /// The objects' weights (importance sampling; 1 when the table has none).
-    pub weight: Vec<f64>,
-    pub detected: Vec<bool>,
-    pub discovery_r_au: Vec<Option<f64>>,
-    pub discovery_radec_deg: Vec<Option<(f64, f64)>>,
-    /// The simulation particle each clone came from (`seine draw` with an `[import]` spec).
-    pub parent_id: Option<Vec<i64>>,
-}
-
-pub struct Detections {
-    pub survey: Vec<String>,
-    pub visit_id: Vec<i64>,
-    pub mag: Vec<f64>,
-    pub rate_arcsec_per_hr: Vec<f64>,
-    pub detected: Vec<bool>,
-}
+pub use crate::engine::outputs::{Detections, Observed};
 
 /// A plan's coverage report (`STEM.coverage.json` and `STEM.coverage_ecliptic.csv`).
 pub struct PlanCoverage {
@@ -217,9 +192,9 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
 fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<()> {
     let name = name_of(f);
     let parent = f.parent().unwrap_or(Path::new("."));
-    if name.ends_with(".survey.toml") {
+    if name.ends_with(plan_io::SURVEY_SPEC) {
         specs.push(f.to_path_buf());
-    } else if let Some(stem) = name.strip_suffix(".coverage.json") {
+    } else if let Some(stem) = name.strip_suffix(plan_io::COVERAGE_JSON) {
         inputs.coverage.push(read_coverage(f, stem)?);
     } else if bias_map_tables::is_map_table(&name) {
         inputs.bias_maps.extend(read_bias_maps(f)?);
@@ -234,7 +209,7 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
             .comparisons
             .push((parent.to_path_buf(), comparison::read(parent)?));
     } else if detectability::find(parent).as_deref() == Some(f) {
-        let redraw = read_json(&parent.join("summary.json"))
+        let redraw = read_json(&parent.join(outputs::SUMMARY))
             .ok()
             .and_then(|j| j["redraw"].as_str().map(String::from));
         inputs.chances.push((f.to_path_buf(), detectability::read(f)?, redraw));
@@ -270,41 +245,32 @@ fn read_json(path: &Path) -> Result<serde_json::Value> {
 }
 
 fn read_coverage(json: &Path, stem: &str) -> Result<PlanCoverage> {
-    let lat = json.with_file_name(format!("{stem}.coverage_ecliptic.csv"));
+    let (json, by_latitude) = PlanOutputs::for_report(json).read_coverage()?;
     Ok(PlanCoverage {
         stem: stem.to_string(),
-        json: read_json(json)?,
-        by_latitude: if lat.exists() {
-            read_table(&lat)?
-        } else {
-            DataFrame::empty()
-        },
+        json,
+        by_latitude,
     })
 }
 
-/// An observe run in `d`: `summary.json` beside `objects.parquet` (or `.csv`).
+/// An observe run in `d`: `summary.json` beside `objects.parquet` (or `.csv`), read through
+/// `engine::outputs` and `engine::discoveries`.
 fn read_run(d: &Path) -> Result<Option<ObserveRun>> {
-    let summary_path = d.join("summary.json");
-    let Some(objects_path) = ["objects.parquet", "objects.csv"]
-        .iter()
-        .map(|n| d.join(n))
-        .find(|p| p.exists())
-    else {
+    let summary_path = d.join(outputs::SUMMARY);
+    let Some(objects_path) = outputs::find(d, outputs::OBJECTS) else {
         return Ok(None);
     };
     if !summary_path.exists() {
         return Ok(None);
     }
-    let detections = ["detections.parquet", "detections.csv"]
-        .iter()
-        .map(|n| d.join(n))
-        .find(|p| p.exists());
     let prov = read_provenance(&objects_path).ok();
     Ok(Some(ObserveRun {
         dir: d.to_path_buf(),
         summary: read_json(&summary_path)?,
-        objects: read_observed(&objects_path)?,
-        detections: detections.map(|p| read_detections(&p)).transpose()?,
+        objects: outputs::read_objects(&objects_path)?,
+        detections: outputs::find(d, outputs::DETECTIONS)
+            .map(|p| outputs::read_detections(&p))
+            .transpose()?,
         discoveries: discoveries::find(d)
             .map(|p| discoveries::read(&p).map(|rows| (p, rows)))
             .transpose()?,
@@ -323,48 +289,6 @@ fn objects_input(p: &Provenance) -> Option<(PathBuf, String)> {
         .collect();
     // Observe records each spec, then its visits table, then the objects table last.
     tables.last().map(|i| (PathBuf::from(&i.path), i.sha256.clone()))
-}
-
-fn bools(c: &Columns, name: &str) -> Result<Vec<bool>> {
-    Ok(c.f64(name)?.into_iter().map(|x| x != 0.0).collect())
-}
-
-fn read_observed(path: &Path) -> Result<Observed> {
-    let t = ObjectTable::read(path)?;
-    let c = Columns::new(&t.frame, path);
-    let el = &t.elements;
-    let ra = c.f64_nullable("discovery_ra_deg")?;
-    let dec = c.f64_nullable("discovery_dec_deg")?;
-    Ok(Observed {
-        a_au: el.iter().map(|e| e.a_au).collect(),
-        q_au: el.iter().map(|e| e.q_au()).collect(),
-        inc_deg: el.iter().map(|e| e.inc_rad.to_degrees()).collect(),
-        h_mag: t.h_mag.clone(),
-        r_au: el.iter().map(|e| e.to_state().0.norm()).collect(),
-        varpi_deg: el.iter().map(|e| e.varpi().to_degrees()).collect(),
-        node_deg: el.iter().map(|e| e.node_rad.to_degrees().rem_euclid(360.0)).collect(),
-        weight: t.weight.clone(),
-        detected: bools(&c, "detected")?,
-        discovery_r_au: c.f64_nullable("discovery_r_au")?,
-        discovery_radec_deg: ra.iter().zip(&dec).map(|(a, d)| a.zip(*d)).collect(),
-        parent_id: if c.has("parent_id") {
-            Some(c.i64("parent_id")?)
-        } else {
-            None
-        },
-    })
-}
-
-fn read_detections(path: &Path) -> Result<Detections> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    Ok(Detections {
-        survey: c.str("survey")?,
-        visit_id: c.i64("visit_id")?,
-        mag: c.f64("mag")?,
-        rate_arcsec_per_hr: c.f64("rate_arcsec_per_hr")?,
-        detected: bools(&c, "detected")?,
-    })
 }
 
 /// Survey specs (`.toml` inputs) recorded in a provenance, where they still exist (as
@@ -501,7 +425,7 @@ fn read_yield_set(path: &Path) -> Result<YieldSet> {
 /// The surveys a yield compared and the objects table it ran, from the provenance of the
 /// `summary.json` in `dir`.
 fn yield_context(dir: &Path) -> (Vec<Survey>, Option<PathBuf>) {
-    let Ok(summary) = read_json(&dir.join("summary.json")) else {
+    let Ok(summary) = read_json(&dir.join(outputs::SUMMARY)) else {
         return (Vec::new(), None);
     };
     let Ok(prov) = serde_json::from_value::<Provenance>(summary["provenance"].clone()) else {
@@ -540,15 +464,9 @@ fn population_label(written: &str, stem: Option<&str>, found: Option<&str>) -> S
 /// the covered area of `STEM.coverage.json` when there is one, else counted on the report's
 /// sky cells.
 pub fn effort_of(s: &Survey) -> Effort {
-    let stem = s.visits_path.with_extension("");
-    let beside = |suffix: &str| PathBuf::from(format!("{}{suffix}", stem.display()));
-    let telescope_hours = read_table(&beside(".coverage_nights.csv"))
-        .ok()
-        .and_then(|df| Columns::new(&df, &s.visits_path).f64("used_hours").ok())
-        .map(|h| h.iter().sum::<f64>());
-    let area = read_json(&beside(".coverage.json"))
-        .ok()
-        .and_then(|j| j["coverage"]["covered_sq_deg"].as_f64());
+    let plan = PlanOutputs::for_visits(&s.visits_path);
+    let telescope_hours = plan.telescope_hours();
+    let area = plan.covered_sq_deg();
     let area_sq_deg = area.unwrap_or_else(|| {
         let cells = super::figures::sky::visit_cells(&[s], super::figures::sky::MAP_ORDER);
         crate::sky::healpix::area_sq_deg(cells.len(), super::figures::sky::MAP_ORDER)

@@ -1,7 +1,8 @@
 //! Writing a plan's outputs: the visits table, the matching survey spec, the coverage report
 //! (JSON plus tables) and the MOC. File names derive from the visits path:
 //! `STEM.survey.toml`, `STEM.coverage.json`, `STEM.coverage_ecliptic.csv`,
-//! `STEM.coverage_nights.csv`, `STEM.moc.json`.
+//! `STEM.coverage_nights.csv`, `STEM.moc.json`; and reading the coverage report back (the
+//! report's coverage section and each survey's effort).
 
 use std::path::{Path, PathBuf};
 
@@ -55,14 +56,49 @@ impl PlanOutputs {
         let sib = |suffix: &str| visits.with_file_name(format!("{stem}{suffix}"));
         PlanOutputs {
             visits: visits.to_path_buf(),
-            spec: sib(".survey.toml"),
-            coverage_json: sib(".coverage.json"),
+            spec: sib(SURVEY_SPEC),
+            coverage_json: sib(COVERAGE_JSON),
             coverage_ecliptic: sib(".coverage_ecliptic.csv"),
             coverage_nights: sib(".coverage_nights.csv"),
             moc: sib(".moc.json"),
         }
     }
+
+    /// The coverage report's JSON and its table by ecliptic latitude (empty when absent).
+    pub fn read_coverage(&self) -> Result<(serde_json::Value, DataFrame)> {
+        let text = std::fs::read_to_string(&self.coverage_json).map_err(|e| io_at(&self.coverage_json, e))?;
+        let json = serde_json::from_str(&text)
+            .map_err(|e| crate::Error::input(format!("{}: not valid JSON: {e}", self.coverage_json.display())))?;
+        let by_latitude = if self.coverage_ecliptic.exists() {
+            crate::io::table::read_table(&self.coverage_ecliptic)?
+        } else {
+            DataFrame::empty()
+        };
+        Ok((json, by_latitude))
+    }
+
+    /// The telescope hours the plan used (exposures and overheads: the nights table's
+    /// `used_hours`), when that table is there.
+    pub fn telescope_hours(&self) -> Option<f64> {
+        let df = crate::io::table::read_table(&self.coverage_nights).ok()?;
+        let hours = crate::io::table::Columns::new(&df, &self.coverage_nights)
+            .f64("used_hours")
+            .ok()?;
+        Some(hours.iter().sum())
+    }
+
+    /// The covered area of the coverage report, deg², when there is one.
+    pub fn covered_sq_deg(&self) -> Option<f64> {
+        let text = std::fs::read_to_string(&self.coverage_json).ok()?;
+        let json: serde_json::Value = serde_json::from_str(&text).ok()?;
+        json["coverage"]["covered_sq_deg"].as_f64()
+    }
 }
+
+/// The endings of a plan's survey spec and coverage report beside its visits table
+/// (`STEM.survey.toml`, `STEM.coverage.json`).
+pub const SURVEY_SPEC: &str = ".survey.toml";
+pub const COVERAGE_JSON: &str = ".coverage.json";
 
 fn visits_frame(plan: &Plan) -> Result<DataFrame> {
     let v = &plan.visits;
