@@ -9,6 +9,7 @@ pub mod cluster_test;
 pub mod compare_models;
 pub mod demo;
 pub mod detectability;
+pub mod draw;
 pub mod observe;
 pub mod plan;
 pub mod yields;
