@@ -119,6 +119,34 @@ pub const RANGES: &[Range] = &[
     closed("longitude_deg", -360.0, 360.0, "deg", "a site longitude, east positive"),
     closed("latitude_deg", -90.0, 90.0, "deg", "a geodetic latitude"),
     closed("elevation_m", -500.0, 1.0e4, "m", "a site on the ground"),
+    closed(
+        "astrometric_sigma_arcsec",
+        1.0e-4,
+        10.0,
+        "arcsec",
+        "a detection's positional 1σ, from space-astrometry precision to a poor plate",
+    ),
+    closed(
+        "astrometric_floor_arcsec",
+        0.0,
+        10.0,
+        "arcsec",
+        "a systematic astrometric floor, as a survey spec's [measurement] allows",
+    ),
+    closed(
+        "min_arc_days",
+        0.0,
+        1.0e5,
+        "days",
+        "an arc within the 1972-2200 span of visits",
+    ),
+    closed(
+        "max_sigma_a_frac",
+        0.0,
+        1.0e3,
+        "",
+        "a cut on σa/a (a single night's fit has σa/a of order 1)",
+    ),
 ];
 
 /// The row for `key` (the last part of a dotted spec key; `color_<band>` and `color.<band>`
@@ -174,6 +202,15 @@ pub fn check_key(place: &str, key: &str, v: f64) -> Result<()> {
     }
 }
 
+/// Refuse a command-line option's value outside its range (the row of the option's name with
+/// `_` for `-`), naming the option.
+pub fn check_option(option: &str, v: f64) -> Result<()> {
+    match range(&option.trim_start_matches('-').replace('-', "_")) {
+        Some(r) if !r.contains(v) => Err(Error::input(format!("{option}: expected {}, found {v}", r.expected()))),
+        _ => Ok(()),
+    }
+}
+
 /// Refuse a distribution whose bounded support reaches outside the key's range: every value it
 /// can draw must be plausible. Unbounded sides (a normal's tails) are left to the draws.
 pub fn check_support(key: &str, support: (Option<f64>, Option<f64>)) -> std::result::Result<(), String> {
@@ -212,5 +249,22 @@ mod tests {
         assert_eq!(range("photometry.color.g").map(|r| r.key), Some("color"));
         assert!(range("no_such_key").is_none());
         assert!(range("e").unwrap().contains(0.999) && !range("e").unwrap().contains(1.0));
+    }
+
+    #[test]
+    fn options_find_their_rows_and_name_themselves() {
+        for option in [
+            "--astrometric-sigma-arcsec",
+            "--astrometric-floor-arcsec",
+            "--min-arc-days",
+            "--max-sigma-a-frac",
+        ] {
+            check_option(option, 1.0).unwrap();
+            let e = check_option(option, f64::NAN).unwrap_err().to_string();
+            assert!(e.starts_with(option) && e.contains("found NaN"), "{e}");
+        }
+        assert!(check_option("--astrometric-sigma-arcsec", 0.0).is_err());
+        assert!(check_option("--astrometric-floor-arcsec", 0.0).is_ok());
+        assert!(check_option("--min-arc-days", -1.0).is_err());
     }
 }

@@ -364,6 +364,8 @@ fn observe_fit_orbits_writes_the_contract_columns_honestly() {
     }
     let mut pulls = Vec::new();
     let mut found = 0;
+    let mut failed = 0;
+    let chi2 = nullable(&objects, "fit_chi2");
     for k in 0..detected.len() {
         if !detected[k] {
             continue;
@@ -372,6 +374,19 @@ fn observe_fit_orbits_writes_the_contract_columns_honestly() {
         // Span `all`: every detection is fitted.
         assert_eq!(n_fit[k], n_detected[k], "row {k}");
         let q = Quality::parse(quality[k].as_deref().unwrap()).expect("a known class");
+        if q == Quality::Failed {
+            failed += 1;
+            continue;
+        }
+        // A fit that reached its minimum goes through its detections: χ² per degree of
+        // freedom near 1 (χ²(2n − 6) has a 1e-6 tail below 4 for the ≥ 6 dof here; statrs
+        // ChiSquared). A stalled fit (χ² of thousands) must be flagged `failed`, not given.
+        let dof = 2.0 * n_fit[k].unwrap() - 6.0;
+        assert!(
+            chi2[k].unwrap() / dof < 4.0,
+            "row {k}: {q:?} fit with χ² {} for {dof} dof",
+            chi2[k].unwrap()
+        );
         if matches!(q, Quality::OneOpposition | Quality::MultiOpposition) {
             // The elements are at the first detection's epoch, the truth at the input's: a
             // moves only by the two-body round trip, so the pull in a is meaningful.
@@ -382,14 +397,17 @@ fn observe_fit_orbits_writes_the_contract_columns_honestly() {
     assert!(pulls.len() > 20, "only {} fits without prior", pulls.len());
     let within = pulls.iter().filter(|p| p.abs() < 3.0).count() as f64 / pulls.len() as f64;
     eprintln!(
-        "{found} discoveries, {} without prior, {:.1}% of a-pulls within 3σ",
+        "{found} discoveries, {failed} failed, {} without prior, {:.1}% of a-pulls within 3σ",
         pulls.len(),
         100.0 * within
     );
-    // 96.4 % with one σ for all detections; 94.8 % since each detection carries its own
-    // measured σ (snr-dependent): the short arcs' linear covariance understates a few errors.
-    // Loosened from 0.95 to 0.94 at that merge; open in validation.md.
-    assert!(within > 0.94, "a-pulls within 3σ: {within}");
+    // A unit normal has 99.73 % within 3σ; 850 fits give 99.8 %. The limit was 95 %, loosened to
+    // 94 % (94.8 % measured) while stalled fits, about one in eight, were reported as orbits;
+    // with those flagged `failed` it is tightened to 99 % (validation.md).
+    assert!(within > 0.99, "a-pulls within 3σ: {within}");
+    // Stalled fits flagged failed: 122 of 975 here (the open weakness of validation.md); more
+    // would mean the fit got worse.
+    assert!((failed as f64) < 0.2 * found as f64, "{failed} of {found} fits failed");
     // The discoveries table carries the same columns.
     let disc = read_table(&run.join("discoveries.parquet")).unwrap();
     for name in contract {
@@ -463,4 +481,140 @@ fn bad_fit_options_exit_2_naming_the_option() {
         assert!(common::stderr(&o).contains(option), "{}", common::stderr(&o));
         assert!(!out.exists(), "nothing written on bad options");
     }
+}
+
+/// One string column with empty cells.
+fn nullable_str(df: &polars::prelude::DataFrame, name: &str) -> Vec<Option<String>> {
+    df.column(name)
+        .unwrap_or_else(|_| panic!("no column {name}"))
+        .as_materialized_series()
+        .str()
+        .unwrap()
+        .iter()
+        .map(|v| v.map(str::to_string))
+        .collect()
+}
+
+#[test]
+fn the_orbit_quality_cut_selects_what_it_says() {
+    // cluster-test on a fitted catalogue with a cut (arc ≥ 100 d, σa/a ≤ 0.002, classes
+    // one_opposition or multi_opposition): the objects it maps and tests must be exactly the
+    // rows of the discoveries table that pass the cut, computed here from its own columns,
+    // and the rose counts of ϖ must be those of the *fitted* Ω + ω of those rows.
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let run = observed_with_fits(tmp.path(), "run", &[]);
+    let catalogue = run.join("discoveries.parquet");
+    let disc = read_table(&catalogue).unwrap();
+    let ids = nullable(&disc, "id");
+    let (fit_a, sigma_a, arc) = (
+        nullable(&disc, "fit_a_au"),
+        nullable(&disc, "sigma_a_au"),
+        nullable(&disc, "arc_days"),
+    );
+    let (fit_node, fit_argperi, true_node, true_argperi) = (
+        nullable(&disc, "fit_node_deg"),
+        nullable(&disc, "fit_argperi_deg"),
+        nullable(&disc, "node_deg"),
+        nullable(&disc, "argperi_deg"),
+    );
+    let class = nullable_str(&disc, "fit_quality");
+    let passes = |k: usize| {
+        let good_class = matches!(class[k].as_deref(), Some("one_opposition" | "multi_opposition"));
+        let long = arc[k].is_some_and(|d| d >= 100.0);
+        let sharp = match (fit_a[k], sigma_a[k]) {
+            (Some(a), Some(s)) => s / a <= 0.002,
+            _ => false,
+        };
+        good_class && long && sharp
+    };
+    let expected: Vec<usize> = (0..ids.len()).filter(|&k| passes(k)).collect();
+    assert!(
+        expected.len() >= 20 && expected.len() + 20 <= ids.len(),
+        "the cut should keep some and leave out some: {} of {}",
+        expected.len(),
+        ids.len()
+    );
+    let out = tmp.path().join("cluster");
+    let s = |p: &std::path::Path| p.to_string_lossy().into_owned();
+    let o = common::seine(&[
+        "cluster-test",
+        "--survey",
+        &s(&tmp.path().join("syn.survey.toml")),
+        "--catalog",
+        &s(&catalogue),
+        "--fitted-elements",
+        "--min-arc-days",
+        "100",
+        "--max-sigma-a-frac",
+        "0.002",
+        "--fit-quality",
+        "one_opposition,multi_opposition",
+        "--grid",
+        "4,4",
+        "--per-cell",
+        "2",
+        "--trials",
+        "200",
+        "--replicas",
+        "2",
+        "--rose-bins",
+        "12",
+        "--drop-undiscovered",
+        "--quiet",
+        "--out",
+        &s(&out),
+    ]);
+    let err = common::stderr(&o);
+    assert!(o.status.success(), "{err}");
+    // The message names how many were kept and left out.
+    let said = format!("{} objects (fitted elements", expected.len());
+    let left = format!("{} left out by the cut", ids.len() - expected.len());
+    assert!(err.contains(&said) && err.contains(&left), "{err}");
+    // Every kept object has its map, and no other.
+    let maps = read_table(&out.join("bias_map.parquet")).unwrap();
+    let mut mapped: Vec<i64> = nullable(&maps, "id").into_iter().map(|v| v.unwrap() as i64).collect();
+    mapped.dedup();
+    let mut want: Vec<i64> = expected.iter().map(|&k| ids[k].unwrap() as i64).collect();
+    want.sort_unstable();
+    mapped.sort_unstable();
+    mapped.dedup();
+    assert_eq!(mapped, want, "bias-mapped ids differ from the rows that pass the cut");
+    // The rose counts of ϖ: the fitted angles of the kept rows (less any dropped for a map
+    // without discoveries, named in summary.json).
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let dropped: Vec<i64> = summary["dropped_undiscovered_ids"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_i64().unwrap())
+        .collect();
+    let histogram = |node: &[Option<f64>], argperi: &[Option<f64>]| {
+        let mut h = vec![0u64; 12];
+        for &k in &expected {
+            if dropped.contains(&(ids[k].unwrap() as i64)) {
+                continue;
+            }
+            let varpi = (node[k].unwrap() + argperi[k].unwrap()).rem_euclid(360.0);
+            h[((varpi / 30.0) as usize).min(11)] += 1;
+        }
+        h
+    };
+    let rose = read_table(&out.join("rose.parquet")).unwrap();
+    let quantity = nullable_str(&rose, "quantity");
+    let observed = nullable(&rose, "observed");
+    let varpi: Vec<u64> = (0..quantity.len())
+        .filter(|&r| quantity[r].as_deref() == Some("varpi_deg"))
+        .map(|r| observed[r].unwrap() as u64)
+        .collect();
+    let fitted = histogram(&fit_node, &fit_argperi);
+    assert_eq!(varpi, fitted, "rose counts of ϖ are not those of the fitted elements");
+    eprintln!(
+        "cut kept {} of {} ({} dropped without discoveries); ϖ counts fitted {fitted:?}, true {:?}",
+        expected.len(),
+        ids.len(),
+        dropped.len(),
+        histogram(&true_node, &true_argperi)
+    );
 }

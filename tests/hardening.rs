@@ -635,6 +635,43 @@ fn merges_check_their_shards() {
     );
 }
 
+/// The orbit-fit options outside their plausible range (src/ranges.rs): observe's astrometric
+/// σ and floor, and the analyses' orbit-quality cut, each refused naming the option and range.
+#[test]
+fn fit_options_outside_their_plausible_range_are_refused() {
+    let c = Case::new(&[]);
+    for (option, value, range) in [
+        ("--astrometric-sigma-arcsec", "0", "[0.0001, 10]"),
+        ("--astrometric-sigma-arcsec", "1e6", "[0.0001, 10]"),
+        ("--astrometric-floor-arcsec", "-0.1", "[0, 10]"),
+        ("--astrometric-floor-arcsec", "inf", "[0, 10]"),
+    ] {
+        let bad = format!("{option}={value}");
+        c.fails(&c.observe(&["--fit-orbits", &bad]), &[option, range, "arcsec"]);
+    }
+    let (survey, objects, out) = (c.p("survey.toml"), c.p("objects.csv"), c.p("out"));
+    for (option, value, range) in [
+        ("--min-arc-days", "-1", "[0, 100000]"),
+        ("--min-arc-days", "1e9", "[0, 100000]"),
+        ("--max-sigma-a-frac", "nan", "[0, 1000]"),
+        ("--max-sigma-a-frac", "1e300", "[0, 1000]"),
+    ] {
+        let bad = format!("{option}={value}");
+        let a = args(&[
+            "bias-map",
+            "--survey",
+            &survey,
+            "--objects",
+            &objects,
+            "--out",
+            &out,
+            "--fitted-elements",
+            &bad,
+        ]);
+        c.fails(&a, &[option, range]);
+    }
+}
+
 /// Runaway jobs are refused before any work, with the estimate and the way out (--shard or
 /// --over-budget): a draw of 10^12 objects, 10^10 bias-map cells, 10^10 cluster-test trials.
 #[test]

@@ -128,11 +128,9 @@ impl CatalogueArgs {
     /// The selection, checked.
     pub fn selection(&self) -> Result<seine::fit::catalogue::Selection> {
         use seine::fit::Quality;
-        let positive = |name: &str, v: Option<f64>| match v {
-            Some(x) if !(x.is_finite() && x >= 0.0) => Err(Error::input(format!(
-                "--{name}: expected a finite number ≥ 0, found {x}"
-            ))),
-            _ => Ok(v),
+        let plausible = |option: &str, v: Option<f64>| match v {
+            Some(x) => seine::ranges::check_option(option, x).map(|_| v),
+            None => Ok(v),
         };
         let qualities = self
             .fit_quality
@@ -149,8 +147,8 @@ impl CatalogueArgs {
             .collect::<Result<Vec<_>>>()?;
         Ok(seine::fit::catalogue::Selection {
             fitted: self.fitted_elements,
-            min_arc_days: positive("min-arc-days", self.min_arc_days)?,
-            max_sigma_a_frac: positive("max-sigma-a-frac", self.max_sigma_a_frac)?,
+            min_arc_days: plausible("--min-arc-days", self.min_arc_days)?,
+            max_sigma_a_frac: plausible("--max-sigma-a-frac", self.max_sigma_a_frac)?,
             qualities,
         })
     }

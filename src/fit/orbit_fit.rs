@@ -77,15 +77,10 @@ pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
     let Some(elements) = frame.elements(&s.params) else {
         return failed;
     };
-    let prior_chi2: f64 = {
-        let w = velocity_sigma(s.params[GAMMA]);
-        quality
-            .prior()
-            .indices()
-            .iter()
-            .map(|&i| (s.params[i] / w).powi(2))
-            .sum()
-    };
+    let prior_chi2: f64 = prior_chi2(&s, quality);
+    if stalled(s.chi2 - prior_chi2, n_obs) {
+        return failed;
+    }
     OrbitFit {
         elements: Some(elements),
         covariance: element_covariance(&frame, &s, &elements),
@@ -95,6 +90,34 @@ pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
         quality,
         iterations: s.iterations,
     }
+}
+
+/// The χ² of the prior's pseudo-observations at a solution.
+fn prior_chi2(s: &Solution, quality: Quality) -> f64 {
+    let w = velocity_sigma(s.params[GAMMA]);
+    quality
+        .prior()
+        .indices()
+        .iter()
+        .map(|&i| (s.params[i] / w).powi(2))
+        .sum()
+}
+
+/// Chance below which a fit's χ² says it stopped away from its minimum: 10⁻⁹.
+const STALL_CHANCE: f64 = 1e-9;
+
+/// Whether the data's χ² is too large for a fit that reached its minimum: beyond the 1 − 10⁻⁹
+/// quantile of χ²(2n) (2n, not 2n − 6, so that a fit with a prior is never refused for its
+/// few extra degrees of freedom). The model is the one that made the data, so a fit at its
+/// minimum has χ² ≈ 2n − 6; a stall (Levenberg–Marquardt stuck against the bound-orbit wall
+/// of the parameters, near a parabolic orbit, where no damped step lowers χ²) leaves χ² of
+/// thousands, and such a fit gives no orbit (validation.md).
+fn stalled(chi2: f64, n_obs: usize) -> bool {
+    use statrs::distribution::{ChiSquared, ContinuousCDF};
+    let Ok(d) = ChiSquared::new(2.0 * n_obs as f64) else {
+        return false;
+    };
+    !(d.sf(chi2) >= STALL_CHANCE)
 }
 
 /// Whether the data alone leave γ̇ less constrained than the bound-orbit prior would.

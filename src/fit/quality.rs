@@ -16,7 +16,8 @@ pub enum Quality {
     OneOpposition,
     /// All six parameters from the data, arc of `MULTI_OPPOSITION_DAYS` or more.
     MultiOpposition,
-    /// Fewer than three detections, or no bound orbit fits them.
+    /// Fewer than three detections, no bound orbit fits them, or the fit stalled (its χ² far
+    /// beyond its distribution: `orbit_fit::stalled`).
     Failed,
 }
 

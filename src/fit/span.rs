@@ -8,6 +8,7 @@ use crate::engine::index::PreparedSurvey;
 use crate::engine::outcome::{Event, ObjectOutcome};
 use crate::error::{Error, Result};
 use crate::foundation::units::ARCSEC;
+use crate::ranges::check_option;
 use crate::sky::frames::unit_vector;
 
 /// The detections an orbit is fitted to.
@@ -56,19 +57,10 @@ pub struct AstrometricErrors {
 }
 
 impl AstrometricErrors {
-    /// Checked: σ > 0 and floor ≥ 0, both finite and below 1 degree.
+    /// Checked against their plausible ranges (`src/ranges.rs`).
     pub fn new(sigma_arcsec: f64, floor_arcsec: f64) -> Result<Self> {
-        let ok = |v: f64, min_exclusive: bool| v.is_finite() && v < 3600.0 && (v > 0.0 || (!min_exclusive && v == 0.0));
-        if !ok(sigma_arcsec, true) {
-            return Err(Error::input(format!(
-                "--astrometric-sigma-arcsec: expected a number > 0 and < 3600 arcsec, found {sigma_arcsec}"
-            )));
-        }
-        if !ok(floor_arcsec, false) {
-            return Err(Error::input(format!(
-                "--astrometric-floor-arcsec: expected a number ≥ 0 and < 3600 arcsec, found {floor_arcsec}"
-            )));
-        }
+        check_option("--astrometric-sigma-arcsec", sigma_arcsec)?;
+        check_option("--astrometric-floor-arcsec", floor_arcsec)?;
         Ok(AstrometricErrors {
             sigma_arcsec,
             floor_arcsec,
