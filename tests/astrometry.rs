@@ -4,7 +4,7 @@ mod common;
 
 use common::{Fixture, fixture};
 use nalgebra::Vector3;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::population::ephemeris::ephemeris_table;
 use seine::sky::apparent::observe;

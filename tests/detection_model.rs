@@ -19,7 +19,7 @@ use std::path::Path;
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
 use seine::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::orbit::Orbit;
 use seine::rng::{Purpose, object_stream};
 use seine::sky::apparent::observe;

@@ -8,7 +8,7 @@ use std::path::Path;
 use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
 use seine::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::io::table::frame_f64;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::rng::{Purpose, object_stream};

@@ -16,7 +16,7 @@ use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, s
 use seine::analysis::likelihood::{Bandwidth, Estimator, Kde, Kernel, ModelDensity};
 use seine::analysis::space::{Coordinate, Space};
 use seine::engine::PreparedSurvey;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::orbit::{Center, Elements};
 use seine::population::Spec;
 use seine::population::recenter::recenter;

@@ -18,7 +18,7 @@ use rayon::prelude::*;
 
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Elements;
 
 /// The angle on the map's first axis.

@@ -14,7 +14,7 @@ use super::binomial::Proportion;
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col};
 use crate::orbit::Elements;
 

@@ -10,7 +10,7 @@
 use rand_pcg::Pcg64;
 
 use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Elements;
 use crate::rng::{Purpose, object_stream};
 

@@ -3,7 +3,7 @@
 use std::path::PathBuf;
 
 use seine::io::Provenance;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::io::table::{Columns, read_table, write_table};
 use seine::population::ephemeris::ephemeris_table;
 use seine::sky::observer::Site;

@@ -12,7 +12,7 @@ use crate::analysis::binomial::pct;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::io::table::write_atomic;
 use crate::shard::shard_rows;
 

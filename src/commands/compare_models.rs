@@ -10,7 +10,7 @@ use crate::analysis::comparison;
 use crate::analysis::space::Space;
 use crate::error::Result;
 use crate::fit::catalogue::Selection;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Center;
 
 /// One model population: its name, objects table, and the number of real objects it stands for

@@ -29,7 +29,7 @@ use crate::engine::{ObserveOptions, PreparedSurvey, observe};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::io::table::{Format, write_atomic};
 use crate::population::spec::Spec;
 use crate::survey::Survey;

@@ -13,7 +13,7 @@ use crate::engine::{Candidates, ObserveOptions};
 use crate::error::Result;
 use crate::fit::FitOptions;
 use crate::io::Provenance;
-use crate::io::objects::{ObjectSource, ObjectTable};
+use crate::population::objects::{ObjectSource, ObjectTable};
 use crate::io::table::Format;
 
 /// The options of `seine observe`.

@@ -7,7 +7,7 @@
 use std::path::{Path, PathBuf};
 
 use crate::error::Result;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::io::table::{Columns, Format, read_table};
 
 /// File stems of the two tables, and the summary's file name.

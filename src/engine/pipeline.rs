@@ -13,7 +13,7 @@ use rand_pcg::Pcg64;
 
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::{Event, ObjectOutcome, SurveyOutcome};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Orbit;
 use crate::rng::substream;
 use crate::sky::apparent::{direction_from, observe_from};

@@ -3,7 +3,7 @@
 use rayon::prelude::*;
 
 use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Orbit;
 use crate::rng::{Purpose, object_stream};
 use crate::sky::apparent::observe;

@@ -19,7 +19,7 @@ use super::prepared::Prepared;
 use super::resonance::{Resonance, neptune_mean_longitude};
 use super::spec::CloneSpec;
 use crate::error::{Result, io_at};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::io::table::Columns;
 use crate::rng::{Purpose, object_stream};
 

@@ -6,7 +6,7 @@ use polars::prelude::*;
 use rayon::prelude::*;
 
 use crate::error::Result;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::orbit::Orbit;
 use crate::sky::apparent::observe_from;
 use crate::sky::observer::{Site, observer_states};

@@ -12,7 +12,7 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::DataFrame;
 
-use super::table::{Columns, read_parquet_rows, read_table};
+use crate::io::table::{Columns, read_parquet_rows, read_table};
 use crate::error::{Error, Result};
 use crate::orbit::{Center, Elements};
 use crate::ranges::check_column;
