@@ -14,10 +14,10 @@ use std::sync::mpsc;
 use std::time::Duration;
 
 use proptest::prelude::*;
-use seine::population::objects::ObjectTable;
 use seine::orbit::kepler::{eccentric_anomaly, mean_from_eccentric};
 use seine::orbit::{Center, Elements};
 use seine::population::Spec;
+use seine::population::objects::ObjectTable;
 use seine::survey::Survey;
 use seine::survey::planner::PlanFile;
 use seine::survey::spec::parse_toml;
