@@ -144,7 +144,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let maps = opts
         .maps
         .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
-    let [table, found] = bias_map_tables::write(&out, &maps)?;
+    let [table, found] = bias_map_tables::write(&out, &maps, &objects)?;
     if opts.svg {
         write_svgs(opts, &objects, rows, &maps)?;
     }
