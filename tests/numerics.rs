@@ -69,7 +69,10 @@ fn universal_variables_match_rebound_on_every_conic() {
         let r_ref = v3("x_au", "y_au", "z_au", i);
         let v_ref = v3("vx_au_per_day", "vy_au_per_day", "vz_au_per_day", i);
         let (dr, dv) = ((r - r_ref).norm() / r_ref.norm(), (v - v_ref).norm() / v_ref.norm());
-        assert!(dr < 1e-11 && dv < 1e-11, "row {i} (dt {dt} d): position {dr:e}, velocity {dv:e}");
+        assert!(
+            dr < 1e-11 && dv < 1e-11,
+            "row {i} (dt {dt} d): position {dr:e}, velocity {dv:e}"
+        );
         worst = worst.max(dr).max(dv);
     }
     eprintln!("universal variables against IAS15: worst relative difference {worst:.1e}");

@@ -118,11 +118,7 @@ where
 /// The χ² of the prior's pseudo-observations at a solution.
 fn prior_chi2(s: &Solution, prior: Prior) -> f64 {
     let w = velocity_sigma(s.params[GAMMA]);
-    prior
-        .indices()
-        .iter()
-        .map(|&i| (s.params[i] / w).powi(2))
-        .sum()
+    prior.indices().iter().map(|&i| (s.params[i] / w).powi(2)).sum()
 }
 
 /// Chance below which a fit's χ² says it stopped away from its minimum: 10⁻⁹.

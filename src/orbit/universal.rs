@@ -214,7 +214,12 @@ mod tests {
 
     #[test]
     fn energy_and_angular_momentum_are_kept_on_a_hyperbola() {
-        let c = Conic::new(Vector3::new(30.0, 5.0, -2.0), Vector3::new(0.001, 0.006, 0.001), 0.0, Center::Heliocentric);
+        let c = Conic::new(
+            Vector3::new(30.0, 5.0, -2.0),
+            Vector3::new(0.001, 0.006, 0.001),
+            0.0,
+            Center::Heliocentric,
+        );
         assert!(!c.is_bound());
         let mu = Center::Heliocentric.gm();
         let energy = |r: &Vector3<f64>, v: &Vector3<f64>| 0.5 * v.norm_squared() - mu / r.norm();
@@ -238,7 +243,10 @@ mod tests {
             } else {
                 ((s.cosh() - 1.0) / -z, (s.sinh() - s) / (-z * s))
             };
-            assert!((c2 - e2).abs() < 1e-14 && (c3 - e3).abs() < 1e-14, "z {z}: {c2} {e2}, {c3} {e3}");
+            assert!(
+                (c2 - e2).abs() < 1e-14 && (c3 - e3).abs() < 1e-14,
+                "z {z}: {c2} {e2}, {c3} {e3}"
+            );
         }
         assert_eq!(stumpff(0.0), (0.5, 1.0 / 6.0));
     }
