@@ -572,6 +572,22 @@ fn the_orbit_quality_cut_selects_what_it_says() {
     let said = format!("{} objects (fitted elements", expected.len());
     let left = format!("{} left out by the cut", ids.len() - expected.len());
     assert!(err.contains(&said) && err.contains(&left), "{err}");
+    // The bias maps do not apply the cut to their trials, so the bias-aware chances would not
+    // be calibrated (validation.md): they are withheld, in the message and the table; the
+    // chances without bias correction (an isotropic, unselected null) stay.
+    let said: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let why = said["chances_withheld"].as_str().unwrap_or_default();
+    assert!(
+        why.contains("chances withheld") && why.contains("fitted elements"),
+        "{said}"
+    );
+    let test = read_table(&out.join("cluster_test.parquet")).unwrap();
+    assert!(
+        nullable(&test, "p_bias_aware").iter().all(Option::is_none),
+        "a chance printed"
+    );
+    assert!(nullable(&test, "p_naive").iter().any(Option::is_some));
     // Every kept object has its map, and no other.
     let maps = read_table(&out.join("bias_map.parquet")).unwrap();
     let mut mapped: Vec<i64> = nullable(&maps, "id").into_iter().map(|v| v.unwrap() as i64).collect();

@@ -10,7 +10,7 @@ use polars::prelude::Column;
 
 use super::cluster_test::{ClusterTest, NullSample, RoseCount};
 use crate::error::{Error, Result};
-use crate::io::out_dir::{OutDir, col};
+use crate::io::out_dir::{OutDir, col, finite_or_empty};
 use crate::io::table::{Columns, Format, read_table};
 
 /// File stems: `DIR/cluster_test.*`, `DIR/cluster_null.*`, `DIR/rose.*`.
@@ -60,8 +60,8 @@ fn test_columns(res: &ClusterTest) -> Vec<Column> {
         col(OBSERVED, num(|x| x.observed)),
         col("direction_lon_deg", num(|x| x.direction_lon_deg)),
         col("direction_lat_deg", num(|x| x.direction_lat_deg)),
-        col(P_BIAS_AWARE, num(|x| x.p_bias_aware)),
-        col("p_bias_aware_error", num(|x| x.p_bias_aware_error)),
+        col(P_BIAS_AWARE, finite_or_empty(num(|x| x.p_bias_aware))),
+        col("p_bias_aware_error", finite_or_empty(num(|x| x.p_bias_aware_error))),
         col(P_NAIVE, num(|x| x.p_naive)),
         col("p_naive_method", text(|x| &x.p_naive_method)),
         col("p_naive_monte_carlo", num(|x| x.p_naive_monte_carlo)),

@@ -266,6 +266,20 @@ pub struct ModelScore {
     pub weights: Vec<f64>,
 }
 
+impl ModelScore {
+    /// Blank the goodness of fit and the marginal tests' chances (NaN, written as empty cells):
+    /// for a catalogue drawn under a selection the models' detected objects do not have
+    /// (`commands::chances_withheld`). ln L and the statistics stay.
+    pub fn withhold_chances(&mut self) {
+        self.gof_p = f64::NAN;
+        self.gof_p_error = f64::NAN;
+        for m in &mut self.marginals {
+            m.p_value = f64::NAN;
+            m.p_error = f64::NAN;
+        }
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Extended {
     pub expected: f64,

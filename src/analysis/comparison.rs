@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 
 use super::compare::{Comparison, ModelScore};
 use crate::error::{Error, Result};
-use crate::io::out_dir::{OutDir, col, find_table};
+use crate::io::out_dir::{OutDir, col, find_table, finite_or_empty};
 use crate::io::table::{Columns, read_table};
 
 pub const MODELS: &str = "models";
@@ -78,8 +78,8 @@ pub fn write(out: &OutDir, c: &Comparison) -> Result<Vec<PathBuf>> {
             col("log_poisson", ext(|e| e.log_poisson)),
             col("log_likelihood_extended", ext(|e| e.log_likelihood)),
             col("log_likelihood_extended_error", ext(|e| e.log_likelihood_error)),
-            col("gof_p", num(|s| s.gof_p)),
-            col("gof_p_error", num(|s| s.gof_p_error)),
+            col("gof_p", finite_or_empty(num(|s| s.gof_p))),
+            col("gof_p_error", finite_or_empty(num(|s| s.gof_p_error))),
         ],
     )?;
     let rows: Vec<(&ModelScore, usize)> = m
@@ -109,8 +109,8 @@ pub fn write(out: &OutDir, c: &Comparison) -> Result<Vec<PathBuf>> {
                     .collect::<Vec<String>>(),
             ),
             col("statistic", marg(|t| t.value)),
-            col("p_value", marg(|t| t.p_value)),
-            col("p_value_error", marg(|t| t.p_error)),
+            col("p_value", finite_or_empty(marg(|t| t.p_value))),
+            col("p_value_error", finite_or_empty(marg(|t| t.p_error))),
         ],
     )?;
     let pts: Vec<(&ModelScore, usize)> = m
@@ -229,7 +229,11 @@ pub fn conclusion(c: &Comparison) -> String {
                     e.expected, e.expected_error, e.log_likelihood, e.log_likelihood_error
                 );
             }
-            t + &format!(", goodness of fit p = {:.3} ± {:.3}", s.gof_p, s.gof_p_error)
+            if s.gof_p.is_finite() {
+                t + &format!(", goodness of fit p = {:.3} ± {:.3}", s.gof_p, s.gof_p_error)
+            } else {
+                t + ", goodness of fit withheld"
+            }
         })
         .collect();
     let mut s = format!(
@@ -290,15 +294,14 @@ pub fn read_models(path: &Path) -> Result<Vec<ModelRow>> {
     let c = Columns::new(&df, path);
     let names = c.str("model")?;
     let f = |n: &str| c.f64(n);
-    let (n, k, ll, lle, d, de, p, pe) = (
+    let (p, pe) = (withheld_as_nan(&c, "gof_p")?, withheld_as_nan(&c, "gof_p_error")?);
+    let (n, k, ll, lle, d, de) = (
         f("n_objects")?,
         f("n_detected")?,
         f("log_likelihood")?,
         f("log_likelihood_error")?,
         f("delta_log_likelihood_vs_best")?,
         f("delta_log_likelihood_error")?,
-        f("gof_p")?,
-        f("gof_p_error")?,
     );
     if names.is_empty() {
         return Err(Error::input(format!("{}: no model rows", path.display())));
@@ -397,11 +400,20 @@ pub fn read(dir: &Path) -> Result<Read> {
     })
 }
 
+/// A chance column whose empty cells are chances the run withheld (`commands::chances_withheld`).
+fn withheld_as_nan(c: &Columns, name: &str) -> Result<Vec<f64>> {
+    Ok(c.f64_nullable(name)?
+        .into_iter()
+        .map(|x| x.unwrap_or(f64::NAN))
+        .collect())
+}
+
 fn read_marginals(path: &Path) -> Result<Vec<MarginalRow>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let (model, obs, test) = (c.str("model")?, c.str("observable")?, c.str("test")?);
-    let (t, p, pe) = (c.f64("statistic")?, c.f64("p_value")?, c.f64("p_value_error")?);
+    let t = c.f64("statistic")?;
+    let (p, pe) = (withheld_as_nan(&c, "p_value")?, withheld_as_nan(&c, "p_value_error")?);
     Ok((0..model.len())
         .map(|i| MarginalRow {
             model: model[i].clone(),

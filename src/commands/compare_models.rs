@@ -5,7 +5,7 @@
 use std::path::PathBuf;
 
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::compare::{CompareOptions, DensityChoice, Model, compare_models};
+use crate::analysis::compare::{CompareOptions, DensityChoice, Model, ModelScore, compare_models};
 use crate::analysis::comparison;
 use crate::analysis::space::Space;
 use crate::error::Result;
@@ -66,11 +66,19 @@ pub fn compare(opts: &CompareModelsOptions) -> Result<Outcome> {
         frame: opts.frame,
     };
     options.validate()?;
-    let result = compare_models(&surveys, options)?;
+    let mut result = compare_models(&surveys, options)?;
+    let withheld = super::chances_withheld(&opts.selection);
+    if withheld.is_some() {
+        result.models.iter_mut().for_each(ModelScore::withhold_chances);
+    }
     let out = opts.run.out_dir(prov);
+    let mut conclusion = comparison::conclusion(&result);
+    if let Some(why) = withheld {
+        conclusion += &format!("\n  Goodness of fit and marginal {why}.");
+    }
     Ok(Outcome {
         written: comparison::write(&out, &result)?,
-        conclusion: comparison::conclusion(&result),
+        conclusion,
         notes: note.into_iter().collect(),
     })
 }

@@ -89,6 +89,23 @@ pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<Prep
     Ok(surveys)
 }
 
+/// Why a test's chances are withheld for a catalogue taken under `selection`, when they are.
+/// The surveys' selection computed here (bias maps, the models' detected objects) counts an
+/// object found whatever its orbit fit would be, and in its true angles; a catalogue on fitted
+/// elements or cut on its fits is drawn under another selection, so the null distribution is
+/// not the catalogue's and its p-values are not uniform (measured: validation.md, "An
+/// orbit-quality cut is a selection the bias maps do not model"). A chance that is not
+/// calibrated is not printed as one.
+pub fn chances_withheld(selection: &crate::fit::catalogue::Selection) -> Option<String> {
+    (!selection.is_plain()).then(|| {
+        format!(
+            "chances withheld: the catalogue is taken with {}, a selection the surveys' model here \
+             does not apply to its trials, so its p-values would not be calibrated (validation.md)",
+            selection.describe()
+        )
+    })
+}
+
 /// Read a catalogue under a selection (fitted elements, orbit-quality cut); the note says what
 /// the cut left out, when there is a cut.
 pub fn read_catalogue(

@@ -80,3 +80,8 @@ pub fn proportion_columns(p: &[crate::statistics::Proportion]) -> Vec<polars::pr
         col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
     ]
 }
+
+/// Values with the non-finite ones as empty cells: for chances a command withholds (NaN).
+pub fn finite_or_empty(v: Vec<f64>) -> Vec<Option<f64>> {
+    v.into_iter().map(|x| x.is_finite().then_some(x)).collect()
+}

@@ -950,7 +950,7 @@ fn comparison_section(dir: &Path, run: &Path, c: &comparison::Read) -> Result<Se
                     r.n_detected.to_string(),
                     format!("{:.2} ± {:.2}", r.log_likelihood, r.log_likelihood_error),
                     format!("{:.2} ± {:.2}", r.delta, r.delta_error),
-                    format!("{:.3} ± {:.3}", r.gof_p, r.gof_p_error),
+                    crate::statistics::chance_with_error(r.gof_p, r.gof_p_error),
                 ]
             })
             .collect(),
@@ -1042,7 +1042,7 @@ fn marginal_table(name: &str, rows: &[comparison::MarginalRow]) -> Table {
                     r.observable.clone(),
                     test_name(&r.test),
                     format!("{:.4}", r.statistic),
-                    format!("{:.3} ± {:.3}", r.p_value, r.p_value_error),
+                    crate::statistics::chance_with_error(r.p_value, r.p_value_error),
                 ]
             })
             .collect(),

@@ -273,13 +273,12 @@ pub fn goodness_of_fit(fit: &FitNull) -> Result<Figure> {
          objects — what the model itself gives; fraction of catalogues per bin. Orange line: the \
          catalogue's ln L, {:.2} ± {:.2} (the error from the model's finite sample). Lower tail: \
          p = (1 + catalogues with ln L at or below the catalogue's) / (1 + catalogues) = \
-         {:.3} ± {:.3}; a small p says the catalogue lies where the model's detected objects are rare.",
+         {}; a small p says the catalogue lies where the model's detected objects are rare.",
         fit.samples.len(),
         fit.model,
         fit.observed,
         fit.observed_error,
-        fit.p,
-        fit.p_error
+        crate::statistics::chance_with_error(fit.p, fit.p_error)
     );
     let stem = format!("goodness_of_fit_{}", fit.model);
     render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
@@ -320,7 +319,10 @@ pub fn goodness_of_fit(fit: &FitNull) -> Result<Figure> {
             .label("synthetic catalogues of the model")
             .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + 22, y + 6)], style::BAND.filled()));
         let c = style::series(1);
-        let obs = format!("catalogue, p = {:.3}", fit.p);
+        let obs = match fit.p.is_finite() {
+            true => format!("catalogue, p = {:.3}", fit.p),
+            false => "catalogue (p withheld)".to_string(),
+        };
         if near {
             chart
                 .draw_series(std::iter::once(PathElement::new(
