@@ -1,6 +1,6 @@
 //! The bias maps' output product: file names, columns, writing and reading of `bias_map.*`
-//! (one row per object and cell) and `map_discoveries.*` (the angles of every discovered
-//! trial). `seine bias-map` and `seine cluster-test` write through it; `cluster-test --bias-map`
+//! (one row per object and cell), `map_discoveries.*` (the angles of every discovered
+//! trial) and `map_objects.*` (each mapped object's own angles and weight). `seine bias-map` and `seine cluster-test` write through it; `cluster-test --bias-map`
 //! reads maps back through `read`, and `seine report` reads any map table through `read_cells`
 //! (which also takes the documented hand-made layout `X_min, X_max, Y_min, Y_max, fraction`).
 
@@ -10,6 +10,7 @@ use polars::prelude::Column;
 
 use super::bias_map::{BiasMap, MapAxes, MapGrid};
 use crate::error::{Error, Result};
+use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 
@@ -17,6 +18,8 @@ use crate::io::table::{Columns, read_table};
 pub const MAPS: &str = "bias_map";
 /// File stem of the discovered trials' angles beside a map table.
 pub const FOUND: &str = "map_discoveries";
+/// File stem of the mapped objects' own angles and weights beside a map table.
+pub const OBJECTS: &str = "map_objects";
 
 const ID: &str = "id";
 const CELL: &str = "cell";
@@ -26,6 +29,7 @@ const TRIALS: &str = "trials";
 const DISCOVERED: &str = "discovered";
 const P_DISCOVER: &str = "p_discover";
 const NODE: &str = "node";
+const WEIGHT: &str = "weight";
 /// The value columns a map table may carry, in order of preference: the hand-made layout's
 /// `fraction` or `probability`, or `p_discover` as `seine bias-map` writes it.
 const VALUE_COLUMNS: [&str; 3] = ["fraction", "probability", P_DISCOVER];
@@ -35,12 +39,89 @@ pub fn is_map_table(name: &str) -> bool {
     name.starts_with(MAPS) && (name.ends_with(".csv") || name.ends_with(".parquet"))
 }
 
-/// Write `bias_map.*` and `map_discoveries.*`; returns both paths.
-pub fn write(out: &OutDir, maps: &[BiasMap]) -> Result<[PathBuf; 2]> {
+/// A mapped object's own place on its map: its angles (deg) on the map's axes, and its
+/// weight in the catalogue (a map of the whole catalogue adds the objects' maps with it).
+#[derive(Debug, Clone, PartialEq)]
+pub struct MappedObject {
+    pub id: i64,
+    pub x_deg: f64,
+    pub node_deg: f64,
+    pub weight: f64,
+}
+
+impl MappedObject {
+    /// The objects of catalogue rows `rows` on maps of `axes`.
+    pub fn of(objects: &ObjectTable, rows: std::ops::Range<usize>, axes: MapAxes) -> Vec<MappedObject> {
+        rows.map(|i| {
+            let el = &objects.elements[i];
+            MappedObject {
+                id: objects.ids[i],
+                x_deg: axes.x_of(el).to_degrees(),
+                node_deg: el.node_rad.rem_euclid(std::f64::consts::TAU).to_degrees(),
+                weight: objects.weight[i],
+            }
+        })
+        .collect()
+    }
+}
+
+/// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` (the objects `mapped`, on
+/// the maps' axes); returns the three paths.
+pub fn write(out: &OutDir, maps: &[BiasMap], mapped: &[MappedObject]) -> Result<[PathBuf; 3]> {
     Ok([
         out.write(MAPS, map_columns(maps))?,
         out.write(FOUND, found_columns(maps))?,
+        out.write(OBJECTS, object_columns(x_name(maps), mapped))?,
     ])
+}
+
+/// `map_objects`: one row per mapped object, `id, varpi_deg` (or `argperi_deg`), `node_deg`,
+/// `weight`.
+fn object_columns(x: &str, mapped: &[MappedObject]) -> Vec<Column> {
+    let each = |f: fn(&MappedObject) -> f64| mapped.iter().map(f).collect::<Vec<f64>>();
+    vec![
+        col(ID, mapped.iter().map(|m| m.id).collect::<Vec<i64>>()),
+        col(&format!("{x}_deg"), each(|m| m.x_deg)),
+        col(&format!("{NODE}_deg"), each(|m| m.node_deg)),
+        col(WEIGHT, each(|m| m.weight)),
+    ]
+}
+
+/// The mapped objects of `map_objects.*` beside a map table (same format), when there is
+/// that file: `id`, the first axis's angle (`varpi_deg`, `argperi_deg`, or any `X_deg` but
+/// `node_deg`), `node_deg`, optional `weight` (default 1).
+pub fn read_objects(map_table: &Path) -> Result<Option<Vec<MappedObject>>> {
+    let ext = map_table.extension().and_then(|e| e.to_str()).unwrap_or("parquet");
+    let path = map_table.with_file_name(format!("{OBJECTS}.{ext}"));
+    if !path.exists() {
+        return Ok(None);
+    }
+    let df = read_table(&path)?;
+    let c = Columns::new(&df, &path);
+    let node_col = format!("{NODE}_deg");
+    let x_col = ["varpi_deg", "argperi_deg"]
+        .into_iter()
+        .find(|n| c.has(n))
+        .ok_or_else(|| Error::input(format!("{}: expected a column varpi_deg or argperi_deg", path.display())))?;
+    let (ids, x, node) = (c.i64(ID)?, c.f64(x_col)?, c.f64(&node_col)?);
+    let weight = if c.has(WEIGHT) {
+        c.f64(WEIGHT)?
+    } else {
+        vec![1.0; ids.len()]
+    };
+    if let Some(r) = weight.iter().position(|w| !(w.is_finite() && *w >= 0.0)) {
+        return Err(c.bad_value(r, WEIGHT, "a finite weight ≥ 0"));
+    }
+    Ok(Some(
+        (0..ids.len())
+            .map(|r| MappedObject {
+                id: ids[r],
+                x_deg: x[r],
+                node_deg: node[r],
+                weight: weight[r],
+            })
+            .collect(),
+    ))
 }
 
 /// The first axis's name (`varpi` or `argperi`) of a list of maps.
@@ -187,6 +268,8 @@ pub struct MapCells {
     pub id: Option<i64>,
     /// (x_min, x_max, y_min, y_max, value) per cell.
     pub cells: Vec<[f64; 5]>,
+    /// Trials per cell, when the table has them (`trials`, as `seine bias-map` writes it).
+    pub trials: Option<Vec<u64>>,
 }
 
 /// Read any map table as cells: bin columns `X_lo_deg`/`X_hi_deg` (as `seine bias-map` writes
@@ -218,6 +301,11 @@ pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
     } else {
         vec![None; v.len()]
     };
+    let trials = if c.has(TRIALS) {
+        Some(c.i64(TRIALS)?)
+    } else {
+        None
+    };
     let mut maps: Vec<MapCells> = Vec::new();
     for i in 0..v.len() {
         if maps.last().is_none_or(|m| m.id != ids[i]) {
@@ -226,10 +314,14 @@ pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
                 y: y.clone(),
                 id: ids[i],
                 cells: Vec::new(),
+                trials: trials.as_ref().map(|_| Vec::new()),
             });
         }
-        let cell = [x0[i], x1[i], y0[i], y1[i], v[i]];
-        maps.last_mut().expect("pushed above").cells.push(cell);
+        let m = maps.last_mut().expect("pushed above");
+        m.cells.push([x0[i], x1[i], y0[i], y1[i], v[i]]);
+        if let (Some(t), Some(all)) = (m.trials.as_mut(), trials.as_ref()) {
+            t.push(u64::try_from(all[i]).map_err(|_| c.bad_value(i, TRIALS, "trials ≥ 0"))?);
+        }
     }
     Ok(maps)
 }

@@ -82,7 +82,8 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     let res = run_test(opts, &catalog, &maps)?;
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
-        bias_map_tables::write(&out, &maps)?;
+        let mapped = bias_map_tables::MappedObject::of(&catalog, 0..catalog.len(), opts.maps.grid.axes);
+        bias_map_tables::write(&out, &maps, &mapped)?;
     }
     let [table, null, rose] = cluster_tables::write(&out, &res)?;
     let conclusion = conclude(&res, &undiscovered, &thin);
