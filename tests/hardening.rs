@@ -672,6 +672,23 @@ fn fit_options_outside_their_plausible_range_are_refused() {
     }
 }
 
+/// A clustering test of one object is refused before any map is made, leaving nothing.
+#[test]
+fn a_clustering_test_of_one_object_is_refused() {
+    let one = OBJECTS.lines().take(2).collect::<Vec<_>>().join("\n") + "\n";
+    let c = Case::new(&[("objects.csv", &one)]);
+    let a = args(&[
+        "cluster-test",
+        "--survey",
+        &c.p("survey.toml"),
+        "--catalog",
+        &c.p("objects.csv"),
+        "--out",
+        &c.p("out"),
+    ]);
+    c.fails(&a, &["objects.csv", "at least two"]);
+}
+
 /// Runaway jobs are refused before any work, with the estimate and the way out (--shard or
 /// --over-budget): a draw of 10^12 objects, 10^10 bias-map cells, 10^10 cluster-test trials.
 #[test]

@@ -841,14 +841,21 @@ fn a_map_of_few_values_gets_a_discrete_key_and_a_smooth_one_a_colour_bar() {
     // Three trials per cell: every value is 0, 1/3, 2/3 or 1.
     let coarse = angle_map(3, 6, Some(3), |i, j| ((i + 2 * j) % 4) as f64 / 3.0);
     let f = bias::bias_map(&coarse).unwrap();
-    check(&f, &["1/3 = 0.333", "3/3 = 1.000", "discovery probability (dimensionless)"]);
+    check(
+        &f,
+        &["1/3 = 0.333", "3/3 = 1.000", "discovery probability (dimensionless)"],
+    );
     assert!(f.caption.contains("only 4 distinct values"), "{}", f.caption);
     assert!(f.caption.contains("Each cell holds 3 trials"), "{}", f.caption);
     // Many values: the continuous bar, with its ticks from 0 to the largest value.
     let smooth = angle_map(4, 6, None, |i, j| 0.01 * (i * 6 + j) as f64);
     let f = bias::bias_map(&smooth).unwrap();
     assert!(!f.svg.contains(" = 0."), "a continuous map has no discrete key");
-    assert!(f.caption.contains("linear from 0 to the largest value, 0.350"), "{}", f.caption);
+    assert!(
+        f.caption.contains("linear from 0 to the largest value, 0.350"),
+        "{}",
+        f.caption
+    );
 }
 
 #[test]
@@ -867,7 +874,11 @@ fn the_catalogue_map_adds_the_objects_maps_with_their_weights() {
     for cell in &sum.cells {
         let (i, j) = ((cell.x_min / 90.0) as usize, (cell.y_min / 90.0) as usize);
         let expected = 2.0 * 0.1 * i as f64 + 0.5 * 0.2 * j as f64 + 0.25 * 0.4;
-        assert!((cell.value - expected).abs() < 1e-12, "cell ({i}, {j}): {} vs {expected}", cell.value);
+        assert!(
+            (cell.value - expected).abs() < 1e-12,
+            "cell ({i}, {j}): {} vs {expected}",
+            cell.value
+        );
     }
 }
 
@@ -881,7 +892,11 @@ fn rose_wedges_outside_the_band_are_named_and_the_median_is_one_line() {
             min_deg: 30.0 * k as f64,
             max_deg: 30.0 * (k + 1) as f64,
             observed: observed[k],
-            null: if k == 2 { band(1.0, 2.0, 4.0) } else { band(0.0, 1.0, 3.0) },
+            null: if k == 2 {
+                band(1.0, 2.0, 4.0)
+            } else {
+                band(0.0, 1.0, 3.0)
+            },
         })
         .collect();
     let f = rose::rose("node_deg", &bins, rose::Band::BiasAware, "").unwrap();
@@ -896,7 +911,11 @@ fn rose_wedges_outside_the_band_are_named_and_the_median_is_one_line() {
     );
     assert!(f.caption.contains("above the band (1 of 12 bins)"), "{}", f.caption);
     assert!(f.caption.contains("below it (1;"), "{}", f.caption);
-    assert!(f.caption.contains("9 objects in 12 bins, fewer objects than bins"), "{}", f.caption);
+    assert!(
+        f.caption.contains("9 objects in 12 bins, fewer objects than bins"),
+        "{}",
+        f.caption
+    );
     // The median is one line round the circle (the other dark line of width 2 is the key's).
     let median_lines = f
         .svg
@@ -904,7 +923,13 @@ fn rose_wedges_outside_the_band_are_named_and_the_median_is_one_line() {
         .count();
     assert_eq!(median_lines, 2, "the median must be one continuous line");
     // More objects than bins: no caution.
-    let many: Vec<RoseBin> = bins.iter().map(|b| RoseBin { observed: 3.0, ..b.clone() }).collect();
+    let many: Vec<RoseBin> = bins
+        .iter()
+        .map(|b| RoseBin {
+            observed: 3.0,
+            ..b.clone()
+        })
+        .collect();
     let f = rose::rose("node_deg", &many, rose::Band::BiasAware, "").unwrap();
     assert!(!f.caption.contains("fewer objects than bins"), "{}", f.caption);
 }
@@ -935,7 +960,11 @@ fn cluster_run(d: &Path, observed: f64) {
         "bias_map.csv",
         "id,varpi_lo_deg,varpi_hi_deg,node_lo_deg,node_hi_deg,trials,p_discover\n1,0,180,0,360,4,0.25\n1,180,360,0,360,4,0.5\n2,0,180,0,360,4,0.75\n2,180,360,0,360,4,0\n",
     );
-    common::write(d, "map_objects.csv", "id,varpi_deg,node_deg,weight\n1,30,40,2\n2,200,100,0.5\n");
+    common::write(
+        d,
+        "map_objects.csv",
+        "id,varpi_deg,node_deg,weight\n1,30,40,2\n2,200,100,0.5\n",
+    );
 }
 
 #[test]
@@ -947,8 +976,14 @@ fn two_cluster_test_runs_side_by_side_never_share_a_figure() {
     run_ok(&["report", d.to_str().unwrap()]);
     let html = std::fs::read_to_string(d.join("index.html")).unwrap();
     for run in ["first", "second"] {
-        assert!(html.contains(&format!("<h2>Clustering test: {run}</h2>")), "no section of {run}");
-        assert!(html.contains(&format!("From run {run}:")), "section does not name {run}");
+        assert!(
+            html.contains(&format!("<h2>Clustering test: {run}</h2>")),
+            "no section of {run}"
+        );
+        assert!(
+            html.contains(&format!("From run {run}:")),
+            "section does not name {run}"
+        );
     }
     assert!(!html.contains(">.<") && !html.contains("run .:"), "a run called \".\"");
     let fig = |name: &str| std::fs::read_to_string(d.join("figures").join(name)).unwrap();
@@ -959,10 +994,15 @@ fn two_cluster_test_runs_side_by_side_never_share_a_figure() {
         "bias_map_varpi_deg_node_deg_1",
     ] {
         let (a, b) = (fig(&format!("first_{stem}.svg")), fig(&format!("second_{stem}.svg")));
-        assert!(html.contains(&format!("figures/first_{stem}.svg")) && html.contains(&format!("figures/second_{stem}.svg")));
+        assert!(
+            html.contains(&format!("figures/first_{stem}.svg")) && html.contains(&format!("figures/second_{stem}.svg"))
+        );
         if stem.starts_with("cluster_null") {
             // Each null figure carries its own run's observed value.
-            assert!(a.contains("0.1250") && !a.contains("0.8750"), "first run's figure shows the second's value");
+            assert!(
+                a.contains("0.1250") && !a.contains("0.8750"),
+                "first run's figure shows the second's value"
+            );
             assert!(b.contains("0.8750") && !b.contains("0.1250"));
         }
     }

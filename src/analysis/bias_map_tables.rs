@@ -4,6 +4,7 @@
 //! reads maps back through `read`, and `seine report` reads any map table through `read_cells`
 //! (which also takes the documented hand-made layout `X_min, X_max, Y_min, Y_max, fraction`).
 
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
@@ -30,6 +31,13 @@ const DISCOVERED: &str = "discovered";
 const P_DISCOVER: &str = "p_discover";
 const NODE: &str = "node";
 const WEIGHT: &str = "weight";
+/// The object each map was made for, beside its id: the quantities a map depends on that the
+/// trials keep (the angles and the mean anomaly are drawn). A map read back for a catalogue is
+/// checked against them, so that a map of another catalogue's object of the same id is refused.
+const OBJECT_COLUMNS: [&str; 4] = ["a_au", "e", "inc_deg", "h_mag"];
+/// Relative agreement asked of those quantities: a CSV round trip keeps them to the last digit,
+/// so only a different object differs by more (common practice, no source).
+const SAME_OBJECT_RTOL: f64 = 1e-9;
 /// The value columns a map table may carry, in order of preference: the hand-made layout's
 /// `fraction` or `probability`, or `p_discover` as `seine bias-map` writes it.
 const VALUE_COLUMNS: [&str; 3] = ["fraction", "probability", P_DISCOVER];
@@ -49,35 +57,59 @@ pub struct MappedObject {
     pub weight: f64,
 }
 
-impl MappedObject {
-    /// The objects of catalogue rows `rows` on maps of `axes`.
-    pub fn of(objects: &ObjectTable, rows: std::ops::Range<usize>, axes: MapAxes) -> Vec<MappedObject> {
-        rows.map(|i| {
-            let el = &objects.elements[i];
-            MappedObject {
-                id: objects.ids[i],
-                x_deg: axes.x_of(el).to_degrees(),
-                node_deg: el.node_rad.rem_euclid(std::f64::consts::TAU).to_degrees(),
-                weight: objects.weight[i],
-            }
-        })
-        .collect()
-    }
+/// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` of maps made for objects of
+/// `objects`; returns the three paths.
+pub fn write(out: &OutDir, maps: &[BiasMap], objects: &ObjectTable) -> Result<[PathBuf; 3]> {
+    let mut columns = map_columns(maps);
+    columns.extend(object_columns(maps, objects));
+    Ok([
+        out.write(MAPS, columns)?,
+        out.write(FOUND, found_columns(maps))?,
+        out.write(OBJECTS, mapped_columns(x_name(maps), &mapped_objects(maps, objects)))?,
+    ])
 }
 
-/// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` (the objects `mapped`, on
-/// the maps' axes); returns the three paths.
-pub fn write(out: &OutDir, maps: &[BiasMap], mapped: &[MappedObject]) -> Result<[PathBuf; 3]> {
-    Ok([
-        out.write(MAPS, map_columns(maps))?,
-        out.write(FOUND, found_columns(maps))?,
-        out.write(OBJECTS, object_columns(x_name(maps), mapped))?,
-    ])
+/// Each map's object: its own angles on the map's axes and its weight.
+fn mapped_objects(maps: &[BiasMap], objects: &ObjectTable) -> Vec<MappedObject> {
+    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    maps.iter()
+        .filter_map(|m| {
+            let r = *row_of.get(&m.id)?;
+            let el = &objects.elements[r];
+            Some(MappedObject {
+                id: m.id,
+                x_deg: m.grid.axes.x_of(el).to_degrees(),
+                node_deg: el.node_rad.rem_euclid(std::f64::consts::TAU).to_degrees(),
+                weight: objects.weight[r],
+            })
+        })
+        .collect()
+}
+
+/// The values of `OBJECT_COLUMNS` of one catalogue row.
+fn object_key(objects: &ObjectTable, row: usize) -> [f64; 4] {
+    let el = &objects.elements[row];
+    [el.a_au, el.e, el.inc_rad.to_degrees(), objects.h_mag[row]]
+}
+
+/// `a_au, e, inc_deg, h_mag` of each map's object, repeated on each of its cells.
+fn object_columns(maps: &[BiasMap], objects: &ObjectTable) -> Vec<Column> {
+    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    let keys: Vec<[f64; 4]> = maps
+        .iter()
+        .flat_map(|m| {
+            let key = row_of.get(&m.id).map_or([f64::NAN; 4], |r| object_key(objects, *r));
+            std::iter::repeat_n(key, m.trials.len())
+        })
+        .collect();
+    (0..OBJECT_COLUMNS.len())
+        .map(|k| col(OBJECT_COLUMNS[k], keys.iter().map(|v| v[k]).collect::<Vec<f64>>()))
+        .collect()
 }
 
 /// `map_objects`: one row per mapped object, `id, varpi_deg` (or `argperi_deg`), `node_deg`,
 /// `weight`.
-fn object_columns(x: &str, mapped: &[MappedObject]) -> Vec<Column> {
+fn mapped_columns(x: &str, mapped: &[MappedObject]) -> Vec<Column> {
     let each = |f: fn(&MappedObject) -> f64| mapped.iter().map(f).collect::<Vec<f64>>();
     vec![
         col(ID, mapped.iter().map(|m| m.id).collect::<Vec<i64>>()),
@@ -102,7 +134,12 @@ pub fn read_objects(map_table: &Path) -> Result<Option<Vec<MappedObject>>> {
     let x_col = ["varpi_deg", "argperi_deg"]
         .into_iter()
         .find(|n| c.has(n))
-        .ok_or_else(|| Error::input(format!("{}: expected a column varpi_deg or argperi_deg", path.display())))?;
+        .ok_or_else(|| {
+            Error::input(format!(
+                "{}: expected a column varpi_deg or argperi_deg",
+                path.display()
+            ))
+        })?;
     let (ids, x, node) = (c.i64(ID)?, c.f64(x_col)?, c.f64(&node_col)?);
     let weight = if c.has(WEIGHT) {
         c.f64(WEIGHT)?
@@ -190,10 +227,12 @@ fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
 }
 
 /// Read a table written by `seine bias-map` back into maps, one per id, with the discovered
-/// trials' angles of `map_discoveries.*` beside it when there is that file.
-pub fn read(path: &Path) -> Result<Vec<BiasMap>> {
+/// trials' angles of `map_discoveries.*` beside it when there is that file. Every map whose id
+/// is in `catalog` must have been made for that very object (same a, e, i and H).
+pub fn read(path: &Path, catalog: &ObjectTable) -> Result<Vec<BiasMap>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
+    check_same_objects(path, &c, catalog)?;
     let axes = if c.has(&lo_deg(MapAxes::VarpiNode.x_name())) {
         MapAxes::VarpiNode
     } else {
@@ -222,6 +261,44 @@ pub fn read(path: &Path) -> Result<Vec<BiasMap>> {
     }
     read_found(path, &mut maps)?;
     Ok(maps)
+}
+
+/// Refuse a map table whose rows describe another object than the catalogue's of the same id.
+fn check_same_objects(path: &Path, c: &Columns, catalog: &ObjectTable) -> Result<()> {
+    let ids = c.i64(ID)?;
+    let values = OBJECT_COLUMNS
+        .iter()
+        .map(|name| {
+            if c.has(name) {
+                c.f64(name)
+            } else {
+                Err(Error::input(format!(
+                    "{}: no column `{name}`: the maps must name the object each was made for \
+                     (a_au, e, inc_deg, h_mag); make them again with `seine bias-map`",
+                    path.display()
+                )))
+            }
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let row_of: HashMap<i64, usize> = catalog.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    for (r, id) in ids.iter().enumerate() {
+        let Some(row) = row_of.get(id) else { continue };
+        let want = object_key(catalog, *row);
+        for k in 0..OBJECT_COLUMNS.len() {
+            let got = values[k][r];
+            if (got - want[k]).abs() > SAME_OBJECT_RTOL * want[k].abs().max(1.0) || got.is_nan() {
+                return Err(c.bad_value(
+                    r,
+                    OBJECT_COLUMNS[k],
+                    &format!(
+                        "{} = {} as in the catalogue for id {id} (these maps were made for another object of that id)",
+                        OBJECT_COLUMNS[k], want[k]
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The discovered trials' angles from `map_discoveries.*` beside a map table, when there is
@@ -301,11 +378,7 @@ pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
     } else {
         vec![None; v.len()]
     };
-    let trials = if c.has(TRIALS) {
-        Some(c.i64(TRIALS)?)
-    } else {
-        None
-    };
+    let trials = if c.has(TRIALS) { Some(c.i64(TRIALS)?) } else { None };
     let mut maps: Vec<MapCells> = Vec::new();
     for i in 0..v.len() {
         if maps.last().is_none_or(|m| m.id != ids[i]) {

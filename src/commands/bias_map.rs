@@ -144,8 +144,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let maps = opts
         .maps
         .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
-    let mapped = bias_map_tables::MappedObject::of(&objects, rows.clone(), opts.maps.grid.axes);
-    let [table, found, own] = bias_map_tables::write(&out, &maps, &mapped)?;
+    let [table, found, own] = bias_map_tables::write(&out, &maps, &objects)?;
     if opts.svg {
         write_svgs(opts, &objects, rows, &maps)?;
     }

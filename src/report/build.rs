@@ -11,8 +11,7 @@ use super::figures::catalogue_map::{self, Summed};
 use super::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey as survey_fig};
 use super::inputs::{self, ClusteringRun, Inputs, MapSet, ObserveRun, Skipped, effort_of, fraction_bins};
 use super::tables::{
-    CadenceRow, EfficiencyCurve, FitNull, FractionBin, HeatMap, ObjectChance, PlanYield, SelectionCell,
-    WeightedSample,
+    CadenceRow, EfficiencyCurve, FitNull, FractionBin, HeatMap, ObjectChance, PlanYield, SelectionCell, WeightedSample,
 };
 use crate::analysis::binomial::{Proportion, Tally};
 use crate::analysis::comparison;
@@ -798,12 +797,7 @@ const OBJECT_MAPS: usize = 6;
 fn map_figures(dir: &Path, set: &MapSet, notes: &mut Vec<String>) -> Result<Vec<Figure>> {
     let mut figures = Vec::new();
     let objects = set.objects.as_deref().unwrap_or_default();
-    let weight_of = |id: Option<i64>| {
-        objects
-            .iter()
-            .find(|o| Some(o.id) == id)
-            .map_or(1.0, |o| o.weight)
-    };
+    let weight_of = |id: Option<i64>| objects.iter().find(|o| Some(o.id) == id).map_or(1.0, |o| o.weight);
     let known = !objects.is_empty() && set.maps.iter().all(|m| objects.iter().any(|o| Some(o.id) == m.id));
     if set.maps.len() > 1 || !objects.is_empty() {
         let value = "weighted sum of discovery probabilities";
@@ -813,7 +807,12 @@ fn map_figures(dir: &Path, set: &MapSet, notes: &mut Vec<String>) -> Result<Vec<
                 total_weight: set.maps.iter().map(|m| weight_of(m.id)).sum(),
                 weights_known: known,
             };
-            figures.push(catalogue_map::catalogue_map(&sum, objects, &how, &href(dir, &set.path))?);
+            figures.push(catalogue_map::catalogue_map(
+                &sum,
+                objects,
+                &how,
+                &href(dir, &set.path),
+            )?);
         }
     }
     if set.objects.is_none() && set.maps.len() > 1 {

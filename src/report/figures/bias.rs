@@ -140,12 +140,11 @@ pub(crate) fn draw_cells(area: &Area, map: &HeatMap, scale: &Scale, marks: &[(f6
         fold(|c| c.y_max, f64::MIN, f64::max),
     );
     let mut chart = axes::chart(area, x0..x1, y0..y1)?;
-    chart.draw_series(map.cells.iter().map(|c| {
-        Rectangle::new(
-            [(c.x_min, c.y_min), (c.x_max, c.y_max)],
-            scale.colour(c.value).filled(),
-        )
-    }))?;
+    chart.draw_series(
+        map.cells
+            .iter()
+            .map(|c| Rectangle::new([(c.x_min, c.y_min), (c.x_max, c.y_max)], scale.colour(c.value).filled())),
+    )?;
     axes::mesh(&mut chart, &label(&map.x), &label(&map.y))?;
     // A white halo under each dark cross keeps it legible on dark and pale cells alike.
     for (width, colour) in [(5, style::PAPER), (2, style::series(1))] {

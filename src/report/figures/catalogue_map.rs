@@ -30,8 +30,7 @@ pub fn catalogue_map(sum: &HeatMap, marks: &[MappedObject], how: &Summed, source
         "each with weight 1 (the objects' weights were not found beside the maps)".into()
     };
     let marked = if marks.is_empty() {
-        "The objects' own angles were not found beside the maps (map_objects.*), so they are not marked."
-            .to_string()
+        "The objects' own angles were not found beside the maps (map_objects.*), so they are not marked.".to_string()
     } else {
         format!(
             "Crosses: the {} objects' own {sx} and {sy}. Where they sit on the dark cells, the \

@@ -247,7 +247,6 @@ fn circular(area: &Area, cat: &WeightedSample, models: &[WeightedSample], n: f64
     Ok(())
 }
 
-
 /// Bins of the goodness-of-fit histogram.
 const NULL_BINS: usize = 40;
 

@@ -265,10 +265,16 @@ fn draw_band_lines(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
     }
     // Last, so that the median cannot hide it: an empty bin below its band has no wedge to
     // colour, so the band's lower edge is drawn in the below-band colour instead.
-    for b in bins.iter().filter(|b| b.observed <= 0.0 && Against::of(b) == Against::Below) {
+    for b in bins
+        .iter()
+        .filter(|b| b.observed <= 0.0 && Against::of(b) == Against::Below)
+    {
         let lo = b.null.map_or(0.0, |n| n.lo);
         let pts: Vec<_> = arc(b.min_deg, b.max_deg, radius(lo)).collect();
-        chart.draw_series(std::iter::once(PathElement::new(pts, Against::Below.edge().stroke_width(5))))?;
+        chart.draw_series(std::iter::once(PathElement::new(
+            pts,
+            Against::Below.edge().stroke_width(5),
+        )))?;
     }
     Ok(())
 }
@@ -303,7 +309,10 @@ fn draw_key(area: &crate::report::figure::Area, band: Band) -> DrawResult {
     for (k, (kind, name)) in kinds.into_iter().enumerate() {
         let y = y0 + dy * k as i32;
         area.draw(&Rectangle::new([(x0, y - 6), (x0 + 20, y + 6)], kind.fill().filled()))?;
-        area.draw(&Rectangle::new([(x0, y - 6), (x0 + 20, y + 6)], kind.edge().stroke_width(1)))?;
+        area.draw(&Rectangle::new(
+            [(x0, y - 6), (x0 + 20, y + 6)],
+            kind.edge().stroke_width(1),
+        ))?;
         area.draw(&Text::new(name, (x0 + 28, y), text.clone()))?;
     }
     area.draw(&Rectangle::new(
