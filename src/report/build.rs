@@ -384,11 +384,7 @@ const FIRST_DISCOVERIES: usize = 10;
 /// and how the discoveries were made, and the first of them.
 fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> {
     let name = label(dir, &run.dir);
-    let prefix = if inp.runs.len() > 1 || run.dir != dir {
-        format!("{}_", slug(&name))
-    } else {
-        String::new()
-    };
+    let prefix = figure_prefix(dir, &run.dir, inp.runs.len());
     let o = &run.objects;
     let pick = |xs: &[f64]| -> Vec<f64> {
         xs.iter()
@@ -735,11 +731,7 @@ fn yield_table(rows: &[PlanYield]) -> Table {
 /// are named by the run, so two runs side by side never share one.
 fn clustering_section(dir: &Path, inp: &Inputs, run: &ClusteringRun) -> Result<Section> {
     let name = label(dir, &run.dir);
-    let prefix = if inp.clustering.len() > 1 || run.dir != dir {
-        format!("{}_", slug(&name))
-    } else {
-        String::new()
-    };
+    let prefix = figure_prefix(dir, &run.dir, inp.clustering.len());
     let mut figures = Vec::new();
     let mut notes = Vec::new();
     for set in &run.maps {
@@ -860,6 +852,16 @@ fn cluster_table(name: &str, tests: &[super::tables::NullTest]) -> Table {
             })
             .collect(),
         link: None,
+    }
+}
+
+/// The prefix of the figures of a run in `run_dir`, one of `runs` of its kind: its label as a
+/// file-name-safe word, or none for the only run when it is the report's own directory.
+fn figure_prefix(dir: &Path, run_dir: &Path, runs: usize) -> String {
+    if runs > 1 || run_dir != dir {
+        format!("{}_", slug(&label(dir, run_dir)))
+    } else {
+        String::new()
     }
 }
 
