@@ -11,9 +11,9 @@ use polars::prelude::Column;
 
 use super::bias_map::{BiasMap, MapAxes, MapGrid};
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
+use crate::population::objects::ObjectTable;
 
 /// File stem of the map table: `DIR/bias_map.parquet` (or `.csv`).
 pub const MAPS: &str = "bias_map";

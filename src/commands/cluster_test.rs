@@ -14,7 +14,7 @@ use crate::analysis::{bias_map_tables, cluster_tables};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 
 /// The options of `seine cluster-test`.
 #[derive(Debug, Clone)]
