@@ -85,7 +85,10 @@ fn tutorial_bias_check_runs() {
         assert!(html.contains(&format!("figures/{f}.svg")), "bias/index.html lacks {f}");
     }
     for section in ["Bias maps: maps", "Clustering test: cluster"] {
-        assert!(html.contains(&format!("<h2>{section}</h2>")), "bias/index.html lacks {section}");
+        assert!(
+            html.contains(&format!("<h2>{section}</h2>")),
+            "bias/index.html lacks {section}"
+        );
     }
     assert!(html.contains("the bias-aware null") && html.contains("Cluster test cluster: each statistic"));
     for f in ["cluster_test", "cluster_null", "rose"] {
