@@ -23,6 +23,7 @@ const LAYERS: &[(&str, &[&str])] = &[
             "progress",
             "budget",
             "interrupt",
+            "statistics",
         ],
     ),
     ("tables", &["io", "ranges"]),
