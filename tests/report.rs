@@ -72,12 +72,32 @@ fn distributions_and_fractions_have_units() {
     let a = ramp(500, 30.0, 900.0);
     let found: Vec<f64> = a.iter().copied().step_by(17).collect();
     check(
-        &distributions::injected_vs_discovered("a_au", &a, &found, "").unwrap(),
+        &distributions::injected_vs_discovered(
+            "a_au",
+            (&a, &vec![1.0; a.len()]),
+            (&found, &vec![1.0; found.len()]),
+            "",
+        )
+        .unwrap(),
         &["semi-major axis a (AU)", "objects per bin"],
     );
+    // Weights count: every object at weight 2 doubles the curves and the caption says so.
+    let two = |n: usize| vec![2.0; n];
+    let weighted =
+        distributions::injected_vs_discovered("a_au", (&a, &two(a.len())), (&found, &two(found.len())), "").unwrap();
+    let plain =
+        distributions::injected_vs_discovered("a_au", (&a, &vec![1.0; a.len()]), (&found, &vec![1.0; found.len()]), "")
+            .unwrap();
+    assert!(
+        weighted.caption.contains("total weight injected 1000.0000"),
+        "{}",
+        weighted.caption
+    );
+    assert!(!plain.caption.contains("total weight"));
+    assert_ne!(weighted.svg, plain.svg, "weights do not change the histograms");
     let h = ramp(500, 4.0, 10.0);
     check(
-        &distributions::injected_vs_discovered("h_mag", &h, &h[..5], "").unwrap(),
+        &distributions::injected_vs_discovered("h_mag", (&h, &vec![1.0; h.len()]), (&h[..5], &[1.0; 5]), "").unwrap(),
         &["absolute magnitude H (mag)"],
     );
     let bins: Vec<FractionBin> = (0..8)
@@ -106,7 +126,7 @@ fn distributions_and_fractions_have_units() {
 #[test]
 fn empty_tables_still_make_a_figure() {
     check(
-        &distributions::injected_vs_discovered("q_au", &[], &[], "").unwrap(),
+        &distributions::injected_vs_discovered("q_au", (&[], &[]), (&[], &[]), "").unwrap(),
         &["no objects"],
     );
     check(

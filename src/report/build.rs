@@ -393,19 +393,37 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
             .map(|(x, _)| *x)
             .collect()
     };
-    let found_r: Vec<f64> = o.discovery_r_au.iter().flatten().copied().collect();
-    let mut figures = vec![
-        distributions::injected_vs_discovered("a_au", &o.a_au, &pick(&o.a_au), "")?,
-        distributions::injected_vs_discovered("q_au", &o.q_au, &pick(&o.q_au), "")?,
-        distributions::injected_vs_discovered("inc_deg", &o.inc_deg, &pick(&o.inc_deg), "")?,
-        distributions::injected_vs_discovered("h_mag", &o.h_mag, &pick(&o.h_mag), "")?,
-        distributions::injected_vs_discovered(
-            "r_au",
-            &o.r_au,
-            &found_r,
-            "Injected: distance from the Sun at the element epoch; discovered: distance at discovery.",
-        )?,
-    ];
+    // Weights go with the values they weigh: the discovered objects', and those with a
+    // distance at discovery.
+    let w = &o.weight;
+    let (found_w, found_r): (Vec<f64>, Vec<f64>) = o
+        .discovery_r_au
+        .iter()
+        .zip(w)
+        .filter_map(|(r, w)| r.map(|r| (*w, r)))
+        .unzip();
+    let found_weights = pick(w);
+    let mut figures = Vec::new();
+    for (q, xs) in [
+        ("a_au", &o.a_au),
+        ("q_au", &o.q_au),
+        ("inc_deg", &o.inc_deg),
+        ("h_mag", &o.h_mag),
+    ] {
+        let found = pick(xs);
+        figures.push(distributions::injected_vs_discovered(
+            q,
+            (xs, w),
+            (&found, &found_weights),
+            "",
+        )?);
+    }
+    figures.push(distributions::injected_vs_discovered(
+        "r_au",
+        (&o.r_au, w),
+        (&found_r, &found_w),
+        "Injected: distance from the Sun at the element epoch; discovered: distance at discovery.",
+    )?);
     for q in ["a_au", "h_mag"] {
         figures.push(distributions::discovered_fraction(q, &fraction_bins(run, q))?);
     }
