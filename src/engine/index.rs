@@ -20,23 +20,19 @@ use std::f64::consts::{FRAC_PI_2, PI};
 use nalgebra::Vector3;
 use rayon::prelude::*;
 
+use super::motion::{BLOCK_DAYS, OBSERVER_SPEED, speed_bound};
 use super::reach::Reach;
 use super::stripes::{Cone, Stripes};
 use super::track::Track;
 use crate::foundation::constants::C_AU_PER_DAY;
-use crate::orbit::{Center, Elements, Orbit};
+use crate::orbit::{Center, Orbit};
 use crate::sky::earth::EarthSource;
 use crate::sky::observer::ObserverState;
 use crate::survey::Survey;
 use crate::time::{MjdTdb, MjdUtc};
 
-/// Block length in days: short enough that a 30 AU object moves < 0.15° from its node,
-/// long enough that node positions cost little next to the in-field work.
-pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
 const SITE_OFFSET_AU: f64 = 6400.0 / crate::foundation::constants::AU_KM;
-/// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
-pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).
 const EPSILON: f64 = 1e-6;
 
@@ -249,17 +245,6 @@ impl BlockCap {
         let c = dir.dot(&self.center);
         let below = self.radius <= FRAC_PI_2 && c < self.cos_radius * (1.0 - 0.5 * r * r) - self.sin_radius * r - 1e-12;
         !below && c >= reach.cos()
-    }
-}
-
-/// The largest speed an object can have about the barycentre, AU/day: its speed at
-/// perihelion, √(GM (1 + e) / q) (vis-viva, the largest on the orbit), plus the Sun's
-/// barycentric speed for heliocentric elements.
-pub(crate) fn speed_bound(el: &Elements) -> f64 {
-    let v_q = (el.center.gm() * (1.0 + el.e) / el.q_au()).sqrt();
-    match el.center {
-        Center::Heliocentric => v_q + 2.0e-5,
-        Center::Barycentric => v_q,
     }
 }
 

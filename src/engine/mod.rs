@@ -13,6 +13,7 @@
 pub mod discoveries;
 pub mod index;
 pub mod merge;
+pub mod motion;
 pub mod outcome;
 pub mod outputs;
 pub mod parts;
