@@ -201,6 +201,27 @@ fn bias_map_then_cluster_test_and_the_same_in_one_step() {
         .concat(),
     );
     assert_eq!(a, csv_col(&d.path().join("ct3/cluster_test.csv"), "p_bias_aware"));
+    // Another catalogue whose ids overlap (id 13 is another object): its maps are refused,
+    // naming the id, and nothing is written.
+    let other = std::fs::read_to_string(d.path().join("catalog.csv"))
+        .unwrap()
+        .replace("\n13,54,", "\n13,61,");
+    std::fs::write(d.path().join("other.csv"), other).unwrap();
+    let o = seine(&[
+        "cluster-test",
+        "--bias-map",
+        &p("bm/bias_map.csv"),
+        "--catalog",
+        &p("other.csv"),
+        "--trials",
+        "300",
+        "--out",
+        &p("ct4"),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let msg = stderr(&o);
+    assert!(msg.contains("a_au") && msg.contains("id 13"), "{msg}");
+    assert!(!d.path().join("ct4").exists());
 }
 
 #[test]

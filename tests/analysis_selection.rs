@@ -11,7 +11,7 @@ use rand::{RngExt, SeedableRng};
 use rand_pcg::Pcg64;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, bias_maps};
 use seine::engine::PreparedSurvey;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 
 /// A strongly lopsided survey: four 10° fields on the ecliptic at λ = 0–45°, observed on a
 /// few nights around opposition of that patch in two years, shallow enough that eccentric

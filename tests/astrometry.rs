@@ -4,9 +4,9 @@ mod common;
 
 use common::{Fixture, fixture};
 use nalgebra::Vector3;
-use seine::io::objects::ObjectTable;
 use seine::orbit::{Center, Elements, Orbit};
 use seine::population::ephemeris::ephemeris_table;
+use seine::population::objects::ObjectTable;
 use seine::sky::apparent::observe;
 use seine::sky::earth::{EarthSun, earth_sun_exact};
 use seine::sky::observer::{ObserverState, Site};

@@ -30,7 +30,7 @@ use rayon::prelude::*;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, bias_maps};
 use seine::analysis::cluster_test::{Angles, Cut, TestOptions, cluster_test};
 use seine::engine::PreparedSurvey;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 
 /// Null catalogues per case (the brief asks for at least 500).
 const NULLS: usize = 1000;

@@ -270,7 +270,7 @@ fn example_specs_draw_valid_objects_tables() {
             &["--count", "2000"]
         };
         ok(&draw(&spec, &out, count));
-        let t = seine::io::objects::ObjectTable::read(&out).unwrap();
+        let t = seine::population::objects::ObjectTable::read(&out).unwrap();
         assert!(t.len() >= 100, "{}", spec.display());
         n += 1;
     }

@@ -14,10 +14,10 @@ use std::sync::mpsc;
 use std::time::Duration;
 
 use proptest::prelude::*;
-use seine::io::objects::ObjectTable;
 use seine::orbit::kepler::{eccentric_anomaly, mean_from_eccentric};
 use seine::orbit::{Center, Elements};
 use seine::population::Spec;
+use seine::population::objects::ObjectTable;
 use seine::survey::Survey;
 use seine::survey::planner::PlanFile;
 use seine::survey::spec::parse_toml;
@@ -345,7 +345,7 @@ proptest! {
         });
         within("mutated parquet shard", {
             let p = path.clone();
-            move || { let _ = seine::io::objects::ObjectSource::parquet(&p, Some((1, 2))); }
+            move || { let _ = seine::population::objects::ObjectSource::parquet(&p, Some((1, 2))); }
         });
         within("mutated parquet metadata", move || { let _ = seine::io::provenance::read_provenance(&path); });
     }

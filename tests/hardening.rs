@@ -451,7 +451,7 @@ fn extreme_distribution_parameters_draw_what_they_describe() {
     ]);
     assert!(o.status.success(), "{}", common::stderr(&o));
     assert!(started.elapsed().as_secs() < 60);
-    let t = seine::io::objects::ObjectTable::read(&out).unwrap();
+    let t = seine::population::objects::ObjectTable::read(&out).unwrap();
     let inc: Vec<f64> = t.elements.iter().map(|e| e.inc_rad.to_degrees()).collect();
     assert!(inc.iter().all(|i| (30.0..=40.0).contains(i)));
     // Far-tail mean ≈ lo + σ²/(lo − mean) = 30.3 (scipy: 30.294); not piled up at 40.
@@ -607,8 +607,8 @@ fn merges_check_their_shards() {
         .unwrap();
     assert!(o.status.success(), "{}", common::stderr(&o));
     let (m, whole) = (
-        seine::io::objects::ObjectTable::read(&c.dir.path().join("m.parquet")).unwrap(),
-        seine::io::objects::ObjectTable::read(&c.dir.path().join("whole.parquet")).unwrap(),
+        seine::population::objects::ObjectTable::read(&c.dir.path().join("m.parquet")).unwrap(),
+        seine::population::objects::ObjectTable::read(&c.dir.path().join("whole.parquet")).unwrap(),
     );
     assert_eq!(m.ids, whole.ids);
     assert_eq!(m.elements, whole.elements);
@@ -670,6 +670,23 @@ fn fit_options_outside_their_plausible_range_are_refused() {
         ]);
         c.fails(&a, &[option, range]);
     }
+}
+
+/// A clustering test of one object is refused before any map is made, leaving nothing.
+#[test]
+fn a_clustering_test_of_one_object_is_refused() {
+    let one = OBJECTS.lines().take(2).collect::<Vec<_>>().join("\n") + "\n";
+    let c = Case::new(&[("objects.csv", &one)]);
+    let a = args(&[
+        "cluster-test",
+        "--survey",
+        &c.p("survey.toml"),
+        "--catalog",
+        &c.p("objects.csv"),
+        "--out",
+        &c.p("out"),
+    ]);
+    c.fails(&a, &["objects.csv", "at least two"]);
 }
 
 /// Runaway jobs are refused before any work, with the estimate and the way out (--shard or

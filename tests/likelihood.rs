@@ -16,9 +16,9 @@ use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, s
 use seine::analysis::likelihood::{Bandwidth, Estimator, Kde, Kernel, ModelDensity};
 use seine::analysis::space::{Coordinate, Space};
 use seine::engine::PreparedSurvey;
-use seine::io::objects::ObjectTable;
 use seine::orbit::{Center, Elements};
 use seine::population::Spec;
+use seine::population::objects::ObjectTable;
 use seine::population::recenter::recenter;
 use seine::population::resonance::neptune_mean_longitude;
 

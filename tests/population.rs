@@ -4,8 +4,8 @@
 
 use std::path::Path;
 
-use seine::io::objects::ObjectTable;
 use seine::population::distribution::{Distribution, von_mises_mean_resultant_length};
+use seine::population::objects::ObjectTable;
 use seine::population::{Population, Spec};
 use seine::rng::{Purpose, object_stream};
 use statrs::distribution::{ContinuousCDF, Normal};

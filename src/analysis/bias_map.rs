@@ -18,8 +18,8 @@ use rayon::prelude::*;
 
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
-use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
+use crate::population::objects::ObjectTable;
 
 /// The angle on the map's first axis.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -4,6 +4,7 @@
 //! reads maps back through `read`, and `seine report` reads any map table through `read_cells`
 //! (which also takes the documented hand-made layout `X_min, X_max, Y_min, Y_max, fraction`).
 
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
@@ -12,6 +13,7 @@ use super::bias_map::{BiasMap, MapAxes, MapGrid};
 use crate::error::{Error, Result};
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
+use crate::population::objects::ObjectTable;
 
 /// File stem of the map table: `DIR/bias_map.parquet` (or `.csv`).
 pub const MAPS: &str = "bias_map";
@@ -26,6 +28,13 @@ const TRIALS: &str = "trials";
 const DISCOVERED: &str = "discovered";
 const P_DISCOVER: &str = "p_discover";
 const NODE: &str = "node";
+/// The object each map was made for, beside its id: the quantities a map depends on that the
+/// trials keep (the angles and the mean anomaly are drawn). A map read back for a catalogue is
+/// checked against them, so that a map of another catalogue's object of the same id is refused.
+const OBJECT_COLUMNS: [&str; 4] = ["a_au", "e", "inc_deg", "h_mag"];
+/// Relative agreement asked of those quantities: a CSV round trip keeps them to the last digit,
+/// so only a different object differs by more (common practice, no source).
+const SAME_OBJECT_RTOL: f64 = 1e-9;
 /// The value columns a map table may carry, in order of preference: the hand-made layout's
 /// `fraction` or `probability`, or `p_discover` as `seine bias-map` writes it.
 const VALUE_COLUMNS: [&str; 3] = ["fraction", "probability", P_DISCOVER];
@@ -35,12 +44,33 @@ pub fn is_map_table(name: &str) -> bool {
     name.starts_with(MAPS) && (name.ends_with(".csv") || name.ends_with(".parquet"))
 }
 
-/// Write `bias_map.*` and `map_discoveries.*`; returns both paths.
-pub fn write(out: &OutDir, maps: &[BiasMap]) -> Result<[PathBuf; 2]> {
-    Ok([
-        out.write(MAPS, map_columns(maps))?,
-        out.write(FOUND, found_columns(maps))?,
-    ])
+/// Write `bias_map.*` and `map_discoveries.*` of maps made for objects of `objects`; returns
+/// both paths.
+pub fn write(out: &OutDir, maps: &[BiasMap], objects: &ObjectTable) -> Result<[PathBuf; 2]> {
+    let mut columns = map_columns(maps);
+    columns.extend(object_columns(maps, objects));
+    Ok([out.write(MAPS, columns)?, out.write(FOUND, found_columns(maps))?])
+}
+
+/// The values of `OBJECT_COLUMNS` of one catalogue row.
+fn object_key(objects: &ObjectTable, row: usize) -> [f64; 4] {
+    let el = &objects.elements[row];
+    [el.a_au, el.e, el.inc_rad.to_degrees(), objects.h_mag[row]]
+}
+
+/// `a_au, e, inc_deg, h_mag` of each map's object, repeated on each of its cells.
+fn object_columns(maps: &[BiasMap], objects: &ObjectTable) -> Vec<Column> {
+    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    let keys: Vec<[f64; 4]> = maps
+        .iter()
+        .flat_map(|m| {
+            let key = row_of.get(&m.id).map_or([f64::NAN; 4], |r| object_key(objects, *r));
+            std::iter::repeat_n(key, m.trials.len())
+        })
+        .collect();
+    (0..OBJECT_COLUMNS.len())
+        .map(|k| col(OBJECT_COLUMNS[k], keys.iter().map(|v| v[k]).collect::<Vec<f64>>()))
+        .collect()
 }
 
 /// The first axis's name (`varpi` or `argperi`) of a list of maps.
@@ -109,10 +139,12 @@ fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
 }
 
 /// Read a table written by `seine bias-map` back into maps, one per id, with the discovered
-/// trials' angles of `map_discoveries.*` beside it when there is that file.
-pub fn read(path: &Path) -> Result<Vec<BiasMap>> {
+/// trials' angles of `map_discoveries.*` beside it when there is that file. Every map whose id
+/// is in `catalog` must have been made for that very object (same a, e, i and H).
+pub fn read(path: &Path, catalog: &ObjectTable) -> Result<Vec<BiasMap>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
+    check_same_objects(path, &c, catalog)?;
     let axes = if c.has(&lo_deg(MapAxes::VarpiNode.x_name())) {
         MapAxes::VarpiNode
     } else {
@@ -141,6 +173,44 @@ pub fn read(path: &Path) -> Result<Vec<BiasMap>> {
     }
     read_found(path, &mut maps)?;
     Ok(maps)
+}
+
+/// Refuse a map table whose rows describe another object than the catalogue's of the same id.
+fn check_same_objects(path: &Path, c: &Columns, catalog: &ObjectTable) -> Result<()> {
+    let ids = c.i64(ID)?;
+    let values = OBJECT_COLUMNS
+        .iter()
+        .map(|name| {
+            if c.has(name) {
+                c.f64(name)
+            } else {
+                Err(Error::input(format!(
+                    "{}: no column `{name}`: the maps must name the object each was made for \
+                     (a_au, e, inc_deg, h_mag); make them again with `seine bias-map`",
+                    path.display()
+                )))
+            }
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let row_of: HashMap<i64, usize> = catalog.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    for (r, id) in ids.iter().enumerate() {
+        let Some(row) = row_of.get(id) else { continue };
+        let want = object_key(catalog, *row);
+        for k in 0..OBJECT_COLUMNS.len() {
+            let got = values[k][r];
+            if (got - want[k]).abs() > SAME_OBJECT_RTOL * want[k].abs().max(1.0) || got.is_nan() {
+                return Err(c.bad_value(
+                    r,
+                    OBJECT_COLUMNS[k],
+                    &format!(
+                        "{} = {} as in the catalogue for id {id} (these maps were made for another object of that id)",
+                        OBJECT_COLUMNS[k], want[k]
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(())
 }
 
 /// The discovered trials' angles from `map_discoveries.*` beside a map table, when there is

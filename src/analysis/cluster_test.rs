@@ -32,7 +32,7 @@ use super::bias_map::{BiasMap, MapAxes, MapSampler};
 use super::circular::{self, MeanVector};
 use super::pooled_p::{fisher, min_p_statistic, upper_ranks};
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, splitmix64};
 
 /// The statistics with one value per sample, in the order of `Stats::values`.

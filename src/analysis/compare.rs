@@ -21,8 +21,8 @@ use super::marginals::{Statistic, WeightedEcdf};
 use super::space::{Coordinate, Space};
 use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
 use crate::orbit::Center;
+use crate::population::objects::ObjectTable;
 use crate::population::recenter::{recenter_table, table_frame};
 use crate::rng::{Purpose, object_stream, run_stream, splitmix64};
 

@@ -14,9 +14,9 @@ use super::binomial::Proportion;
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
 use crate::io::out_dir::{OutDir, col};
 use crate::orbit::Elements;
+use crate::population::objects::ObjectTable;
 
 /// Which angles besides the mean anomaly are redrawn uniformly in each trial.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

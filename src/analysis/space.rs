@@ -6,7 +6,7 @@
 use std::f64::consts::TAU;
 
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 
 /// How a density treats one coordinate.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -10,8 +10,8 @@
 use rand_pcg::Pcg64;
 
 use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
-use crate::io::objects::ObjectTable;
 use crate::orbit::Elements;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
 /// The id that gives trial `k` of `per_object` trials of object `id` its streams.

@@ -13,7 +13,7 @@ use rayon::prelude::*;
 
 use super::binomial::{Proportion, Tally};
 use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
 /// The default bin edges (comma-separated, as the options take them) of the distance at

@@ -12,8 +12,8 @@ use crate::analysis::binomial::pct;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
-use crate::io::objects::ObjectTable;
 use crate::io::table::write_atomic;
+use crate::population::objects::ObjectTable;
 use crate::shard::shard_rows;
 
 /// How the maps are gridded and how far each grows (shared with `cluster-test`).
@@ -144,7 +144,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let maps = opts
         .maps
         .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
-    let [table, found] = bias_map_tables::write(&out, &maps)?;
+    let [table, found] = bias_map_tables::write(&out, &maps, &objects)?;
     if opts.svg {
         write_svgs(opts, &objects, rows, &maps)?;
     }

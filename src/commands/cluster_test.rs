@@ -14,7 +14,7 @@ use crate::analysis::{bias_map_tables, cluster_tables};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 
 /// The options of `seine cluster-test`.
 #[derive(Debug, Clone)]
@@ -68,6 +68,14 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     let mut prov = opts.run.provenance();
     let (catalog, note) = read_catalogue(&opts.selection, &opts.catalog)?;
     prov.add_input(&opts.catalog)?;
+    if catalog.len() < 2 {
+        // Refused before the maps are made: they would cost minutes and test nothing.
+        return Err(Error::input(format!(
+            "{}: {} object(s) selected; the clustering test needs at least two",
+            opts.catalog.display(),
+            catalog.len()
+        )));
+    }
     opts.check_budget(catalog.len())?;
     let maps = catalogue_maps(opts, &catalog, &mut prov)?;
     let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
@@ -82,7 +90,7 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     let res = run_test(opts, &catalog, &maps)?;
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
-        bias_map_tables::write(&out, &maps)?;
+        bias_map_tables::write(&out, &maps, &catalog)?;
     }
     let [table, null, rose] = cluster_tables::write(&out, &res)?;
     let conclusion = conclude(&res, &undiscovered, &thin);
@@ -110,7 +118,7 @@ fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut P
     let mut maps = Vec::new();
     for p in &opts.bias_maps {
         prov.add_input(p)?;
-        maps.extend(bias_map_tables::read(p)?);
+        maps.extend(bias_map_tables::read(p, catalog)?);
     }
     order_maps(maps, catalog, first)
 }

@@ -10,8 +10,8 @@ use crate::analysis::comparison;
 use crate::analysis::space::Space;
 use crate::error::Result;
 use crate::fit::catalogue::Selection;
-use crate::io::objects::ObjectTable;
 use crate::orbit::Center;
+use crate::population::objects::ObjectTable;
 
 /// One model population: its name, objects table, and the number of real objects it stands for
 /// (for the extended likelihood).

@@ -14,7 +14,7 @@ use crate::engine::run::survey_key;
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::shard::shard_rows;
 
 /// What is measured: each catalogue object's chance, or a population's selection function.

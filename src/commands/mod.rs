@@ -94,7 +94,7 @@ pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<Prep
 pub fn read_catalogue(
     selection: &crate::fit::catalogue::Selection,
     path: &Path,
-) -> Result<(crate::io::objects::ObjectTable, Option<String>)> {
+) -> Result<(crate::population::objects::ObjectTable, Option<String>)> {
     let (table, left_out) = selection.read(path)?;
     let note = (!selection.is_plain()).then(|| {
         format!(

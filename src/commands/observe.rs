@@ -13,8 +13,8 @@ use crate::engine::{Candidates, ObserveOptions};
 use crate::error::Result;
 use crate::fit::FitOptions;
 use crate::io::Provenance;
-use crate::io::objects::{ObjectSource, ObjectTable};
 use crate::io::table::Format;
+use crate::population::objects::{ObjectSource, ObjectTable};
 
 /// The options of `seine observe`.
 #[derive(Debug, Clone)]

@@ -11,7 +11,7 @@ use crate::analysis::yield_tables::{self, cadence_rows, population_name};
 use crate::analysis::yields::yields;
 use crate::error::{Error, Result};
 use crate::io::Provenance;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::survey::plan_io::PlanOutputs;
 
 /// The options of `seine yield`.

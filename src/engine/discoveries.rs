@@ -18,9 +18,9 @@ use std::path::{Path, PathBuf};
 use polars::prelude::*;
 
 use crate::error::{Error, Result, io_at};
-use crate::io::objects::ObjectTable;
 use crate::io::provenance::Provenance;
 use crate::io::table::{Columns, Format, read_table, write_table};
+use crate::population::objects::ObjectTable;
 
 /// File stem: `DIR/discoveries.parquet` (or `.csv`).
 pub const STEM: &str = "discoveries";

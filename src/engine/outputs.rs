@@ -7,8 +7,8 @@
 use std::path::{Path, PathBuf};
 
 use crate::error::Result;
-use crate::io::objects::ObjectTable;
 use crate::io::table::{Columns, Format, read_table};
+use crate::population::objects::ObjectTable;
 
 /// File stems of the two tables, and the summary's file name.
 pub const OBJECTS: &str = "objects";

@@ -13,8 +13,8 @@ use rand_pcg::Pcg64;
 
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::{Event, ObjectOutcome, SurveyOutcome};
-use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
+use crate::population::objects::ObjectTable;
 use crate::rng::substream;
 use crate::sky::apparent::{direction_from, observe_from};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};

@@ -23,8 +23,8 @@
 
 use super::index::{OBSERVER_SPEED, speed_bound};
 use crate::foundation::constants::C_AU_PER_DAY;
-use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
+use crate::population::objects::ObjectTable;
 use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 

@@ -17,10 +17,10 @@ use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256
 use super::pipeline::{StopRule, observe_object};
 use super::summary::Summary;
 use crate::error::{Error, Result};
-use crate::io::objects::{ObjectSource, ObjectTable};
 use crate::io::provenance::Provenance;
 use crate::io::sink::TableSink;
 use crate::io::table::{Format, read_table, write_atomic};
+use crate::population::objects::{ObjectSource, ObjectTable};
 use crate::rng::{Purpose, object_stream};
 
 /// Options of one observe run.

@@ -6,7 +6,7 @@ use serde::{Deserialize, Serialize};
 
 use super::index::PreparedSurvey;
 use super::outcome::ObjectOutcome;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 
 /// Counts in bins of one quantity; `detected_fraction` is weighted by the objects' weights.
 #[derive(Debug, Clone, Serialize, Deserialize)]

@@ -14,8 +14,8 @@ use polars::prelude::*;
 use super::columns::element_column;
 use super::quality::Quality;
 use crate::error::{Error, Result, io_at};
-use crate::io::objects::ObjectTable;
 use crate::io::table::read_table;
+use crate::population::objects::ObjectTable;
 
 /// The elements an analysis takes and the orbit-quality cut.
 #[derive(Debug, Clone, Default, PartialEq)]

@@ -10,7 +10,7 @@
 use nalgebra::{Vector3, Vector6};
 
 use super::astrometry::Observation;
-use crate::orbit::{Center, Elements, Orbit};
+use crate::orbit::{Center, Conic, Elements, Orbit};
 use crate::sky::frames::icrs_to_ecliptic;
 
 /// (α, β, γ, α̇, β̇, γ̇), radians, AU⁻¹ and per day.
@@ -79,6 +79,13 @@ impl Frame {
             Center::Heliocentric => (r - self.sun_pos, v - self.sun_vel),
             Center::Barycentric => (r, v),
         })
+    }
+
+    /// The two-body orbit of the parameters, bound or not (ICRS axes): what the fit's model
+    /// propagates, so that its iterations may cross the bound-orbit wall; none when γ ≤ 0.
+    pub fn conic(&self, p: &Params) -> Option<Conic> {
+        let (r, v) = self.relative_state(p)?;
+        Some(Conic::new(r, v, self.t0_tdb, self.center))
     }
 
     /// Osculating elements (ecliptic J2000, epoch t₀); none unless the state is a bound orbit.

@@ -81,7 +81,7 @@ pub fn columns(fits: &[Option<OrbitFit>]) -> Vec<Column> {
             .map(|x| {
                 x.as_ref()
                     .filter(|f| f.quality != super::quality::Quality::Failed)
-                    .map(|f| f.quality.prior() != super::prior::Prior::None)
+                    .map(|f| f.prior != super::prior::Prior::None)
             })
             .collect::<Vec<Option<bool>>>(),
     ));

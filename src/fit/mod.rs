@@ -27,7 +27,7 @@ use rayon::prelude::*;
 
 use crate::engine::index::PreparedSurvey;
 use crate::engine::outcome::ObjectOutcome;
-use crate::io::objects::ObjectTable;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
 /// What `--fit-orbits` does.

@@ -10,7 +10,7 @@ use super::prior::{Prior, velocity_sigma};
 use super::quality::Quality;
 use super::start::start;
 use crate::orbit::kepler::wrap_pi;
-use crate::orbit::{Center, Elements, Orbit};
+use crate::orbit::{Center, Elements};
 use crate::sky::apparent::direction_from;
 
 /// A fitted orbit.
@@ -25,6 +25,8 @@ pub struct OrbitFit {
     pub n_obs: usize,
     pub arc_days: f64,
     pub quality: Quality,
+    /// The prior the fit used (`None` for `failed`).
+    pub prior: Prior,
     pub iterations: usize,
 }
 
@@ -49,6 +51,7 @@ pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
         n_obs,
         arc_days,
         quality: Quality::Failed,
+        prior: Prior::None,
         iterations: 0,
     };
     if n_obs < 3 {
@@ -57,27 +60,31 @@ pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
     let frame = Frame::new(&obs[0], center);
     let first = start(&frame, obs);
     let single_night = obs.iter().all(|o| o.night == obs[0].night);
-    let solve = |prior: Prior, from: &Params, sigma: &Params| {
-        levenberg_marquardt(|p, out| residuals(&frame, obs, prior, p, out), *from, *sigma)
+    let solve = |prior: Prior, from: &Params| {
+        let s = levenberg_marquardt(|p, out| residuals(&frame, obs, prior, p, out), *from, first.sigma);
+        s.map(|s| (prior, s))
     };
+    let bound = |s: &Solution| frame.elements(&s.params).is_some();
     let (quality, solution) = if single_night {
-        (
-            Quality::SingleNight,
-            solve(Prior::Velocity, &first.params, &first.sigma),
-        )
+        (Quality::SingleNight, solve(Prior::Velocity, &first.params))
     } else {
-        match solve(Prior::None, &first.params, &first.sigma) {
-            Some(s) if !needs_prior(&s) => (Quality::unconstrained(arc_days), Some(s)),
+        match solve(Prior::None, &first.params) {
+            Some((p, s)) if !needs_prior(&s) && bound(&s) => (Quality::unconstrained(arc_days), Some((p, s))),
             // From the fit without prior where there is one: it is near the valley's floor.
-            Some(s) => (Quality::ShortArc, solve(Prior::RadialRate, &s.params, &first.sigma)),
-            None => (Quality::ShortArc, solve(Prior::RadialRate, &first.params, &first.sigma)),
+            free => {
+                let from = free.map_or(first.params, |(_, s)| s.params);
+                (Quality::ShortArc, short_arc(&from, &solve, &bound))
+            }
         }
     };
-    let Some(s) = solution else { return failed };
+    let Some((prior, s)) = solution else {
+        return failed;
+    };
+    // The minimum is an unbound orbit even with the velocity prior: no elements to give.
     let Some(elements) = frame.elements(&s.params) else {
         return failed;
     };
-    let prior_chi2: f64 = prior_chi2(&s, quality);
+    let prior_chi2: f64 = prior_chi2(&s, prior);
     if stalled(s.chi2 - prior_chi2, n_obs) {
         return failed;
     }
@@ -88,19 +95,30 @@ pub fn fit_orbit(obs: &[Observation], center: Center) -> OrbitFit {
         n_obs,
         arc_days,
         quality,
+        prior,
         iterations: s.iterations,
     }
 }
 
+/// The fit of an arc whose data leave the radial rate free or whose best orbit is unbound: the
+/// γ̇ prior, and the full velocity prior where the γ̇ prior still leaves the orbit unbound (the
+/// tangential rates then need the prior's pull towards a bound speed too: a week's arc, or
+/// an eccentric object near perihelion seen for a month).
+fn short_arc<S, B>(from: &Params, solve: &S, bound: &B) -> Option<(Prior, Solution)>
+where
+    S: Fn(Prior, &Params) -> Option<(Prior, Solution)>,
+    B: Fn(&Solution) -> bool,
+{
+    match solve(Prior::RadialRate, from) {
+        Some((p, s)) if bound(&s) => Some((p, s)),
+        radial => solve(Prior::Velocity, &radial.map_or(*from, |(_, s)| s.params)),
+    }
+}
+
 /// The χ² of the prior's pseudo-observations at a solution.
-fn prior_chi2(s: &Solution, quality: Quality) -> f64 {
+fn prior_chi2(s: &Solution, prior: Prior) -> f64 {
     let w = velocity_sigma(s.params[GAMMA]);
-    quality
-        .prior()
-        .indices()
-        .iter()
-        .map(|&i| (s.params[i] / w).powi(2))
-        .sum()
+    prior.indices().iter().map(|&i| (s.params[i] / w).powi(2)).sum()
 }
 
 /// Chance below which a fit's χ² says it stopped away from its minimum: 10⁻⁹.
@@ -126,18 +144,21 @@ fn needs_prior(s: &Solution) -> bool {
 }
 
 /// Whitened residuals of every observation (east, north) and the prior's pseudo-observations;
-/// false when the parameters are not a bound orbit.
+/// false when the parameters give no orbit (γ ≤ 0) or no finite position. Unbound trial orbits
+/// are propagated too (universal variables), so Levenberg–Marquardt can cross e = 1.
 fn residuals(frame: &Frame, obs: &[Observation], prior: Prior, p: &Params, out: &mut Vec<f64>) -> bool {
     out.clear();
-    let Some(el) = frame.elements(p) else {
+    let Some(orbit) = frame.conic(p) else {
         return false;
     };
-    let orbit = Orbit::new(el);
     let mut tau = f64::NAN;
     for o in obs {
         let (u, t) = direction_from(&orbit, &o.observer, tau);
         tau = t;
         let (x, y) = o.residual(&u);
+        if !(x.is_finite() && y.is_finite()) {
+            return false;
+        }
         out.push(x);
         out.push(y);
     }

@@ -1,6 +1,4 @@
-//! The orbit-quality class of a fit, what decides it, and whether a prior entered.
-
-use super::prior::Prior;
+//! The orbit-quality class of a fit and what decides it (the prior it used is `OrbitFit::prior`).
 
 /// Arcs at least this long (days) are `multi_opposition`: longer than one observing season of a
 /// distant object, so at least two oppositions (common practice, no source).
@@ -10,14 +8,15 @@ pub const MULTI_OPPOSITION_DAYS: f64 = 300.0;
 pub enum Quality {
     /// Every fitted detection on one night: the velocity prior decides a and e.
     SingleNight,
-    /// Several nights, but the data constrain the radial rate γ̇ less than the prior: γ̇ prior.
+    /// Several nights, but the data constrain the radial rate γ̇ less than the prior, or their
+    /// best orbit is unbound: the γ̇ prior, or the velocity prior where that leaves it unbound.
     ShortArc,
     /// All six parameters from the data, arc shorter than `MULTI_OPPOSITION_DAYS`.
     OneOpposition,
     /// All six parameters from the data, arc of `MULTI_OPPOSITION_DAYS` or more.
     MultiOpposition,
-    /// Fewer than three detections, no bound orbit fits them, or the fit stalled (its χ² far
-    /// beyond its distribution: `orbit_fit::stalled`).
+    /// Fewer than three detections, the best orbit is unbound even with the velocity prior, or
+    /// the fit stalled (its χ² far beyond its distribution: `orbit_fit::stalled`).
     Failed,
 }
 
@@ -43,15 +42,6 @@ impl Quality {
 
     pub fn parse(s: &str) -> Option<Quality> {
         Quality::ALL.into_iter().find(|q| q.name() == s)
-    }
-
-    /// The prior the class's fit used.
-    pub fn prior(self) -> Prior {
-        match self {
-            Quality::SingleNight => Prior::Velocity,
-            Quality::ShortArc => Prior::RadialRate,
-            _ => Prior::None,
-        }
     }
 
     /// The class of a fit without prior, by its arc.

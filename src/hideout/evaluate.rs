@@ -3,8 +3,8 @@
 use rayon::prelude::*;
 
 use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
-use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 use crate::sky::apparent::observe;
 use crate::sky::observer::ObserverState;

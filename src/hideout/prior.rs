@@ -12,8 +12,8 @@ use std::path::{Path, PathBuf};
 use serde::Deserialize;
 
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
 use crate::io::spec_text::{parse_toml, read_spec_text};
+use crate::population::objects::ObjectTable;
 use crate::population::prepared::Prepared;
 use crate::population::{Distribution, Population, Spec};
 use crate::rng::{Purpose, object_stream};

@@ -1,7 +1,6 @@
-//! Tables (Parquet and CSV through polars), atomic writes, provenance metadata, and the
-//! objects table of the DESIGN contract.
+//! Tables (Parquet and CSV through polars), atomic writes, provenance metadata. The objects
+//! table of the DESIGN contract, a population type, is `crate::population::objects`.
 
-pub mod objects;
 pub mod out_dir;
 pub mod provenance;
 pub mod sink;

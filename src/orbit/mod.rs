@@ -1,4 +1,5 @@
-//! Orbital elements, Kepler's equation, state vectors and two-body propagation.
+//! Orbital elements, Kepler's equation, state vectors and two-body propagation (of elliptic
+//! elements, `propagate`; of a state on any conic in universal variables, `universal`).
 //!
 //! Elements are osculating, ecliptic and equinox J2000, heliocentric unless marked
 //! barycentric. Inside, angles are radians and times TDB MJD.
@@ -9,6 +10,8 @@
 pub mod elements;
 pub mod kepler;
 pub mod propagate;
+pub mod universal;
 
 pub use elements::{Center, Elements};
-pub use propagate::Orbit;
+pub use propagate::{Orbit, TwoBody};
+pub use universal::Conic;

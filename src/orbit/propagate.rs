@@ -6,6 +6,14 @@ use super::kepler::eccentric_anomaly;
 use crate::foundation::ecliptic::ecliptic_to_icrs;
 use nalgebra::Vector3;
 
+/// What an apparent position needs of an orbit: its state at a TDB epoch (AU, AU/day, ICRS
+/// axes, relative to its centre) and that centre. `Orbit` (elliptic elements) and `Conic`
+/// (a state on any conic) are both.
+pub trait TwoBody {
+    fn state(&self, tdb_mjd: f64) -> (Vector3<f64>, Vector3<f64>);
+    fn center(&self) -> Center;
+}
+
 /// An object's orbit ready for fast evaluation; positions are ICRS-oriented, AU and AU/day,
 /// relative to the Sun (heliocentric) or the barycentre (barycentric elements).
 #[derive(Debug, Clone, Copy)]
@@ -43,5 +51,16 @@ impl Orbit {
     #[inline]
     pub fn position(&self, tdb_mjd: f64) -> Vector3<f64> {
         self.state(tdb_mjd).0
+    }
+}
+
+impl TwoBody for Orbit {
+    #[inline]
+    fn state(&self, tdb_mjd: f64) -> (Vector3<f64>, Vector3<f64>) {
+        Orbit::state(self, tdb_mjd)
+    }
+    #[inline]
+    fn center(&self) -> Center {
+        Orbit::center(self)
     }
 }

@@ -19,8 +19,8 @@ use super::prepared::Prepared;
 use super::resonance::{Resonance, neptune_mean_longitude};
 use super::spec::CloneSpec;
 use crate::error::{Result, io_at};
-use crate::io::objects::ObjectTable;
 use crate::io::table::Columns;
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
 /// The particles to clone and how.

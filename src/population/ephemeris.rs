@@ -6,8 +6,8 @@ use polars::prelude::*;
 use rayon::prelude::*;
 
 use crate::error::Result;
-use crate::io::objects::ObjectTable;
 use crate::orbit::Orbit;
+use crate::population::objects::ObjectTable;
 use crate::sky::apparent::observe_from;
 use crate::sky::observer::{Site, observer_states};
 use crate::sky::photometry::{apparent_mag, light_curve_offset};

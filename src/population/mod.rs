@@ -6,6 +6,7 @@
 pub mod clone;
 pub mod distribution;
 pub mod ephemeris;
+pub mod objects;
 pub mod prepared;
 pub mod recenter;
 pub mod resonance;

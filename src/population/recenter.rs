@@ -8,8 +8,8 @@ use std::collections::HashMap;
 use nalgebra::Vector3;
 
 use crate::error::{Error, Result};
-use crate::io::objects::ObjectTable;
 use crate::orbit::{Center, Elements};
+use crate::population::objects::ObjectTable;
 use crate::sky::earth::earth_sun_exact;
 use crate::sky::frames::icrs_to_ecliptic;
 

@@ -14,7 +14,7 @@ use nalgebra::Vector3;
 use super::frames::lon_lat;
 use super::observer::ObserverState;
 use crate::foundation::constants::C_AU_PER_DAY;
-use crate::orbit::{Center, Orbit};
+use crate::orbit::{Center, TwoBody};
 
 pub(crate) const RAD_PER_DAY_TO_ARCSEC_PER_HR: f64 = 206_264.806_247_096_36 / 24.0;
 
@@ -50,7 +50,7 @@ impl Apparent {
 
 /// The object's barycentric state at the emission time t − τ and the Sun's position then.
 #[inline]
-fn emitted(orbit: &Orbit, obs: &ObserverState, tau: f64) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
+fn emitted<T: TwoBody>(orbit: &T, obs: &ObserverState, tau: f64) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>) {
     let (p, v) = orbit.state(obs.tdb_mjd - tau);
     let sun = obs.sun_pos - obs.sun_vel * tau;
     match orbit.center() {
@@ -67,8 +67,8 @@ fn emitted(orbit: &Orbit, obs: &ObserverState, tau: f64) -> (Vector3<f64>, Vecto
 /// Kepler's equation again otherwise. One or two Kepler solves per position.
 /// Returns (Δ vector, object position, object velocity, Sun position, τ).
 #[inline]
-fn solve_light_time(
-    orbit: &Orbit,
+fn solve_light_time<T: TwoBody>(
+    orbit: &T,
     obs: &ObserverState,
     tau_guess: f64,
 ) -> (Vector3<f64>, Vector3<f64>, Vector3<f64>, Vector3<f64>, f64) {
@@ -98,24 +98,24 @@ fn solve_light_time(
 
 /// The unit vector from the observer to the object, light-time corrected (fast path).
 #[inline]
-pub fn direction(orbit: &Orbit, obs: &ObserverState) -> Vector3<f64> {
+pub fn direction<T: TwoBody>(orbit: &T, obs: &ObserverState) -> Vector3<f64> {
     direction_from(orbit, obs, f64::NAN).0
 }
 
 /// The unit vector and the light time, starting from a guess of the light time (NaN: none).
 #[inline]
-pub fn direction_from(orbit: &Orbit, obs: &ObserverState, tau_guess: f64) -> (Vector3<f64>, f64) {
+pub fn direction_from<T: TwoBody>(orbit: &T, obs: &ObserverState, tau_guess: f64) -> (Vector3<f64>, f64) {
     let (d, _, _, _, tau) = solve_light_time(orbit, obs, tau_guess);
     (d.normalize(), tau)
 }
 
 /// The full astrometric observation of an object from an observer.
-pub fn observe(orbit: &Orbit, obs: &ObserverState) -> Apparent {
+pub fn observe<T: TwoBody>(orbit: &T, obs: &ObserverState) -> Apparent {
     observe_from(orbit, obs, f64::NAN)
 }
 
 /// The full observation, starting from a guess of the light time (NaN: none).
-pub fn observe_from(orbit: &Orbit, obs: &ObserverState, tau_guess: f64) -> Apparent {
+pub fn observe_from<T: TwoBody>(orbit: &T, obs: &ObserverState, tau_guess: f64) -> Apparent {
     let (d, p, v, sun, tau) = solve_light_time(orbit, obs, tau_guess);
     let delta = d.norm();
     let unit = d / delta;

@@ -17,7 +17,7 @@ use seine::analysis::bias_map::{
 use seine::analysis::cluster_test::{Angles, TestOptions, cluster_test};
 use seine::engine::{ObserveOptions, PreparedSurvey, observe};
 use seine::io::Provenance;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::survey::Survey;
 
 #[path = "../common/mod.rs"]

@@ -21,7 +21,7 @@ use std::time::Instant;
 use rayon::prelude::*;
 use seine::engine::{Candidates, ObjectOutcome, ObserveOptions, PreparedSurvey, StopRule, observe, observe_object};
 use seine::io::Provenance;
-use seine::io::objects::ObjectTable;
+use seine::population::objects::ObjectTable;
 use seine::rng::{Purpose, object_stream};
 use seine::survey::Survey;
 

@@ -12,8 +12,8 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::DataFrame;
 
-use super::table::{Columns, read_parquet_rows, read_table};
 use crate::error::{Error, Result};
+use crate::io::table::{Columns, read_parquet_rows, read_table};
 use crate::orbit::{Center, Elements};
 use crate::ranges::check_column;
 use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
