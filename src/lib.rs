@@ -21,6 +21,7 @@ pub mod report;
 pub mod rng;
 pub mod shard;
 pub mod sky;
+pub mod statistics;
 pub mod survey;
 pub mod time;
 

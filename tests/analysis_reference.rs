@@ -4,11 +4,11 @@
 mod common;
 
 use common::Fixture;
-use seine::analysis::binomial::{Z95, wilson};
 use seine::analysis::circular::{kuiper_p, kuiper_v, rayleigh_p, rayleigh_p_series, resultant_length};
 use seine::analysis::likelihood::Kde;
 use seine::analysis::two_sample::{KsMethod, anderson_ksamp, ks_two_sample};
 use seine::io::table::Columns;
+use seine::statistics::{Z95, wilson};
 
 fn strings(f: &Fixture, name: &str) -> Vec<String> {
     Columns::new(&f.df, &f.path).str(name).unwrap()

@@ -85,6 +85,13 @@ fn tutorial_bias_check_runs() {
     for f in ["cluster_test", "cluster_null", "rose"] {
         assert!(d.path().join(format!("bias/cluster/{f}.parquet")).exists(), "{f}");
     }
+    // Step 5: the same test on fitted orbits and on true ones, both under the quality cut.
+    for run in ["cluster-cut-true", "cluster-cut-fitted"] {
+        assert!(
+            d.path().join(format!("bias/{run}/cluster_test.parquet")).exists(),
+            "{run}"
+        );
+    }
 }
 
 #[test]

@@ -11,7 +11,6 @@ use std::path::Path;
 
 use common::{Fixture, ecliptic_fields, ks_uniform_p, survey};
 use nalgebra::DMatrix;
-use seine::analysis::binomial::{Tally, kish_n_of};
 use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, score_model, shared_estimator};
 use seine::analysis::likelihood::{Bandwidth, Estimator, Kde, Kernel, ModelDensity};
 use seine::analysis::space::{Coordinate, Space};
@@ -21,6 +20,7 @@ use seine::population::Spec;
 use seine::population::objects::ObjectTable;
 use seine::population::recenter::recenter;
 use seine::population::resonance::neptune_mean_longitude;
+use seine::statistics::{Tally, kish_n_of};
 
 #[test]
 fn weighted_kernel_density_and_kish_n_against_scipy() {

@@ -7,11 +7,11 @@ mod common;
 
 use std::path::Path;
 
-use seine::analysis::binomial::Tally;
 use seine::analysis::{comparison, detectability as det, selection};
 use seine::report::figure::{Figure, xml_escape};
 use seine::report::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey};
 use seine::report::tables::*;
+use seine::statistics::Tally;
 
 /// Well-formedness without an XML library: every opened element is closed in order.
 fn assert_well_formed(svg: &str) {
@@ -229,7 +229,7 @@ fn analysis_figures_from_synthetic_tables() {
     ]
     .into_iter()
     .map(|(p, c, k, hours)| {
-        let f = seine::analysis::binomial::Proportion::new(k, 1000);
+        let f = seine::statistics::Proportion::new(k, 1000);
         PlanYield {
             row: CadenceRow {
                 plan: p.into(),

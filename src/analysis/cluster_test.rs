@@ -34,6 +34,7 @@ use super::pooled_p::{fisher, min_p_statistic, upper_ranks};
 use crate::error::{Error, Result};
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, splitmix64};
+use crate::statistics::{QuantileRule, histogram_quantile};
 
 /// The statistics with one value per sample, in the order of `Stats::values`.
 pub const STAT_NAMES: [&str; N_MARGINAL] = [
@@ -639,23 +640,17 @@ fn angle_counts(node: &[f64], argperi: &[f64], bins: usize) -> Vec<u32> {
     counts
 }
 
-/// The smallest count whose cumulative fraction of catalogues reaches q.
-fn count_quantile(tally: &[u64], trials: u64, q: f64) -> u64 {
-    let mut cum = 0u64;
-    for (c, t) in tally.iter().enumerate() {
-        cum += t;
-        if cum as f64 >= q * trials as f64 {
-            return c as u64;
-        }
-    }
-    tally.len().saturating_sub(1) as u64
+/// The smallest count whose cumulative fraction of catalogues reaches q (`tally[c]`:
+/// catalogues with count c).
+fn count_quantile(tally: &[u64], q: f64) -> u64 {
+    let counts: Vec<f64> = tally.iter().map(|&t| t as f64).collect();
+    histogram_quantile(&counts, q, QuantileRule::InverseEcdf) as u64
 }
 
 /// The rose counts of the catalogue with the band of the synthetic catalogues' counts
 /// (`counts`: per catalogue, `angle_counts` of its map-drawn angles).
 fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<u32>]) -> Vec<RoseCount> {
     let n = cat.ids.len();
-    let trials = counts.len() as u64;
     // tally[(q·bins + k)·(n + 1) + c]: catalogues with count c in bin k of angle q.
     let mut tally = vec![0u64; ROSE_QUANTITIES.len() * bins * (n + 1)];
     for cc in counts {
@@ -674,9 +669,9 @@ fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<u32>]) -> Vec<RoseCount>
                 lo_deg: k as f64 * width,
                 hi_deg: (k + 1) as f64 * width,
                 observed: u64::from(observed[qk]),
-                null_lo: count_quantile(t, trials, 0.05),
-                null_median: count_quantile(t, trials, 0.5),
-                null_hi: count_quantile(t, trials, 0.95),
+                null_lo: count_quantile(t, 0.05),
+                null_median: count_quantile(t, 0.5),
+                null_hi: count_quantile(t, 0.95),
             }
         })
         .collect()

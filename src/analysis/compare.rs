@@ -15,7 +15,6 @@ use rand::RngExt;
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
-use super::binomial::{Tally, kish_n_of};
 use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
 use super::marginals::{Statistic, WeightedEcdf};
 use super::space::{Coordinate, Space};
@@ -25,6 +24,7 @@ use crate::orbit::Center;
 use crate::population::objects::ObjectTable;
 use crate::population::recenter::{recenter_table, table_frame};
 use crate::rng::{Purpose, object_stream, run_stream, splitmix64};
+use crate::statistics::{Tally, kish_n_of};
 
 /// The density choice of a comparison.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -249,7 +249,7 @@ pub struct ModelScore {
     pub n_objects: usize,
     pub n_detected: usize,
     /// The weighted detected fraction of the model's objects.
-    pub detected: super::binomial::Proportion,
+    pub detected: crate::statistics::Proportion,
     pub log_likelihood: f64,
     /// Model-sample error of ln L (Poisson bootstrap).
     pub log_likelihood_error: f64,
@@ -538,6 +538,7 @@ pub fn lower_tail_p(t_obs: f64, null: &[f64], t_error: f64) -> (f64, f64) {
 
 /// A Gaussian kernel density of finite samples at x, Silverman's rule (Silverman 1986, eq. 3.31).
 fn null_density(samples: &[f64], x: f64) -> f64 {
+    use crate::statistics::{QuantileRule::InverseEcdf, quantile_sorted};
     let mut v: Vec<f64> = samples.iter().copied().filter(|s| s.is_finite()).collect();
     if v.len() < 2 || !x.is_finite() {
         return 0.0;
@@ -545,7 +546,7 @@ fn null_density(samples: &[f64], x: f64) -> f64 {
     v.sort_by(f64::total_cmp);
     let n = v.len() as f64;
     let sd = std_dev(&v);
-    let iqr = super::binomial::quantile_sorted(&v, 0.75) - super::binomial::quantile_sorted(&v, 0.25);
+    let iqr = quantile_sorted(&v, 0.75, InverseEcdf) - quantile_sorted(&v, 0.25, InverseEcdf);
     let scale = if iqr > 0.0 { sd.min(iqr / 1.34) } else { sd };
     let h = 0.9 * scale * n.powf(-0.2);
     if !(h > 0.0) {

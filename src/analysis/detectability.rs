@@ -10,13 +10,13 @@ use std::f64::consts::TAU;
 use rand::RngExt;
 use rayon::prelude::*;
 
-use super::binomial::Proportion;
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
 use crate::io::out_dir::{OutDir, col};
 use crate::orbit::Elements;
 use crate::population::objects::ObjectTable;
+use crate::statistics::Proportion;
 
 /// Which angles besides the mean anomaly are redrawn uniformly in each trial.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -187,7 +187,7 @@ pub fn conclusion(res: &[ObjectDetectability], objects: &ObjectTable, k: u64) ->
         "seine detectability: {} objects × {k} trials. Median chance of discovery {:.2}%; {low} objects below 1%; \
          highest: id {} at {:.2}% (95% Wilson {:.2}%–{:.2}%).",
         res.len(),
-        100.0 * super::binomial::quantile_sorted(&p, 0.5),
+        100.0 * crate::statistics::quantile_sorted(&p, 0.5, crate::statistics::QuantileRule::InverseEcdf),
         objects.ids[best.row],
         100.0 * best.discovered.fraction,
         100.0 * best.discovered.lower,

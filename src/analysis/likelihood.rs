@@ -14,10 +14,10 @@ use std::f64::consts::{PI, TAU};
 
 use nalgebra::{DMatrix, DVector};
 
-use super::binomial::kish_n;
 use super::space::Coordinate;
 use crate::error::{Error, Result};
 use crate::population::distribution::bessel_ie;
+use crate::statistics::kish_n;
 
 /// The working coordinate of a value: ln x for scale variables, radians for angles.
 fn working(c: Coordinate, x: f64) -> f64 {
@@ -291,7 +291,7 @@ impl Grid {
                         (lo, if hi > lo { hi } else { lo + 1.0 })
                     }
                 };
-                super::binomial::lin_edges(lo, hi, bins)
+                crate::statistics::lin_edges(lo, hi, bins)
             })
             .collect();
         Ok(Grid {
@@ -312,12 +312,12 @@ impl Grid {
             .zip(&self.coords)
             .map(|(v, c)| if *c == Coordinate::Angle { v.rem_euclid(TAU) } else { *v })
             .collect();
-        super::binomial::grid_index(&self.edges, &y)
+        crate::statistics::grid_index(&self.edges, &y)
     }
 
     /// Volume of the cell holding x, in the observables' own units.
     fn volume(&self, cell: usize) -> f64 {
-        super::binomial::grid_cell(&self.edges, cell)
+        crate::statistics::grid_cell(&self.edges, cell)
             .iter()
             .zip(&self.coords)
             .map(|((lo, hi), c)| match c {
@@ -483,7 +483,7 @@ impl Kde {
     pub fn new(points: &[Vec<f64>], weights: &[f64]) -> Result<Self> {
         let d = points.first().map_or(0, Vec::len);
         let coords = vec![Coordinate::Linear; d];
-        let n_eff = super::binomial::kish_n_of(weights);
+        let n_eff = crate::statistics::kish_n_of(weights);
         let factor = n_eff.powf(-1.0 / (d as f64 + 4.0));
         let bw = Bandwidth::of_points(&coords, points, weights, factor)?;
         let kernel = Kernel::new(&coords, &bw)?;

@@ -56,7 +56,7 @@ impl WeightedEcdf {
                 acc
             })
             .collect();
-        let n_eff = super::binomial::kish_n_of(weights);
+        let n_eff = crate::statistics::kish_n_of(weights);
         WeightedEcdf {
             values: order.iter().map(|i| values[*i]).collect(),
             cum,

@@ -1,10 +1,9 @@
 //! Selection-function analyses on top of the engine: per-object detectability with angles
 //! redrawn, bias maps over (ϖ, Ω), the bias-aware clustering test, model comparison by
-//! likelihood, and cadence yields; plus the statistics they rest on.
+//! likelihood, and cadence yields (their statistics are `crate::statistics`).
 
 pub mod bias_map;
 pub mod bias_map_tables;
-pub mod binomial;
 pub mod circular;
 pub mod cluster_tables;
 pub mod cluster_test;

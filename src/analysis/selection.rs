@@ -9,13 +9,14 @@ use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
 
-use super::binomial::{Proportion, Tally, grid_cell, grid_index, proportion_columns};
 use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
 use crate::error::{Error, Result};
+use crate::io::out_dir::proportion_columns;
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
+use crate::statistics::{Proportion, Tally, grid_cell, grid_index};
 
 pub const TABLE: &str = "selection_function";
 

@@ -5,12 +5,13 @@
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use super::binomial::{Proportion, Tally, pct, proportion_columns};
 use super::yields::YieldRow;
 use crate::engine::PreparedSurvey;
 use crate::error::Result;
+use crate::io::out_dir::proportion_columns;
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
+use crate::statistics::{Proportion, Tally, pct};
 use crate::survey::Survey;
 
 pub const YIELD: &str = "yield";

@@ -7,14 +7,14 @@
 //! over the objects in that bin; per distance bin, discoveries at that distance over the
 //! whole population (the distance exists only for a discovery). Every fraction is weighted by
 //! the objects' weights (importance sampling), with its interval at the effective n
-//! (`binomial.rs`); raw counts are kept beside.
+//! (`crate::statistics`); raw counts are kept beside.
 
 use rayon::prelude::*;
 
-use super::binomial::{Proportion, Tally};
 use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
+use crate::statistics::{Proportion, Tally};
 
 /// The default bin edges (comma-separated, as the options take them) of the distance at
 /// discovery (AU), the absolute magnitude H (mag) and the semi-major axis a (AU).

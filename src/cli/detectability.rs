@@ -7,7 +7,7 @@ use seine::analysis::detectability::Redraw;
 use seine::analysis::selection::GridEdges;
 use seine::commands::detectability::{DetectabilityOptions, Subject, detectability};
 
-use seine::analysis::binomial::parse_edges;
+use seine::statistics::parse_edges;
 
 use super::common::{CatalogueArgs, RunArgs, ShardArgs};
 

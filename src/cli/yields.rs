@@ -3,9 +3,9 @@
 use std::path::PathBuf;
 
 use seine::Result;
-use seine::analysis::binomial::parse_edges;
 use seine::analysis::yields::{DEFAULT_A_EDGES, DEFAULT_H_EDGES, DEFAULT_R_EDGES};
 use seine::commands::yields::{YieldOptions, yield_comparison};
+use seine::statistics::parse_edges;
 
 use super::common::RunArgs;
 

@@ -8,13 +8,13 @@ use std::path::PathBuf;
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, bias_maps, svg};
 use crate::analysis::bias_map_tables;
-use crate::analysis::binomial::pct;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::table::write_atomic;
 use crate::population::objects::ObjectTable;
 use crate::shard::shard_rows;
+use crate::statistics::pct;
 
 /// How the maps are gridded and how far each grows (shared with `cluster-test`).
 #[derive(Debug, Clone, PartialEq)]

@@ -8,13 +8,13 @@ use std::path::{Path, PathBuf};
 use super::bias_map::MapOptions;
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::bias_map::BiasMap;
-use crate::analysis::binomial::pct;
 use crate::analysis::cluster_test::{self as ct, Angles, ClusterTest, TestOptions};
 use crate::analysis::{bias_map_tables, cluster_tables};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
 use crate::population::objects::ObjectTable;
+use crate::statistics::pct;
 
 /// The options of `seine cluster-test`.
 #[derive(Debug, Clone)]

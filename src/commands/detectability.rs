@@ -6,7 +6,6 @@
 use std::path::PathBuf;
 
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::binomial::check_edges;
 use crate::analysis::detectability::{self, Redraw, check_budget};
 use crate::analysis::selection::{self, GridEdges, selection_function};
 use crate::engine::PreparedSurvey;
@@ -16,6 +15,7 @@ use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
 use crate::population::objects::ObjectTable;
 use crate::shard::shard_rows;
+use crate::statistics::check_edges;
 
 /// What is measured: each catalogue object's chance, or a population's selection function.
 #[derive(Debug, Clone, PartialEq)]

@@ -97,12 +97,22 @@ pub fn read_catalogue(
 ) -> Result<(crate::population::objects::ObjectTable, Option<String>)> {
     let (table, left_out) = selection.read(path)?;
     let note = (!selection.is_plain()).then(|| {
-        format!(
+        let mut note = format!(
             "{}: {} objects ({}), {left_out} left out by the cut",
             path.display(),
             table.len(),
             selection.describe()
-        )
+        );
+        if left_out > 0 {
+            // The cut selects on where and when the surveys saw each object, which the
+            // detection probabilities and bias maps do not model (tutorial-bias-check.md §5).
+            note.push_str(
+                "; caution: the surveys' selection computed here counts an object found whatever its fit \
+                 would be, so a cut on the fits (arc, σa/a, class) is a selection it does not model and \
+                 can fake a clustering (tutorial-bias-check.md, step 5)",
+            );
+        }
+        note
     });
     Ok((table, note))
 }

@@ -7,7 +7,7 @@ use std::sync::Arc;
 use std::sync::atomic::AtomicBool;
 
 use super::{Outcome, load_surveys};
-use crate::engine::run::observe_source;
+use crate::engine::run::{ChunkColumns, observe_source};
 use crate::engine::summary::Summary;
 use crate::engine::{Candidates, ObserveOptions};
 use crate::error::Result;
@@ -64,7 +64,7 @@ pub fn observe(opts: &ObserveCommand) -> Result<Outcome> {
         chunk_size: opts.chunk_size,
         resume: opts.resume,
         stop: opts.stop.clone(),
-        fit: opts.fit,
+        extra_columns: opts.fit.map(|f| Arc::new(f) as Arc<dyn ChunkColumns>),
     };
     let report = observe_source(&surveys, &objects, &opts.out, &engine, &prov)?;
     let s = &report.summary;

@@ -6,12 +6,12 @@
 use std::path::{Path, PathBuf};
 
 use super::{Outcome, RunOptions, check_unique_survey_names, load_surveys};
-use crate::analysis::binomial::check_edges;
 use crate::analysis::yield_tables::{self, cadence_rows, population_name};
 use crate::analysis::yields::yields;
 use crate::error::{Error, Result};
 use crate::io::Provenance;
 use crate::population::objects::ObjectTable;
+use crate::statistics::check_edges;
 use crate::survey::plan_io::PlanOutputs;
 
 /// The options of `seine yield`.

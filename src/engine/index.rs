@@ -20,22 +20,18 @@ use nalgebra::Vector3;
 use rayon::prelude::*;
 
 use super::caps::{CapTree, Cone};
+use super::motion::{BLOCK_DAYS, OBSERVER_SPEED, speed_bound};
 use super::reach::Reach;
 use super::track::Track;
 use crate::foundation::constants::C_AU_PER_DAY;
-use crate::orbit::{Center, Elements, Orbit};
+use crate::orbit::{Center, Orbit};
 use crate::sky::earth::EarthSource;
 use crate::sky::observer::ObserverState;
 use crate::survey::Survey;
 use crate::time::{MjdTdb, MjdUtc};
 
-/// Block length in days: short enough that a 30 AU object moves < 0.15° from its node,
-/// long enough that node positions cost little next to the in-field work.
-pub const BLOCK_DAYS: f64 = 8.0;
 /// Largest geocentric offset of a site, AU (equatorial radius + 10 km).
 const SITE_OFFSET_AU: f64 = 6400.0 / crate::foundation::constants::AU_KM;
-/// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
-pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;
 /// Angular slack for rounding and the node's light-time approximation, radians (0.2″).
 const EPSILON: f64 = 1e-6;
 
@@ -248,17 +244,6 @@ impl Walk<'_> {
         let span = (b.node_tdb - n.tdb).abs() + b.half_span;
         cone_radii(n.delta, n.position_error, span, self.v_max, self.ps.bounding_radius)
             .is_some_and(|(_, _, r)| b.caps.surely_misses(&n.dir, r))
-    }
-}
-
-/// The largest speed an object can have about the barycentre, AU/day: its speed at
-/// perihelion, √(GM (1 + e) / q) (vis-viva, the largest on the orbit), plus the Sun's
-/// barycentric speed for heliocentric elements.
-pub(crate) fn speed_bound(el: &Elements) -> f64 {
-    let v_q = (el.center.gm() * (1.0 + el.e) / el.q_au()).sqrt();
-    match el.center {
-        Center::Heliocentric => v_q + 2.0e-5,
-        Center::Barycentric => v_q,
     }
 }
 

@@ -14,6 +14,7 @@ pub mod caps;
 pub mod discoveries;
 pub mod index;
 pub mod merge;
+pub mod motion;
 pub mod outcome;
 pub mod outputs;
 pub mod parts;

@@ -3,7 +3,7 @@
 //!
 //! Over the survey's time span T (widened by the largest light time), the object's distance
 //! r from the centre of its elements changes by at most v T, with v the bound on its speed
-//! of `index::speed_bound` (the perihelion speed √(GM (1 + e) / q), the largest on the orbit
+//! of `motion::speed_bound` (the perihelion speed √(GM (1 + e) / q), the largest on the orbit
 //! by vis-viva, plus the Sun's motion for heliocentric elements); and r ≥ q always. The
 //! observer is within R_obs = 1.03 AU of that centre (the Earth's aphelion 1.0167 AU, the
 //! Sun's offset from the barycentre ≤ 0.0102 AU, both from memory; a site's 4·10⁻⁵ AU;
@@ -21,7 +21,7 @@
 //! stream falls below the bound, n or fewer in-field events detect nothing
 //! (`pipeline::Lookahead`).
 
-use super::index::{OBSERVER_SPEED, speed_bound};
+use super::motion::{OBSERVER_SPEED, speed_bound};
 use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::Orbit;
 use crate::population::objects::ObjectTable;
@@ -123,7 +123,7 @@ impl Reach {
     }
 
     /// A lower bound on the observer–object distance over the span, AU; `None` if too close.
-    /// `v_obj` bounds the object's speed (`index::speed_bound`), so also the rate of change
+    /// `v_obj` bounds the object's speed (`motion::speed_bound`), so also the rate of change
     /// of its distance from the centre.
     fn nearest_au(&self, orbit: &Orbit, v_obj: f64) -> Option<f64> {
         let el = &orbit.elements;

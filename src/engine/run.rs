@@ -38,8 +38,27 @@ pub struct ObserveOptions {
     pub resume: bool,
     /// Set (e.g. by a SIGINT handler) to stop cleanly after the chunk in flight.
     pub stop: Option<Arc<AtomicBool>>,
-    /// Measure the discovered objects' detections and fit their orbits (`--fit-orbits`).
-    pub fit: Option<crate::fit::FitOptions>,
+    /// Columns added to every chunk's objects table (`--fit-orbits`: the orbit fit's).
+    pub extra_columns: Option<Arc<dyn ChunkColumns>>,
+}
+
+/// Columns a caller adds to every chunk's objects table from the chunk's outcomes (`observe
+/// --fit-orbits`: measured detections and fitted orbits, `fit::FitOptions`). The engine calls
+/// it without knowing what it computes, so the engine uses no analysis.
+pub trait ChunkColumns: Send + Sync + std::fmt::Debug {
+    /// Append the columns of objects `start..start + outcomes.len()` of `objects` to `frame`;
+    /// with no outcomes, the empty columns (the table's schema).
+    fn append(
+        &self,
+        frame: &mut DataFrame,
+        objects: &ObjectTable,
+        start: usize,
+        outcomes: &[ObjectOutcome],
+        surveys: &[PreparedSurvey],
+        seed: u64,
+    ) -> Result<()>;
+    /// What the run key records of it: a resumed run reuses only chunks with the same columns.
+    fn key(&self) -> String;
 }
 
 impl Default for ObserveOptions {
@@ -53,7 +72,7 @@ impl Default for ObserveOptions {
             progress: false,
             resume: false,
             stop: None,
-            fit: None,
+            extra_columns: None,
         }
     }
 }
@@ -101,8 +120,8 @@ pub fn observe_source(
     // Refuse bad inputs before anything is written: no partial output on an error.
     check_bands(surveys, source.head())?;
     let mut empty = objects_frame(source.head(), 0, &[], surveys)?;
-    if opts.fit.is_some() {
-        crate::fit::columns::append(&mut empty, &[])?;
+    if let Some(extra) = &opts.extra_columns {
+        extra.append(&mut empty, source.head(), 0, &[], surveys, opts.seed)?;
     }
     std::fs::create_dir_all(out_dir.join(PARTS)).map_err(|e| {
         Error::input(format!(
@@ -195,7 +214,7 @@ fn run_key(surveys: &[PreparedSurvey], objects: &ObjectTable, opts: &ObserveOpti
         chunk_size: opts.chunk_size,
         candidates: format!("{:?}", opts.candidates),
         surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
-        fit: opts.fit.map(|f| format!("{f:?}")),
+        fit: opts.extra_columns.as_ref().map(|c| c.key()),
     }
 }
 
@@ -279,9 +298,8 @@ fn compute_chunk(
     let mut summary = Summary::new(surveys);
     summary.add(objects, lo, &outcomes, surveys);
     let mut obj = objects_frame(objects, lo, &outcomes, surveys)?;
-    if let Some(fit) = &opts.fit {
-        let fits = crate::fit::fit_chunk(objects, lo, &outcomes, surveys, fit, opts.seed);
-        crate::fit::columns::append(&mut obj, &fits)?;
+    if let Some(extra) = &opts.extra_columns {
+        extra.append(&mut obj, objects, lo, &outcomes, surveys, opts.seed)?;
     }
     let det = detections_frame(objects, lo, &outcomes, surveys)?;
     let write_part = |table: &str, df: &DataFrame| -> Result<String> {

@@ -7,6 +7,7 @@ use serde::{Deserialize, Serialize};
 use super::index::PreparedSurvey;
 use super::outcome::ObjectOutcome;
 use crate::population::objects::ObjectTable;
+use crate::statistics::{bin_index, edges_per_decade, lin_edges};
 
 /// Counts in bins of one quantity; `detected_fraction` is weighted by the objects' weights.
 #[derive(Debug, Clone, Serialize, Deserialize)]
@@ -43,17 +44,16 @@ impl BinCounts {
     }
 
     fn add(&mut self, x: f64, detected: bool, w: f64, count_total: bool) {
-        let k = self.edges.partition_point(|&e| e <= x);
-        if k == 0 || k == self.edges.len() {
+        let Some(k) = bin_index(&self.edges, x) else {
             return;
-        }
+        };
         if count_total {
-            self.n[k - 1] += 1;
-            self.weighted_n[k - 1] += w;
+            self.n[k] += 1;
+            self.weighted_n[k] += w;
         }
         if detected {
-            self.detected[k - 1] += 1;
-            self.weighted_detected[k - 1] += w;
+            self.detected[k] += 1;
+            self.weighted_detected[k] += w;
         }
     }
 }
@@ -91,16 +91,6 @@ pub struct Summary {
     pub weight_detected: f64,
 }
 
-fn log_edges(lo: f64, hi: f64, per_decade: usize) -> Vec<f64> {
-    let k = ((hi / lo).log10() * per_decade as f64).round() as usize;
-    (0..=k).map(|j| lo * 10f64.powf(j as f64 / per_decade as f64)).collect()
-}
-
-fn lin_edges(lo: f64, hi: f64, step: f64) -> Vec<f64> {
-    let k = ((hi - lo) / step).round() as usize;
-    (0..=k).map(|j| lo + j as f64 * step).collect()
-}
-
 impl Summary {
     pub fn new(surveys: &[PreparedSurvey]) -> Self {
         Summary {
@@ -120,12 +110,12 @@ impl Summary {
                 })
                 .collect(),
             bins: vec![
-                BinCounts::new("a_au", log_edges(10.0, 10000.0, 8)),
-                BinCounts::new("q_au", log_edges(10.0, 10000.0, 8)),
-                BinCounts::new("inc_deg", lin_edges(0.0, 180.0, 10.0)),
-                BinCounts::new("h_mag", lin_edges(-10.0, 16.0, 0.5)),
+                BinCounts::new("a_au", edges_per_decade(10.0, 10000.0, 8)),
+                BinCounts::new("q_au", edges_per_decade(10.0, 10000.0, 8)),
+                BinCounts::new("inc_deg", lin_edges(0.0, 180.0, 18)),
+                BinCounts::new("h_mag", lin_edges(-10.0, 16.0, 52)),
             ],
-            discovery_distance: BinCounts::new("discovery_r_au", log_edges(10.0, 10000.0, 8)),
+            discovery_distance: BinCounts::new("discovery_r_au", edges_per_decade(10.0, 10000.0, 8)),
             candidates_evaluated: 0,
             in_field_events: 0,
             candidates_per_in_field_event: 0.0,

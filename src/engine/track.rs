@@ -16,7 +16,7 @@
 
 use nalgebra::Vector3;
 
-use super::index::BLOCK_DAYS;
+use super::motion::BLOCK_DAYS;
 use crate::orbit::Orbit;
 
 /// Error budget of the expansion, relative to the perihelion distance.

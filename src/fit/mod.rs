@@ -27,14 +27,38 @@ use rayon::prelude::*;
 
 use crate::engine::index::PreparedSurvey;
 use crate::engine::outcome::ObjectOutcome;
+use crate::engine::run::ChunkColumns;
+use crate::error::Result;
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
+use polars::prelude::DataFrame;
 
 /// What `--fit-orbits` does.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FitOptions {
     pub span: FitSpan,
     pub errors: AstrometricErrors,
+}
+
+/// `observe --fit-orbits` adds the fit's columns to every chunk of the objects table.
+impl ChunkColumns for FitOptions {
+    fn append(
+        &self,
+        frame: &mut DataFrame,
+        objects: &ObjectTable,
+        start: usize,
+        outcomes: &[ObjectOutcome],
+        surveys: &[PreparedSurvey],
+        seed: u64,
+    ) -> Result<()> {
+        let fits = fit_chunk(objects, start, outcomes, surveys, self, seed);
+        columns::append(frame, &fits)
+    }
+
+    /// The options as the manifests of earlier versions recorded them.
+    fn key(&self) -> String {
+        format!("{self:?}")
+    }
 }
 
 /// Fit every discovered object of a chunk (rows `start..` of `objects`, one outcome each);

@@ -5,6 +5,7 @@
 
 use super::tally::{MAG_BINS, MAG_LO, MAG_STEP, SkyTally};
 use crate::sky::frames::{separation, unit_vector};
+use crate::statistics::{QuantileRule, histogram_quantile};
 
 /// One field of the ranked list.
 #[derive(Debug, Clone, PartialEq)]
@@ -97,17 +98,5 @@ fn describe(sky: &SkyTally, rank: usize, ra: f64, dec: f64, cells: &[usize]) -> 
 
 /// The q-quantile of a magnitude histogram (bins of MAG_STEP from MAG_LO), linear inside a bin.
 pub fn quantile(hist: &[f64], q: f64) -> f64 {
-    let total: f64 = hist.iter().sum();
-    if !(total > 0.0) {
-        return f64::NAN;
-    }
-    let target = q * total;
-    let mut acc = 0.0;
-    for (b, &w) in hist.iter().enumerate() {
-        if w > 0.0 && acc + w >= target {
-            return MAG_LO + MAG_STEP * (b as f64 + (target - acc) / w);
-        }
-        acc += w;
-    }
-    MAG_LO + MAG_STEP * hist.len() as f64
+    MAG_LO + MAG_STEP * histogram_quantile(hist, q, QuantileRule::Linear)
 }

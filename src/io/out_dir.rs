@@ -67,3 +67,16 @@ where
 {
     <Series as NamedFrom<Vec<T>, [T]>>::new(name.into(), v).into()
 }
+
+/// The columns of a list of proportions in an output table: `discovered` (count), `fraction`
+/// (weighted), `n_eff`, `std_error`, `wilson_lo`, `wilson_hi`.
+pub fn proportion_columns(p: &[crate::statistics::Proportion]) -> Vec<polars::prelude::Column> {
+    vec![
+        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
+        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
+        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
+        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
+        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
+        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
+    ]
+}

@@ -12,11 +12,11 @@ use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, fraction_bins}
 use super::tables::{
     CadenceRow, EfficiencyCurve, FitNull, FractionBin, ObjectChance, PlanYield, SelectionCell, WeightedSample,
 };
-use crate::analysis::binomial::{Proportion, Tally};
 use crate::analysis::comparison;
 use crate::analysis::selection::{QUANTITIES, project};
 use crate::analysis::yield_tables::{median_revisit_days, population_name};
 use crate::error::Result;
+use crate::statistics::{Proportion, Tally};
 use crate::survey::Survey;
 
 /// A small table for the page, with an optional link to the full table it is taken from

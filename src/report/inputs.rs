@@ -335,7 +335,7 @@ pub fn fraction_bins(run: &ObserveRun, quantity: &str) -> Vec<FractionBin> {
         .map(|w| FractionBin::counts(w[0], w[1], 0, 0))
         .collect();
     for i in 0..values.len() {
-        if let Some(k) = crate::analysis::binomial::bin_index(&edges, values[i]) {
+        if let Some(k) = crate::statistics::bin_index(&edges, values[i]) {
             bins[k].tally.add(o.weight[i], o.detected[i]);
         }
     }

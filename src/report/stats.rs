@@ -1,8 +1,8 @@
-//! What the figures need besides the statistics of `analysis::binomial` (bin edges, histograms,
+//! What the figures need besides the statistics of `crate::statistics` (bin edges, histograms,
 //! weighted proportions and Wilson intervals, re-exported or used from there): the finite range
 //! of values and the axis label of a quantity named by the units-in-names convention.
 
-pub use crate::analysis::binomial::{histogram, lin_edges, log_edges};
+pub use crate::statistics::{histogram, lin_edges, log_edges};
 
 /// The robust range [min, max] of finite values, or None when there are none.
 pub fn finite_range(xs: &[f64]) -> Option<(f64, f64)> {

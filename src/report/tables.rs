@@ -2,7 +2,7 @@
 //! names; `inputs.rs` fills them from files with documented names (see `mod.rs`), and tests fill
 //! them with synthetic values.
 
-use crate::analysis::binomial::{Proportion, Tally};
+use crate::statistics::{Proportion, Tally};
 
 /// Objects and discoveries in one bin [lo, hi) of a quantity, with their weights.
 #[derive(Debug, Clone, PartialEq)]

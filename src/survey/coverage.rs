@@ -15,6 +15,7 @@ use super::footprint::Footprint;
 use crate::foundation::units::DEG;
 use crate::sky::frames::radec_to_ecliptic;
 use crate::sky::healpix::{self, Moc};
+use crate::statistics::{QuantileRule, quantile_sorted};
 
 pub const HEALPIX_ORDER: u8 = 9;
 const LAT_BIN_DEG: f64 = 5.0;
@@ -59,12 +60,6 @@ pub struct Coverage {
     pub depth_histogram: BTreeMap<String, usize>,
     #[serde(skip)]
     pub cells: Vec<u64>,
-}
-
-fn quantile(sorted: &[f64], q: f64) -> f64 {
-    let pos = q * (sorted.len() - 1) as f64;
-    let (i, t) = (pos.floor() as usize, pos.fract());
-    sorted[i] * (1.0 - t) + sorted[(i + 1).min(sorted.len() - 1)] * t
 }
 
 /// Distinct nights over several footprints' night lists, counted up to `cap`.
@@ -164,7 +159,7 @@ pub fn coverage(fp: &Footprint, pointings: &[Pointing]) -> Coverage {
     let mut depth_histogram = BTreeMap::new();
     if !depth.is_empty() {
         for (name, q) in [("min", 0.0), ("p10", 0.1), ("p50", 0.5), ("p90", 0.9), ("max", 1.0)] {
-            depth_quantiles.insert(name.to_string(), quantile(&depth, q));
+            depth_quantiles.insert(name.to_string(), quantile_sorted(&depth, q, QuantileRule::Linear));
         }
         for d in &depth {
             *depth_histogram

@@ -10,12 +10,12 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 use super::axes;
 use super::distributions::is_log;
 use super::rose::{self, Polar};
-use crate::analysis::binomial::weighted_histogram;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
 use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol};
 use crate::report::style;
 use crate::report::tables::{FitNull, RoseBin, WeightedSample};
+use crate::statistics::weighted_histogram;
 
 /// Whether an observable is an angle (drawn on a circle).
 pub fn is_angle(observable: &str) -> bool {

@@ -1,7 +1,9 @@
-//! The one statistics module of the analyses and the report: bin edges, the bin of a value,
-//! histograms (plain and weighted), weighted proportions with Kish's effective sample size and
-//! Wilson score intervals, and quantiles. Formulas and sources in methods.md ("Weighted
-//! proportions").
+//! The one statistics module of the tool (engine, analyses, hideout, survey coverage and the
+//! report): bin edges (by count, per decade) and the bin of a value, histograms (plain
+//! and weighted), weighted proportions with Kish's effective sample size and Wilson score
+//! intervals, and quantiles of values, of weighted values and of histograms, each rule a
+//! variant of `QuantileRule`. It uses only the crate's errors, so every layer may use it.
+//! Formulas and sources in methods.md ("Weighted proportions").
 
 /// z of the two-sided 95% normal interval, √2 erf⁻¹(0.95), as astropy computes it. The one z
 /// of every interval the tool prints, the report's included.
@@ -18,9 +20,16 @@ pub fn log_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
     (0..=n).map(|k| (a + (b - a) * k as f64 / n as f64).exp()).collect()
 }
 
+/// Logarithmic edges with `per_decade` bins per factor of ten from `lo` to `hi`, each computed
+/// as `lo·10^(j/per_decade)` so that decades fall on round values.
+pub fn edges_per_decade(lo: f64, hi: f64, per_decade: usize) -> Vec<f64> {
+    let k = ((hi / lo).log10() * per_decade as f64).round() as usize;
+    (0..=k).map(|j| lo * 10f64.powf(j as f64 / per_decade as f64)).collect()
+}
+
 /// Comma-separated increasing bin edges, as an option `option` gives them (e.g. `--h-edges`).
-pub fn parse_edges(option: &str, text: &str) -> crate::Result<Vec<f64>> {
-    use crate::Error;
+pub fn parse_edges(option: &str, text: &str) -> crate::error::Result<Vec<f64>> {
+    use crate::error::Error;
     let v: Vec<f64> = text
         .split(',')
         .map(|x| x.trim().parse::<f64>())
@@ -31,9 +40,9 @@ pub fn parse_edges(option: &str, text: &str) -> crate::Result<Vec<f64>> {
 }
 
 /// At least two increasing bin edges.
-pub fn check_edges(option: &str, edges: &[f64]) -> crate::Result<()> {
+pub fn check_edges(option: &str, edges: &[f64]) -> crate::error::Result<()> {
     if edges.len() < 2 || edges.windows(2).any(|w| !(w[1] > w[0])) {
-        return Err(crate::Error::input(format!(
+        return Err(crate::error::Error::input(format!(
             "{option} {edges:?}: expected at least two increasing bin edges"
         )));
     }
@@ -233,14 +242,55 @@ pub fn wilson(k: f64, n: f64, z: f64) -> (f64, f64) {
     ((centre - half).max(0.0), (centre + half).min(1.0))
 }
 
-/// The q-quantile of sorted values: the smallest value whose empirical CDF reaches q (type 1 of
-/// Hyndman & Fan 1996); NaN for no values.
-pub fn quantile_sorted(sorted: &[f64], q: f64) -> f64 {
+/// How a quantile is read from a sample (Hyndman & Fan 1996, *Am. Stat.* 50, 361).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum QuantileRule {
+    /// Type 1: the smallest value whose empirical CDF reaches q (a value of the sample).
+    InverseEcdf,
+    /// Type 7: linear between the order statistics at position q·(n − 1).
+    Linear,
+}
+
+/// The q-quantile of sorted values under `rule`; NaN for no values.
+pub fn quantile_sorted(sorted: &[f64], q: f64, rule: QuantileRule) -> f64 {
     if sorted.is_empty() {
         return f64::NAN;
     }
-    let k = (q * sorted.len() as f64).ceil() as usize;
-    sorted[k.clamp(1, sorted.len()) - 1]
+    match rule {
+        QuantileRule::InverseEcdf => {
+            let k = (q * sorted.len() as f64).ceil() as usize;
+            sorted[k.clamp(1, sorted.len()) - 1]
+        }
+        QuantileRule::Linear => {
+            let pos = q * (sorted.len() - 1) as f64;
+            let (i, t) = (pos.floor() as usize, pos.fract());
+            sorted[i] * (1.0 - t) + sorted[(i + 1).min(sorted.len() - 1)] * t
+        }
+    }
+}
+
+/// The q-quantile of a histogram, as a position in bins from the bottom edge of bin 0 (the
+/// caller maps it to its units). `InverseEcdf`: the first bin whose cumulative count reaches
+/// q·total (the last bin if none); `Linear`: linear inside the first non-empty bin that reaches
+/// it (the top edge if none). NaN for an empty histogram.
+pub fn histogram_quantile(counts: &[f64], q: f64, rule: QuantileRule) -> f64 {
+    let total: f64 = counts.iter().sum();
+    if !(total > 0.0) {
+        return f64::NAN;
+    }
+    let target = q * total;
+    let mut acc = 0.0;
+    for (b, &w) in counts.iter().enumerate() {
+        match rule {
+            QuantileRule::InverseEcdf if acc + w >= target => return b as f64,
+            QuantileRule::Linear if w > 0.0 && acc + w >= target => return b as f64 + (target - acc) / w,
+            _ => acc += w,
+        }
+    }
+    match rule {
+        QuantileRule::InverseEcdf => counts.len() as f64 - 1.0,
+        QuantileRule::Linear => counts.len() as f64,
+    }
 }
 
 /// The weighted q-quantile: the smallest value whose cumulative share of the weight reaches q.
@@ -256,20 +306,6 @@ pub fn weighted_quantile(values: &[f64], weights: &[f64], q: f64) -> f64 {
         }
     }
     order.last().map_or(f64::NAN, |i| values[*i])
-}
-
-/// The columns of a list of proportions in an output table: `discovered` (count), `fraction`
-/// (weighted), `n_eff`, `std_error`, `wilson_lo`, `wilson_hi`.
-pub fn proportion_columns(p: &[Proportion]) -> Vec<polars::prelude::Column> {
-    use crate::io::out_dir::col;
-    vec![
-        col("discovered", p.iter().map(|x| x.k).collect::<Vec<u64>>()),
-        col("fraction", p.iter().map(|x| x.fraction).collect::<Vec<f64>>()),
-        col("n_eff", p.iter().map(|x| x.n_eff).collect::<Vec<f64>>()),
-        col("std_error", p.iter().map(|x| x.std_error).collect::<Vec<f64>>()),
-        col("wilson_lo", p.iter().map(|x| x.lower).collect::<Vec<f64>>()),
-        col("wilson_hi", p.iter().map(|x| x.upper).collect::<Vec<f64>>()),
-    ]
 }
 
 /// A proportion as a percentage with sensible digits, for conclusions: one decimal from 10%,
@@ -326,10 +362,39 @@ mod tests {
     #[test]
     fn quantiles_invert_the_ecdf() {
         let v = [1.0, 2.0, 3.0, 4.0];
-        assert_eq!(quantile_sorted(&v, 0.5), 2.0);
-        assert_eq!(quantile_sorted(&v, 0.51), 3.0);
-        assert_eq!(quantile_sorted(&v, 0.0), 1.0);
+        let ecdf = QuantileRule::InverseEcdf;
+        assert_eq!(quantile_sorted(&v, 0.5, ecdf), 2.0);
+        assert_eq!(quantile_sorted(&v, 0.51, ecdf), 3.0);
+        assert_eq!(quantile_sorted(&v, 0.0, ecdf), 1.0);
         assert_eq!(weighted_quantile(&[3.0, 1.0, 2.0], &[1.0, 1.0, 2.0], 0.5), 2.0);
+    }
+
+    /// Type 7 of Hyndman & Fan (1996): numpy.quantile's default (from memory: the median of
+    /// 1..4 is 2.5, the 0.1-quantile 1.3).
+    #[test]
+    fn linear_quantiles_interpolate() {
+        let v = [1.0, 2.0, 3.0, 4.0];
+        assert_eq!(quantile_sorted(&v, 0.5, QuantileRule::Linear), 2.5);
+        assert!((quantile_sorted(&v, 0.1, QuantileRule::Linear) - 1.3).abs() < 1e-12);
+        assert_eq!(quantile_sorted(&v, 1.0, QuantileRule::Linear), 4.0);
+    }
+
+    #[test]
+    fn histogram_quantiles_by_rule() {
+        let h = [0.0, 2.0, 0.0, 2.0];
+        assert_eq!(histogram_quantile(&h, 0.5, QuantileRule::InverseEcdf), 1.0);
+        assert_eq!(histogram_quantile(&h, 0.75, QuantileRule::InverseEcdf), 3.0);
+        assert_eq!(histogram_quantile(&h, 0.75, QuantileRule::Linear), 3.5);
+        assert_eq!(histogram_quantile(&h, 0.25, QuantileRule::Linear), 1.5);
+        assert!(histogram_quantile(&[0.0; 3], 0.5, QuantileRule::Linear).is_nan());
+    }
+
+    #[test]
+    fn linear_and_decade_edges_fall_on_round_values() {
+        assert_eq!(lin_edges(-10.0, 16.0, 52)[21], 0.5);
+        assert_eq!(lin_edges(0.0, 180.0, 18)[18], 180.0);
+        let d = edges_per_decade(10.0, 10000.0, 8);
+        assert_eq!((d.len(), d[0], d[8], d[24]), (25, 10.0, 100.0, 10000.0));
     }
 
     #[test]
