@@ -71,17 +71,26 @@ fn read_page(page: &Path) -> String {
 #[test]
 fn tutorial_bias_check_runs() {
     let d = run_doc("tutorial-bias-check.md");
-    // Step 4 says the whole directory's report shows the test's table, the banded roses and the
-    // null distributions.
+    // Step 4 says the whole directory's report has a section per run: the maps' (the whole
+    // catalogue's map with the objects marked) and the test's (its table, the banded roses and
+    // the null distributions), each run's figures named by its directory.
     let html = read_page(&d.path().join("bias/index.html"));
     for f in [
-        "rose_varpi_deg",
-        "cluster_null_rayleigh_varpi",
-        "cluster_null_mean_pole",
+        "maps_bias_map_varpi_deg_node_deg_catalogue",
+        "cluster_rose_varpi_deg",
+        "cluster_cluster_null_rayleigh_varpi",
+        "cluster_cluster_null_mean_pole",
+        "season_rose_varpi_deg",
     ] {
         assert!(html.contains(&format!("figures/{f}.svg")), "bias/index.html lacks {f}");
     }
-    assert!(html.contains("the bias-aware null") && html.contains("Cluster test: each statistic"));
+    for section in ["Bias maps: maps", "Clustering test: cluster"] {
+        assert!(
+            html.contains(&format!("<h2>{section}</h2>")),
+            "bias/index.html lacks {section}"
+        );
+    }
+    assert!(html.contains("the bias-aware null") && html.contains("Cluster test cluster: each statistic"));
     for f in ["cluster_test", "cluster_null", "rose"] {
         assert!(d.path().join(format!("bias/cluster/{f}.parquet")).exists(), "{f}");
     }
