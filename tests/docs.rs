@@ -94,6 +94,17 @@ fn tutorial_bias_check_runs() {
     for f in ["cluster_test", "cluster_null", "rose"] {
         assert!(d.path().join(format!("bias/cluster/{f}.parquet")).exists(), "{f}");
     }
+    // Step 5 quotes the fit classes of the 100 discoveries.
+    for (class, quoted) in [("one_opposition", "59"), ("short_arc", "37"), ("failed", "4")] {
+        let out = Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args(["table", "bias/fitted/discoveries.parquet", "--count", "--where"])
+            .arg(format!("fit_quality == {class}"))
+            .current_dir(d.path())
+            .output()
+            .unwrap();
+        let count = String::from_utf8_lossy(&out.stdout).trim().to_string();
+        assert_eq!(count, quoted, "step 5 says {quoted} fits are {class}");
+    }
     // Step 5: the same test on fitted orbits and on true ones, both under the quality cut.
     for run in ["cluster-cut-true", "cluster-cut-fitted"] {
         assert!(
