@@ -71,19 +71,39 @@ fn read_page(page: &Path) -> String {
 #[test]
 fn tutorial_bias_check_runs() {
     let d = run_doc("tutorial-bias-check.md");
-    // Step 4 says the whole directory's report shows the test's table, the banded roses and the
-    // null distributions.
+    // Step 4 says the whole directory's report has a section per run: the maps' (the whole
+    // catalogue's map with the objects marked) and the test's (its table, the banded roses and
+    // the null distributions), each run's figures named by its directory.
     let html = read_page(&d.path().join("bias/index.html"));
     for f in [
-        "rose_varpi_deg",
-        "cluster_null_rayleigh_varpi",
-        "cluster_null_mean_pole",
+        "maps_bias_map_varpi_deg_node_deg_catalogue",
+        "cluster_rose_varpi_deg",
+        "cluster_cluster_null_rayleigh_varpi",
+        "cluster_cluster_null_mean_pole",
+        "season_rose_varpi_deg",
     ] {
         assert!(html.contains(&format!("figures/{f}.svg")), "bias/index.html lacks {f}");
     }
-    assert!(html.contains("the bias-aware null") && html.contains("Cluster test: each statistic"));
+    for section in ["Bias maps: maps", "Clustering test: cluster"] {
+        assert!(
+            html.contains(&format!("<h2>{section}</h2>")),
+            "bias/index.html lacks {section}"
+        );
+    }
+    assert!(html.contains("the bias-aware null") && html.contains("Cluster test cluster: each statistic"));
     for f in ["cluster_test", "cluster_null", "rose"] {
         assert!(d.path().join(format!("bias/cluster/{f}.parquet")).exists(), "{f}");
+    }
+    // Step 5 quotes the fit classes of the 100 discoveries.
+    for (class, quoted) in [("one_opposition", "59"), ("short_arc", "37"), ("failed", "4")] {
+        let out = Command::new(env!("CARGO_BIN_EXE_seine"))
+            .args(["table", "bias/fitted/discoveries.parquet", "--count", "--where"])
+            .arg(format!("fit_quality == {class}"))
+            .current_dir(d.path())
+            .output()
+            .unwrap();
+        let count = String::from_utf8_lossy(&out.stdout).trim().to_string();
+        assert_eq!(count, quoted, "step 5 says {quoted} fits are {class}");
     }
     // Step 5: the same test on fitted orbits and on true ones, both under the quality cut.
     for run in ["cluster-cut-true", "cluster-cut-fitted"] {

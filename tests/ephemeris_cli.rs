@@ -178,13 +178,14 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         err.contains("likelihood ratio ") && !err.contains("likelihood ratio inf"),
         "{err}"
     );
-    // The demo's cluster test writes its null samples and rose band; its report shows them.
+    // The demo's cluster test writes its null samples and rose band; its report shows them
+    // (a run's figures are named after its directory, `cluster_test_`).
     let html = std::fs::read_to_string(dir.path().join("index.html")).unwrap();
     for f in [
-        "cluster_null_rayleigh_varpi",
-        "cluster_null_kuiper_node",
-        "rose_varpi_deg",
-        "rose_node_deg",
+        "cluster_test_cluster_null_rayleigh_varpi",
+        "cluster_test_cluster_null_kuiper_node",
+        "cluster_test_rose_varpi_deg",
+        "cluster_test_rose_node_deg",
     ] {
         assert!(
             html.contains(&format!("src=\"figures/{f}.svg\"")),
@@ -197,7 +198,7 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         "the demo's roses carry the bias-aware band"
     );
     assert!(
-        html.contains("Cluster test: each statistic"),
+        html.contains("Cluster test cluster-test: each statistic"),
         "the cluster test's table"
     );
     // The cadence step: three revisit intervals through `seine yield`, fewer found the sparser.

@@ -72,12 +72,32 @@ fn distributions_and_fractions_have_units() {
     let a = ramp(500, 30.0, 900.0);
     let found: Vec<f64> = a.iter().copied().step_by(17).collect();
     check(
-        &distributions::injected_vs_discovered("a_au", &a, &found, "").unwrap(),
+        &distributions::injected_vs_discovered(
+            "a_au",
+            (&a, &vec![1.0; a.len()]),
+            (&found, &vec![1.0; found.len()]),
+            "",
+        )
+        .unwrap(),
         &["semi-major axis a (AU)", "objects per bin"],
     );
+    // Weights count: every object at weight 2 doubles the curves and the caption says so.
+    let two = |n: usize| vec![2.0; n];
+    let weighted =
+        distributions::injected_vs_discovered("a_au", (&a, &two(a.len())), (&found, &two(found.len())), "").unwrap();
+    let plain =
+        distributions::injected_vs_discovered("a_au", (&a, &vec![1.0; a.len()]), (&found, &vec![1.0; found.len()]), "")
+            .unwrap();
+    assert!(
+        weighted.caption.contains("total weight injected 1000.0000"),
+        "{}",
+        weighted.caption
+    );
+    assert!(!plain.caption.contains("total weight"));
+    assert_ne!(weighted.svg, plain.svg, "weights do not change the histograms");
     let h = ramp(500, 4.0, 10.0);
     check(
-        &distributions::injected_vs_discovered("h_mag", &h, &h[..5], "").unwrap(),
+        &distributions::injected_vs_discovered("h_mag", (&h, &vec![1.0; h.len()]), (&h[..5], &[1.0; 5]), "").unwrap(),
         &["absolute magnitude H (mag)"],
     );
     let bins: Vec<FractionBin> = (0..8)
@@ -106,7 +126,7 @@ fn distributions_and_fractions_have_units() {
 #[test]
 fn empty_tables_still_make_a_figure() {
     check(
-        &distributions::injected_vs_discovered("q_au", &[], &[], "").unwrap(),
+        &distributions::injected_vs_discovered("q_au", (&[], &[]), (&[], &[]), "").unwrap(),
         &["no objects"],
     );
     check(
@@ -167,6 +187,7 @@ fn analysis_figures_from_synthetic_tables() {
             y_min: j as f64 * 20.0,
             y_max: (j + 1) as f64 * 20.0,
             value: 0.01 * (1.0 + ((i as f64) * 0.17).sin()),
+            trials: None,
         })
         .collect();
     let map = HeatMap {
@@ -811,4 +832,206 @@ fn an_inconsistent_selection_table_is_refused_by_name_and_row() {
     );
     let err = refused(tmp.path().to_str().unwrap());
     assert!(err.contains("selection_function.csv") && err.contains("row 2"), "{err}");
+}
+
+/// A square grid of `n` × `n` cells over (ϖ, Ω) with values `v(i, j)` and `trials` per cell.
+fn angle_map(id: i64, n: usize, trials: Option<u64>, v: impl Fn(usize, usize) -> f64) -> HeatMap {
+    let w = 360.0 / n as f64;
+    HeatMap {
+        x: "varpi_deg".into(),
+        y: "node_deg".into(),
+        value_label: "discovery probability".into(),
+        id: Some(id),
+        cells: (0..n)
+            .flat_map(|i| (0..n).map(move |j| (i, j)))
+            .map(|(i, j)| HeatCell {
+                x_min: i as f64 * w,
+                x_max: (i + 1) as f64 * w,
+                y_min: j as f64 * w,
+                y_max: (j + 1) as f64 * w,
+                value: v(i, j),
+                trials,
+            })
+            .collect(),
+    }
+}
+
+#[test]
+fn a_map_of_few_values_gets_a_discrete_key_and_a_smooth_one_a_colour_bar() {
+    // Three trials per cell: every value is 0, 1/3, 2/3 or 1.
+    let coarse = angle_map(3, 6, Some(3), |i, j| ((i + 2 * j) % 4) as f64 / 3.0);
+    let f = bias::bias_map(&coarse).unwrap();
+    check(
+        &f,
+        &["1/3 = 0.333", "3/3 = 1.000", "discovery probability (dimensionless)"],
+    );
+    assert!(f.caption.contains("only 4 distinct values"), "{}", f.caption);
+    assert!(f.caption.contains("Each cell holds 3 trials"), "{}", f.caption);
+    // Many values: the continuous bar, with its ticks from 0 to the largest value.
+    let smooth = angle_map(4, 6, None, |i, j| 0.01 * (i * 6 + j) as f64);
+    let f = bias::bias_map(&smooth).unwrap();
+    assert!(!f.svg.contains(" = 0."), "a continuous map has no discrete key");
+    assert!(
+        f.caption.contains("linear from 0 to the largest value, 0.350"),
+        "{}",
+        f.caption
+    );
+}
+
+#[test]
+fn the_catalogue_map_adds_the_objects_maps_with_their_weights() {
+    let a = angle_map(1, 4, None, |i, _| 0.1 * i as f64);
+    let b = angle_map(2, 4, None, |_, j| 0.2 * j as f64);
+    // A map on another grid is read at the summed grid's cell centres.
+    let c = angle_map(3, 2, None, |_, _| 0.4);
+    let weight = |id: Option<i64>| match id {
+        Some(1) => 2.0,
+        Some(2) => 0.5,
+        _ => 0.25,
+    };
+    let sum = HeatMap::weighted_sum(&[a, b, c], weight, "sum").unwrap();
+    assert_eq!(sum.cells.len(), 16);
+    for cell in &sum.cells {
+        let (i, j) = ((cell.x_min / 90.0) as usize, (cell.y_min / 90.0) as usize);
+        let expected = 2.0 * 0.1 * i as f64 + 0.5 * 0.2 * j as f64 + 0.25 * 0.4;
+        assert!(
+            (cell.value - expected).abs() < 1e-12,
+            "cell ({i}, {j}): {} vs {expected}",
+            cell.value
+        );
+    }
+}
+
+#[test]
+fn rose_wedges_outside_the_band_are_named_and_the_median_is_one_line() {
+    let band = |lo, median, hi| Some(NullBand { lo, median, hi });
+    // 12 bins, 9 objects: one bin above its band (5 > 3), one empty bin below it (0 < 1).
+    let observed = [5.0, 1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 0.0, 0.0, 0.0];
+    let bins: Vec<RoseBin> = (0..12)
+        .map(|k| RoseBin {
+            min_deg: 30.0 * k as f64,
+            max_deg: 30.0 * (k + 1) as f64,
+            observed: observed[k],
+            null: if k == 2 {
+                band(1.0, 2.0, 4.0)
+            } else {
+                band(0.0, 1.0, 3.0)
+            },
+        })
+        .collect();
+    let f = rose::rose("node_deg", &bins, rose::Band::BiasAware, "").unwrap();
+    check(
+        &f,
+        &[
+            "observed, inside the band",
+            "observed, above the band",
+            "observed, below the band",
+            "median of the band",
+        ],
+    );
+    assert!(f.caption.contains("above the band (1 of 12 bins)"), "{}", f.caption);
+    assert!(f.caption.contains("below it (1;"), "{}", f.caption);
+    assert!(
+        f.caption.contains("9 objects in 12 bins, fewer objects than bins"),
+        "{}",
+        f.caption
+    );
+    // The median is one line round the circle (the other dark line of width 2 is the key's).
+    let median_lines = f
+        .svg
+        .matches("<polyline fill=\"none\" opacity=\"1\" stroke=\"#222222\" stroke-width=\"2\"")
+        .count();
+    assert_eq!(median_lines, 2, "the median must be one continuous line");
+    // More objects than bins: no caution.
+    let many: Vec<RoseBin> = bins
+        .iter()
+        .map(|b| RoseBin {
+            observed: 3.0,
+            ..b.clone()
+        })
+        .collect();
+    let f = rose::rose("node_deg", &many, rose::Band::BiasAware, "").unwrap();
+    assert!(!f.caption.contains("fewer objects than bins"), "{}", f.caption);
+}
+
+/// A cluster-test output written by hand in `d`: its rose, statistics and null samples, and
+/// a map table of two objects with their angles and weights, all carrying `observed`.
+fn cluster_run(d: &Path, observed: f64) {
+    std::fs::create_dir_all(d).unwrap();
+    common::write(
+        d,
+        "rose.csv",
+        &format!(
+            "quantity,bin_lo_deg,bin_hi_deg,observed,null_lo,null_median,null_hi\nvarpi_deg,0,180,{observed},0,1,2\nvarpi_deg,180,360,1,0,1,2\n"
+        ),
+    );
+    common::write(
+        d,
+        "cluster_null.csv",
+        "statistic,value\nrayleigh_varpi,0.1\nrayleigh_varpi,0.2\nrayleigh_varpi,0.3\n",
+    );
+    common::write(
+        d,
+        "cluster_test.csv",
+        &format!("statistic,observed,p_bias_aware,p_naive\nrayleigh_varpi,{observed},0.33,0.2\n"),
+    );
+    common::write(
+        d,
+        "bias_map.csv",
+        "id,varpi_lo_deg,varpi_hi_deg,node_lo_deg,node_hi_deg,trials,p_discover\n1,0,180,0,360,4,0.25\n1,180,360,0,360,4,0.5\n2,0,180,0,360,4,0.75\n2,180,360,0,360,4,0\n",
+    );
+    common::write(
+        d,
+        "map_objects.csv",
+        "id,varpi_deg,node_deg,weight\n1,30,40,2\n2,200,100,0.5\n",
+    );
+}
+
+#[test]
+fn two_cluster_test_runs_side_by_side_never_share_a_figure() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path();
+    cluster_run(&d.join("first"), 0.125);
+    cluster_run(&d.join("second"), 0.875);
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    for run in ["first", "second"] {
+        assert!(
+            html.contains(&format!("<h2>Clustering test: {run}</h2>")),
+            "no section of {run}"
+        );
+        assert!(
+            html.contains(&format!("From run {run}:")),
+            "section does not name {run}"
+        );
+    }
+    assert!(!html.contains(">.<") && !html.contains("run .:"), "a run called \".\"");
+    let fig = |name: &str| std::fs::read_to_string(d.join("figures").join(name)).unwrap();
+    for stem in [
+        "rose_varpi_deg",
+        "cluster_null_rayleigh_varpi",
+        "bias_map_varpi_deg_node_deg_catalogue",
+        "bias_map_varpi_deg_node_deg_1",
+    ] {
+        let (a, b) = (fig(&format!("first_{stem}.svg")), fig(&format!("second_{stem}.svg")));
+        assert!(
+            html.contains(&format!("figures/first_{stem}.svg")) && html.contains(&format!("figures/second_{stem}.svg"))
+        );
+        if stem.starts_with("cluster_null") {
+            // Each null figure carries its own run's observed value.
+            assert!(
+                a.contains("0.1250") && !a.contains("0.8750"),
+                "first run's figure shows the second's value"
+            );
+            assert!(b.contains("0.8750") && !b.contains("0.1250"));
+        }
+    }
+    // The catalogue map adds the two maps with the weights of map_objects.csv (2 and 0.5) and
+    // marks both objects: 2 × 0.25 + 0.5 × 0.75 = 0.875 in the first cell.
+    let cat = fig("first_bias_map_varpi_deg_node_deg_catalogue.svg");
+    assert!(cat.contains("total weight 2.500"), "weights not honoured");
+    assert!(cat.contains("the 2 objects' own"), "objects not marked");
+    assert!(cat.contains("0.875"), "the weighted sum is not drawn");
+    // Two trials' worth of values per map: the discrete key.
+    assert!(fig("first_bias_map_varpi_deg_node_deg_1.svg").contains("1/4 = 0.250"));
 }

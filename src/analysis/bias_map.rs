@@ -46,6 +46,14 @@ impl MapAxes {
             MapAxes::ArgperiNode => "argperi",
         }
     }
+    /// An orbit's angle on the first axis (rad): ϖ = Ω + ω in [0, 2π), or ω.
+    pub fn x_of(self, el: &Elements) -> f64 {
+        match self {
+            MapAxes::VarpiNode => (el.node_rad + el.argperi_rad).rem_euclid(TAU),
+            MapAxes::ArgperiNode => el.argperi_rad,
+        }
+    }
+
     /// ω from the first-axis angle and Ω.
     pub fn argperi(self, x: f64, node: f64) -> f64 {
         match self {

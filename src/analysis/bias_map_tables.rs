@@ -1,6 +1,6 @@
 //! The bias maps' output product: file names, columns, writing and reading of `bias_map.*`
-//! (one row per object and cell) and `map_discoveries.*` (the angles of every discovered
-//! trial). `seine bias-map` and `seine cluster-test` write through it; `cluster-test --bias-map`
+//! (one row per object and cell), `map_discoveries.*` (the angles of every discovered
+//! trial) and `map_objects.*` (each mapped object's own angles and weight). `seine bias-map` and `seine cluster-test` write through it; `cluster-test --bias-map`
 //! reads maps back through `read`, and `seine report` reads any map table through `read_cells`
 //! (which also takes the documented hand-made layout `X_min, X_max, Y_min, Y_max, fraction`).
 
@@ -19,6 +19,8 @@ use crate::population::objects::ObjectTable;
 pub const MAPS: &str = "bias_map";
 /// File stem of the discovered trials' angles beside a map table.
 pub const FOUND: &str = "map_discoveries";
+/// File stem of the mapped objects' own angles and weights beside a map table.
+pub const OBJECTS: &str = "map_objects";
 
 const ID: &str = "id";
 const CELL: &str = "cell";
@@ -28,6 +30,7 @@ const TRIALS: &str = "trials";
 const DISCOVERED: &str = "discovered";
 const P_DISCOVER: &str = "p_discover";
 const NODE: &str = "node";
+const WEIGHT: &str = "weight";
 /// The object each map was made for, beside its id: the quantities a map depends on that the
 /// trials keep (the angles and the mean anomaly are drawn). A map read back for a catalogue is
 /// checked against them, so that a map of another catalogue's object of the same id is refused.
@@ -44,12 +47,43 @@ pub fn is_map_table(name: &str) -> bool {
     name.starts_with(MAPS) && (name.ends_with(".csv") || name.ends_with(".parquet"))
 }
 
-/// Write `bias_map.*` and `map_discoveries.*` of maps made for objects of `objects`; returns
-/// both paths.
-pub fn write(out: &OutDir, maps: &[BiasMap], objects: &ObjectTable) -> Result<[PathBuf; 2]> {
+/// A mapped object's own place on its map: its angles (deg) on the map's axes, and its
+/// weight in the catalogue (a map of the whole catalogue adds the objects' maps with it).
+#[derive(Debug, Clone, PartialEq)]
+pub struct MappedObject {
+    pub id: i64,
+    pub x_deg: f64,
+    pub node_deg: f64,
+    pub weight: f64,
+}
+
+/// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` of maps made for objects of
+/// `objects`; returns the three paths.
+pub fn write(out: &OutDir, maps: &[BiasMap], objects: &ObjectTable) -> Result<[PathBuf; 3]> {
     let mut columns = map_columns(maps);
     columns.extend(object_columns(maps, objects));
-    Ok([out.write(MAPS, columns)?, out.write(FOUND, found_columns(maps))?])
+    Ok([
+        out.write(MAPS, columns)?,
+        out.write(FOUND, found_columns(maps))?,
+        out.write(OBJECTS, mapped_columns(x_name(maps), &mapped_objects(maps, objects)))?,
+    ])
+}
+
+/// Each map's object: its own angles on the map's axes and its weight.
+fn mapped_objects(maps: &[BiasMap], objects: &ObjectTable) -> Vec<MappedObject> {
+    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    maps.iter()
+        .filter_map(|m| {
+            let r = *row_of.get(&m.id)?;
+            let el = &objects.elements[r];
+            Some(MappedObject {
+                id: m.id,
+                x_deg: m.grid.axes.x_of(el).to_degrees(),
+                node_deg: el.node_rad.rem_euclid(std::f64::consts::TAU).to_degrees(),
+                weight: objects.weight[r],
+            })
+        })
+        .collect()
 }
 
 /// The values of `OBJECT_COLUMNS` of one catalogue row.
@@ -71,6 +105,60 @@ fn object_columns(maps: &[BiasMap], objects: &ObjectTable) -> Vec<Column> {
     (0..OBJECT_COLUMNS.len())
         .map(|k| col(OBJECT_COLUMNS[k], keys.iter().map(|v| v[k]).collect::<Vec<f64>>()))
         .collect()
+}
+
+/// `map_objects`: one row per mapped object, `id, varpi_deg` (or `argperi_deg`), `node_deg`,
+/// `weight`.
+fn mapped_columns(x: &str, mapped: &[MappedObject]) -> Vec<Column> {
+    let each = |f: fn(&MappedObject) -> f64| mapped.iter().map(f).collect::<Vec<f64>>();
+    vec![
+        col(ID, mapped.iter().map(|m| m.id).collect::<Vec<i64>>()),
+        col(&format!("{x}_deg"), each(|m| m.x_deg)),
+        col(&format!("{NODE}_deg"), each(|m| m.node_deg)),
+        col(WEIGHT, each(|m| m.weight)),
+    ]
+}
+
+/// The mapped objects of `map_objects.*` beside a map table (same format), when there is
+/// that file: `id`, the first axis's angle (`varpi_deg`, `argperi_deg`, or any `X_deg` but
+/// `node_deg`), `node_deg`, optional `weight` (default 1).
+pub fn read_objects(map_table: &Path) -> Result<Option<Vec<MappedObject>>> {
+    let ext = map_table.extension().and_then(|e| e.to_str()).unwrap_or("parquet");
+    let path = map_table.with_file_name(format!("{OBJECTS}.{ext}"));
+    if !path.exists() {
+        return Ok(None);
+    }
+    let df = read_table(&path)?;
+    let c = Columns::new(&df, &path);
+    let node_col = format!("{NODE}_deg");
+    let x_col = ["varpi_deg", "argperi_deg"]
+        .into_iter()
+        .find(|n| c.has(n))
+        .ok_or_else(|| {
+            Error::input(format!(
+                "{}: expected a column varpi_deg or argperi_deg",
+                path.display()
+            ))
+        })?;
+    let (ids, x, node) = (c.i64(ID)?, c.f64(x_col)?, c.f64(&node_col)?);
+    let weight = if c.has(WEIGHT) {
+        c.f64(WEIGHT)?
+    } else {
+        vec![1.0; ids.len()]
+    };
+    if let Some(r) = weight.iter().position(|w| !(w.is_finite() && *w >= 0.0)) {
+        return Err(c.bad_value(r, WEIGHT, "a finite weight ≥ 0"));
+    }
+    Ok(Some(
+        (0..ids.len())
+            .map(|r| MappedObject {
+                id: ids[r],
+                x_deg: x[r],
+                node_deg: node[r],
+                weight: weight[r],
+            })
+            .collect(),
+    ))
 }
 
 /// The first axis's name (`varpi` or `argperi`) of a list of maps.
@@ -257,6 +345,8 @@ pub struct MapCells {
     pub id: Option<i64>,
     /// (x_min, x_max, y_min, y_max, value) per cell.
     pub cells: Vec<[f64; 5]>,
+    /// Trials per cell, when the table has them (`trials`, as `seine bias-map` writes it).
+    pub trials: Option<Vec<u64>>,
 }
 
 /// Read any map table as cells: bin columns `X_lo_deg`/`X_hi_deg` (as `seine bias-map` writes
@@ -288,6 +378,7 @@ pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
     } else {
         vec![None; v.len()]
     };
+    let trials = if c.has(TRIALS) { Some(c.i64(TRIALS)?) } else { None };
     let mut maps: Vec<MapCells> = Vec::new();
     for i in 0..v.len() {
         if maps.last().is_none_or(|m| m.id != ids[i]) {
@@ -296,10 +387,14 @@ pub fn read_cells(path: &Path) -> Result<Vec<MapCells>> {
                 y: y.clone(),
                 id: ids[i],
                 cells: Vec::new(),
+                trials: trials.as_ref().map(|_| Vec::new()),
             });
         }
-        let cell = [x0[i], x1[i], y0[i], y1[i], v[i]];
-        maps.last_mut().expect("pushed above").cells.push(cell);
+        let m = maps.last_mut().expect("pushed above");
+        m.cells.push([x0[i], x1[i], y0[i], y1[i], v[i]]);
+        if let (Some(t), Some(all)) = (m.trials.as_mut(), trials.as_ref()) {
+            t.push(u64::try_from(all[i]).map_err(|_| c.bad_value(i, TRIALS, "trials ≥ 0"))?);
+        }
     }
     Ok(maps)
 }

@@ -1,12 +1,8 @@
-//! `seine ephemeris`: positions of objects at epochs.
+//! `seine ephemeris`: arguments and printing; the run is `seine::commands::ephemeris`.
 
 use std::path::PathBuf;
 
-use seine::io::Provenance;
-use seine::io::table::{Columns, read_table, write_table};
-use seine::population::ephemeris::ephemeris_table;
-use seine::population::objects::ObjectTable;
-use seine::sky::observer::Site;
+use seine::commands::ephemeris::{EphemerisOptions, Epochs, ephemeris, parse_site};
 use seine::time::TimeScale;
 use seine::{Error, Result};
 
@@ -39,72 +35,17 @@ pub struct Args {
 pub fn run(a: Args) -> Result<()> {
     let scale = TimeScale::parse(&a.time_scale)
         .ok_or_else(|| Error::input(format!("--time-scale `{}`: expected utc, tai, tt or tdb", a.time_scale)))?;
-    let mut site = a.site.as_deref().map(parse_site).transpose()?;
-    seine::io::table::Format::of(&a.out)?;
-    let objects = ObjectTable::read(&a.objects)?;
-    let mut prov = Provenance::current();
-    prov.add_input(&a.objects)?;
-    let (mjd, scale) = match (&a.epochs, &a.survey) {
-        (Some(path), _) => {
-            let epochs_df = read_table(path)?;
-            let mjd = Columns::new(&epochs_df, path).f64("mjd")?;
-            if mjd.is_empty() {
-                return Err(Error::input(format!(
-                    "{}: the epochs table has no rows",
-                    path.display()
-                )));
-            }
-            prov.add_input(path)?;
-            (mjd, scale)
-        }
-        (None, Some(spec)) => {
-            let survey = seine::survey::Survey::load(spec)?;
-            prov.add_input(spec)?;
-            prov.add_input(&survey.visits_path)?;
-            site = site.or(survey.site);
-            (survey.visits.mjd.clone(), survey.time_scale)
-        }
+    let epochs = match (a.epochs, a.survey) {
+        (Some(path), _) => Epochs::Table(path, scale),
+        (None, Some(spec)) => Epochs::Survey(spec),
         (None, None) => return Err(Error::input("ephemeris: give --epochs or --survey")),
     };
-    let mut df = ephemeris_table(&objects, &mjd, scale, site.as_ref())?;
-    write_table(&mut df, &a.out, &prov)?;
-    eprintln!(
-        "seine ephemeris: {} objects × {} epochs → {}",
-        objects.len(),
-        mjd.len(),
-        a.out.display()
-    );
+    let opts = EphemerisOptions {
+        site: a.site.as_deref().map(parse_site).transpose()?,
+        objects: a.objects,
+        epochs,
+        out: a.out,
+    };
+    eprintln!("{}", ephemeris(&opts)?.conclusion);
     Ok(())
-}
-
-/// Parse `LON_DEG,LAT_DEG[,ELEV_M]` into a site.
-fn parse_site(s: &str) -> Result<Site> {
-    let parts: Vec<&str> = s.split(',').map(str::trim).collect();
-    let num = |i: usize, what: &str| -> Result<f64> {
-        parts
-            .get(i)
-            .and_then(|p| p.parse::<f64>().ok())
-            .filter(|x| x.is_finite())
-            .ok_or_else(|| {
-                Error::input(format!(
-                    "--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M] with a number for {what}"
-                ))
-            })
-    };
-    if !(2..=3).contains(&parts.len()) {
-        return Err(Error::input(format!("--site `{s}`: expected LON_DEG,LAT_DEG[,ELEV_M]")));
-    }
-    let site = Site {
-        longitude_deg: num(0, "the longitude")?,
-        latitude_deg: num(1, "the latitude")?,
-        elevation_m: if parts.len() == 3 {
-            num(2, "the elevation")?
-        } else {
-            0.0
-        },
-    };
-    if let Some(p) = site.problem() {
-        return Err(Error::input(format!("--site: {p}")));
-    }
-    Ok(site)
 }

@@ -1,10 +1,10 @@
-//! `seine provenance FILE`: print what made a table (tool version, command line, SHA-256 of
-//! every spec and table read, seed), from Parquet key-value metadata or a CSV's sidecar.
+//! `seine provenance FILE`: arguments and printing; the run is `seine::commands::provenance`
+//! (what made a table, from its Parquet metadata or a CSV's sidecar).
 
 use std::path::PathBuf;
 
-use seine::io::provenance::read_provenance;
-use seine::{Error, Result};
+use seine::Result;
+use seine::commands::provenance::provenance;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -14,21 +14,6 @@ pub struct Args {
 }
 
 pub fn run(a: Args) -> Result<()> {
-    let file = if a.file.is_dir() {
-        ["objects.parquet", "objects.csv"]
-            .iter()
-            .map(|n| a.file.join(n))
-            .find(|p| p.exists())
-            .ok_or_else(|| {
-                Error::input(format!(
-                    "{}: a directory without objects.parquet or objects.csv",
-                    a.file.display()
-                ))
-            })?
-    } else {
-        a.file
-    };
-    let p = read_provenance(&file)?;
-    outln!("{}", p.to_json());
+    outln!("{}", provenance(&a.file)?.to_json());
     Ok(())
 }

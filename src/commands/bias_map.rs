@@ -6,7 +6,7 @@
 use std::path::PathBuf;
 
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, bias_maps, svg};
+use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, bias_maps, svg};
 use crate::analysis::bias_map_tables;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
@@ -144,7 +144,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let maps = opts
         .maps
         .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
-    let [table, found] = bias_map_tables::write(&out, &maps, &objects)?;
+    let [table, found, own] = bias_map_tables::write(&out, &maps, &objects)?;
     if opts.svg {
         write_svgs(opts, &objects, rows, &maps)?;
     }
@@ -171,7 +171,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
         &conclusion,
     )?;
     Ok(Outcome {
-        written: vec![table, found, summary],
+        written: vec![table, found, own, summary],
         conclusion,
         notes: note.into_iter().collect(),
     })
@@ -186,10 +186,7 @@ fn write_svgs(
 ) -> Result<()> {
     for (m, i) in maps.iter().zip(rows) {
         let el = &objects.elements[i];
-        let x = match opts.maps.grid.axes {
-            MapAxes::VarpiNode => (el.node_rad + el.argperi_rad).rem_euclid(std::f64::consts::TAU),
-            MapAxes::ArgperiNode => el.argperi_rad,
-        };
+        let x = opts.maps.grid.axes.x_of(el);
         write_atomic(
             &opts.run.out.join("maps").join(format!("{}.svg", m.id)),
             svg(m, Some((x, el.node_rad))).as_bytes(),

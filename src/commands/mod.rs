@@ -10,8 +10,11 @@ pub mod compare_models;
 pub mod demo;
 pub mod detectability;
 pub mod draw;
+pub mod ephemeris;
+pub mod merge;
 pub mod observe;
 pub mod plan;
+pub mod provenance;
 pub mod yields;
 
 use std::path::{Path, PathBuf};

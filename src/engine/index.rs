@@ -1,6 +1,6 @@
-//! The visit index: visits grouped in time blocks, and inside each block in declination
-//! stripes sorted by right ascension (`stripes.rs`), with the observer's state precomputed
-//! once per visit and a cap that holds the block's field centres.
+//! The visit index: visits grouped in time blocks, and inside each block in a tree of nested
+//! caps of their field centres (`caps.rs`), with the observer's state precomputed once per
+//! visit.
 //!
 //! Candidate selection for one object in one block: the object's direction at the block's
 //! node time t_b is computed once (geocentric, light time from the previous node), from the
@@ -10,19 +10,18 @@
 //! candidate when its centre lies within R_fp + ω_max |t − t_b| + (parallax + track and
 //! light-time errors) / Δ_min + ε of the node direction, with R_fp the footprint's bounding
 //! radius; a cone that does not reach the block's cap is done with one dot product, and
-//! otherwise the stripes hand over only the visits in the box around it. This is a strict
-//! superset of the visits whose footprint contains the object, so the index changes no
-//! decision. Candidates come block by block (`Walk`), so that a caller that has its
-//! verdict stops without querying the rest of the survey.
-
-use std::f64::consts::{FRAC_PI_2, PI};
+//! otherwise the tree hands over only the visits of the caps it reaches. The same bound from
+//! the last node worked out rules out most later blocks before their own node is computed
+//! (`Walk::unreachable`). This is a strict superset of the visits whose footprint contains the
+//! object, so the index changes no decision. Candidates come block by block (`Walk`), so that
+//! a caller that has its verdict stops without querying the rest of the survey.
 
 use nalgebra::Vector3;
 use rayon::prelude::*;
 
+use super::caps::{CapTree, Cone};
 use super::motion::{BLOCK_DAYS, OBSERVER_SPEED, speed_bound};
 use super::reach::Reach;
-use super::stripes::{Cone, Stripes};
 use super::track::Track;
 use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::{Center, Orbit};
@@ -54,8 +53,7 @@ pub struct Block {
     pub half_span: f64,
     pub node_observer: ObserverState,
     pub visits: std::ops::Range<usize>,
-    cap: BlockCap,
-    stripes: Stripes,
+    caps: CapTree,
 }
 
 /// A survey ready for the engine: per-visit observer states and the index.
@@ -88,7 +86,7 @@ impl PreparedSurvey {
         let ra_rad: Vec<f64> = v.ra_deg.iter().map(|d| d.to_radians()).collect();
         let dec_rad: Vec<f64> = v.dec_deg.iter().map(|d| d.to_radians()).collect();
         let bounding_radius = survey.footprint.bounding_radius_rad();
-        let blocks = make_blocks(&survey, &ra_rad, &dec_rad, &source, stripe_height(bounding_radius));
+        let blocks = make_blocks(&survey, &source);
         let reach = Reach::new(&survey);
         PreparedSurvey {
             reach,
@@ -121,6 +119,7 @@ impl PreparedSurvey {
             tau: f64::NAN,
             v_obj,
             v_max: v_obj + OBSERVER_SPEED,
+            last: None,
         }
     }
 }
@@ -137,6 +136,33 @@ pub struct Walk<'a> {
     tau: f64,
     v_obj: f64,
     v_max: f64,
+    /// The last node worked out, from which later blocks are first ruled out (`Walk::unreachable`).
+    last: Option<Node>,
+}
+
+/// An object's direction at one block's node, as the index worked it out: where its line of
+/// sight can be at any later time follows from the same motion bound as within a block.
+#[derive(Debug, Clone, Copy)]
+struct Node {
+    dir: Vector3<f64>,
+    tdb: f64,
+    delta: f64,
+    position_error: f64,
+}
+
+/// The cone that holds every field centre whose footprint can contain the object within `span`
+/// days of a node at distance `delta` (AU) known to `position_error` (AU): (slack, ω, r_max),
+/// with the slack the footprint's bounding radius plus the position error as an angle and ω the
+/// bound on the angular rate; None when the object may come too close for a bound.
+#[inline]
+fn cone_radii(delta: f64, position_error: f64, span: f64, v_max: f64, bounding_radius: f64) -> Option<(f64, f64, f64)> {
+    let delta_min = delta - v_max * span - position_error;
+    if delta_min <= 0.05 {
+        return None;
+    }
+    let omega = v_max / delta_min;
+    let slack = bounding_radius + position_error / delta_min + EPSILON;
+    Some((slack, omega, slack + omega * span))
 }
 
 impl Walk<'_> {
@@ -166,6 +192,9 @@ impl Walk<'_> {
     }
 
     fn block_candidates(&mut self, b: &Block, out: &mut Vec<usize>) {
+        if self.unreachable(b) {
+            return;
+        }
         let obs = &b.node_observer;
         if self.tau.is_nan() {
             self.tau = converged_light_time(&mut self.track, obs);
@@ -179,78 +208,43 @@ impl Walk<'_> {
         let lt_error = 1.01 * self.v_obj * ((tau_new - self.tau).abs() + track_error / C_AU_PER_DAY);
         self.tau = tau_new;
         let position_error = SITE_OFFSET_AU + lt_error + track_error;
-        let delta_min = delta - self.v_max * b.half_span - position_error;
-        if delta_min <= 0.05 {
+        let dir = d / delta;
+        self.last = Some(Node {
+            dir,
+            tdb: b.node_tdb,
+            delta,
+            position_error,
+        });
+        let Some((slack, omega, r_max)) =
+            cone_radii(delta, position_error, b.half_span, self.v_max, self.ps.bounding_radius)
+        else {
             out.extend(b.visits.clone()); // too close to bound: test everything
             return;
-        }
-        let omega = self.v_max / delta_min;
-        let slack = self.ps.bounding_radius + position_error / delta_min + EPSILON;
-        let dir = d / delta;
-        let r_max = slack + omega * b.half_span;
-        if !b.cap.may_meet(&dir, r_max) {
-            return;
-        }
+        };
         let cone = Cone {
             dir: &dir,
             slack,
             omega,
             r_max,
         };
-        b.stripes.select(&cone, out);
-    }
-}
-
-/// A cap that holds the centres of a block's visits: a cone that does not reach it holds none.
-#[derive(Debug, Clone, Copy)]
-struct BlockCap {
-    center: Vector3<f64>,
-    radius: f64,
-    /// cos and sin of `radius`, for the test without a cosine (`may_meet`).
-    cos_radius: f64,
-    sin_radius: f64,
-}
-
-impl BlockCap {
-    fn new(centers: impl Iterator<Item = Vector3<f64>> + Clone) -> Self {
-        let sum: Vector3<f64> = centers.clone().sum();
-        let center = if sum.norm() > 1e-9 {
-            sum.normalize()
-        } else {
-            Vector3::z()
-        };
-        let radius = centers
-            .map(|c| c.dot(&center).clamp(-1.0, 1.0).acos())
-            .fold(0.0, f64::max);
-        // Rounding in the angles: a ten-nanoradian margin.
-        let radius = radius + 1e-8;
-        BlockCap {
-            center,
-            radius,
-            cos_radius: radius.cos(),
-            sin_radius: radius.sin(),
-        }
+        b.caps.select(&cone, out);
     }
 
-    /// False only when no point within `r` of the unit vector `dir` lies in the cap.
-    /// Most cones miss by far: for a cap radius R ≤ π/2, cos(R + r) ≥ cos R (1 − r²/2) −
-    /// sin R · r (cos r ≥ 1 − r²/2, sin r ≤ r), so a cosine below that bound (less a margin
-    /// for rounding) is decided without computing cos(R + r); the answer is the same.
+    /// Whether block `b` provably holds no candidate, from the last node worked out: every
+    /// visit of `b` is within (node gap + half span) days of that node, so the object's line
+    /// of sight then lies within the cone `cone_radii` gives for that span, and a block whose
+    /// cap that cone surely misses (without a cosine: `CapTree::surely_misses`) has no field
+    /// that can contain the object. Most blocks of a survey that sweeps the sky are far from
+    /// an object and are passed over this way, with no node position.
     #[inline]
-    fn may_meet(&self, dir: &Vector3<f64>, r: f64) -> bool {
-        let reach = self.radius + r;
-        if reach >= PI {
-            return true;
-        }
-        let c = dir.dot(&self.center);
-        let below = self.radius <= FRAC_PI_2 && c < self.cos_radius * (1.0 - 0.5 * r * r) - self.sin_radius * r - 1e-12;
-        !below && c >= reach.cos()
+    fn unreachable(&self, b: &Block) -> bool {
+        let Some(n) = &self.last else {
+            return false;
+        };
+        let span = (b.node_tdb - n.tdb).abs() + b.half_span;
+        cone_radii(n.delta, n.position_error, span, self.v_max, self.ps.bounding_radius)
+            .is_some_and(|(_, _, r)| b.caps.surely_misses(&n.dir, r))
     }
-}
-
-/// Stripes about as tall as the footprint, so that a query meets two or three of them.
-fn stripe_height(bounding_radius: f64) -> f64 {
-    bounding_radius.clamp(0.5f64.to_radians(), 10f64.to_radians())
 }
 
 /// Observer-to-object vector at the node for a given light time, from the track, and the
@@ -280,7 +274,7 @@ fn converged_light_time(track: &mut Track, obs: &ObserverState) -> f64 {
 }
 
 /// Group visits (sorted by time) into blocks of at most BLOCK_DAYS.
-fn make_blocks(survey: &Survey, ra: &[f64], dec: &[f64], source: &EarthSource, height: f64) -> Vec<Block> {
+fn make_blocks(survey: &Survey, source: &EarthSource) -> Vec<Block> {
     let v = &survey.visits;
     let tdb = &v.tdb_mjd;
     let mut bounds = Vec::new();
@@ -299,11 +293,10 @@ fn make_blocks(survey: &Survey, ra: &[f64], dec: &[f64], source: &EarthSource, h
             let (t0, t1) = (tdb[range.start], tdb[range.end - 1]);
             let node = 0.5 * (t0 + t1);
             Block {
-                cap: BlockCap::new(range.clone().map(|i| v.center[i])),
                 node_tdb: node,
                 half_span: 0.5 * (t1 - t0),
                 node_observer: ObserverState::geocentre(&source.at(node), MjdTdb(node)),
-                stripes: Stripes::new(height, range.clone(), node, tdb, ra, dec, &v.center),
+                caps: CapTree::new(range.clone(), node, tdb, &v.center),
                 visits: range,
             }
         })

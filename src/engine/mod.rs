@@ -10,6 +10,7 @@
 //! Analyses that need only who discovered what (`StopRule::UntilDiscovery`) stop each survey
 //! at its discovery and skip surveys that provably cannot detect the object (`reach`).
 
+pub mod caps;
 pub mod discoveries;
 pub mod index;
 pub mod merge;
@@ -20,7 +21,6 @@ pub mod parts;
 pub mod pipeline;
 pub mod reach;
 pub mod run;
-pub mod stripes;
 pub mod summary;
 pub mod track;
 

@@ -7,10 +7,11 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use super::figure::Figure;
+use super::figures::catalogue_map::{self, Summed};
 use super::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey as survey_fig};
-use super::inputs::{self, Inputs, ObserveRun, Skipped, effort_of, fraction_bins};
+use super::inputs::{self, ClusteringRun, Inputs, MapSet, ObserveRun, Skipped, effort_of, fraction_bins};
 use super::tables::{
-    CadenceRow, EfficiencyCurve, FitNull, FractionBin, ObjectChance, PlanYield, SelectionCell, WeightedSample,
+    CadenceRow, EfficiencyCurve, FitNull, FractionBin, HeatMap, ObjectChance, PlanYield, SelectionCell, WeightedSample,
 };
 use crate::analysis::comparison;
 use crate::analysis::selection::{QUANTITIES, project};
@@ -85,7 +86,9 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<(Vec<Section>, Vec<Skipped>)
     for (path, cells, population) in &inp.selections {
         add(selection_section(dir, path, cells, population), path, &mut skipped);
     }
-    add(bias_section(dir, inp), dir, &mut skipped);
+    for run in &inp.clustering {
+        add(clustering_section(dir, inp, run), &run.dir, &mut skipped);
+    }
     for (run, read) in &inp.comparisons {
         add(comparison_section(dir, run, read), run, &mut skipped);
     }
@@ -230,7 +233,7 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
             )
         })
         .collect();
-    format!("Report of {}. {}", dir.display(), runs.join(" "))
+    format!("Report of {}. {}", label(dir, dir), runs.join(" "))
 }
 
 /// Sky maps (the whole sky, and a zoom of a small coverage) per survey, the depths of all,
@@ -381,11 +384,7 @@ const FIRST_DISCOVERIES: usize = 10;
 /// and how the discoveries were made, and the first of them.
 fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> {
     let name = label(dir, &run.dir);
-    let prefix = if inp.runs.len() > 1 || run.dir != dir {
-        format!("{}_", slug(&name))
-    } else {
-        String::new()
-    };
+    let prefix = figure_prefix(dir, &run.dir, inp.runs.len());
     let o = &run.objects;
     let pick = |xs: &[f64]| -> Vec<f64> {
         xs.iter()
@@ -394,19 +393,37 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
             .map(|(x, _)| *x)
             .collect()
     };
-    let found_r: Vec<f64> = o.discovery_r_au.iter().flatten().copied().collect();
-    let mut figures = vec![
-        distributions::injected_vs_discovered("a_au", &o.a_au, &pick(&o.a_au), "")?,
-        distributions::injected_vs_discovered("q_au", &o.q_au, &pick(&o.q_au), "")?,
-        distributions::injected_vs_discovered("inc_deg", &o.inc_deg, &pick(&o.inc_deg), "")?,
-        distributions::injected_vs_discovered("h_mag", &o.h_mag, &pick(&o.h_mag), "")?,
-        distributions::injected_vs_discovered(
-            "r_au",
-            &o.r_au,
-            &found_r,
-            "Injected: distance from the Sun at the element epoch; discovered: distance at discovery.",
-        )?,
-    ];
+    // Weights go with the values they weigh: the discovered objects', and those with a
+    // distance at discovery.
+    let w = &o.weight;
+    let (found_w, found_r): (Vec<f64>, Vec<f64>) = o
+        .discovery_r_au
+        .iter()
+        .zip(w)
+        .filter_map(|(r, w)| r.map(|r| (*w, r)))
+        .unzip();
+    let found_weights = pick(w);
+    let mut figures = Vec::new();
+    for (q, xs) in [
+        ("a_au", &o.a_au),
+        ("q_au", &o.q_au),
+        ("inc_deg", &o.inc_deg),
+        ("h_mag", &o.h_mag),
+    ] {
+        let found = pick(xs);
+        figures.push(distributions::injected_vs_discovered(
+            q,
+            (xs, w),
+            (&found, &found_weights),
+            "",
+        )?);
+    }
+    figures.push(distributions::injected_vs_discovered(
+        "r_au",
+        (&o.r_au, w),
+        (&found_r, &found_w),
+        "Injected: distance from the Sun at the element epoch; discovered: distance at discovery.",
+    )?);
     for q in ["a_au", "h_mag"] {
         figures.push(distributions::discovered_fraction(q, &fraction_bins(run, q))?);
     }
@@ -419,6 +436,7 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
     if let Some((_, rows)) = &run.discoveries {
         figures.extend(discovery_figures(rows, &surveys)?);
     }
+    figures.extend(discovery_roses(run, &name)?);
     for f in &mut figures {
         f.stem = format!("{prefix}{}", f.stem);
     }
@@ -437,6 +455,29 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
         figures,
         ..Default::default()
     })
+}
+
+/// Rose diagrams of ϖ and Ω of a run's discovered objects, weighted, with the naive band (an
+/// observe run alone has no bias-aware null: that is the cluster test's).
+fn discovery_roses(run: &ObserveRun, name: &str) -> Result<Vec<Figure>> {
+    let o = &run.objects;
+    let found = |xs: &[f64]| -> (Vec<f64>, Vec<f64>) {
+        (0..xs.len())
+            .filter(|&i| o.detected[i])
+            .map(|i| (xs[i], o.weight[i]))
+            .unzip()
+    };
+    let note = format!(
+        "Angles of the discovered objects of run {name}, each counted with its weight; for the \
+         bias-aware band, run seine cluster-test on a catalogue."
+    );
+    [("varpi_deg", &o.varpi_deg), ("node_deg", &o.node_deg)]
+        .into_iter()
+        .map(|(q, xs)| {
+            let (angles, weights) = found(xs);
+            rose::rose(q, &rose::bins_of(&angles, &weights, 18), rose::Band::Naive, &note)
+        })
+        .collect()
 }
 
 /// The magnitude and rate of motion of the discoveries at discovery, per survey, with each
@@ -702,66 +743,119 @@ fn yield_table(rows: &[PlanYield]) -> Table {
     }
 }
 
-/// Bias maps, rose diagrams (with the null band when the cluster test wrote one) and the
-/// cluster test's null distributions.
-fn bias_section(dir: &Path, inp: &Inputs) -> Result<Section> {
-    let mut figures: Vec<Figure> = inp
-        .bias_maps
-        .iter()
-        .take(6)
-        .map(bias::bias_map)
-        .collect::<Result<_>>()?;
-    if inp.roses.is_empty() {
-        if let Some(run) = inp.runs.first() {
-            let o = &run.objects;
-            let name = label(dir, &run.dir);
-            let found = |xs: &[f64]| -> Vec<f64> {
-                xs.iter()
-                    .zip(&o.detected)
-                    .filter(|(_, d)| **d)
-                    .map(|(x, _)| *x)
-                    .collect()
-            };
-            let note = format!("Angles of the discovered objects of run {name}.");
-            for (q, xs) in [("varpi_deg", &o.varpi_deg), ("node_deg", &o.node_deg)] {
-                figures.push(rose::rose(q, &rose::bins_of(&found(xs), 18), rose::Band::Naive, &note)?);
-            }
-        }
+/// One directory of bias maps or a cluster test (`seine bias-map`, `seine cluster-test`): the
+/// map of the whole catalogue with the objects marked, a few objects' own maps, the rose
+/// diagrams with the bias-aware band, the null distributions and the statistics. Its figures
+/// are named by the run, so two runs side by side never share one.
+fn clustering_section(dir: &Path, inp: &Inputs, run: &ClusteringRun) -> Result<Section> {
+    let name = label(dir, &run.dir);
+    let prefix = figure_prefix(dir, &run.dir, inp.clustering.len());
+    let mut figures = Vec::new();
+    let mut notes = Vec::new();
+    for set in &run.maps {
+        figures.extend(map_figures(dir, set, &mut notes)?);
     }
-    for (q, bins, source) in &inp.roses {
-        let shown = Path::new(source)
-            .strip_prefix(dir)
-            .map_or(source.clone(), |p| p.display().to_string());
-        let note = format!("Counts of the tested catalogue and band of its synthetic catalogues, from {shown}.");
+    for (q, bins, source) in &run.roses {
+        let note = format!(
+            "Counts of the tested catalogue and band of its synthetic catalogues, from {}.",
+            href(dir, source)
+        );
         figures.push(rose::rose(q, bins, rose::Band::BiasAware, &note)?);
     }
-    for t in &inp.null_tests {
+    for t in &run.null_tests {
         figures.push(cluster::null_distribution(t)?);
     }
-    let tables = if inp.null_tests.is_empty() {
+    for f in &mut figures {
+        f.stem = format!("{prefix}{}", f.stem);
+    }
+    let tables = if run.null_tests.is_empty() {
         Vec::new()
     } else {
-        vec![cluster_table(&inp.null_tests)]
+        vec![cluster_table(&name, &run.null_tests)]
+    };
+    let tested = !run.null_tests.is_empty() || !run.roses.is_empty();
+    let maps_from = if run.maps.is_empty() && !run.maps_read.is_empty() {
+        format!(
+            " Its bias maps were read from {} (shown in that run's section when it is in this report).",
+            run.maps_read.join(", ")
+        )
+    } else {
+        String::new()
     };
     Ok(Section {
-        title: "Bias and clustering".into(),
-        intro: "Before reading meaning into aligned orbits: what the surveys' own footprint and \
-                cadence produce from angles that are not clustered at all."
-            .into(),
+        title: if tested {
+            format!("Clustering test: {name}")
+        } else {
+            format!("Bias maps: {name}")
+        },
+        intro: format!(
+            "From run {name}: before reading meaning into aligned orbits, what the surveys' own \
+             footprint and cadence produce from angles that are not clustered at all.{maps_from}"
+        ),
+        notes,
         tables,
         figures,
-        ..Default::default()
     })
 }
 
+/// Number of single objects' bias maps drawn per map table (the catalogue's map shows all).
+const OBJECT_MAPS: usize = 6;
+
+/// The figures of one map table: the whole catalogue's map (the objects' maps added with
+/// their weights, their own angles marked) when it holds several maps or the angles, then
+/// the first objects' own maps.
+fn map_figures(dir: &Path, set: &MapSet, notes: &mut Vec<String>) -> Result<Vec<Figure>> {
+    let mut figures = Vec::new();
+    let objects = set.objects.as_deref().unwrap_or_default();
+    let weight_of = |id: Option<i64>| objects.iter().find(|o| Some(o.id) == id).map_or(1.0, |o| o.weight);
+    let known = !objects.is_empty() && set.maps.iter().all(|m| objects.iter().any(|o| Some(o.id) == m.id));
+    if set.maps.len() > 1 || !objects.is_empty() {
+        let value = "weighted sum of discovery probabilities";
+        if let Some(sum) = HeatMap::weighted_sum(&set.maps, weight_of, value) {
+            let how = Summed {
+                maps: set.maps.len(),
+                total_weight: set.maps.iter().map(|m| weight_of(m.id)).sum(),
+                weights_known: known,
+            };
+            figures.push(catalogue_map::catalogue_map(
+                &sum,
+                objects,
+                &how,
+                &href(dir, &set.path),
+            )?);
+        }
+    }
+    if set.objects.is_none() && set.maps.len() > 1 {
+        notes.push(format!(
+            "{}: no map_objects.* beside it (written by seine bias-map and seine cluster-test \
+             since this version): the objects' own angles are not marked and their weights are \
+             taken as 1.",
+            href(dir, &set.path)
+        ));
+    }
+    for m in set.maps.iter().take(OBJECT_MAPS) {
+        figures.push(bias::bias_map(m)?);
+    }
+    if set.maps.len() > OBJECT_MAPS {
+        notes.push(format!(
+            "{}: the maps of the first {OBJECT_MAPS} of its {} objects are drawn; the \
+             catalogue's map adds them all.",
+            href(dir, &set.path),
+            set.maps.len()
+        ));
+    }
+    Ok(figures)
+}
+
 /// The cluster test's statistics: observed value, bias-aware and naive p-values.
-fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
+fn cluster_table(name: &str, tests: &[super::tables::NullTest]) -> Table {
     let p = |x: Option<f64>| x.map_or("—".into(), |p| format!("{p:.3}"));
     Table {
-        caption: "Cluster test: each statistic of the tested catalogue (larger means more clustered), \
-                  its chance under the bias-aware null (angles from the objects' bias maps) and \
-                  without the surveys' bias (uniform angles)."
-            .into(),
+        caption: format!(
+            "Cluster test {name}: each statistic of the tested catalogue (larger means more \
+             clustered), its chance under the bias-aware null (angles from the objects' bias \
+             maps) and without the surveys' bias (uniform angles)."
+        ),
         header: header(&["statistic", "observed", "null catalogues", "p bias-aware", "p naive"]),
         rows: tests
             .iter()
@@ -776,6 +870,16 @@ fn cluster_table(tests: &[super::tables::NullTest]) -> Table {
             })
             .collect(),
         link: None,
+    }
+}
+
+/// The prefix of the figures of a run in `run_dir`, one of `runs` of its kind: its label as a
+/// file-name-safe word, or none for the only run when it is the report's own directory.
+fn figure_prefix(dir: &Path, run_dir: &Path, runs: usize) -> String {
+    if runs > 1 || run_dir != dir {
+        format!("{}_", slug(&label(dir, run_dir)))
+    } else {
+        String::new()
     }
 }
 

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
-use super::tables::{Effort, FractionBin, HeatCell, HeatMap, NullBand, NullTest, PlanYield, RoseBin};
+use super::tables::{Effort, FractionBin, HeatCell, HeatMap, MappedObject, NullBand, NullTest, PlanYield, RoseBin};
 use crate::analysis::comparison;
 use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection, yield_tables};
 use crate::engine::discoveries::{self, Discovery};
@@ -67,16 +67,62 @@ pub struct PlanCoverage {
     pub by_latitude: DataFrame,
 }
 
+/// The bias maps of one map table: the file, its maps, and the mapped objects' own angles
+/// and weights (`map_objects.*` beside it) when there.
+pub struct MapSet {
+    pub path: PathBuf,
+    pub maps: Vec<HeatMap>,
+    pub objects: Option<Vec<MappedObject>>,
+}
+
+/// What one directory holds of bias maps and the cluster test.
+pub struct ClusteringRun {
+    pub dir: PathBuf,
+    pub maps: Vec<MapSet>,
+    /// (quantity, bins, the file they came from).
+    pub roses: Vec<(String, Vec<RoseBin>, PathBuf)>,
+    pub null_tests: Vec<NullTest>,
+    /// Map tables the run read instead of computing maps (from its provenance, as recorded).
+    pub maps_read: Vec<String>,
+}
+
+impl ClusteringRun {
+    fn new(dir: &Path) -> Self {
+        ClusteringRun {
+            dir: dir.to_path_buf(),
+            maps: Vec::new(),
+            roses: Vec::new(),
+            null_tests: Vec::new(),
+            maps_read: maps_read(dir),
+        }
+    }
+}
+
+/// The map tables among the inputs of the `summary.json` in `dir` (a cluster test given
+/// `--bias-map`), as recorded.
+fn maps_read(dir: &Path) -> Vec<String> {
+    let Ok(summary) = read_json(&dir.join(outputs::SUMMARY)) else {
+        return Vec::new();
+    };
+    let Ok(prov) = serde_json::from_value::<Provenance>(summary["provenance"].clone()) else {
+        return Vec::new();
+    };
+    prov.inputs
+        .iter()
+        .map(|i| i.path.clone())
+        .filter(|p| bias_map_tables::is_map_table(&name_of(Path::new(p))))
+        .collect()
+}
+
 /// Everything found.
 #[derive(Default)]
 pub struct Inputs {
     pub runs: Vec<ObserveRun>,
     pub surveys: Vec<Survey>,
     pub coverage: Vec<PlanCoverage>,
-    pub bias_maps: Vec<HeatMap>,
-    /// (quantity, bins, the file they came from).
-    pub roses: Vec<(String, Vec<RoseBin>, String)>,
-    pub null_tests: Vec<NullTest>,
+    /// Bias maps and cluster tests, one per directory (a run of `seine bias-map` or
+    /// `seine cluster-test`): each gets its own section and figures.
+    pub clustering: Vec<ClusteringRun>,
     pub yields: Vec<YieldSet>,
     /// Model comparisons (`seine compare-models`): the directory and what it holds.
     pub comparisons: Vec<(PathBuf, comparison::Read)>,
@@ -94,13 +140,23 @@ impl Inputs {
     pub fn is_empty(&self) -> bool {
         self.runs.is_empty()
             && self.surveys.is_empty()
-            && self.bias_maps.is_empty()
-            && self.roses.is_empty()
-            && self.null_tests.is_empty()
+            && self.clustering.is_empty()
             && self.yields.is_empty()
             && self.comparisons.is_empty()
             && self.chances.is_empty()
             && self.selections.is_empty()
+    }
+
+    /// The clustering run of directory `dir`, made when first needed.
+    fn clustering_of(&mut self, dir: &Path) -> &mut ClusteringRun {
+        let k = match self.clustering.iter().position(|r| r.dir == dir) {
+            Some(k) => k,
+            None => {
+                self.clustering.push(ClusteringRun::new(dir));
+                self.clustering.len() - 1
+            }
+        };
+        &mut self.clustering[k]
     }
 
     /// Keep what `read` gives; an input error is noted against `path` and the scan goes on.
@@ -197,11 +253,18 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
     } else if let Some(stem) = name.strip_suffix(plan_io::COVERAGE_JSON) {
         inputs.coverage.push(read_coverage(f, stem)?);
     } else if bias_map_tables::is_map_table(&name) {
-        inputs.bias_maps.extend(read_bias_maps(f)?);
+        let set = MapSet {
+            path: f.to_path_buf(),
+            maps: read_bias_maps(f)?,
+            objects: bias_map_tables::read_objects(f)?,
+        };
+        inputs.clustering_of(parent).maps.push(set);
     } else if cluster_tables::is_table(&name, cluster_tables::ROSE) {
-        inputs.roses.extend(read_roses(f)?);
+        let roses = read_roses(f)?;
+        inputs.clustering_of(parent).roses.extend(roses);
     } else if cluster_tables::is_table(&name, cluster_tables::NULL) {
-        inputs.null_tests.extend(read_null_tests(f)?);
+        let tests = read_null_tests(f)?;
+        inputs.clustering_of(parent).null_tests.extend(tests);
     } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
         inputs.yields.push(read_yield_set(f)?);
     } else if comparison::find(parent).as_deref() == Some(f) {
@@ -347,28 +410,30 @@ fn read_bias_maps(path: &Path) -> Result<Vec<HeatMap>> {
     Ok(bias_map_tables::read_cells(path)?
         .into_iter()
         .map(|m| HeatMap {
-            x: m.x,
-            y: m.y,
             value_label: "discovery probability".into(),
             id: m.id,
             cells: m
                 .cells
                 .iter()
-                .map(|&[x_min, x_max, y_min, y_max, value]| HeatCell {
+                .enumerate()
+                .map(|(k, &[x_min, x_max, y_min, y_max, value])| HeatCell {
                     x_min,
                     x_max,
                     y_min,
                     y_max,
                     value,
+                    trials: m.trials.as_ref().map(|t| t[k]),
                 })
                 .collect(),
+            x: m.x,
+            y: m.y,
         })
         .collect())
 }
 
 /// Rose tables (`analysis::cluster_tables::read_rose`), each quantity with the file it came from.
-fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>, String)>> {
-    let source = path.display().to_string();
+fn read_roses(path: &Path) -> Result<Vec<(String, Vec<RoseBin>, PathBuf)>> {
+    let source = path.to_path_buf();
     Ok(cluster_tables::read_rose(path)?
         .into_iter()
         .map(|(quantity, rows)| {

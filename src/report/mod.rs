@@ -9,8 +9,8 @@
 //! | `summary.json` beside `objects.parquet` (or `.csv`), optional `detections.*`, `discoveries.*` | an observe run (`seine observe --out`), named by its directory | injected vs discovered in a, q, i, H, r; discovered fraction vs a and H; where the discoveries were made; their magnitude and rate at discovery; the first discoveries (linked); ϖ and Ω roses of the discoveries (no null band) |
 //! | `*.survey.toml` (and the survey specs named in an observe run's provenance) | a survey and its visits | visits, hours and area; sky coverage (and a zoom of a small one), depth distribution, efficiency curve |
 //! | `STEM.coverage.json`, `STEM.coverage_ecliptic.csv` | a plan's coverage (`seine plan`) | table of coverage by ecliptic latitude, revisits kept |
-//! | `bias_map*.csv`: `X_min, X_max, Y_min, Y_max, fraction` (or `probability`), optional `id` | bias maps, one per `id` (up to 6) | heat maps |
-//! | `rose.parquet` (or `.csv`, as `seine cluster-test` writes it): `quantity, bin_lo_deg, bin_hi_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the bias-aware null band | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`) |
+//! | `bias_map*.*` (through `analysis::bias_map_tables`: as `seine bias-map` writes it, or `X_min, X_max, Y_min, Y_max, fraction`), optional `id`, `map_objects.*` beside it | bias maps, one per `id`; one section per directory | the whole catalogue's map (maps added with the objects' weights, their angles marked); the first 6 objects' maps, a discrete key when a map has few values |
+//! | `rose.parquet` (or `.csv`, as `seine cluster-test` writes it): `quantity, bin_lo_deg, bin_hi_deg, observed`, optional `null_lo, null_median, null_hi` | rose diagrams with the bias-aware null band, in their directory's section | one rose per `quantity` (`varpi_deg`, `node_deg`, `argperi_deg`); wedges inside, above and below the band told apart |
 //! | `cluster_null.parquet` (or `.csv`, from `seine cluster-test`): `statistic, value` (one row per statistic and null catalog), optional `value_naive`, with `cluster_test.*` beside it: `statistic, observed, p_bias_aware`, optional `p_naive` | the cluster test | the null distribution of each statistic (and the naive one), the observed value marked |
 //! | `detectability.*` (`seine detectability --objects`, via `analysis::detectability`) | each object's chance of discovery | chance with its interval against q and H; the lowest chances as a table |
 //! | `selection_function.*` (`seine detectability --population`, via `analysis::selection`) | a population's selection function | heat maps over a–q, a–i, a–H |
@@ -70,9 +70,9 @@ pub fn report(dir: &Path) -> Result<Written> {
                 of seine. Every figure is an SVG file in figures/; every number comes from the \
                 tables beside this page.";
     let footer = format!(
-        "Written by seine {} (seine report {}).",
+        "Written by seine {} (seine report of {}).",
         crate::version(),
-        dir.display()
+        build::label(dir, dir)
     );
     let index = dir.join("index.html");
     write_atomic(&index, html::page("seine report", lede, &sections, &footer).as_bytes())?;

@@ -38,6 +38,8 @@ pub struct HeatCell {
     pub y_min: f64,
     pub y_max: f64,
     pub value: f64,
+    /// The trials behind the value, when it is a fraction of trials (a bias map's cell).
+    pub trials: Option<u64>,
 }
 
 /// A map over two named quantities (names with units, e.g. `varpi_deg`, `node_deg`).
@@ -50,6 +52,51 @@ pub struct HeatMap {
     /// Object the map belongs to, when maps are per object.
     pub id: Option<i64>,
     pub cells: Vec<HeatCell>,
+}
+
+impl HeatMap {
+    /// The weighted sum of `maps` on the grid of the first: each cell of the sum holds
+    /// Σ_j w_j v_j, with v_j map j's value at the cell's centre and w_j = `weight(id_j)`.
+    /// None when there is no map or the first has no cells.
+    pub fn weighted_sum(maps: &[HeatMap], weight: impl Fn(Option<i64>) -> f64, value_label: &str) -> Option<HeatMap> {
+        let first = maps.first().filter(|m| !m.cells.is_empty())?;
+        let mut cells: Vec<HeatCell> = first
+            .cells
+            .iter()
+            .map(|c| HeatCell {
+                value: 0.0,
+                trials: None,
+                ..c.clone()
+            })
+            .collect();
+        for m in maps {
+            let w = weight(m.id);
+            for (k, c) in cells.iter_mut().enumerate() {
+                let centre = (0.5 * (c.x_min + c.x_max), 0.5 * (c.y_min + c.y_max));
+                if let Some(v) = m.value_at(k, centre).filter(|v| v.is_finite()) {
+                    c.value += w * v;
+                }
+            }
+        }
+        Some(HeatMap {
+            x: first.x.clone(),
+            y: first.y.clone(),
+            value_label: value_label.into(),
+            id: None,
+            cells,
+        })
+    }
+
+    /// The value of the cell holding `point`; cell `hint` is tried first (maps of one grid
+    /// share their cells' order).
+    fn value_at(&self, hint: usize, (x, y): (f64, f64)) -> Option<f64> {
+        let holds = |c: &&HeatCell| c.x_min <= x && x < c.x_max && c.y_min <= y && y < c.y_max;
+        self.cells
+            .get(hint)
+            .filter(holds)
+            .or_else(|| self.cells.iter().find(holds))
+            .map(|c| c.value)
+    }
 }
 
 /// One angular bin of a rose diagram: the observed count and the null band (the central
@@ -122,6 +169,9 @@ pub struct EfficiencyCurve {
     /// The rates the search finds, arcsec per hour.
     pub rate_window: (f64, f64),
 }
+
+/// A mapped object's own angles and weight (`map_objects.*` beside a bias map table).
+pub use crate::analysis::bias_map_tables::MappedObject;
 
 /// A catalogue object's chance of discovery with its interval (`detectability.*`).
 pub use crate::analysis::detectability::Row as ObjectChance;

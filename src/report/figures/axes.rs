@@ -105,11 +105,11 @@ pub fn steps(edges: &[f64], heights: &[f64]) -> Vec<(f64, f64)> {
 /// A histogram outline with gaps at empty bins: one step curve per run of non-empty bins,
 /// closed down to `floor` (the bottom of the axis) at both ends of the run, so that an empty
 /// bin is drawn as nothing rather than as a line along (or below) the axis.
-pub fn step_runs(edges: &[f64], counts: &[u64], floor: f64) -> Vec<Vec<(f64, f64)>> {
+pub fn step_runs(edges: &[f64], counts: &[f64], floor: f64) -> Vec<Vec<(f64, f64)>> {
     let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
     let mut open = false;
     for (k, &c) in counts.iter().enumerate() {
-        if c == 0 {
+        if c <= 0.0 {
             if open {
                 let x = edges[k];
                 runs.last_mut().expect("open run").push((x, floor));
@@ -117,7 +117,7 @@ pub fn step_runs(edges: &[f64], counts: &[u64], floor: f64) -> Vec<Vec<(f64, f64
             open = false;
             continue;
         }
-        let h = c as f64;
+        let h = c;
         if !open {
             runs.push(vec![(edges[k], floor)]);
             open = true;
@@ -147,12 +147,12 @@ mod tests {
     #[test]
     fn empty_bins_are_gaps() {
         let edges = [0.0, 1.0, 2.0, 3.0, 4.0];
-        let runs = step_runs(&edges, &[2, 0, 3, 1], 0.5);
+        let runs = step_runs(&edges, &[2.0, 0.0, 3.0, 1.0], 0.5);
         assert_eq!(runs.len(), 2);
         assert_eq!(runs[0], vec![(0.0, 0.5), (0.0, 2.0), (1.0, 2.0), (1.0, 0.5)]);
         assert_eq!(runs[1].first(), Some(&(2.0, 0.5)));
         assert_eq!(runs[1].last(), Some(&(4.0, 0.5)));
-        assert!(step_runs(&edges, &[0, 0, 0, 0], 0.5).is_empty());
+        assert!(step_runs(&edges, &[0.0; 4], 0.5).is_empty());
         assert!(counts_need_log(&[1, 0, 500]) && !counts_need_log(&[10, 0, 200]));
     }
 }

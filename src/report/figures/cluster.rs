@@ -29,6 +29,8 @@ pub fn stat_label(name: &str) -> String {
         _ => "",
     };
     match (what, sym, name) {
+        (_, _, "global") => "global: −log₁₀ of the smallest p-value".into(),
+        (_, _, "pole_and_perihelion") => "poles and perihelia together (Fisher's −2 Σ ln p)".into(),
         (_, _, "mean_pole") => "length of the mean orbital pole".into(),
         (_, _, "mean_perihelion") => "length of the mean perihelion direction".into(),
         ("", _, _) | (_, "", _) => name.into(),

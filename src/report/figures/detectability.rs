@@ -234,7 +234,16 @@ pub fn selection_map(x: &str, y: &str, cells: &[SelectionCell], population: &str
         }
         let (plot, bar) = area.split_horizontally(area.dim_in_pixel().0 - 120);
         draw_grid_cells(&plot, cells, &cols, &rows, max, (x, y))?;
-        colour_bar(&bar, max, "discovered fraction")
+        let digits = if max >= 0.1 {
+            0
+        } else if max >= 0.01 {
+            1
+        } else {
+            2
+        };
+        colour_bar(&bar, max, "discovered fraction (%)", &|v| {
+            format!("{:.*}%", digits, 100.0 * v)
+        })
     })
 }
 

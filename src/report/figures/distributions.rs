@@ -11,6 +11,7 @@ use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled
 use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol};
 use crate::report::style;
 use crate::report::tables::FractionBin;
+use crate::statistics::weighted_histogram;
 
 /// Distances get a logarithmic axis when they span more than a factor of five (below that a
 /// logarithmic axis has no round ticks to label).
@@ -31,25 +32,52 @@ fn edges_for(quantity: &str, xs: &[f64]) -> Option<Vec<f64>> {
 
 /// Step histograms of the injected and the discovered values of `quantity` (counts on a
 /// logarithmic axis so that a few discoveries stay visible beside many injected objects).
-pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f64], note: &str) -> Result<Figure> {
+pub fn injected_vs_discovered(
+    quantity: &str,
+    injected: (&[f64], &[f64]),
+    discovered: (&[f64], &[f64]),
+    note: &str,
+) -> Result<Figure> {
     let sym = symbol(quantity);
     let title = format!("Injected and discovered objects in {sym}");
+    let total = |w: &[f64]| w.iter().sum::<f64>();
+    let unit = injected.1.iter().chain(discovered.1).all(|w| *w == 1.0);
+    let weighted = if unit {
+        String::new()
+    } else {
+        format!(
+            " Each object counts with its weight (total weight injected {:.4}, discovered {:.4}).",
+            total(injected.1),
+            total(discovered.1)
+        )
+    };
     let caption = format!(
         "Number of objects per bin of {} — injected (blue, {} objects) and discovered (orange, {}). \
-         Counts on a logarithmic axis; bins without objects are left empty. {note}",
+         Counts on a logarithmic axis; bins without objects are left empty.{weighted} {note}",
         label(quantity),
-        injected.len(),
-        discovered.len()
+        injected.0.len(),
+        discovered.0.len()
     );
     let stem = format!("distribution_{quantity}");
     render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {
         let area = titled(root, &title)?;
-        let Some(edges) = edges_for(quantity, injected) else {
+        let Some(edges) = edges_for(quantity, injected.0) else {
             return empty_note(&area, "no objects");
         };
-        let hists = [histogram(injected, &edges), histogram(discovered, &edges)];
+        let hists = [
+            weighted_histogram(injected.0, injected.1, &edges),
+            weighted_histogram(discovered.0, discovered.1, &edges),
+        ];
         // Headroom of a factor 5 keeps the legend clear of the curves.
-        let top = hists[0].iter().chain(&hists[1]).copied().max().unwrap_or(1).max(1) as f64 * 5.0;
+        let top = hists[0].iter().chain(&hists[1]).copied().fold(1.0, f64::max) * 5.0;
+        // Below the smallest weighted count, so that a bin of one (light) object shows.
+        let floor = hists[0]
+            .iter()
+            .chain(&hists[1])
+            .copied()
+            .filter(|c| *c > 0.0)
+            .fold(FLOOR, f64::min)
+            .min(FLOOR);
         let (lo, hi) = (edges[0], edges[edges.len() - 1]);
         if is_log(quantity, lo, hi) {
             draw_hists(
@@ -57,11 +85,11 @@ pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f6
                 (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi)),
                 &edges,
                 &hists,
-                top,
+                (floor, top),
                 quantity,
             )
         } else {
-            draw_hists(&area, lo..hi, &edges, &hists, top, quantity)
+            draw_hists(&area, lo..hi, &edges, &hists, (floor, top), quantity)
         }
     })
 }
@@ -69,17 +97,26 @@ pub fn injected_vs_discovered(quantity: &str, injected: &[f64], discovered: &[f6
 /// The bottom of the count axis: below one object, so that a bin of one has a visible height.
 const FLOOR: f64 = 0.5;
 
-fn draw_hists<X>(area: &Area, x: X, edges: &[f64], hists: &[Vec<u64>; 2], top: f64, quantity: &str) -> DrawResult
+fn draw_hists<X>(
+    area: &Area,
+    x: X,
+    edges: &[f64],
+    hists: &[Vec<f64>; 2],
+    (floor, top): (f64, f64),
+    quantity: &str,
+) -> DrawResult
 where
     X: AsRangedCoord<Value = f64>,
     X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
 {
-    let y = (FLOOR..top).log_scale().with_key_points(axes::log_ticks(1.0, top));
+    let y = (floor..top)
+        .log_scale()
+        .with_key_points(axes::log_ticks(floor.max(1e-6) * 2.0, top));
     let mut chart = axes::chart(area, x, y)?;
     axes::mesh(&mut chart, &label(quantity), "objects per bin")?;
     for (k, (h, name)) in hists.iter().zip(["injected", "discovered"]).enumerate() {
         let c = style::series(k);
-        for (j, run) in axes::step_runs(edges, h, FLOOR).into_iter().enumerate() {
+        for (j, run) in axes::step_runs(edges, h, floor).into_iter().enumerate() {
             let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
             if j == 0 {
                 drawn.label(name).legend(axes::swatch(c, 2));
@@ -296,7 +333,8 @@ impl AtDiscovery<'_> {
         axes::mesh(&mut chart, self.x_desc, "discoveries per bin")?;
         for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
-            for (j, run) in axes::step_runs(self.edges, h, 0.0).into_iter().enumerate() {
+            let counts: Vec<f64> = h.iter().map(|&c| c as f64).collect();
+            for (j, run) in axes::step_runs(self.edges, &counts, 0.0).into_iter().enumerate() {
                 let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
                 if j == 0 {
                     drawn.label(name.as_str()).legend(axes::swatch(c, 2));

@@ -4,6 +4,7 @@
 pub mod axes;
 pub mod bias;
 pub mod cadence;
+pub mod catalogue_map;
 pub mod cluster;
 pub mod detectability;
 pub mod distributions;

@@ -204,6 +204,7 @@ fn circular(area: &Area, cat: &WeightedSample, models: &[WeightedSample], n: f64
         })
         .collect();
     let curves: Vec<Vec<f64>> = models.iter().map(|m| expected_counts(&wrap(m), &edges, n)).collect();
+    let bins_of_edges: Vec<(f64, f64)> = edges.windows(2).map(|e| (e[0], e[1])).collect();
     let top = counts
         .iter()
         .chain(curves.iter().flatten())
@@ -221,7 +222,7 @@ fn circular(area: &Area, cat: &WeightedSample, models: &[WeightedSample], n: f64
     rose::draw_grid(&mut chart, top, r)?;
     for (k, h) in curves.iter().enumerate() {
         chart.draw_series(std::iter::once(PathElement::new(
-            closed_steps(&edges, h),
+            rose::closed_steps(&bins_of_edges, h),
             model_colour(k).stroke_width(2),
         )))?;
     }
@@ -244,19 +245,6 @@ fn circular(area: &Area, cat: &WeightedSample, models: &[WeightedSample], n: f64
         key.draw(&Text::new(name.clone(), (x + 28, y), text.clone()))?;
     }
     Ok(())
-}
-
-/// A closed curve of per-bin counts on the circle: an arc at each bin's radius, joined
-/// radially to the next bin's.
-fn closed_steps(edges: &[f64], counts: &[f64]) -> Vec<(f64, f64)> {
-    let mut pts: Vec<(f64, f64)> = Vec::new();
-    for (k, c) in counts.iter().enumerate() {
-        pts.extend(rose::arc(edges[k], edges[k + 1], rose::radius(*c)));
-    }
-    if let Some(first) = pts.first().copied() {
-        pts.push(first);
-    }
-    pts
 }
 
 /// Bins of the goodness-of-fit histogram.

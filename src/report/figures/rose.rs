@@ -48,6 +48,70 @@ impl Band {
     }
 }
 
+/// Where an observed count sits against its bin's null band.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Against {
+    Inside,
+    Below,
+    Above,
+    /// No band for this bin.
+    Unbanded,
+}
+
+impl Against {
+    pub fn of(b: &RoseBin) -> Against {
+        match b.null {
+            None => Against::Unbanded,
+            Some(n) if b.observed < n.lo => Against::Below,
+            Some(n) if b.observed > n.hi => Against::Above,
+            Some(_) => Against::Inside,
+        }
+    }
+
+    /// The wedge's fill: orange inside the band (or without one), dark orange above it,
+    /// blue below it (blue and orange stay apart for the common colour-vision deficiencies,
+    /// and the two oranges differ in lightness).
+    fn fill(self) -> RGBAColor {
+        match self {
+            Against::Inside | Against::Unbanded => style::series(1).mix(0.45),
+            Against::Above => RGBColor(0x9a, 0x3a, 0x0e).mix(0.9),
+            Against::Below => style::series(0).mix(0.8),
+        }
+    }
+
+    fn edge(self) -> RGBColor {
+        match self {
+            Against::Inside | Against::Unbanded => style::series(1),
+            Against::Above => RGBColor(0x6a, 0x24, 0x06),
+            Against::Below => style::series(0),
+        }
+    }
+}
+
+/// The caption's warning when the catalogue is small against the number of bins, and the
+/// reminder that some bins leave a 90% band by chance.
+fn reading_note(total: f64, bins: &[RoseBin]) -> String {
+    let n = bins.len();
+    let banded = bins.iter().filter(|b| b.null.is_some()).count();
+    let (below, above) = (
+        bins.iter().filter(|b| Against::of(b) == Against::Below).count(),
+        bins.iter().filter(|b| Against::of(b) == Against::Above).count(),
+    );
+    let mut s = String::new();
+    if banded > 0 {
+        s += &format!(
+            " Dark orange: wedges above the band ({above} of {banded} bins); blue: below it ({below}; an empty bin below the band is a blue arc at the band's lower edge). Each bin's band holds 90% of the null's counts, so about one bin in ten lies outside it by chance alone (here {:.1} of {banded} expected).",
+            0.1 * banded as f64
+        );
+    }
+    if total < n as f64 {
+        s += &format!(
+            " Caution: {total:.0} objects in {n} bins, fewer objects than bins: most bins hold 0 or 1 object, so a single wedge, in or out of the band, says nothing; judge the clustering by the cluster test's statistics, not by wedges."
+        );
+    }
+    s
+}
+
 /// The rose of `quantity` (an angle in degrees, 0° to the right, increasing counter-clockwise).
 pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<Figure> {
     let sym = symbol(quantity);
@@ -58,32 +122,36 @@ pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<
         "Number of objects per bin of {} ({total:.0} objects), as wedges from the centre; 0° to \
          the right, angles increasing counter-clockwise as seen from the north ecliptic pole; \
          radius ∝ √count so that wedge areas are proportional to counts; rings at the counts \
-         marked. {} {note}",
+         marked. {}{} {note}",
         label(quantity),
         if has_null {
             band.describe()
         } else {
             "No null band given."
-        }
+        },
+        reading_note(total, bins)
     );
+    let key_rows = if has_null { 3 } else { 0 };
     render(
         &format!("rose_{quantity}"),
         &title,
         &caption,
-        (style::SQUARE + 80, style::SQUARE),
+        (style::SQUARE + 80, style::SQUARE + 22 * key_rows),
         |root| {
             let area = titled(root, &title)?;
             if bins.is_empty() || total == 0.0 {
                 return empty_note(&area, "no objects to show");
             }
+            let (_, h) = area.dim_in_pixel();
+            let (plot, key) = area.split_vertically(h - 22 * key_rows as u32);
             let top = bins
                 .iter()
                 .map(|b| b.observed.max(b.null.map_or(0.0, |n| n.hi)))
                 .fold(1.0, f64::max);
             let r = radius(top) * 1.2;
-            let (w, h) = area.dim_in_pixel();
+            let (w, h) = plot.dim_in_pixel();
             let aspect = w as f64 / h as f64;
-            let mut chart = ChartBuilder::on(&area)
+            let mut chart = ChartBuilder::on(&plot)
                 .margin(10)
                 .build_cartesian_2d(-r * aspect..r * aspect, -r..r)?;
             // Band, wedges, the grid, then the band's edges and median and the labels on top so
@@ -94,7 +162,7 @@ pub fn rose(quantity: &str, bins: &[RoseBin], band: Band, note: &str) -> Result<
             draw_band_lines(&mut chart, bins)?;
             draw_labels(&mut chart, top, r)?;
             if has_null {
-                draw_key(&area, band)?;
+                draw_key(&key, band)?;
             }
             Ok(())
         },
@@ -176,7 +244,8 @@ fn draw_band(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
 }
 
 /// Over the wedges: the band's edges as thin grey arcs (where a wedge covers the band, its
-/// end is still seen against them) and its median count as a dark arc (none where it is 0).
+/// end is still seen against them), the band's lower edge in blue where an empty bin lies
+/// below it, and its median count as one closed dark line around the circle.
 fn draw_band_lines(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
     for b in bins {
         let Some(n) = b.null else { continue };
@@ -184,55 +253,105 @@ fn draw_band_lines(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
             let pts: Vec<_> = arc(b.min_deg, b.max_deg, radius(edge)).collect();
             chart.draw_series(std::iter::once(PathElement::new(pts, style::MUTED.stroke_width(1))))?;
         }
-        if n.median > 0.0 {
-            let med: Vec<_> = arc(b.min_deg, b.max_deg, radius(n.median)).collect();
-            chart.draw_series(std::iter::once(PathElement::new(med, style::INK.stroke_width(2))))?;
-        }
+    }
+    let banded: Vec<&RoseBin> = bins.iter().filter(|b| b.null.is_some()).collect();
+    if !banded.is_empty() {
+        let edges: Vec<(f64, f64)> = banded.iter().map(|b| (b.min_deg, b.max_deg)).collect();
+        let medians: Vec<f64> = banded.iter().map(|b| b.null.map_or(0.0, |n| n.median)).collect();
+        chart.draw_series(std::iter::once(PathElement::new(
+            closed_steps(&edges, &medians),
+            style::INK.stroke_width(2),
+        )))?;
+    }
+    // Last, so that the median cannot hide it: an empty bin below its band has no wedge to
+    // colour, so the band's lower edge is drawn in the below-band colour instead.
+    for b in bins
+        .iter()
+        .filter(|b| b.observed <= 0.0 && Against::of(b) == Against::Below)
+    {
+        let lo = b.null.map_or(0.0, |n| n.lo);
+        let pts: Vec<_> = arc(b.min_deg, b.max_deg, radius(lo)).collect();
+        chart.draw_series(std::iter::once(PathElement::new(
+            pts,
+            Against::Below.edge().stroke_width(5),
+        )))?;
     }
     Ok(())
 }
 
-/// A key in the lower left corner: what the wedges, the band and the dark arcs are.
+/// A closed curve of per-bin counts on the circle: an arc at each bin's radius, joined
+/// radially to the next bin's, as one line.
+pub(crate) fn closed_steps(bins: &[(f64, f64)], counts: &[f64]) -> Vec<(f64, f64)> {
+    let mut pts: Vec<(f64, f64)> = Vec::new();
+    for ((lo, hi), c) in bins.iter().zip(counts) {
+        pts.extend(arc(*lo, *hi, radius(*c)));
+    }
+    if let Some(first) = pts.first().copied() {
+        pts.push(first);
+    }
+    pts
+}
+
+/// The key under the rose, in two columns: the three kinds of wedge; the band and its median.
 fn draw_key(area: &crate::report::figure::Area, band: Band) -> DrawResult {
-    let (_, h) = area.dim_in_pixel();
-    let (x, y0, dy) = (12, h as i32 - 66, 22);
+    let (w, _) = area.dim_in_pixel();
+    let (x0, x1, y0, dy) = (12, (w as i32 / 2).max(200), 10, 22);
     let text = style::text(style::LABEL_PX - 2.0).pos(Pos::new(HPos::Left, VPos::Center));
     let band_name = match band {
-        Band::BiasAware => "bias-aware null, 5–95%",
-        Band::Naive => "naive null, 5–95%",
+        Band::BiasAware => "bias-aware null band, 5–95%",
+        Band::Naive => "naive null band, 5–95%",
     };
-    let c = style::series(1);
-    area.draw(&Rectangle::new([(x, y0 - 6), (x + 20, y0 + 6)], c.mix(0.55).filled()))?;
-    area.draw(&Text::new("observed count", (x + 28, y0), text.clone()))?;
+    let kinds = [
+        (Against::Inside, "observed, inside the band"),
+        (Against::Above, "observed, above the band"),
+        (Against::Below, "observed, below the band"),
+    ];
+    for (k, (kind, name)) in kinds.into_iter().enumerate() {
+        let y = y0 + dy * k as i32;
+        area.draw(&Rectangle::new([(x0, y - 6), (x0 + 20, y + 6)], kind.fill().filled()))?;
+        area.draw(&Rectangle::new(
+            [(x0, y - 6), (x0 + 20, y + 6)],
+            kind.edge().stroke_width(1),
+        ))?;
+        area.draw(&Text::new(name, (x0 + 28, y), text.clone()))?;
+    }
     area.draw(&Rectangle::new(
-        [(x, y0 + dy - 6), (x + 20, y0 + dy + 6)],
+        [(x1, y0 - 6), (x1 + 20, y0 + 6)],
         style::BAND.mix(0.75).filled(),
     ))?;
-    area.draw(&Text::new(band_name, (x + 28, y0 + dy), text.clone()))?;
+    area.draw(&Text::new(band_name, (x1 + 28, y0), text.clone()))?;
     area.draw(&PathElement::new(
-        vec![(x, y0 + 2 * dy), (x + 20, y0 + 2 * dy)],
+        vec![(x1, y0 + dy), (x1 + 20, y0 + dy)],
         style::INK.stroke_width(2),
     ))?;
-    area.draw(&Text::new("its median", (x + 28, y0 + 2 * dy), text))?;
+    area.draw(&Text::new("median of the band", (x1 + 28, y0 + dy), text))?;
     Ok(())
 }
 
 pub(crate) fn draw_wedges(chart: &mut Polar, bins: &[RoseBin]) -> DrawResult {
-    let c = style::series(1);
     for b in bins.iter().filter(|b| b.observed > 0.0) {
+        let kind = Against::of(b);
         let poly = sector(b.min_deg, b.max_deg, 0.0, radius(b.observed));
-        chart.draw_series(std::iter::once(Polygon::new(poly.clone(), c.mix(0.55).filled())))?;
+        chart.draw_series(std::iter::once(Polygon::new(poly.clone(), kind.fill().filled())))?;
         let mut closed = poly;
         closed.push(closed[0]);
-        chart.draw_series(std::iter::once(PathElement::new(closed, c.stroke_width(1))))?;
+        chart.draw_series(std::iter::once(PathElement::new(closed, kind.edge().stroke_width(1))))?;
     }
     Ok(())
 }
 
-/// Observed counts of angles (deg) in `n` equal bins from 0° to 360°, with the naive band:
-/// the 5th, 50th and 95th percentiles of a Binomial(N, 1/n) count.
-pub fn bins_of(angles_deg: &[f64], n: usize) -> Vec<RoseBin> {
-    let null = naive_band(angles_deg.len() as u64, 1.0 / n as f64);
+/// Weighted counts of angles (deg) in `n` equal bins from 0° to 360°, with the naive band:
+/// the 5th, 50th and 95th percentiles of a Binomial(n_eff, 1/n) count at Kish's effective
+/// number n_eff = (Σw)²/Σw², scaled by Σw/n_eff (with unit weights: Binomial(N, 1/n)).
+pub fn bins_of(angles_deg: &[f64], weights: &[f64], n: usize) -> Vec<RoseBin> {
+    let (sum, sum_sq) = weights.iter().fold((0.0, 0.0), |(s, q), w| (s + w, q + w * w));
+    let n_eff = if sum_sq > 0.0 { sum * sum / sum_sq } else { 0.0 };
+    let scale = if n_eff > 0.0 { sum / n_eff } else { 1.0 };
+    let null = naive_band(n_eff.round() as u64, 1.0 / n as f64).map(|b| NullBand {
+        lo: b.lo * scale,
+        median: b.median * scale,
+        hi: b.hi * scale,
+    });
     let w = 360.0 / n as f64;
     let mut bins: Vec<RoseBin> = (0..n)
         .map(|k| RoseBin {
@@ -242,9 +361,9 @@ pub fn bins_of(angles_deg: &[f64], n: usize) -> Vec<RoseBin> {
             null,
         })
         .collect();
-    for a in angles_deg {
+    for (a, wt) in angles_deg.iter().zip(weights) {
         let k = ((a.rem_euclid(360.0) / w) as usize).min(n - 1);
-        bins[k].observed += 1.0;
+        bins[k].observed += wt;
     }
     bins
 }
@@ -274,7 +393,7 @@ mod tests {
 
     #[test]
     fn bins_wrap_angles() {
-        let b = bins_of(&[-10.0, 5.0, 359.0, 725.0], 4);
+        let b = bins_of(&[-10.0, 5.0, 359.0, 725.0], &[1.0; 4], 4);
         assert_eq!(
             b.iter().map(|b| b.observed).collect::<Vec<_>>(),
             vec![2.0, 0.0, 0.0, 2.0]

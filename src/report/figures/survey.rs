@@ -98,7 +98,8 @@ impl DepthPlot<'_> {
         axes::mesh(&mut chart, "depth, 50% efficiency (mag)", self.y_desc)?;
         for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
-            let runs = axes::step_runs(self.edges, h, floor);
+            let counts: Vec<f64> = h.iter().map(|&c| c as f64).collect();
+            let runs = axes::step_runs(self.edges, &counts, floor);
             for (j, run) in runs.into_iter().enumerate() {
                 let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
                 if j == 0 {
