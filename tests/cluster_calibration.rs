@@ -19,7 +19,7 @@
 
 mod common;
 
-use common::{ecliptic_fields, ks_uniform_p, survey};
+use common::{check_uniform, ecliptic_fields, survey};
 
 use std::f64::consts::TAU;
 use std::path::Path;
@@ -222,34 +222,6 @@ impl Case {
         let naive = out.iter().map(|o| o.3.clone()).collect();
         (names, p, naive)
     }
-}
-
-/// Rejections at 5% and 1% within 3.5 binomial standard deviations, and KS uniformity, for
-/// every row; returns the table printed.
-fn check_uniform(case: &str, names: &[String], p: &[Vec<f64>]) {
-    let m = p.len() as f64;
-    let mut failures = Vec::new();
-    eprintln!(
-        "{case}: {} null catalogues, {TRIALS} synthetic catalogues each",
-        p.len()
-    );
-    eprintln!("  {:<34} {:>8} {:>8} {:>8}", "statistic", "≤5%", "≤1%", "KS p");
-    for (k, name) in names.iter().enumerate() {
-        let col: Vec<f64> = p.iter().map(|row| row[k]).collect();
-        let rate = |a: f64| col.iter().filter(|x| **x <= a).count() as f64;
-        let ks = ks_uniform_p(&col);
-        eprintln!("  {name:<34} {:>8.4} {:>8.4} {ks:>8.3}", rate(0.05) / m, rate(0.01) / m);
-        for a in [0.05, 0.01] {
-            let sd = (m * a * (1.0 - a)).sqrt();
-            if (rate(a) - m * a).abs() > 3.5 * sd + 1.0 {
-                failures.push(format!("{name}: {} of {m} at {a}", rate(a)));
-            }
-        }
-        if ks < 1e-3 {
-            failures.push(format!("{name}: KS p = {ks}"));
-        }
-    }
-    assert!(failures.is_empty(), "{case}: {failures:?}");
 }
 
 /// n objects (a 40–80 AU unless told, e, i < 15°, H) with zero angles, as an objects table.

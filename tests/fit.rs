@@ -579,12 +579,8 @@ fn the_orbit_quality_cut_selects_what_it_says() {
     );
     let out = tmp.path().join("cluster");
     let s = |p: &std::path::Path| p.to_string_lossy().into_owned();
-    let o = common::seine(&[
-        "cluster-test",
-        "--survey",
-        &s(&tmp.path().join("syn.survey.toml")),
-        "--catalog",
-        &s(&catalogue),
+    // The cut, as a paper's.
+    let cut = [
         "--fitted-elements",
         "--min-arc-days",
         "100",
@@ -592,43 +588,127 @@ fn the_orbit_quality_cut_selects_what_it_says() {
         "0.002",
         "--fit-quality",
         "one_opposition,multi_opposition",
-        "--grid",
-        "4,4",
-        "--per-cell",
-        "2",
-        "--trials",
-        "200",
-        "--replicas",
-        "2",
-        "--rose-bins",
-        "12",
-        "--drop-undiscovered",
-        "--quiet",
-        "--out",
-        &s(&out),
-    ]);
+    ];
+    let (survey, catalogue_arg) = (s(&tmp.path().join("syn.survey.toml")), s(&catalogue));
+    let head = ["cluster-test", "--survey", &survey, "--catalog", &catalogue_arg];
+    let o = common::seine(
+        &[
+            &head[..],
+            &cut[..],
+            &[
+                "--grid",
+                "4,4",
+                "--per-cell",
+                "2",
+                "--trials",
+                "200",
+                "--replicas",
+                "2",
+                "--rose-bins",
+                "12",
+                "--drop-undiscovered",
+                "--quiet",
+                "--out",
+                &s(&out),
+            ],
+        ]
+        .concat(),
+    );
     let err = common::stderr(&o);
     assert!(o.status.success(), "{err}");
     // The message names how many were kept and left out.
     let said = format!("{} objects (fitted elements", expected.len());
     let left = format!("{} left out by the cut", ids.len() - expected.len());
     assert!(err.contains(&said) && err.contains(&left), "{err}");
-    // The bias maps do not apply the cut to their trials, so the bias-aware chances would not
-    // be calibrated (validation.md): they are withheld, in the message and the table; the
-    // chances without bias correction (an isotropic, unselected null) stay.
+    // The bias maps put their trials through the same fit and cut (methods.md, "Bias maps of
+    // a catalogue of fitted orbits"): the summary and every map row say so. On fitted elements
+    // the maps are made at the fitted a, e, i, not shown calibrated (validation.md): the
+    // bias-aware chances are withheld, and the summary says why; the naive ones stay.
     let said: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
-    let why = said["chances_withheld"].as_str().unwrap_or_default();
+    let key = said["selection"].as_str().unwrap_or_default().to_string();
     assert!(
-        why.contains("chances withheld") && why.contains("fitted elements"),
+        key.contains("fitted elements") && key.contains("arc ≥ 100 days") && key.contains("fit span all"),
         "{said}"
     );
+    let why = said["chances_withheld"].as_str().unwrap_or_default();
+    assert!(why.contains("fitted a, e and i"), "{said}");
     let test = read_table(&out.join("cluster_test.parquet")).unwrap();
     assert!(
         nullable(&test, "p_bias_aware").iter().all(Option::is_none),
-        "a chance printed"
+        "a bias-aware chance printed on fitted elements"
     );
     assert!(nullable(&test, "p_naive").iter().any(Option::is_some));
+    let recorded = nullable_str(&read_table(&out.join("bias_map.parquet")).unwrap(), "selection");
+    assert!(
+        recorded.iter().all(|k| k.as_deref() == Some(key.as_str())),
+        "{recorded:?}"
+    );
+    // Those maps given back for the same cut with another fit span: another selection, refused
+    // (exit 2, one sentence naming the map table and both selections, nothing written).
+    let again = tmp.path().join("again");
+    let maps = s(&out.join("bias_map.parquet"));
+    let head = ["cluster-test", "--catalog", &catalogue_arg, "--bias-map", &maps];
+    let o = common::seine(
+        &[
+            &head[..],
+            &cut[..],
+            &[
+                "--fit-span",
+                "discovery",
+                "--drop-undiscovered",
+                "--quiet",
+                "--out",
+                &s(&again),
+            ],
+        ]
+        .concat(),
+    );
+    let err = common::stderr(&o);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("bias_map.parquet") && err.contains("fit span all") && err.contains("fit span discovery"),
+        "{err}"
+    );
+    assert!(!again.exists(), "nothing written for refused maps");
+    // The same cut on true elements: calibrated (tests/fit_calibration.rs), so the bias-aware
+    // chances are printed and nothing is withheld.
+    let true_out = tmp.path().join("true");
+    let head = ["cluster-test", "--survey", &survey, "--catalog", &catalogue_arg];
+    let o = common::seine(
+        &[
+            &head[..],
+            &cut[1..],
+            &[
+                "--grid",
+                "4,4",
+                "--per-cell",
+                "2",
+                "--trials",
+                "200",
+                "--replicas",
+                "2",
+                "--drop-undiscovered",
+                "--quiet",
+                "--out",
+                &s(&true_out),
+            ],
+        ]
+        .concat(),
+    );
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let said: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(true_out.join("summary.json")).unwrap()).unwrap();
+    assert!(said["chances_withheld"].is_null(), "{said}");
+    assert!(
+        said["selection"].as_str().unwrap_or_default().contains("true elements"),
+        "{said}"
+    );
+    let test = read_table(&true_out.join("cluster_test.parquet")).unwrap();
+    assert!(
+        nullable(&test, "p_bias_aware").iter().all(Option::is_some),
+        "a bias-aware chance missing on true elements with the cut"
+    );
     // Every kept object has its map, and no other.
     let maps = read_table(&out.join("bias_map.parquet")).unwrap();
     let mut mapped: Vec<i64> = nullable(&maps, "id").into_iter().map(|v| v.unwrap() as i64).collect();

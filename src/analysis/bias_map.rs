@@ -16,8 +16,9 @@ use rand_distr::Binomial;
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
+use super::trial_selection::{Kept, TrialSelection};
 use super::trials::{TrialObject, angle_stream, trial_id};
-use crate::engine::{PreparedSurvey, StopRule};
+use crate::engine::PreparedSurvey;
 use crate::orbit::Elements;
 use crate::population::objects::ObjectTable;
 
@@ -297,9 +298,23 @@ pub fn bias_maps(
     seed: u64,
     tick: &(dyn Fn() + Sync),
 ) -> Vec<BiasMap> {
+    let plan = (grid, budget, &TrialSelection::Discovered);
+    selected_bias_maps(objects, rows, surveys, plan, seed, tick)
+}
+
+/// As `bias_maps`, with the trials counted as discovered only when they pass `selection`
+/// (for a catalogue on fitted elements or cut on its fits: `trial_selection.rs`).
+pub fn selected_bias_maps(
+    objects: &ObjectTable,
+    rows: std::ops::Range<usize>,
+    surveys: &[PreparedSurvey],
+    plan: (MapGrid, MapBudget, &TrialSelection),
+    seed: u64,
+    tick: &(dyn Fn() + Sync),
+) -> Vec<BiasMap> {
     rows.into_par_iter()
         .map(|i| {
-            let map = one_map(objects, i, surveys, grid, budget, seed);
+            let map = one_map(objects, i, surveys, plan, seed);
             tick();
             map
         })
@@ -310,8 +325,7 @@ fn one_map(
     objects: &ObjectTable,
     i: usize,
     surveys: &[PreparedSurvey],
-    grid: MapGrid,
-    budget: MapBudget,
+    (grid, budget, selection): (MapGrid, MapBudget, &TrialSelection),
     seed: u64,
 ) -> BiasMap {
     let id = objects.ids[i];
@@ -329,11 +343,10 @@ fn one_map(
                 |(obj, scratch), c| {
                     let tid = trial_id(id, pass * cells as u64 + c as u64, span);
                     let (el, x) = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
-                    // Only whether the trial was discovered counts in a map.
-                    let found = obj
-                        .observe(el, surveys, (seed, tid), StopRule::UntilDiscovery, scratch)
-                        .discovered();
-                    found.then_some((x, el.node_rad))
+                    match selection.judge(obj, el, surveys, (seed, tid), scratch)? {
+                        Kept::True => Some((x, el.node_rad)),
+                        Kept::Fitted(f) => Some((grid.axes.x_of(&f), f.node_rad.rem_euclid(TAU))),
+                    }
                 },
             )
             .collect()

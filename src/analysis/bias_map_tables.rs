@@ -10,6 +10,7 @@ use std::path::{Path, PathBuf};
 use polars::prelude::Column;
 
 use super::bias_map::{BiasMap, MapAxes, MapGrid};
+use super::trial_selection::{DISCOVERED_KEY, TrialSelection};
 use crate::error::{Error, Result};
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
@@ -31,6 +32,8 @@ const DISCOVERED: &str = "discovered";
 const P_DISCOVER: &str = "p_discover";
 const NODE: &str = "node";
 const WEIGHT: &str = "weight";
+/// The selection the maps' trials went through (`TrialSelection::key`), on every row.
+const SELECTION: &str = "selection";
 /// The object each map was made for, beside its id: the quantities a map depends on that the
 /// trials keep (the angles and the mean anomaly are drawn). A map read back for a catalogue is
 /// checked against them, so that a map of another catalogue's object of the same id is refused.
@@ -59,9 +62,16 @@ pub struct MappedObject {
 
 /// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` of maps made for objects of
 /// `objects`; returns the three paths.
-pub fn write(out: &OutDir, maps: &[BiasMap], objects: &ObjectTable) -> Result<[PathBuf; 3]> {
+pub fn write(
+    out: &OutDir,
+    maps: &[BiasMap],
+    objects: &ObjectTable,
+    selection: &TrialSelection,
+) -> Result<[PathBuf; 3]> {
     let mut columns = map_columns(maps);
     columns.extend(object_columns(maps, objects));
+    let rows: usize = maps.iter().map(|m| m.trials.len()).sum();
+    columns.push(col(SELECTION, vec![selection.key(); rows]));
     Ok([
         out.write(MAPS, columns)?,
         out.write(FOUND, found_columns(maps))?,
@@ -169,7 +179,7 @@ fn x_name(maps: &[BiasMap]) -> &'static str {
 
 /// `bias_map`: one row per object and cell: `id, cell, grid_n_x, grid_n_node`, the cell's
 /// bounds `X_lo_deg, X_hi_deg, node_lo_deg, node_hi_deg` (X = varpi or argperi), `trials,
-/// discovered, p_discover`.
+/// discovered, p_discover` (then `a_au, e, inc_deg, h_mag` and `selection`, added by `write`).
 fn map_columns(maps: &[BiasMap]) -> Vec<Column> {
     let rows: Vec<(&BiasMap, usize)> = maps
         .iter()
@@ -228,11 +238,14 @@ fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
 
 /// Read a table written by `seine bias-map` back into maps, one per id, with the discovered
 /// trials' angles of `map_discoveries.*` beside it when there is that file. Every map whose id
-/// is in `catalog` must have been made for that very object (same a, e, i and H).
-pub fn read(path: &Path, catalog: &ObjectTable) -> Result<Vec<BiasMap>> {
+/// is in `catalog` must have been made for that very object (same a, e, i and H) and under
+/// `selection` (a table without a `selection` column was made before maps could apply a fit:
+/// every discovery, true angles); under a fit's selection the discovered angles must be there.
+pub fn read(path: &Path, catalog: &ObjectTable, selection: &TrialSelection) -> Result<Vec<BiasMap>> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     check_same_objects(path, &c, catalog)?;
+    check_selection(path, &c, selection)?;
     let axes = if c.has(&lo_deg(MapAxes::VarpiNode.x_name())) {
         MapAxes::VarpiNode
     } else {
@@ -260,7 +273,33 @@ pub fn read(path: &Path, catalog: &ObjectTable) -> Result<Vec<BiasMap>> {
         m.discoveries[cell] = found[r] as u64;
     }
     read_found(path, &mut maps)?;
+    if *selection != TrialSelection::Discovered
+        && let Some(m) = maps.iter().find(|m| m.found.is_empty() && m.total_discoveries() > 0)
+    {
+        return Err(Error::input(format!(
+            "{}: id {}: no discovered angles ({FOUND} beside it); maps of fitted orbits are drawn from              their discovered trials' fitted angles, so keep that file with the map table",
+            path.display(),
+            m.id
+        )));
+    }
     Ok(maps)
+}
+
+/// Refuse maps made under another selection than `want`.
+fn check_selection(path: &Path, c: &Columns, want: &TrialSelection) -> Result<()> {
+    let made = if c.has(SELECTION) {
+        c.str(SELECTION)?
+    } else {
+        vec![DISCOVERED_KEY.to_string()]
+    };
+    let want = want.key();
+    match made.iter().find(|k| **k != want) {
+        Some(k) => Err(Error::input(format!(
+            "{}: these maps were made for a catalogue taken with `{k}`, not `{want}`; make them again              with `seine bias-map` and the same selection and fit options",
+            path.display()
+        ))),
+        None => Ok(()),
+    }
 }
 
 /// Refuse a map table whose rows describe another object than the catalogue's of the same id.

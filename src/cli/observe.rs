@@ -53,7 +53,7 @@ pub struct Args {
     #[arg(long, default_value = "all", requires = "fit_orbits")]
     pub fit_span: String,
     /// Astrometric 1σ per coordinate, arcsec, of a detection whose detection model gives none.
-    #[arg(long, default_value_t = 0.1, requires = "fit_orbits")]
+    #[arg(long, default_value_t = seine::fit::span::DEFAULT_SIGMA_ARCSEC, requires = "fit_orbits")]
     pub astrometric_sigma_arcsec: f64,
     /// Systematic astrometric floor, arcsec, added in quadrature to every detection's error.
     #[arg(long, default_value_t = 0.0, requires = "fit_orbits")]

@@ -5,11 +5,13 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, bias_maps, svg};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
+use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, selected_bias_maps, svg};
 use crate::analysis::bias_map_tables;
+use crate::analysis::trial_selection::TrialSelection;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
+use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
 use crate::io::table::write_atomic;
 use crate::population::objects::ObjectTable;
@@ -28,6 +30,9 @@ pub struct MapOptions {
     pub per_cell: Option<u64>,
     /// Run past the budget of trials and memory: it is meant.
     pub over_budget: bool,
+    /// How a trial's orbit is fitted when the catalogue is taken on fitted elements or cut on
+    /// its fits: the options its `observe --fit-orbits` used.
+    pub fit: FitOptions,
 }
 
 impl MapOptions {
@@ -74,11 +79,17 @@ impl MapOptions {
         crate::budget::check_bias_maps(objects, self.grid.cells() as f64, fixed, self.over_budget)
     }
 
-    /// The maps of catalogue rows `rows`, with a progress bar over objects.
+    /// The selection the maps' trials go through for a catalogue read under `selection`.
+    pub fn trial_selection(&self, selection: &Selection) -> TrialSelection {
+        TrialSelection::new(selection, self.fit)
+    }
+
+    /// The maps of catalogue rows `rows`, their trials under `selection`, with a progress bar
+    /// over objects.
     pub fn maps(
         &self,
         objects: &ObjectTable,
-        rows: std::ops::Range<usize>,
+        (rows, selection): (std::ops::Range<usize>, &TrialSelection),
         surveys: &[PreparedSurvey],
         seed: u64,
         progress: bool,
@@ -90,7 +101,8 @@ impl MapOptions {
                 b.inc(1)
             }
         };
-        let maps = bias_maps(objects, rows, surveys, self.grid, budget, seed, &tick);
+        let plan = (self.grid, budget, selection);
+        let maps = selected_bias_maps(objects, rows, surveys, plan, seed, &tick);
         if let Some(b) = bar {
             b.finish_and_clear();
         }
@@ -136,20 +148,32 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let budget = opts.maps.budget()?;
     let mut prov = opts.run.provenance();
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
-    let (objects, note) = read_catalogue(&opts.selection, &opts.objects)?;
+    let (objects, note) = read_catalogue_modelled(&opts.selection, &opts.objects)?;
     prov.add_input(&opts.objects)?;
     let rows = shard_rows(objects.len(), opts.shard);
     opts.maps.check_budget(rows.len())?;
     let out = opts.run.out_dir(prov);
-    let maps = opts
-        .maps
-        .maps(&objects, rows.clone(), &surveys, opts.run.seed, opts.run.progress)?;
-    let [table, found, own] = bias_map_tables::write(&out, &maps, &objects)?;
+    let selection = opts.maps.trial_selection(&opts.selection);
+    let maps = opts.maps.maps(
+        &objects,
+        (rows.clone(), &selection),
+        &surveys,
+        opts.run.seed,
+        opts.run.progress,
+    )?;
+    let [table, found, own] = bias_map_tables::write(&out, &maps, &objects, &selection)?;
     if opts.svg {
         write_svgs(opts, &objects, rows, &maps)?;
     }
     let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
-    let conclusion = conclude(&maps, &undiscovered, &thin);
+    let mut conclusion = conclude(&maps, &undiscovered, &thin);
+    if selection != TrialSelection::Discovered {
+        conclusion += &format!(
+            "\n  A trial counts as discovered only when its orbit, fitted to its simulated astrometry, passes the \
+             catalogue's selection ({}).",
+            selection.key()
+        );
+    }
     let grid = opts.maps.grid;
     let summary = out.summary(
         serde_json::json!({
@@ -159,6 +183,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
             "axes": grid.axes.x_name(),
             "min_discoveries": (budget.min_discoveries != u64::MAX).then_some(budget.min_discoveries),
             "max_trials_per_object": budget.max_trials,
+            "selection": selection.key(),
             "undiscovered_ids": undiscovered,
             "below_min_discoveries_ids": thin,
             "maps": maps.iter().map(|m| serde_json::json!({

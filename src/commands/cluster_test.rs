@@ -6,9 +6,10 @@
 use std::path::{Path, PathBuf};
 
 use super::bias_map::MapOptions;
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
 use crate::analysis::bias_map::BiasMap;
 use crate::analysis::cluster_test::{self as ct, Angles, ClusterTest, TestOptions};
+use crate::analysis::trial_selection::TrialSelection;
 use crate::analysis::{bias_map_tables, cluster_tables};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
@@ -66,7 +67,7 @@ impl ClusterTestOptions {
 pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     opts.validate()?;
     let mut prov = opts.run.provenance();
-    let (catalog, note) = read_catalogue(&opts.selection, &opts.catalog)?;
+    let (catalog, note) = read_catalogue_modelled(&opts.selection, &opts.catalog)?;
     prov.add_input(&opts.catalog)?;
     if catalog.len() < 2 {
         // Refused before the maps are made: they would cost minutes and test nothing.
@@ -88,16 +89,25 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
         )));
     }
     let mut res = run_test(opts, &catalog, &maps)?;
-    let withheld = super::chances_withheld(&opts.selection);
+    let withheld = super::fitted_chances_withheld(&opts.selection);
     if withheld.is_some() {
         res.withhold_bias_aware_chances();
     }
+    let selection = opts.maps.trial_selection(&opts.selection);
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
-        bias_map_tables::write(&out, &maps, &catalog)?;
+        bias_map_tables::write(&out, &maps, &catalog, &selection)?;
     }
     let [table, null, rose] = cluster_tables::write(&out, &res)?;
     let mut conclusion = conclude(&res, &undiscovered, &thin);
+    if selection != TrialSelection::Discovered {
+        // The maps' trials went through the catalogue's own selection (methods.md, "Bias maps
+        // of a catalogue of fitted orbits"), so the bias-aware chances are the catalogue's.
+        conclusion += &format!(
+            "\n  The bias maps' trials went through the catalogue's selection: {}.",
+            selection.key()
+        );
+    }
     if let Some(why) = &withheld {
         conclusion += &format!("\n  Bias-aware {why}.");
     }
@@ -105,6 +115,7 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     value["command"] = "cluster-test".into();
     value["dropped_undiscovered_ids"] = serde_json::json!(undiscovered);
     value["below_min_discoveries_ids"] = serde_json::json!(thin);
+    value["selection"] = serde_json::json!(selection.key());
     value["chances_withheld"] = serde_json::json!(withheld);
     let summary = out.summary(value, &conclusion)?;
     Ok(Outcome {
@@ -116,17 +127,19 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
 
 /// The catalogue's maps, in catalogue order: read from the given tables, or computed.
 fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut Provenance) -> Result<Vec<BiasMap>> {
+    let selection = opts.maps.trial_selection(&opts.selection);
     let Some(first) = opts.bias_maps.first() else {
         opts.maps.check_budget(catalog.len())?;
         let surveys = load_surveys(&opts.surveys, prov)?;
+        let rows = (0..catalog.len(), &selection);
         return opts
             .maps
-            .maps(catalog, 0..catalog.len(), &surveys, opts.run.seed, opts.run.progress);
+            .maps(catalog, rows, &surveys, opts.run.seed, opts.run.progress);
     };
     let mut maps = Vec::new();
     for p in &opts.bias_maps {
         prov.add_input(p)?;
-        maps.extend(bias_map_tables::read(p, catalog)?);
+        maps.extend(bias_map_tables::read(p, catalog, &selection)?);
     }
     order_maps(maps, catalog, first)
 }

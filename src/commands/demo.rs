@@ -182,6 +182,7 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable, say
         max_trials_per_object: DEFAULT_MAX_TRIALS_PER_OBJECT,
         per_cell: None,
         over_budget: false,
+        fit: Default::default(),
     };
     let mapped = bias_map(&BiasMapOptions {
         surveys: surveys.clone(),

@@ -12,6 +12,7 @@ use std::path::Path;
 use polars::prelude::*;
 
 use super::columns::element_column;
+use super::orbit_fit::OrbitFit;
 use super::quality::Quality;
 use crate::error::{Error, Result, io_at};
 use crate::io::table::read_table;
@@ -102,18 +103,31 @@ impl Selection {
         let class = nullable_str(df, "fit_quality", path)?;
         Ok((0..df.height())
             .map(|i| {
-                let Some(a) = a[i] else { return false };
-                let class_ok = match class[i].as_deref().and_then(Quality::parse) {
-                    Some(q) => q != Quality::Failed && (self.qualities.is_empty() || self.qualities.contains(&q)),
-                    None => false,
-                };
-                let arc_ok = self.min_arc_days.is_none_or(|d| arc[i].is_some_and(|x| x >= d));
-                let sigma_ok = self
-                    .max_sigma_a_frac
-                    .is_none_or(|s| sigma_a[i].is_some_and(|x| x / a <= s));
-                class_ok && arc_ok && sigma_ok
+                let q = class[i].as_deref().and_then(Quality::parse);
+                self.keeps(a[i], sigma_a[i], arc[i], q)
             })
             .collect())
+    }
+
+    /// Whether a fit passes: the same rule as a catalogue's rows, for a bias map's trial
+    /// (`analysis::trial_selection`).
+    pub fn passes(&self, fit: &OrbitFit) -> bool {
+        let a = fit.elements.map(|el| el.a_au);
+        self.keeps(a, fit.sigma(0), Some(fit.arc_days), Some(fit.quality))
+    }
+
+    /// A fitted orbit (a and a class other than `failed`) within every stated limit.
+    fn keeps(&self, a: Option<f64>, sigma_a: Option<f64>, arc: Option<f64>, class: Option<Quality>) -> bool {
+        let Some(a) = a else { return false };
+        let class_ok = match class {
+            Some(q) => q != Quality::Failed && (self.qualities.is_empty() || self.qualities.contains(&q)),
+            None => false,
+        };
+        let arc_ok = self.min_arc_days.is_none_or(|d| arc.is_some_and(|x| x >= d));
+        let sigma_ok = self
+            .max_sigma_a_frac
+            .is_none_or(|s| sigma_a.is_some_and(|x| x / a <= s));
+        class_ok && arc_ok && sigma_ok
     }
 }
 

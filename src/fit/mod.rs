@@ -40,6 +40,19 @@ pub struct FitOptions {
     pub errors: AstrometricErrors,
 }
 
+/// `observe --fit-orbits`'s defaults: every detection, 0.1″ per coordinate, no floor.
+impl Default for FitOptions {
+    fn default() -> Self {
+        FitOptions {
+            span: FitSpan::All,
+            errors: AstrometricErrors {
+                sigma_arcsec: span::DEFAULT_SIGMA_ARCSEC,
+                floor_arcsec: 0.0,
+            },
+        }
+    }
+}
+
 /// `observe --fit-orbits` adds the fit's columns to every chunk of the objects table.
 impl ChunkColumns for FitOptions {
     fn append(
@@ -80,9 +93,24 @@ pub fn fit_chunk(
                 return None;
             }
             let i = start + k;
-            let mut rng = object_stream(seed, objects.ids[i], Purpose::Astrometry);
-            let obs = span::observations(outcome, surveys, opts.span, &opts.errors, &mut rng);
-            Some(fit_orbit(&obs, objects.elements[i].center))
+            let rng = object_stream(seed, objects.ids[i], Purpose::Astrometry);
+            Some(opts.fit(outcome, surveys, objects.elements[i].center, rng))
         })
         .collect()
+}
+
+impl FitOptions {
+    /// The orbit of a discovered object's outcome (worked out with `StopRule::Everything`, so
+    /// that every detection carries its measurement): its detections measured with `rng` (the
+    /// object's or trial's `Astrometry` stream), fitted over the span, about `center`.
+    pub fn fit(
+        &self,
+        outcome: &ObjectOutcome,
+        surveys: &[PreparedSurvey],
+        center: crate::orbit::Center,
+        mut rng: rand_pcg::Pcg64,
+    ) -> OrbitFit {
+        let obs = span::observations(outcome, surveys, self.span, &self.errors, &mut rng);
+        fit_orbit(&obs, center)
+    }
 }

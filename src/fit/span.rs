@@ -47,6 +47,10 @@ impl FitSpan {
     }
 }
 
+/// The astrometric 1σ per coordinate (arcsec) of a detection whose measurement model gives
+/// none, unless told otherwise (common practice for a ground-based survey, no source).
+pub const DEFAULT_SIGMA_ARCSEC: f64 = 0.1;
+
 /// Astrometric errors of the detections (arcsec).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AstrometricErrors {

@@ -212,3 +212,29 @@ pub fn ks_uniform_p(p: &[f64]) -> f64 {
         .fold(0.0, f64::max);
     seine::analysis::two_sample::kolmogorov_sf(v.len(), d)
 }
+
+/// Rejections at 5% and 1% within 3.5 binomial standard deviations (common practice, no
+/// source), and KS uniformity (p above 10⁻³), for every row of p-values (`p[null][row]`);
+/// prints the table, and fails naming every row out of bounds.
+pub fn check_uniform(case: &str, names: &[String], p: &[Vec<f64>]) {
+    let m = p.len() as f64;
+    let mut failures = Vec::new();
+    eprintln!("{case}: {} null catalogues", p.len());
+    eprintln!("  {:<34} {:>8} {:>8} {:>8}", "statistic", "≤5%", "≤1%", "KS p");
+    for (k, name) in names.iter().enumerate() {
+        let col: Vec<f64> = p.iter().map(|row| row[k]).collect();
+        let rate = |a: f64| col.iter().filter(|x| **x <= a).count() as f64;
+        let ks = ks_uniform_p(&col);
+        eprintln!("  {name:<34} {:>8.4} {:>8.4} {ks:>8.3}", rate(0.05) / m, rate(0.01) / m);
+        for a in [0.05, 0.01] {
+            let sd = (m * a * (1.0 - a)).sqrt();
+            if (rate(a) - m * a).abs() > 3.5 * sd + 1.0 {
+                failures.push(format!("{name}: {} of {m} at {a}", rate(a)));
+            }
+        }
+        if ks < 1e-3 {
+            failures.push(format!("{name}: KS p = {ks}"));
+        }
+    }
+    assert!(failures.is_empty(), "{case}: {failures:?}");
+}

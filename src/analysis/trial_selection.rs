@@ -1,0 +1,134 @@
+//! What a bias-map trial must pass to count as discovered, and which of its angles the map
+//! keeps: discovered by any survey in its true angles (a catalogue of true elements), or, for a
+//! catalogue taken on fitted elements or cut on its fits, discovered *and* its orbit fitted to
+//! its simulated astrometry passing the same cut, in its fitted angles. Why this makes the map
+//! the selection function of the fitted, cut catalogue: methods.md, "Bias maps of a catalogue
+//! of fitted orbits".
+
+use super::trials::TrialObject;
+use crate::engine::{PreparedSurvey, StopRule};
+use crate::fit::FitOptions;
+use crate::fit::catalogue::Selection;
+use crate::orbit::Elements;
+use crate::rng::{Purpose, object_stream};
+
+/// The selection a map's trials go through.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum TrialSelection {
+    /// Discovered by any survey; the trial's true angles.
+    #[default]
+    Discovered,
+    /// Discovered, and its orbit (measured and fitted as `fit` says) passes `selection`'s cut;
+    /// its fitted angles when `selection` takes fitted elements, its true ones otherwise.
+    Fitted { fit: FitOptions, selection: Selection },
+}
+
+impl TrialSelection {
+    /// The trials' selection for a catalogue read under `selection`, fitted as `fit` says
+    /// (the options the catalogue's `observe --fit-orbits` used).
+    pub fn new(selection: &Selection, fit: FitOptions) -> Self {
+        if selection.is_plain() {
+            TrialSelection::Discovered
+        } else {
+            TrialSelection::Fitted {
+                fit,
+                selection: selection.clone(),
+            }
+        }
+    }
+
+    /// The selection in words, as the map tables record it (`selection`) and compare it: two
+    /// maps are interchangeable only when these are equal.
+    pub fn key(&self) -> String {
+        match self {
+            TrialSelection::Discovered => DISCOVERED_KEY.to_string(),
+            TrialSelection::Fitted { fit, selection } => format!(
+                "{}; fit span {}, astrometric σ {}″, floor {}″",
+                selection.describe(),
+                fit.span.name(),
+                fit.errors.sigma_arcsec,
+                fit.errors.floor_arcsec
+            ),
+        }
+    }
+
+    /// Whether trial `trial` at elements `el` counts as discovered, and with which elements
+    /// its angles are kept. A fit's trial is first run to its discovery (cheap); only a
+    /// discovered one is run again with every event worked out and measured — the same
+    /// `Observe` stream, so the same verdict — and fitted with its `Astrometry` stream.
+    pub fn judge(
+        &self,
+        obj: &mut TrialObject,
+        el: Elements,
+        surveys: &[PreparedSurvey],
+        (seed, trial): (u64, i64),
+        scratch: &mut Vec<usize>,
+    ) -> Option<Kept> {
+        let discovered = obj
+            .observe(el, surveys, (seed, trial), StopRule::UntilDiscovery, scratch)
+            .discovered();
+        let TrialSelection::Fitted { fit, selection } = self else {
+            return discovered.then_some(Kept::True);
+        };
+        if !discovered {
+            return None;
+        }
+        let outcome = obj.observe(el, surveys, (seed, trial), StopRule::Everything, scratch);
+        let rng = object_stream(seed, trial, Purpose::Astrometry);
+        let orbit = fit.fit(&outcome, surveys, el.center, rng);
+        if !(outcome.discovered() && selection.passes(&orbit)) {
+            return None;
+        }
+        if !selection.fitted {
+            return Some(Kept::True);
+        }
+        orbit.elements.map(Kept::Fitted)
+    }
+}
+
+/// Which angles a map keeps for a trial that counts as discovered.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Kept {
+    /// The trial's own (true) angles.
+    True,
+    /// The angles of its fitted orbit.
+    Fitted(Elements),
+}
+
+/// The key of maps whose trials count every discovery in its true angles (and of map tables
+/// without a `selection` column, written before maps could apply a fit).
+pub const DISCOVERED_KEY: &str = "discovered, true angles";
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fit::FitSpan;
+
+    fn cut() -> Selection {
+        Selection {
+            fitted: true,
+            max_sigma_a_frac: Some(0.25),
+            ..Selection::default()
+        }
+    }
+
+    #[test]
+    fn a_plain_catalogue_maps_discoveries_and_any_fit_selection_is_named_in_full() {
+        assert_eq!(
+            TrialSelection::new(&Selection::default(), FitOptions::default()),
+            TrialSelection::Discovered
+        );
+        let key = TrialSelection::new(&cut(), FitOptions::default()).key();
+        assert_eq!(
+            key,
+            "fitted elements, σa/a ≤ 0.25; fit span all, astrometric σ 0.1″, floor 0″"
+        );
+        // Another span or error is another selection: maps of one are refused for the other.
+        let other = FitOptions {
+            span: FitSpan::Discovery,
+            ..FitOptions::default()
+        };
+        assert_ne!(TrialSelection::new(&cut(), other).key(), key);
+        assert_ne!(key, DISCOVERED_KEY);
+    }
+}
