@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 
 use seine::engine::PreparedSurvey;
 use seine::hideout::moc::{Moc, credible_cells};
-use seine::hideout::{self, HideoutOptions, Prior, diameter_from_h, evaluate, h_from_diameter};
+use seine::hideout::{self, Prior, TallyOptions, diameter_from_h, evaluate, h_from_diameter};
 use seine::io::table::{Columns, read_table};
 use seine::sky::frames::{ecliptic_to_radec, separation, unit_vector};
 use seine::survey::Survey;
@@ -59,8 +59,8 @@ fn prior(dir: &Path, text: &str) -> PathBuf {
     common::write(dir, "prior.toml", text)
 }
 
-fn options(count: u64) -> HideoutOptions {
-    HideoutOptions {
+fn options(count: u64) -> TallyOptions {
+    TallyOptions {
         seed: 7,
         count,
         shard: None,
@@ -444,7 +444,7 @@ fn tallies_do_not_depend_on_threads_or_chunks() {
     let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
     let run = |threads: usize, chunk: usize| {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
-        let opts = HideoutOptions { chunk, ..options(1500) };
+        let opts = TallyOptions { chunk, ..options(1500) };
         pool.install(|| hideout::run_tally(&p, &surveys, &opts).unwrap().0)
     };
     let one = run(1, 1500);

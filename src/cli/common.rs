@@ -5,9 +5,6 @@
 
 use seine::{Error, Result};
 
-// Used by `hideout.rs` (kept at these names for it).
-pub use seine::commands::check_unique_survey_names;
-
 /// `--shard K/N`, `--shards N` and the Slurm array variables: one script line serves every
 /// task of a job array. Flatten this into a subcommand's arguments and call `resolve`.
 #[derive(clap::Args, Debug, Clone, Default)]

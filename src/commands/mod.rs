@@ -11,6 +11,7 @@ pub mod demo;
 pub mod detectability;
 pub mod draw;
 pub mod ephemeris;
+pub mod hideout;
 pub mod merge;
 pub mod observe;
 pub mod plan;

@@ -45,9 +45,9 @@ pub const CHUNK: usize = 1 << 16;
 /// Draws (ids 0..PILOT of the whole prior, whatever the shard) that fix the default bin edges.
 pub const PILOT: u64 = 4096;
 
-/// Options of one hideout run.
+/// Options of one hideout tally (the draws of one run or shard through the surveys).
 #[derive(Debug, Clone)]
-pub struct HideoutOptions {
+pub struct TallyOptions {
     pub seed: u64,
     pub count: u64,
     /// (k, n): the k-th of n contiguous id ranges of the prior.
@@ -65,11 +65,13 @@ pub struct HideoutOptions {
     pub progress: bool,
 }
 
-/// What `finish` wrote: the summary, in the output directory.
+/// What `finish` wrote: the summary, in the output directory, and every file.
 #[derive(Debug, Clone)]
 pub struct Written {
     pub summary: HideoutSummary,
     pub dir: PathBuf,
+    /// The tables, the credible regions and `summary.json` (then the surveys' coverage).
+    pub files: Vec<PathBuf>,
 }
 
 /// The observer (geocentre) at the map epoch.
@@ -78,7 +80,7 @@ pub fn epoch_observer(epoch_mjd_utc: f64) -> Result<ObserverState> {
 }
 
 /// Default bins: 10 equal bins over the pilot draws' range of a and of H (end bins open).
-pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(ExclusionBins, ExclusionBins)> {
+pub fn default_bins(prior: &Prior, opts: &TallyOptions) -> Result<(ExclusionBins, ExclusionBins)> {
     let pilot = if opts.a_bins.is_none() || opts.h_bins.is_none() {
         Some(prior.draw(opts.seed, 0..PILOT.min(opts.count).max(1) as i64)?)
     } else {
@@ -108,7 +110,7 @@ pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(ExclusionBi
 
 /// Draw the prior (this shard's ids) chunk by chunk through the surveys; returns the tally
 /// and the seconds taken.
-pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOptions) -> Result<(Tally, f64)> {
+pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(Tally, f64)> {
     if surveys.len() > evaluate::MAX_SURVEYS {
         return Err(Error::input(format!(
             "at most {} surveys per hideout run",
@@ -181,18 +183,16 @@ pub fn finish(
             tables::fields_frame(&ranked, run.field_radius_deg, sky.order, w_surv)?,
         ),
     ];
+    let mut files = Vec::new();
     for (name, df) in frames.iter_mut() {
-        write_table(df, &dir.join(format!("{name}.{ext}")), prov)?;
+        files.push(dir.join(format!("{name}.{ext}")));
+        write_table(df, files.last().expect("just pushed"), prov)?;
     }
     for (name, m) in [("region_68", &moc68), ("region_95", &moc95)] {
-        write_atomic(
-            &dir.join(format!("{name}.moc.txt")),
-            format!("{}\n", m.to_ascii()).as_bytes(),
-        )?;
-        write_atomic(
-            &dir.join(format!("{name}.moc.json")),
-            format!("{}\n", m.to_json()).as_bytes(),
-        )?;
+        for (kind, text) in [("txt", m.to_ascii()), ("json", m.to_json())] {
+            files.push(dir.join(format!("{name}.moc.{kind}")));
+            write_atomic(files.last().expect("just pushed"), format!("{text}\n").as_bytes())?;
+        }
     }
     let summary = make_summary(
         tally,
@@ -204,10 +204,12 @@ pub fn finish(
         w_surv,
     );
     let json = serde_json::to_string_pretty(&summary).map_err(|e| Error::io(e.to_string()))?;
-    write_atomic(&dir.join("summary.json"), format!("{json}\n").as_bytes())?;
+    files.push(dir.join("summary.json"));
+    write_atomic(files.last().expect("just pushed"), format!("{json}\n").as_bytes())?;
     Ok(Written {
         summary,
         dir: dir.to_path_buf(),
+        files,
     })
 }
 
@@ -254,27 +256,35 @@ pub fn read_summary(dir: &Path) -> Result<HideoutSummary> {
 
 /// Each survey's covered sky (MOC 2.0 JSON, normalized, cells up to order 9, as `seine plan`
 /// writes it) as
-/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
-pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
+/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior; returns
+/// the files written.
+pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<Vec<PathBuf>> {
+    let mut files = Vec::new();
     for s in surveys {
         let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey)?;
         let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
-        write_atomic(&dir.join(name), format!("{}\n", cov.moc_json()).as_bytes())?;
+        files.push(dir.join(name));
+        write_atomic(
+            files.last().expect("just pushed"),
+            format!("{}\n", cov.moc_json()).as_bytes(),
+        )?;
     }
-    Ok(())
+    Ok(files)
 }
 
-/// A merge carries the first shard's coverage files over.
-pub fn copy_coverage(from: &Path, dir: &Path) -> Result<()> {
+/// A merge carries the first shard's coverage files over; returns the files written.
+pub fn copy_coverage(from: &Path, dir: &Path) -> Result<Vec<PathBuf>> {
     let entries = std::fs::read_dir(from).map_err(|e| Error::input(format!("{}: {e}", from.display())))?;
+    let mut files = Vec::new();
     for e in entries.flatten() {
         let name = e.file_name().to_string_lossy().to_string();
         if name.starts_with("coverage_") && name.ends_with(".moc.json") {
             let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
-            write_atomic(&dir.join(&name), &bytes)?;
+            files.push(dir.join(&name));
+            write_atomic(files.last().expect("just pushed"), &bytes)?;
         }
     }
-    Ok(())
+    Ok(files)
 }
 
 /// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
@@ -313,8 +323,8 @@ fn shard_format(dir: &Path) -> Option<Format> {
 pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenance) -> Result<Written> {
     crate::engine::merge::refuse_output_among_inputs(dirs, out)?;
     let (tally, run, seconds) = merge(dirs)?;
-    let written = finish(&tally, run, seconds, out, format, prov)?;
-    copy_coverage(&dirs[0], out)?;
+    let mut written = finish(&tally, run, seconds, out, format, prov)?;
+    written.files.extend(copy_coverage(&dirs[0], out)?);
     Ok(written)
 }
 
