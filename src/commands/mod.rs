@@ -110,6 +110,40 @@ pub fn chances_withheld(selection: &crate::fit::catalogue::Selection) -> Option<
     })
 }
 
+/// The catalogue selection the options ask for (`--fitted-elements`, `--min-arc-days`,
+/// `--max-sigma-a-frac`, `--fit-quality`), each checked: the cut values against their plausible
+/// ranges, the classes by name (a failed fit is never a class to keep).
+pub fn catalogue_selection(
+    fitted: bool,
+    min_arc_days: Option<f64>,
+    max_sigma_a_frac: Option<f64>,
+    fit_quality: &[String],
+) -> Result<crate::fit::catalogue::Selection> {
+    use crate::fit::Quality;
+    let plausible = |option: &str, v: Option<f64>| match v {
+        Some(x) => crate::ranges::check_option(option, x).map(|_| v),
+        None => Ok(v),
+    };
+    let qualities = fit_quality
+        .iter()
+        .map(|s| {
+            Quality::parse(s.trim())
+                .filter(|q| *q != Quality::Failed)
+                .ok_or_else(|| {
+                    Error::input(format!(
+                        "--fit-quality: expected single_night, short_arc, one_opposition or multi_opposition, found `{s}`"
+                    ))
+                })
+        })
+        .collect::<Result<Vec<_>>>()?;
+    Ok(crate::fit::catalogue::Selection {
+        fitted,
+        min_arc_days: plausible("--min-arc-days", min_arc_days)?,
+        max_sigma_a_frac: plausible("--max-sigma-a-frac", max_sigma_a_frac)?,
+        qualities,
+    })
+}
+
 /// Read a catalogue under a selection (fitted elements, orbit-quality cut); the note says what
 /// the cut left out, when there is a cut.
 pub fn read_catalogue(

@@ -26,7 +26,7 @@ use std::time::Instant;
 pub use evaluate::{DrawResult, evaluate};
 pub use prior::{Prior, diameter_from_h, h_from_diameter};
 pub use summary::{HideoutSummary, RunInfo};
-pub use tally::{ExclusionBins, Tally};
+pub use tally::{ExclusionBins, RunTally};
 
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
@@ -110,7 +110,7 @@ pub fn default_bins(prior: &Prior, opts: &TallyOptions) -> Result<(ExclusionBins
 
 /// Draw the prior (this shard's ids) chunk by chunk through the surveys; returns the tally
 /// and the seconds taken.
-pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(Tally, f64)> {
+pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(RunTally, f64)> {
     if surveys.len() > evaluate::MAX_SURVEYS {
         return Err(Error::input(format!(
             "at most {} surveys per hideout run",
@@ -119,7 +119,7 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions)
     }
     let start = Instant::now();
     let (a, h) = default_bins(prior, opts)?;
-    let mut tally = Tally::new(a, h, opts.order, surveys.len());
+    let mut tally = RunTally::new(a, h, opts.order, surveys.len());
     let epoch = epoch_observer(opts.epoch_mjd)?;
     let ids = shard_ids(opts.count, opts.shard);
     let bar = crate::engine::summary::progress_bar((ids.end - ids.start) as usize, opts.progress);
@@ -141,7 +141,7 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions)
 
 /// Derive the posterior products from a tally and write every output under `dir`.
 pub fn finish(
-    tally: &Tally,
+    tally: &RunTally,
     run: RunInfo,
     seconds: f64,
     dir: &Path,
@@ -169,7 +169,7 @@ pub fn finish(
     let ranked = fields::rank_fields(sky, radius, run.n_fields);
     let view = tables::CellView {
         sky,
-        w_prior_total: tally.total.w_prior,
+        w_prior_total: tally.total.w,
         w_surviving_total: w_surv,
         in_68: &in68,
         in_95: &in95,
@@ -214,7 +214,7 @@ pub fn finish(
 }
 
 fn make_summary(
-    t: &Tally,
+    t: &RunTally,
     run: RunInfo,
     seconds: f64,
     ranked: &[fields::Field],
@@ -222,6 +222,7 @@ fn make_summary(
     r95: (&moc::Moc, &[u64]),
     w_surv: f64,
 ) -> HideoutSummary {
+    let excluded = t.total.proportion();
     let mut s = HideoutSummary {
         per_survey: summary::per_survey(&run, t),
         best_field: ranked
@@ -229,12 +230,12 @@ fn make_summary(
             .map(|f| summary::best_field(f, run.field_radius_deg, w_surv)),
         run,
         n_draws: t.n_draws,
-        n_excluded: t.total.n_excluded,
-        w_prior: t.total.w_prior,
-        n_effective: t.total.w_prior * t.total.w_prior / t.total.w2_prior,
-        w_excluded: t.total.w_excluded,
-        excluded_fraction: t.total.excluded_fraction(),
-        excluded_fraction_err: t.total.excluded_fraction_err(),
+        n_excluded: t.total.k,
+        w_prior: t.total.w,
+        n_effective: crate::statistics::kish_n(t.total.w, t.total.w2),
+        w_excluded: t.total.w_hit,
+        excluded_fraction: excluded.fraction,
+        excluded_fraction_err: excluded.std_error,
         surviving_fraction: t.surviving_fraction(),
         region_68: summary::region(0.68, r68.0, r68.1, t),
         region_95: summary::region(0.95, r95.0, r95.1, t),
@@ -330,8 +331,8 @@ pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenanc
 
 /// Sum the tallies of shard directories into one.
 /// Each shard exactly once and all present: k of n for k = 0..n−1 (or one whole run alone).
-pub fn merge(dirs: &[PathBuf]) -> Result<(Tally, RunInfo, f64)> {
-    let mut acc: Option<(Tally, RunInfo, f64)> = None;
+pub fn merge(dirs: &[PathBuf]) -> Result<(RunTally, RunInfo, f64)> {
+    let mut acc: Option<(RunTally, RunInfo, f64)> = None;
     let mut seen: Vec<(Option<(u64, u64)>, &PathBuf)> = Vec::new();
     for dir in dirs {
         let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;
