@@ -254,9 +254,9 @@ fn stopping_at_the_verdict_changes_no_verdict() {
             // So does the bound the stop rules take, from the walk's first anchor instead of
             // the survey's middle.
             let bound = ps.reach.p_bound(&objects, i, &orbit);
-            let from_anchor = ps
-                .reach
-                .p_bound_at(&objects, i, &orbit, ps.walk(&orbit, Candidates::Indexed).first_anchor());
+            let from_anchor =
+                ps.reach
+                    .p_bound_at(&objects, i, &orbit, ps.walk(&orbit, Candidates::Indexed).first_anchor());
             assert!(
                 all[i]
                     .events

@@ -110,7 +110,13 @@ impl Reach {
     /// `p_bound`, from the object's position (about the centre of its elements) at an epoch `t`
     /// of the caller's (the walk's first anchor): the bound on its distance then reaches from
     /// `t` to the farther end of the span, so it is tightest at the middle (`p_bound`'s epoch).
-    pub fn p_bound_at(&self, objects: &ObjectTable, i: usize, orbit: &Orbit, (t, position): (f64, Vector3<f64>)) -> f64 {
+    pub fn p_bound_at(
+        &self,
+        objects: &ObjectTable,
+        i: usize,
+        orbit: &Orbit,
+        (t, position): (f64, Vector3<f64>),
+    ) -> f64 {
         if !self.mid_tdb.is_finite() {
             return 0.0; // no visits
         }

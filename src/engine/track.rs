@@ -149,7 +149,11 @@ mod tests {
             let mut track = Track::new(&orbit);
             let t = 60100.0;
             let (epoch, p) = track.anchor_near(t);
-            assert_eq!(p, orbit.position(epoch), "a {a_au}: the anchor's position is the exact one");
+            assert_eq!(
+                p,
+                orbit.position(epoch),
+                "a {a_au}: the anchor's position is the exact one"
+            );
             // Just under the bound on the light time (at the bound itself rounding decides).
             let tau = 0.999 * (el.aphelion_au() + OBSERVER_REACH_AU) / C_AU_PER_DAY;
             for dt in [0.0, -tau, -0.5 * tau, -tau, 0.0] {
