@@ -12,7 +12,8 @@ use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection,
 use crate::engine::discoveries::{self, Discovery};
 use crate::engine::outputs;
 use crate::error::{Error, Result, io_at};
-use crate::io::provenance::{Provenance, read_provenance};
+use crate::io::provenance::Provenance;
+use crate::io::table::read_provenance;
 use crate::survey::Survey;
 use crate::survey::plan_io::{self, PlanOutputs};
 
