@@ -159,18 +159,7 @@ fn the_checker_sees_a_violation() {
 /// Files of one module that use each other today, with what removes the cycle: (module, the
 /// files in the cycle, sorted, why). The test fails when one of them is gone, so this list only
 /// shrinks.
-const KNOWN_CYCLES: &[(&str, &[&str], &str)] = &[
-    (
-        "io",
-        &["provenance", "table"],
-        "tables carry their provenance, and reading a table's provenance needs the table reader; read_provenance belongs in table.rs",
-    ),
-    (
-        "population",
-        &["distribution", "prepared"],
-        "a distribution samples through its prepared form, which matches on the distribution's variants",
-    ),
-];
+const KNOWN_CYCLES: &[(&str, &[&str], &str)] = &[];
 
 /// The sibling files of `src/<module>/` that each file names (`super::x` or `crate::<module>::x`).
 fn sibling_uses(module: &str) -> Vec<(String, BTreeSet<String>)> {

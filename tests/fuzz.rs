@@ -347,7 +347,7 @@ proptest! {
             let p = path.clone();
             move || { let _ = seine::population::objects::ObjectSource::parquet(&p, Some((1, 2))); }
         });
-        within("mutated parquet metadata", move || { let _ = seine::io::provenance::read_provenance(&path); });
+        within("mutated parquet metadata", move || { let _ = seine::io::table::read_provenance(&path); });
     }
 
     #[test]

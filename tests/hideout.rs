@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 
 use seine::engine::PreparedSurvey;
 use seine::hideout::moc::{Moc, credible_cells};
-use seine::hideout::{self, HideoutOptions, Prior, diameter_from_h, evaluate, h_from_diameter};
+use seine::hideout::{self, Prior, TallyOptions, diameter_from_h, evaluate, h_from_diameter};
 use seine::io::table::{Columns, read_table};
 use seine::sky::frames::{ecliptic_to_radec, separation, unit_vector};
 use seine::survey::Survey;
@@ -59,8 +59,8 @@ fn prior(dir: &Path, text: &str) -> PathBuf {
     common::write(dir, "prior.toml", text)
 }
 
-fn options(count: u64) -> HideoutOptions {
-    HideoutOptions {
+fn options(count: u64) -> TallyOptions {
+    TallyOptions {
         seed: 7,
         count,
         shard: None,
@@ -444,12 +444,12 @@ fn tallies_do_not_depend_on_threads_or_chunks() {
     let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
     let run = |threads: usize, chunk: usize| {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
-        let opts = HideoutOptions { chunk, ..options(1500) };
+        let opts = TallyOptions { chunk, ..options(1500) };
         pool.install(|| hideout::run_tally(&p, &surveys, &opts).unwrap().0)
     };
     let one = run(1, 1500);
     assert_eq!(one, run(2, 1500));
-    assert_eq!(one.total.n_excluded, run(2, 97).total.n_excluded);
+    assert_eq!(one.total.k, run(2, 97).total.k);
     assert_eq!(one.sky.n_surviving, run(2, 97).sky.n_surviving);
 }
 
@@ -513,16 +513,68 @@ fn importance_weighted_priors_give_the_plain_excluded_fraction() {
         hideout::run_tally(&p, &surveys, &options(8000)).unwrap().0.total
     };
     let (a, b) = (tally(&plain), tally(&weighted));
-    let sigma = (a.excluded_fraction_err().powi(2) + b.excluded_fraction_err().powi(2)).sqrt();
-    let (fa, fb) = (a.excluded_fraction(), b.excluded_fraction());
+    let (a, b, counts) = (a.proportion(), b.proportion(), b);
+    let sigma = (a.std_error.powi(2) + b.std_error.powi(2)).sqrt();
+    let (fa, fb) = (a.fraction, b.fraction);
     assert!(
         (fa - fb).abs() < 4.0 * sigma,
         "plain {fa:.4}, weighted {fb:.4}, σ {sigma:.4}"
     );
-    let unweighted = b.n_excluded as f64 / b.n_prior as f64;
-    let su = (unweighted * (1.0 - unweighted) / b.n_prior as f64).sqrt() + a.excluded_fraction_err();
+    let unweighted = counts.k as f64 / counts.n as f64;
+    let su = (unweighted * (1.0 - unweighted) / counts.n as f64).sqrt() + a.std_error;
     assert!(
         unweighted > fa + 5.0 * su,
         "unweighted {unweighted:.4} vs {fa:.4}, σ {su:.4}"
+    );
+}
+
+/// The excluded fraction's error is the weighted proportion's of `statistics` (the larger of
+/// Kish's and the linearization error), not the linearization error alone: two excluded draws
+/// of weight 0.01 among 98 of weight 1 give a linearization error √(Σw²(d − f)²)/Σw of about
+/// 1.5 × 10⁻⁴, a tenth of Kish's √(f(1 − f)/n_K) ≈ 1.4 × 10⁻³ (n_K = (Σw)²/Σw²). Arithmetic
+/// of the definitions (methods.md, "Weighted proportions"); no outside source.
+#[test]
+fn excluded_fraction_error_is_never_below_kish() {
+    use seine::hideout::{DrawResult, ExclusionBins, RunTally};
+    let draw = |id: i64, weight: f64, discovered: bool| DrawResult {
+        id,
+        a_au: 300.0,
+        h_mag: 5.0,
+        weight,
+        discovered,
+        discovered_by: discovered as u64,
+        ra_rad: 1.0,
+        dec_rad: 0.2,
+        mag: 22.0,
+        rate_arcsec_per_hr: 1.0,
+    };
+    let draws: Vec<DrawResult> = (0..100)
+        .map(|i| draw(i, if i < 2 { 0.01 } else { 1.0 }, i < 2))
+        .collect();
+    let bins = |q| ExclusionBins::linear(q, 0.0, 1000.0, 1);
+    let mut t = RunTally::new(bins("a_au"), bins("h_mag"), 2, 1);
+    t.add_draws(&draws);
+    let (w, w2): (f64, f64) = (
+        draws.iter().map(|d| d.weight).sum(),
+        draws.iter().map(|d| d.weight * d.weight).sum(),
+    );
+    let f = 0.02 / w;
+    let linear = draws
+        .iter()
+        .map(|d| (d.weight * (d.discovered as u8 as f64 - f)).powi(2))
+        .sum::<f64>()
+        .sqrt()
+        / w;
+    let kish = (f * (1.0 - f) / (w * w / w2)).sqrt();
+    let p = t.total.proportion();
+    assert!((p.fraction - f).abs() < 1e-15);
+    assert!(
+        linear < 0.8 * kish,
+        "the case must separate the two: {linear} vs {kish}"
+    );
+    assert!(
+        (p.std_error - kish).abs() < 1e-12 * kish,
+        "{} vs Kish {kish}",
+        p.std_error
     );
 }

@@ -121,6 +121,13 @@ fn distributions_and_fractions_have_units() {
         &distributions::discovered_fraction("a_au", &log_bins).unwrap(),
         &["semi-major axis a (AU)"],
     );
+    // Discovery magnitudes whose counts span decades (200 in one bin, 1 in others) get a
+    // logarithmic count axis, said in the caption; a few even counts keep a linear one.
+    let many: Vec<f64> = std::iter::repeat_n(22.0, 200).chain([20.0, 21.0]).collect();
+    let log = distributions::at_discovery("discovery_mag", &[("Survey A".into(), many)], &[]).unwrap();
+    assert!(log.caption.contains("Counts on a logarithmic axis"), "{}", log.caption);
+    let even = distributions::at_discovery("discovery_mag", &[("Survey A".into(), ramp(40, 20.0, 23.0))], &[]).unwrap();
+    assert!(!even.caption.contains("logarithmic"), "{}", even.caption);
 }
 
 #[test]
@@ -172,9 +179,20 @@ fn survey_figures_have_units() {
 fn sky_map_names_its_projection() {
     // A band of cells along the ecliptic, from a few invented pointings.
     let cells: Vec<(u64, u64)> = (0..2000u64).map(|h| (h * 7 + 30000, 1 + h % 9)).collect();
-    let f = sky::coverage_map("sky", "Invented Survey", &cells, &[(150.0, 10.0), (200.0, -5.0)]).unwrap();
+    let f = sky::coverage_map(
+        "sky",
+        "Invented Survey",
+        &cells,
+        1234.0,
+        &[(150.0, 10.0), (200.0, -5.0)],
+    )
+    .unwrap();
     check(&f, &["visits per point:", "0°", "+30°", "−60°", "discovery"]);
     assert!(f.caption.contains("Hammer–Aitoff") && f.caption.contains("(deg)"));
+    // The area quoted is the one given (the coverage report's measure); the map's own cells' sum
+    // (2000 order-6 cells, 1679 deg²) is named as that.
+    assert!(f.caption.contains("1234 deg² covered at least once"), "{}", f.caption);
+    assert!(f.caption.contains("add up to 1679 deg²"), "{}", f.caption);
 }
 
 #[test]
@@ -385,6 +403,17 @@ fn report_of_an_observe_directory_references_every_svg() {
     );
     assert!(html.contains("href=\"discoveries.parquet\""), "discoveries not linked");
     assert!(html.contains("in order of discovery"), "first discoveries not listed");
+    // The map and the survey table quote the covered area that `seine plan` wrote for the
+    // same survey (one measure, order-9 cells), not the map's coarser cells' sum.
+    let cov: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(tmp.path().join("synoptic.coverage.json")).unwrap()).unwrap();
+    let area = cov["coverage"]["covered_sq_deg"].as_f64().unwrap();
+    let said = format!("{area:.0} deg² covered at least once (counted on HEALPix order-9 cells");
+    assert!(html.contains(&said), "the map does not quote the plan's {area:.0} deg²");
+    assert!(
+        html.contains(&format!("<td class=\"num\">{area:.0}</td></tr>")),
+        "the survey table does not quote {area:.0} deg²"
+    );
 }
 
 #[test]
@@ -677,6 +706,18 @@ fn model_curves_follow_the_weights_and_angles_are_drawn_on_a_circle() {
             "◀ catalogue: ln L = -250.0",
             "catalogue, p = 0.001",
         ],
+    );
+    // The caption says why the number of catalogues is what it is: it sets the floor of p,
+    // 1/(1 + 500) = 0.0020, at which this p sits (an upper bound, rule of three 3/500).
+    assert!(f.caption.contains("Why 500 catalogues"), "{}", f.caption);
+    assert!(f.caption.contains("1/(1 + 500) = 0.00200"), "{}", f.caption);
+    assert!(f.caption.contains("3/500 = 0.00600"), "{}", f.caption);
+    // Away from the floor it gives the counting error at p: √(0.2 · 0.8 / 500) = 0.0179.
+    let f = models::goodness_of_fit(&FitNull { p: 0.2, ..fit }).unwrap();
+    assert!(
+        f.caption.contains("counting error is 0.0179 (9% of p)"),
+        "{}",
+        f.caption
     );
 }
 

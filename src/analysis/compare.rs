@@ -18,7 +18,7 @@ use rayon::prelude::*;
 use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
 use super::marginals::{Statistic, WeightedEcdf};
 use super::space::{Coordinate, Space};
-use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
+use crate::engine::{Batch, PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
 use crate::orbit::Center;
 use crate::population::objects::ObjectTable;
@@ -151,14 +151,7 @@ impl CompareOptions {
 
 /// Rows of a population that the surveys discover (engine, `Observe` streams, as `observe`).
 pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<usize> {
-    let found: Vec<bool> = (0..t.len())
-        .into_par_iter()
-        .map_init(Vec::new, |scratch, i| {
-            let rng = object_stream(seed, t.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
-            observe_object(t, i, surveys, modes, rng, scratch).discovered()
-        })
-        .collect();
+    let found = Batch::new(surveys, seed, StopRule::UntilDiscovery).discovered(t);
     (0..t.len()).filter(|i| found[*i]).collect()
 }
 

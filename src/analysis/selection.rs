@@ -7,15 +7,12 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use rayon::prelude::*;
-
-use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
+use crate::engine::{Batch, PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
 use crate::io::out_dir::proportion_columns;
 use crate::io::out_dir::{OutDir, col};
 use crate::io::table::{Columns, read_table};
 use crate::population::objects::ObjectTable;
-use crate::rng::{Purpose, object_stream};
 use crate::statistics::{Proportion, Tally, grid_cell, grid_index};
 
 pub const TABLE: &str = "selection_function";
@@ -73,14 +70,7 @@ pub fn selection_function(
     seed: u64,
     g: &GridEdges,
 ) -> (Vec<Cell>, u64) {
-    let found: Vec<bool> = (0..population.len())
-        .into_par_iter()
-        .map_init(Vec::new, |scratch, i| {
-            let rng = object_stream(seed, population.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
-            observe_object(population, i, surveys, modes, rng, scratch).discovered()
-        })
-        .collect();
+    let found = Batch::new(surveys, seed, StopRule::UntilDiscovery).discovered(population);
     let edges = g.all();
     let mut cells: BTreeMap<usize, Tally> = BTreeMap::new();
     let mut outside = 0;

@@ -9,11 +9,8 @@
 //! the objects' weights (importance sampling), with its interval at the effective n
 //! (`crate::statistics`); raw counts are kept beside.
 
-use rayon::prelude::*;
-
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
+use crate::engine::{Batch, ObjectOutcome, PreparedSurvey, StopRule};
 use crate::population::objects::ObjectTable;
-use crate::rng::{Purpose, object_stream};
 use crate::statistics::{Proportion, Tally};
 
 /// The default bin edges (comma-separated, as the options take them) of the distance at
@@ -51,16 +48,8 @@ pub struct YieldRow {
 
 /// Run the population once through the surveys and return one verdict per survey plus "any".
 fn verdicts(objects: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<Vec<Verdict>> {
-    (0..objects.len())
-        .into_par_iter()
-        .map_init(Vec::new, |scratch, i| {
-            // Verdicts and the discovery's distance are all a yield needs.
-            let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-            let modes = (Candidates::Indexed, StopRule::UntilSecured);
-            let out = observe_object(objects, i, surveys, modes, rng, scratch);
-            per_survey(&out, surveys)
-        })
-        .collect()
+    // Verdicts and the discovery's distance are all a yield needs.
+    Batch::new(surveys, seed, StopRule::UntilSecured).map(objects, 0..objects.len(), |_, out| per_survey(&out, surveys))
 }
 
 fn per_survey(out: &ObjectOutcome, surveys: &[PreparedSurvey]) -> Vec<Verdict> {

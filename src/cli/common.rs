@@ -5,9 +5,6 @@
 
 use seine::{Error, Result};
 
-// Used by `hideout.rs` (kept at these names for it).
-pub use seine::commands::check_unique_survey_names;
-
 /// `--shard K/N`, `--shards N` and the Slurm array variables: one script line serves every
 /// task of a job array. Flatten this into a subcommand's arguments and call `resolve`.
 #[derive(clap::Args, Debug, Clone, Default)]
@@ -125,31 +122,13 @@ pub struct CatalogueArgs {
 }
 
 impl CatalogueArgs {
-    /// The selection, checked.
+    /// The selection, checked (`seine::commands::catalogue_selection`).
     pub fn selection(&self) -> Result<seine::fit::catalogue::Selection> {
-        use seine::fit::Quality;
-        let plausible = |option: &str, v: Option<f64>| match v {
-            Some(x) => seine::ranges::check_option(option, x).map(|_| v),
-            None => Ok(v),
-        };
-        let qualities = self
-            .fit_quality
-            .iter()
-            .map(|s| {
-                Quality::parse(s.trim())
-                    .filter(|q| *q != Quality::Failed)
-                    .ok_or_else(|| {
-                        Error::input(format!(
-                            "--fit-quality: expected single_night, short_arc, one_opposition or multi_opposition, found `{s}`"
-                        ))
-                    })
-            })
-            .collect::<Result<Vec<_>>>()?;
-        Ok(seine::fit::catalogue::Selection {
-            fitted: self.fitted_elements,
-            min_arc_days: plausible("--min-arc-days", self.min_arc_days)?,
-            max_sigma_a_frac: plausible("--max-sigma-a-frac", self.max_sigma_a_frac)?,
-            qualities,
-        })
+        seine::commands::catalogue_selection(
+            self.fitted_elements,
+            self.min_arc_days,
+            self.max_sigma_a_frac,
+            &self.fit_quality,
+        )
     }
 }

@@ -3,12 +3,11 @@
 
 use std::path::PathBuf;
 
-use seine::engine::PreparedSurvey;
+use seine::Result;
+use seine::commands::hideout::{HideoutOptions, hideout, merge_shards, parse_bins};
 use seine::hideout::prior::parse_distribution;
-use seine::hideout::{self, HideoutOptions, Prior, RunInfo};
-use seine::io::Provenance;
-use seine::survey::Survey;
-use seine::{Error, Result};
+
+use super::common::RunArgs;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -48,12 +47,6 @@ pub struct Args {
     /// Bins of H: LO,HI,N (default: 10 over the range of the first draws).
     #[arg(long)]
     pub h_bins: Option<String>,
-    /// Output directory.
-    #[arg(long)]
-    pub out: PathBuf,
-    /// Run seed: with a draw's id it fixes the draw and its detection draws.
-    #[arg(long, default_value_t = 1)]
-    pub seed: u64,
     /// Which contiguous slice of the draws' ids to take; sum the shards' directories with
     /// `seine merge` (or --merge).
     #[command(flatten)]
@@ -61,140 +54,47 @@ pub struct Args {
     /// Sum finished shard directories (repeat) into --out instead of running (as `seine merge`).
     #[arg(long)]
     pub merge: Vec<PathBuf>,
-    /// Table format: parquet or csv.
-    #[arg(long, default_value = "parquet")]
-    pub format: String,
-    /// Worker threads (default: all cores). Results do not depend on it.
-    #[arg(long)]
-    pub threads: Option<usize>,
-    /// No progress bar and no conclusion on stderr.
-    #[arg(long)]
-    pub quiet: bool,
+    #[command(flatten)]
+    pub run: RunArgs,
     /// Draw more planets than one run's budget (configuration.md, "Budgets"): it is meant.
     #[arg(long)]
     pub over_budget: bool,
 }
 
 pub fn run(a: Args) -> Result<()> {
-    super::common::set_threads(a.threads)?;
-    let format = super::common::parse_format(&a.format)?;
-    let mut prov = Provenance::current();
-    let w = if a.merge.is_empty() {
-        let (tally, run, seconds, surveys) = compute(&a, &mut prov)?;
-        let w = hideout::finish(&tally, run, seconds, &a.out, format, &prov)?;
-        hideout::write_coverage(&surveys, &a.out)?;
-        w
+    let run = a.run.options()?;
+    let done = if a.merge.is_empty() {
+        let dist = |s: &Option<String>, what| s.as_deref().map(|t| parse_distribution(t, what)).transpose();
+        let bins = |s: &Option<String>, what| s.as_deref().map(|t| parse_bins(t, what)).transpose();
+        hideout(&HideoutOptions {
+            surveys: a.surveys,
+            prior: a.prior.expect("clap requires --prior without --merge"),
+            diameter_km: dist(&a.diameter_km, "--diameter-km")?,
+            albedo: dist(&a.albedo, "--albedo")?,
+            count: a.count,
+            shard: a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64)),
+            epoch_mjd: a.epoch_mjd,
+            order: a.order,
+            field_radius_deg: a.field_radius_deg,
+            n_fields: a.n_fields,
+            a_bins: bins(&a.a_bins, "--a-bins")?,
+            h_bins: bins(&a.h_bins, "--h-bins")?,
+            over_budget: a.over_budget,
+            run,
+        })?
     } else {
-        hideout::merge_dirs(&a.merge, &a.out, format, &prov)?
+        merge_shards(&a.merge, &run)?
     };
-    if !a.quiet {
-        eprintln!("{}", w.summary.conclusion);
+    if !a.run.quiet {
+        let s = &done.summary;
+        eprintln!("{}", done.outcome.conclusion);
         eprintln!(
             "seine hideout: {} draws in {:.1} s ({:.0} draws/s); wrote {}",
-            w.summary.n_draws,
-            w.summary.seconds,
-            w.summary.draws_per_second,
-            w.dir.display()
+            s.n_draws,
+            s.seconds,
+            s.draws_per_second,
+            a.run.out.display()
         );
     }
     Ok(())
-}
-
-/// A run: the tally, what was asked, the seconds taken and the surveys (for their coverage).
-fn compute(a: &Args, prov: &mut Provenance) -> Result<(hideout::Tally, RunInfo, f64, Vec<PreparedSurvey>)> {
-    if a.count == 0 {
-        return Err(Error::input("--count 0: expected at least one prior draw"));
-    }
-    if a.n_fields == 0 {
-        return Err(Error::input(
-            "--n-fields 0: expected at least 1 field in the ranked list",
-        ));
-    }
-    let shard = a.shard.resolve()?.map(|(k, n)| (k as u64, n as u64));
-    let draws = seine::shard::shard_ids(a.count, shard);
-    let n_draws = (draws.end - draws.start) as f64;
-    seine::budget::check(seine::budget::HIDEOUT_DRAWS, n_draws, "--count", a.over_budget)?;
-    if !(0..=8).contains(&a.order) {
-        return Err(Error::input(format!("--order {}: expected 0 to 8", a.order)));
-    }
-    if !(a.field_radius_deg > 0.0 && a.field_radius_deg <= 90.0) {
-        return Err(Error::input(format!(
-            "--field-radius-deg {}: expected 0 < r ≤ 90",
-            a.field_radius_deg
-        )));
-    }
-    let prior_path = a.prior.clone().expect("clap requires --prior without --merge");
-    let dist = |s: &Option<String>, what| s.as_deref().map(|t| parse_distribution(t, what)).transpose();
-    let prior = Prior::read(
-        &prior_path,
-        dist(&a.diameter_km, "--diameter-km")?,
-        dist(&a.albedo, "--albedo")?,
-    )?;
-    prov.add_input(&prior_path)?;
-    let mut surveys = Vec::new();
-    for path in &a.surveys {
-        surveys.push(PreparedSurvey::new(Survey::load(path)?));
-        prov.add_input(path)?;
-    }
-    super::common::check_unique_survey_names(&surveys)?;
-    let epoch = match a.epoch_mjd {
-        Some(t) => t,
-        None => last_visit(&surveys)?,
-    };
-    let opts = HideoutOptions {
-        seed: a.seed,
-        count: a.count,
-        shard,
-        epoch_mjd: epoch,
-        order: a.order,
-        field_radius_deg: a.field_radius_deg,
-        n_fields: a.n_fields,
-        a_bins: a.a_bins.as_deref().map(|s| parse_bins(s, "--a-bins")).transpose()?,
-        h_bins: a.h_bins.as_deref().map(|s| parse_bins(s, "--h-bins")).transpose()?,
-        chunk: hideout::CHUNK,
-        progress: !a.quiet,
-    };
-    let (tally, seconds) = hideout::run_tally(&prior, &surveys, &opts)?;
-    let run = RunInfo {
-        prior: prior_path.display().to_string(),
-        surveys: surveys.iter().map(|s| s.survey.name.clone()).collect(),
-        seed: a.seed,
-        count: a.count,
-        shard: shard.map(|(k, n)| format!("{k}/{n}")),
-        epoch_mjd_utc: epoch,
-        healpix_order: a.order,
-        field_radius_deg: a.field_radius_deg,
-        n_fields: a.n_fields,
-    };
-    Ok((tally, run, seconds, surveys))
-}
-
-/// The latest visit epoch over the surveys, in UTC.
-fn last_visit(surveys: &[PreparedSurvey]) -> Result<f64> {
-    let mut last = f64::NEG_INFINITY;
-    for s in surveys {
-        for &t in &s.survey.visits.mjd {
-            last = last.max(seine::time::to_utc(t, s.survey.time_scale)?.0);
-        }
-    }
-    Ok(last)
-}
-
-/// `LO,HI,N` with LO < HI and N ≥ 1.
-fn parse_bins(s: &str, what: &str) -> Result<(f64, f64, usize)> {
-    let bad = || {
-        Error::input(format!(
-            "{what} `{s}`: expected LO,HI,N with LO < HI and N ≥ 1, e.g. 300,700,8"
-        ))
-    };
-    let p: Vec<&str> = s.split(',').map(str::trim).collect();
-    if p.len() != 3 {
-        return Err(bad());
-    }
-    let (lo, hi): (f64, f64) = (p[0].parse().map_err(|_| bad())?, p[1].parse().map_err(|_| bad())?);
-    let n: usize = p[2].parse().map_err(|_| bad())?;
-    if !(lo < hi && n >= 1) {
-        return Err(bad());
-    }
-    Ok((lo, hi, n))
 }

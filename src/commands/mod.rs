@@ -11,6 +11,7 @@ pub mod demo;
 pub mod detectability;
 pub mod draw;
 pub mod ephemeris;
+pub mod hideout;
 pub mod merge;
 pub mod observe;
 pub mod plan;
@@ -119,6 +120,40 @@ pub fn fitted_chances_withheld(selection: &crate::fit::catalogue::Selection) -> 
         "chances withheld: on fitted elements the bias maps are made at the fitted a, e and i, and \
          their chances are not shown calibrated (validation.md); the same cut on true elements is"
             .to_string()
+    })
+}
+
+/// The catalogue selection the options ask for (`--fitted-elements`, `--min-arc-days`,
+/// `--max-sigma-a-frac`, `--fit-quality`), each checked: the cut values against their plausible
+/// ranges, the classes by name (a failed fit is never a class to keep).
+pub fn catalogue_selection(
+    fitted: bool,
+    min_arc_days: Option<f64>,
+    max_sigma_a_frac: Option<f64>,
+    fit_quality: &[String],
+) -> Result<crate::fit::catalogue::Selection> {
+    use crate::fit::Quality;
+    let plausible = |option: &str, v: Option<f64>| match v {
+        Some(x) => crate::ranges::check_option(option, x).map(|_| v),
+        None => Ok(v),
+    };
+    let qualities = fit_quality
+        .iter()
+        .map(|s| {
+            Quality::parse(s.trim())
+                .filter(|q| *q != Quality::Failed)
+                .ok_or_else(|| {
+                    Error::input(format!(
+                        "--fit-quality: expected single_night, short_arc, one_opposition or multi_opposition, found `{s}`"
+                    ))
+                })
+        })
+        .collect::<Result<Vec<_>>>()?;
+    Ok(crate::fit::catalogue::Selection {
+        fitted,
+        min_arc_days: plausible("--min-arc-days", min_arc_days)?,
+        max_sigma_a_frac: plausible("--max-sigma-a-frac", max_sigma_a_frac)?,
+        qualities,
     })
 }
 

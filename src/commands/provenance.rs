@@ -6,7 +6,8 @@ use std::path::{Path, PathBuf};
 
 use crate::engine::outputs;
 use crate::error::{Error, Result};
-use crate::io::provenance::{Provenance, read_provenance};
+use crate::io::provenance::Provenance;
+use crate::io::table::read_provenance;
 
 /// The table whose provenance `path` asks for: the file itself, or an observe directory's
 /// objects table.

@@ -9,7 +9,8 @@ use super::parts::{MANIFEST, Manifest, file_sha256, part_path};
 use super::run::concat_tables;
 use super::summary::Summary;
 use crate::error::{Error, Result, io_at};
-use crate::io::provenance::{Provenance, read_provenance};
+use crate::io::provenance::Provenance;
+use crate::io::table::read_provenance;
 use crate::io::table::{Format, read_table, write_atomic};
 
 /// What a merge wrote.

@@ -10,6 +10,7 @@
 //! Analyses that need only who discovered what (`StopRule::UntilDiscovery`) stop each survey
 //! at its discovery and skip surveys that provably cannot detect the object (`reach`).
 
+pub mod batch;
 pub mod caps;
 pub mod discoveries;
 pub mod index;
@@ -24,6 +25,7 @@ pub mod run;
 pub mod summary;
 pub mod track;
 
+pub use batch::Batch;
 pub use index::{Candidates, PreparedSurvey};
 pub use outcome::{Event, ObjectOutcome, SurveyOutcome};
 pub use pipeline::{StopRule, observe_object};

@@ -7,21 +7,20 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::Instant;
 
 use polars::prelude::*;
-use rayon::prelude::*;
 
+use super::batch::Batch;
 use super::discoveries;
 use super::index::{Candidates, PreparedSurvey};
 use super::outcome::ObjectOutcome;
 use super::outputs::{self, DETECTIONS, OBJECTS};
 use super::parts::{ChunkEntry, Manifest, PARTS, RunKey, clear_stale, file_sha256, part_path};
-use super::pipeline::{StopRule, observe_object};
+use super::pipeline::StopRule;
 use super::summary::Summary;
 use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 use crate::io::sink::TableSink;
 use crate::io::table::{Format, read_table, write_atomic};
 use crate::population::objects::{ObjectSource, ObjectTable};
-use crate::rng::{Purpose, object_stream};
 
 /// Options of one observe run.
 #[derive(Debug, Clone)]
@@ -281,20 +280,9 @@ fn compute_chunk(
     let chunk = source.chunk(lo, hi)?;
     let objects: &ObjectTable = &chunk;
     let (lo, hi) = (lo - objects.first_row, hi - objects.first_row);
-    let outcomes: Vec<ObjectOutcome> = (lo..hi)
-        .into_par_iter()
-        .map_init(Vec::new, |scratch, i| {
-            let rng = object_stream(opts.seed, objects.ids[i], Purpose::Observe);
-            observe_object(
-                objects,
-                i,
-                surveys,
-                (opts.candidates, StopRule::Everything),
-                rng,
-                scratch,
-            )
-        })
-        .collect();
+    let outcomes: Vec<ObjectOutcome> = Batch::new(surveys, opts.seed, StopRule::Everything)
+        .with_candidates(opts.candidates)
+        .map(objects, lo..hi, |_, out| out);
     let mut summary = Summary::new(surveys);
     summary.add(objects, lo, &outcomes, surveys);
     let mut obj = objects_frame(objects, lo, &outcomes, surveys)?;

@@ -1,11 +1,8 @@
 //! One prior draw through every survey, and where it would be on the sky at the map epoch.
 
-use rayon::prelude::*;
-
-use crate::engine::{Candidates, PreparedSurvey, StopRule, observe_object};
+use crate::engine::{Batch, ObjectOutcome, PreparedSurvey, StopRule};
 use crate::orbit::Orbit;
 use crate::population::objects::ObjectTable;
-use crate::rng::{Purpose, object_stream};
 use crate::sky::apparent::observe;
 use crate::sky::observer::ObserverState;
 use crate::sky::photometry::apparent_mag;
@@ -39,27 +36,14 @@ pub fn evaluate(
     epoch: &ObserverState,
     seed: u64,
 ) -> Vec<DrawResult> {
-    (0..objects.len())
-        .into_par_iter()
-        .map_init(Vec::new, |scratch, i| {
-            evaluate_one(objects, i, surveys, epoch, seed, scratch)
-        })
-        .collect()
+    // The same streams `seine observe` uses, so a draw's fate matches observe on the same table.
+    // Only who discovered the draw matters here: each survey stops at its discovery.
+    let batch = Batch::new(surveys, seed, StopRule::UntilDiscovery);
+    batch.map(objects, 0..objects.len(), |i, out| place(objects, i, &out, epoch))
 }
 
-fn evaluate_one(
-    objects: &ObjectTable,
-    i: usize,
-    surveys: &[PreparedSurvey],
-    epoch: &ObserverState,
-    seed: u64,
-    scratch: &mut Vec<usize>,
-) -> DrawResult {
-    // The same stream `seine observe` uses, so a draw's fate matches observe on the same table.
-    // Only who discovered the draw matters here: each survey stops at its discovery.
-    let rng = object_stream(seed, objects.ids[i], Purpose::Observe);
-    let modes = (Candidates::Indexed, StopRule::UntilDiscovery);
-    let out = observe_object(objects, i, surveys, modes, rng, scratch);
+/// Who discovered row `i` (`out`), and where it is at `epoch`.
+fn place(objects: &ObjectTable, i: usize, out: &ObjectOutcome, epoch: &ObserverState) -> DrawResult {
     let discovered_by = out
         .surveys
         .iter()

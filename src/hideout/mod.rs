@@ -26,7 +26,7 @@ use std::time::Instant;
 pub use evaluate::{DrawResult, evaluate};
 pub use prior::{Prior, diameter_from_h, h_from_diameter};
 pub use summary::{HideoutSummary, RunInfo};
-pub use tally::{ExclusionBins, Tally};
+pub use tally::{ExclusionBins, RunTally};
 
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
@@ -45,9 +45,9 @@ pub const CHUNK: usize = 1 << 16;
 /// Draws (ids 0..PILOT of the whole prior, whatever the shard) that fix the default bin edges.
 pub const PILOT: u64 = 4096;
 
-/// Options of one hideout run.
+/// Options of one hideout tally (the draws of one run or shard through the surveys).
 #[derive(Debug, Clone)]
-pub struct HideoutOptions {
+pub struct TallyOptions {
     pub seed: u64,
     pub count: u64,
     /// (k, n): the k-th of n contiguous id ranges of the prior.
@@ -65,11 +65,13 @@ pub struct HideoutOptions {
     pub progress: bool,
 }
 
-/// What `finish` wrote: the summary, in the output directory.
+/// What `finish` wrote: the summary, in the output directory, and every file.
 #[derive(Debug, Clone)]
 pub struct Written {
     pub summary: HideoutSummary,
     pub dir: PathBuf,
+    /// The tables, the credible regions and `summary.json` (then the surveys' coverage).
+    pub files: Vec<PathBuf>,
 }
 
 /// The observer (geocentre) at the map epoch.
@@ -78,7 +80,7 @@ pub fn epoch_observer(epoch_mjd_utc: f64) -> Result<ObserverState> {
 }
 
 /// Default bins: 10 equal bins over the pilot draws' range of a and of H (end bins open).
-pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(ExclusionBins, ExclusionBins)> {
+pub fn default_bins(prior: &Prior, opts: &TallyOptions) -> Result<(ExclusionBins, ExclusionBins)> {
     let pilot = if opts.a_bins.is_none() || opts.h_bins.is_none() {
         Some(prior.draw(opts.seed, 0..PILOT.min(opts.count).max(1) as i64)?)
     } else {
@@ -108,7 +110,7 @@ pub fn default_bins(prior: &Prior, opts: &HideoutOptions) -> Result<(ExclusionBi
 
 /// Draw the prior (this shard's ids) chunk by chunk through the surveys; returns the tally
 /// and the seconds taken.
-pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOptions) -> Result<(Tally, f64)> {
+pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(RunTally, f64)> {
     if surveys.len() > evaluate::MAX_SURVEYS {
         return Err(Error::input(format!(
             "at most {} surveys per hideout run",
@@ -117,7 +119,7 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOption
     }
     let start = Instant::now();
     let (a, h) = default_bins(prior, opts)?;
-    let mut tally = Tally::new(a, h, opts.order, surveys.len());
+    let mut tally = RunTally::new(a, h, opts.order, surveys.len());
     let epoch = epoch_observer(opts.epoch_mjd)?;
     let ids = shard_ids(opts.count, opts.shard);
     let bar = crate::engine::summary::progress_bar((ids.end - ids.start) as usize, opts.progress);
@@ -139,7 +141,7 @@ pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &HideoutOption
 
 /// Derive the posterior products from a tally and write every output under `dir`.
 pub fn finish(
-    tally: &Tally,
+    tally: &RunTally,
     run: RunInfo,
     seconds: f64,
     dir: &Path,
@@ -167,7 +169,7 @@ pub fn finish(
     let ranked = fields::rank_fields(sky, radius, run.n_fields);
     let view = tables::CellView {
         sky,
-        w_prior_total: tally.total.w_prior,
+        w_prior_total: tally.total.w,
         w_surviving_total: w_surv,
         in_68: &in68,
         in_95: &in95,
@@ -181,18 +183,16 @@ pub fn finish(
             tables::fields_frame(&ranked, run.field_radius_deg, sky.order, w_surv)?,
         ),
     ];
+    let mut files = Vec::new();
     for (name, df) in frames.iter_mut() {
-        write_table(df, &dir.join(format!("{name}.{ext}")), prov)?;
+        files.push(dir.join(format!("{name}.{ext}")));
+        write_table(df, files.last().expect("just pushed"), prov)?;
     }
     for (name, m) in [("region_68", &moc68), ("region_95", &moc95)] {
-        write_atomic(
-            &dir.join(format!("{name}.moc.txt")),
-            format!("{}\n", m.to_ascii()).as_bytes(),
-        )?;
-        write_atomic(
-            &dir.join(format!("{name}.moc.json")),
-            format!("{}\n", m.to_json()).as_bytes(),
-        )?;
+        for (kind, text) in [("txt", m.to_ascii()), ("json", m.to_json())] {
+            files.push(dir.join(format!("{name}.moc.{kind}")));
+            write_atomic(files.last().expect("just pushed"), format!("{text}\n").as_bytes())?;
+        }
     }
     let summary = make_summary(
         tally,
@@ -204,15 +204,17 @@ pub fn finish(
         w_surv,
     );
     let json = serde_json::to_string_pretty(&summary).map_err(|e| Error::io(e.to_string()))?;
-    write_atomic(&dir.join("summary.json"), format!("{json}\n").as_bytes())?;
+    files.push(dir.join("summary.json"));
+    write_atomic(files.last().expect("just pushed"), format!("{json}\n").as_bytes())?;
     Ok(Written {
         summary,
         dir: dir.to_path_buf(),
+        files,
     })
 }
 
 fn make_summary(
-    t: &Tally,
+    t: &RunTally,
     run: RunInfo,
     seconds: f64,
     ranked: &[fields::Field],
@@ -220,6 +222,7 @@ fn make_summary(
     r95: (&moc::Moc, &[u64]),
     w_surv: f64,
 ) -> HideoutSummary {
+    let excluded = t.total.proportion();
     let mut s = HideoutSummary {
         per_survey: summary::per_survey(&run, t),
         best_field: ranked
@@ -227,12 +230,12 @@ fn make_summary(
             .map(|f| summary::best_field(f, run.field_radius_deg, w_surv)),
         run,
         n_draws: t.n_draws,
-        n_excluded: t.total.n_excluded,
-        w_prior: t.total.w_prior,
-        n_effective: t.total.w_prior * t.total.w_prior / t.total.w2_prior,
-        w_excluded: t.total.w_excluded,
-        excluded_fraction: t.total.excluded_fraction(),
-        excluded_fraction_err: t.total.excluded_fraction_err(),
+        n_excluded: t.total.k,
+        w_prior: t.total.w,
+        n_effective: crate::statistics::kish_n(t.total.w, t.total.w2),
+        w_excluded: t.total.w_hit,
+        excluded_fraction: excluded.fraction,
+        excluded_fraction_err: excluded.std_error,
         surviving_fraction: t.surviving_fraction(),
         region_68: summary::region(0.68, r68.0, r68.1, t),
         region_95: summary::region(0.95, r95.0, r95.1, t),
@@ -254,27 +257,35 @@ pub fn read_summary(dir: &Path) -> Result<HideoutSummary> {
 
 /// Each survey's covered sky (MOC 2.0 JSON, normalized, cells up to order 9, as `seine plan`
 /// writes it) as
-/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior.
-pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<()> {
+/// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior; returns
+/// the files written.
+pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<Vec<PathBuf>> {
+    let mut files = Vec::new();
     for s in surveys {
         let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey)?;
         let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
-        write_atomic(&dir.join(name), format!("{}\n", cov.moc_json()).as_bytes())?;
+        files.push(dir.join(name));
+        write_atomic(
+            files.last().expect("just pushed"),
+            format!("{}\n", cov.moc_json()).as_bytes(),
+        )?;
     }
-    Ok(())
+    Ok(files)
 }
 
-/// A merge carries the first shard's coverage files over.
-pub fn copy_coverage(from: &Path, dir: &Path) -> Result<()> {
+/// A merge carries the first shard's coverage files over; returns the files written.
+pub fn copy_coverage(from: &Path, dir: &Path) -> Result<Vec<PathBuf>> {
     let entries = std::fs::read_dir(from).map_err(|e| Error::input(format!("{}: {e}", from.display())))?;
+    let mut files = Vec::new();
     for e in entries.flatten() {
         let name = e.file_name().to_string_lossy().to_string();
         if name.starts_with("coverage_") && name.ends_with(".moc.json") {
             let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
-            write_atomic(&dir.join(&name), &bytes)?;
+            files.push(dir.join(&name));
+            write_atomic(files.last().expect("just pushed"), &bytes)?;
         }
     }
-    Ok(())
+    Ok(files)
 }
 
 /// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
@@ -313,15 +324,15 @@ fn shard_format(dir: &Path) -> Option<Format> {
 pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenance) -> Result<Written> {
     crate::engine::merge::refuse_output_among_inputs(dirs, out)?;
     let (tally, run, seconds) = merge(dirs)?;
-    let written = finish(&tally, run, seconds, out, format, prov)?;
-    copy_coverage(&dirs[0], out)?;
+    let mut written = finish(&tally, run, seconds, out, format, prov)?;
+    written.files.extend(copy_coverage(&dirs[0], out)?);
     Ok(written)
 }
 
 /// Sum the tallies of shard directories into one.
 /// Each shard exactly once and all present: k of n for k = 0..n−1 (or one whole run alone).
-pub fn merge(dirs: &[PathBuf]) -> Result<(Tally, RunInfo, f64)> {
-    let mut acc: Option<(Tally, RunInfo, f64)> = None;
+pub fn merge(dirs: &[PathBuf]) -> Result<(RunTally, RunInfo, f64)> {
+    let mut acc: Option<(RunTally, RunInfo, f64)> = None;
     let mut seen: Vec<(Option<(u64, u64)>, &PathBuf)> = Vec::new();
     for dir in dirs {
         let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;

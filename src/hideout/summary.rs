@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::fields::Field;
 use super::moc::Moc;
-use super::tally::Tally;
+use super::tally::RunTally;
 use crate::sky::frames::radec_to_ecliptic;
 
 /// What a run was asked for; shards of one run share all of it but `shard`.
@@ -77,7 +77,7 @@ pub struct HideoutSummary {
 }
 
 /// A credible region's summary.
-pub fn region(level: f64, moc: &Moc, cells: &[u64], tally: &Tally) -> Region {
+pub fn region(level: f64, moc: &Moc, cells: &[u64], tally: &RunTally) -> Region {
     let w: f64 = cells.iter().map(|&c| tally.sky.w_surviving[c as usize]).sum();
     let total: f64 = tally.sky.w_surviving.iter().sum();
     Region {
@@ -104,14 +104,14 @@ pub fn best_field(f: &Field, radius_deg: f64, w_surviving_total: f64) -> BestFie
     }
 }
 
-pub fn per_survey(run: &RunInfo, tally: &Tally) -> Vec<SurveyShare> {
+pub fn per_survey(run: &RunInfo, tally: &RunTally) -> Vec<SurveyShare> {
     run.surveys
         .iter()
         .zip(&tally.w_discovered_by)
         .map(|(s, &w)| SurveyShare {
             survey: s.clone(),
             w_discovered: w,
-            discovered_fraction: w / tally.total.w_prior,
+            discovered_fraction: w / tally.total.w,
         })
         .collect()
 }

@@ -6,11 +6,12 @@ use std::path::Path;
 use polars::prelude::*;
 
 use super::fields::Field;
-use super::tally::{BinSums, ExclusionBins, MAG_BINS, MAG_LO, MAG_STEP, SkyTally, Tally};
+use super::tally::{ExclusionBins, MAG_BINS, MAG_LO, MAG_STEP, RunTally, SkyTally};
 use crate::error::{Error, Result};
 use crate::foundation::units::DEG;
 use crate::io::table::{Columns, read_table};
 use crate::sky::frames::radec_to_ecliptic;
+use crate::statistics::Tally;
 
 fn frame(cols: Vec<Column>) -> Result<DataFrame> {
     let h = cols.first().map_or(0, |c| c.len());
@@ -26,15 +27,15 @@ fn i(name: &str, v: Vec<i64>) -> Column {
 }
 
 /// `excluded`: one row per bin of a, of H, and one row `all`; lo/hi empty for `all`.
-pub fn excluded_frame(t: &Tally) -> Result<DataFrame> {
-    let mut rows: Vec<(String, i64, Option<f64>, Option<f64>, BinSums)> = vec![("all".into(), 0, None, None, t.total)];
+pub fn excluded_frame(t: &RunTally) -> Result<DataFrame> {
+    let mut rows: Vec<(String, i64, Option<f64>, Option<f64>, Tally)> = vec![("all".into(), 0, None, None, t.total)];
     for b in [&t.a, &t.h] {
         for (k, s) in b.bins.iter().enumerate() {
             rows.push((b.quantity.clone(), k as i64, Some(b.edges[k]), Some(b.edges[k + 1]), *s));
         }
     }
-    let col = |g: &dyn Fn(&BinSums) -> f64| rows.iter().map(|r| g(&r.4)).collect::<Vec<f64>>();
-    let int = |g: &dyn Fn(&BinSums) -> u64| rows.iter().map(|r| g(&r.4) as i64).collect::<Vec<i64>>();
+    let col = |g: &dyn Fn(&Tally) -> f64| rows.iter().map(|r| g(&r.4)).collect::<Vec<f64>>();
+    let int = |g: &dyn Fn(&Tally) -> u64| rows.iter().map(|r| g(&r.4) as i64).collect::<Vec<i64>>();
     frame(vec![
         Column::new(
             "quantity".into(),
@@ -43,14 +44,14 @@ pub fn excluded_frame(t: &Tally) -> Result<DataFrame> {
         i("bin", rows.iter().map(|r| r.1).collect()),
         Column::new("lo".into(), rows.iter().map(|r| r.2).collect::<Vec<Option<f64>>>()),
         Column::new("hi".into(), rows.iter().map(|r| r.3).collect::<Vec<Option<f64>>>()),
-        i("n_prior", int(&|s| s.n_prior)),
-        f("w_prior", col(&|s| s.w_prior)),
-        f("w2_prior", col(&|s| s.w2_prior)),
-        i("n_excluded", int(&|s| s.n_excluded)),
-        f("w_excluded", col(&|s| s.w_excluded)),
-        f("w2_excluded", col(&|s| s.w2_excluded)),
-        f("excluded_fraction", col(&|s| s.excluded_fraction())),
-        f("excluded_fraction_err", col(&|s| s.excluded_fraction_err())),
+        i("n_prior", int(&|s| s.n)),
+        f("w_prior", col(&|s| s.w)),
+        f("w2_prior", col(&|s| s.w2)),
+        i("n_excluded", int(&|s| s.k)),
+        f("w_excluded", col(&|s| s.w_hit)),
+        f("w2_excluded", col(&|s| s.w2_hit)),
+        f("excluded_fraction", col(&|s| s.proportion().fraction)),
+        f("excluded_fraction_err", col(&|s| s.proportion().std_error)),
     ])
 }
 
@@ -181,16 +182,16 @@ fn opt_f64(df: &DataFrame, path: &Path, name: &str) -> Result<Vec<Option<f64>>> 
 }
 
 /// Read the additive columns of `excluded`, `sky_map` and `sky_mag_hist` under `dir`.
-pub fn read_tally(dir: &Path, ext: &str, order: u8, n_surveys: usize) -> Result<Tally> {
+pub fn read_tally(dir: &Path, ext: &str, order: u8, n_surveys: usize) -> Result<RunTally> {
     let (a, h, total) = read_excluded(&dir.join(format!("excluded.{ext}")))?;
-    let mut t = Tally::new(a, h, order, n_surveys);
+    let mut t = RunTally::new(a, h, order, n_surveys);
     t.total = total;
     read_sky(&dir.join(format!("sky_map.{ext}")), &mut t.sky)?;
     read_hist(&dir.join(format!("sky_mag_hist.{ext}")), &mut t.sky)?;
     Ok(t)
 }
 
-fn read_excluded(path: &Path) -> Result<(ExclusionBins, ExclusionBins, BinSums)> {
+fn read_excluded(path: &Path) -> Result<(ExclusionBins, ExclusionBins, Tally)> {
     let df = read_table(path)?;
     let c = Columns::new(&df, path);
     let q = c.str("quantity")?;
@@ -198,13 +199,13 @@ fn read_excluded(path: &Path) -> Result<(ExclusionBins, ExclusionBins, BinSums)>
     let nums = |n: &str| c.f64(n);
     let (np, wp, w2p) = (nums("n_prior")?, nums("w_prior")?, nums("w2_prior")?);
     let (ne, we, w2e) = (nums("n_excluded")?, nums("w_excluded")?, nums("w2_excluded")?);
-    let sums = |k: usize| BinSums {
-        n_prior: np[k] as u64,
-        w_prior: wp[k],
-        w2_prior: w2p[k],
-        n_excluded: ne[k] as u64,
-        w_excluded: we[k],
-        w2_excluded: w2e[k],
+    let sums = |k: usize| Tally {
+        n: np[k] as u64,
+        w: wp[k],
+        w2: w2p[k],
+        k: ne[k] as u64,
+        w_hit: we[k],
+        w2_hit: w2e[k],
     };
     let binned = |name: &str| -> Result<ExclusionBins> {
         let rows: Vec<usize> = (0..q.len()).filter(|&k| q[k] == name).collect();

@@ -1,10 +1,13 @@
 //! Additive accumulators of a hideout run: counts and sums of weights only (never fractions),
 //! so the tallies of shards add up to the tally of the whole run. Draws are added one at a
-//! time in id order, which makes a run's sums independent of the thread count.
+//! time in id order, which makes a run's sums independent of the thread count. A bin's sums
+//! are a `statistics::Tally` (a success = the draw excluded, i.e. discovered), so its excluded
+//! fraction and error are the weighted proportion every analysis reports.
 
 use std::collections::HashMap;
 
 use super::evaluate::DrawResult;
+use crate::statistics::Tally;
 
 /// Magnitude histogram of the survivors per cell: bins of `MAG_STEP` from `MAG_LO` to `MAG_HI`;
 /// values outside fall into the end bins.
@@ -13,57 +16,12 @@ pub const MAG_HI: f64 = 40.0;
 pub const MAG_STEP: f64 = 0.1;
 pub const MAG_BINS: usize = 450;
 
-/// Sums over the draws of one bin.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct BinSums {
-    pub n_prior: u64,
-    pub w_prior: f64,
-    pub w2_prior: f64,
-    pub n_excluded: u64,
-    pub w_excluded: f64,
-    pub w2_excluded: f64,
-}
-
-impl BinSums {
-    fn add_draw(&mut self, w: f64, excluded: bool) {
-        self.n_prior += 1;
-        self.w_prior += w;
-        self.w2_prior += w * w;
-        if excluded {
-            self.n_excluded += 1;
-            self.w_excluded += w;
-            self.w2_excluded += w * w;
-        }
-    }
-
-    pub fn add(&mut self, o: &BinSums) {
-        self.n_prior += o.n_prior;
-        self.w_prior += o.w_prior;
-        self.w2_prior += o.w2_prior;
-        self.n_excluded += o.n_excluded;
-        self.w_excluded += o.w_excluded;
-        self.w2_excluded += o.w2_excluded;
-    }
-
-    /// Weighted fraction of the prior excluded (discovered), NaN for an empty bin.
-    pub fn excluded_fraction(&self) -> f64 {
-        self.w_excluded / self.w_prior
-    }
-
-    /// Its standard error: √(Σ w² (d − f)²) / Σ w (the binomial error with weights).
-    pub fn excluded_fraction_err(&self) -> f64 {
-        let f = self.excluded_fraction();
-        let v = (1.0 - f).powi(2) * self.w2_excluded + f * f * (self.w2_prior - self.w2_excluded);
-        v.max(0.0).sqrt() / self.w_prior
-    }
-}
-
 /// A one-dimensional binning of a quantity; the end bins are open (they take the values beyond).
 #[derive(Debug, Clone, PartialEq)]
 pub struct ExclusionBins {
     pub quantity: String,
     pub edges: Vec<f64>,
-    pub bins: Vec<BinSums>,
+    pub bins: Vec<Tally>,
 }
 
 impl ExclusionBins {
@@ -72,7 +30,7 @@ impl ExclusionBins {
         ExclusionBins {
             quantity: quantity.to_string(),
             edges,
-            bins: vec![BinSums::default(); n],
+            bins: vec![Tally::default(); n],
         }
     }
 
@@ -89,7 +47,7 @@ impl ExclusionBins {
 
     fn add_draw(&mut self, x: f64, w: f64, excluded: bool) {
         let k = self.index(x);
-        self.bins[k].add_draw(w, excluded);
+        self.bins[k].add(w, excluded);
     }
 }
 
@@ -173,8 +131,8 @@ pub fn mag_bin(mag: f64) -> usize {
 
 /// Everything a run accumulates.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Tally {
-    pub total: BinSums,
+pub struct RunTally {
+    pub total: Tally,
     pub a: ExclusionBins,
     pub h: ExclusionBins,
     pub sky: SkyTally,
@@ -184,10 +142,10 @@ pub struct Tally {
     pub n_draws: u64,
 }
 
-impl Tally {
+impl RunTally {
     pub fn new(a: ExclusionBins, h: ExclusionBins, order: u8, n_surveys: usize) -> Self {
-        Tally {
-            total: BinSums::default(),
+        RunTally {
+            total: Tally::default(),
             a,
             h,
             sky: SkyTally::new(order),
@@ -200,7 +158,7 @@ impl Tally {
     pub fn add_draws(&mut self, draws: &[DrawResult]) {
         for d in draws {
             self.n_draws += 1;
-            self.total.add_draw(d.weight, d.discovered);
+            self.total.add(d.weight, d.discovered);
             self.a.add_draw(d.a_au, d.weight, d.discovered);
             self.h.add_draw(d.h_mag, d.weight, d.discovered);
             self.sky.add_draw(d);
@@ -213,7 +171,7 @@ impl Tally {
     }
 
     /// Add another tally of the same binning (a shard of the same run).
-    pub fn add(&mut self, o: &Tally) -> Result<(), String> {
+    pub fn add(&mut self, o: &RunTally) -> Result<(), String> {
         if self.a.edges != o.a.edges || self.h.edges != o.h.edges {
             return Err(
                 "the a or H bin edges differ: the runs used different priors, seeds or --a-bins/--h-bins".into(),
@@ -228,9 +186,9 @@ impl Tally {
         if self.w_discovered_by.len() != o.w_discovered_by.len() {
             return Err("the runs used different numbers of surveys".into());
         }
-        self.total.add(&o.total);
+        self.total.absorb(&o.total);
         for (x, y) in [(&mut self.a, &o.a), (&mut self.h, &o.h)] {
-            x.bins.iter_mut().zip(&y.bins).for_each(|(p, q)| p.add(q));
+            x.bins.iter_mut().zip(&y.bins).for_each(|(p, q)| p.absorb(q));
         }
         self.sky.add(&o.sky);
         self.w_discovered_by
@@ -243,6 +201,6 @@ impl Tally {
 
     /// Surviving (undiscovered) fraction of the prior's weight.
     pub fn surviving_fraction(&self) -> f64 {
-        1.0 - self.total.excluded_fraction()
+        1.0 - self.total.proportion().fraction
     }
 }

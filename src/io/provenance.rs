@@ -96,33 +96,3 @@ pub fn file_sha256(path: &Path) -> Result<String> {
     }
     Ok(hasher.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
-
-/// The provenance of a table written by seine: the Parquet key-value metadata, or the
-/// sidecar `FILE.provenance.json` of a CSV table.
-pub fn read_provenance(path: &Path) -> Result<Provenance> {
-    use super::table::{Format, read_parquet_metadata, sidecar_path};
-    use crate::error::Error;
-    if !path.is_file() {
-        return Err(Error::input(format!("{}: no such file", path.display())));
-    }
-    let (text, from) = match Format::of(path)? {
-        Format::Parquet => {
-            let kv = read_parquet_metadata(path)?;
-            let v = kv.into_iter().find(|(k, _)| k == METADATA_KEY).map(|(_, v)| v);
-            let v = v.ok_or_else(|| {
-                Error::input(format!(
-                    "{}: no `{METADATA_KEY}` metadata; not written by seine",
-                    path.display()
-                ))
-            })?;
-            (v, path.to_path_buf())
-        }
-        Format::Csv => {
-            let side = sidecar_path(path);
-            let t = std::fs::read_to_string(&side)
-                .map_err(|e| Error::input(format!("{}: cannot read the provenance sidecar: {e}", side.display())))?;
-            (t, side)
-        }
-    };
-    serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not seine provenance: {e}", from.display())))
-}

@@ -9,7 +9,6 @@ use rand::{Rng, RngExt};
 use rand_distr::StandardNormal;
 use serde::Deserialize;
 
-use super::prepared::Prepared;
 use statrs::function::erf::{erf, erfc};
 use std::f64::consts::SQRT_2;
 
@@ -193,12 +192,6 @@ impl Distribution {
                 values.iter().copied().reduce(f64::max),
             ),
         }
-    }
-
-    /// One draw from the distribution (through `Prepared`, the one sampling path; prepare
-    /// once and reuse it where many draws are made).
-    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
-        Prepared::new(self.clone()).sample(rng)
     }
 
     /// A draw given the first uniform `u`, for the forms that need no precomputation.

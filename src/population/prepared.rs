@@ -53,6 +53,15 @@ enum Fast {
     Direct,
 }
 
+impl Distribution {
+    /// One draw from the distribution (through `Prepared`, the one sampling path; prepare
+    /// once and reuse it where many draws are made). Defined here, beside the sampler, so that
+    /// the distributions' file needs nothing of this one.
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        Prepared::new(self.clone()).sample(rng)
+    }
+}
+
 impl Prepared {
     pub fn new(dist: Distribution) -> Self {
         use Distribution::*;

@@ -12,7 +12,8 @@ use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection,
 use crate::engine::discoveries::{self, Discovery};
 use crate::engine::outputs;
 use crate::error::{Error, Result, io_at};
-use crate::io::provenance::{Provenance, read_provenance};
+use crate::io::provenance::Provenance;
+use crate::io::table::read_provenance;
 use crate::survey::Survey;
 use crate::survey::plan_io::{self, PlanOutputs};
 
@@ -526,16 +527,13 @@ fn population_label(written: &str, stem: Option<&str>, found: Option<&str>) -> S
 /// What a survey cost: its visits, hours and area. Hours are the telescope time the planner
 /// used (exposures and overheads, `STEM.coverage_nights.csv` beside the visits table) when
 /// there is that table, else the open-shutter time (the sum of exposure times). The area is
-/// the covered area of `STEM.coverage.json` when there is one, else counted on the report's
-/// sky cells.
+/// the covered area of `STEM.coverage.json` when there is one, else counted as that report
+/// counts it (`figures::sky::covered_sq_deg`).
 pub fn effort_of(s: &Survey) -> Effort {
     let plan = PlanOutputs::for_visits(&s.visits_path);
     let telescope_hours = plan.telescope_hours();
     let area = plan.covered_sq_deg();
-    let area_sq_deg = area.unwrap_or_else(|| {
-        let cells = super::figures::sky::visit_cells(&[s], super::figures::sky::MAP_ORDER);
-        crate::sky::healpix::area_sq_deg(cells.len(), super::figures::sky::MAP_ORDER)
-    });
+    let area_sq_deg = area.unwrap_or_else(|| super::figures::sky::covered_sq_deg(&[s]));
     Effort {
         visits: s.visits.len() as u64,
         hours: telescope_hours.unwrap_or_else(|| s.visits.exposure_s.iter().sum::<f64>() / 3600.0),

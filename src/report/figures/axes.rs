@@ -92,42 +92,32 @@ pub fn swatch(c: RGBColor, width: u32) -> impl Fn((i32, i32)) -> PathElement<(i3
     move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], c.stroke_width(width))
 }
 
-/// The corner points of a step curve over bins (for a histogram outline).
-pub fn steps(edges: &[f64], heights: &[f64]) -> Vec<(f64, f64)> {
-    let mut pts = Vec::with_capacity(2 * heights.len());
-    for (k, &h) in heights.iter().enumerate() {
-        pts.push((edges[k], h));
-        pts.push((edges[k + 1], h));
-    }
-    pts
-}
-
 /// A histogram outline with gaps at empty bins: one step curve per run of non-empty bins,
-/// closed down to `floor` (the bottom of the axis) at both ends of the run, so that an empty
-/// bin is drawn as nothing rather than as a line along (or below) the axis.
-pub fn step_runs(edges: &[f64], counts: &[f64], floor: f64) -> Vec<Vec<(f64, f64)>> {
+/// so that an empty bin is drawn as nothing rather than as a line along (or below) the axis.
+/// On a linear axis (`close: Some(0.0)`) each run is closed down to zero at both its ends, the
+/// sides of a bar. A logarithmic axis has no zero, and a line down to its arbitrary bottom
+/// would read as a count there: with `close: None` a run starts and ends at its bins' heights.
+pub fn step_runs(edges: &[f64], counts: &[f64], close: Option<f64>) -> Vec<Vec<(f64, f64)>> {
     let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
     let mut open = false;
     for (k, &c) in counts.iter().enumerate() {
-        if c <= 0.0 {
-            if open {
-                let x = edges[k];
-                runs.last_mut().expect("open run").push((x, floor));
+        if !(c > 0.0) {
+            if let (true, Some(z)) = (open, close) {
+                runs.last_mut().expect("open run").push((edges[k], z));
             }
             open = false;
             continue;
         }
-        let h = c;
         if !open {
-            runs.push(vec![(edges[k], floor)]);
+            runs.push(close.map(|z| vec![(edges[k], z)]).unwrap_or_default());
             open = true;
         }
         let run = runs.last_mut().expect("open run");
-        run.push((edges[k], h));
-        run.push((edges[k + 1], h));
+        run.push((edges[k], c));
+        run.push((edges[k + 1], c));
     }
-    if open {
-        runs.last_mut().expect("open run").push((edges[counts.len()], floor));
+    if let (true, Some(z)) = (open, close) {
+        runs.last_mut().expect("open run").push((edges[counts.len()], z));
     }
     runs
 }
@@ -147,12 +137,16 @@ mod tests {
     #[test]
     fn empty_bins_are_gaps() {
         let edges = [0.0, 1.0, 2.0, 3.0, 4.0];
-        let runs = step_runs(&edges, &[2.0, 0.0, 3.0, 1.0], 0.5);
+        let runs = step_runs(&edges, &[2.0, 0.0, 3.0, 1.0], Some(0.0));
         assert_eq!(runs.len(), 2);
-        assert_eq!(runs[0], vec![(0.0, 0.5), (0.0, 2.0), (1.0, 2.0), (1.0, 0.5)]);
-        assert_eq!(runs[1].first(), Some(&(2.0, 0.5)));
-        assert_eq!(runs[1].last(), Some(&(4.0, 0.5)));
-        assert!(step_runs(&edges, &[0.0; 4], 0.5).is_empty());
+        assert_eq!(runs[0], vec![(0.0, 0.0), (0.0, 2.0), (1.0, 2.0), (1.0, 0.0)]);
+        assert_eq!(runs[1].first(), Some(&(2.0, 0.0)));
+        assert_eq!(runs[1].last(), Some(&(4.0, 0.0)));
+        assert!(step_runs(&edges, &[0.0; 4], Some(0.0)).is_empty());
+        // On a logarithmic axis a run neither starts nor ends at the axis.
+        let open = step_runs(&edges, &[2.0, 0.0, 3.0, 1.0], None);
+        assert_eq!(open[0], vec![(0.0, 2.0), (1.0, 2.0)]);
+        assert_eq!(open[1], vec![(2.0, 3.0), (3.0, 3.0), (3.0, 1.0), (4.0, 1.0)]);
         assert!(counts_need_log(&[1, 0, 500]) && !counts_need_log(&[10, 0, 200]));
     }
 }

@@ -103,13 +103,12 @@ pub fn null_distribution(test: &NullTest) -> Result<Figure> {
             .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + 22, y + 6)], style::BAND.filled()));
         if !test.naive_samples.is_empty() {
             let c = style::series(0);
-            chart
-                .draw_series(std::iter::once(PathElement::new(
-                    axes::steps(&edges, &naive),
-                    c.stroke_width(2),
-                )))?
-                .label("naive null (uniform angles)")
-                .legend(axes::swatch(c, 2));
+            for (j, run) in axes::step_runs(&edges, &naive, Some(0.0)).into_iter().enumerate() {
+                let drawn = chart.draw_series(std::iter::once(PathElement::new(run, c.stroke_width(2))))?;
+                if j == 0 {
+                    drawn.label("naive null (uniform angles)").legend(axes::swatch(c, 2));
+                }
+            }
         }
         let c = style::series(1);
         chart

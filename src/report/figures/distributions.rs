@@ -53,7 +53,8 @@ pub fn injected_vs_discovered(
     };
     let caption = format!(
         "Number of objects per bin of {} — injected (blue, {} objects) and discovered (orange, {}). \
-         Counts on a logarithmic axis; bins without objects are left empty.{weighted} {note}",
+         Counts on a logarithmic axis (an outline ends at its last bin's height: the axis has no \
+         zero); bins without objects are left empty.{weighted} {note}",
         label(quantity),
         injected.0.len(),
         discovered.0.len()
@@ -116,7 +117,7 @@ where
     axes::mesh(&mut chart, &label(quantity), "objects per bin")?;
     for (k, (h, name)) in hists.iter().zip(["injected", "discovered"]).enumerate() {
         let c = style::series(k);
-        for (j, run) in axes::step_runs(edges, h, floor).into_iter().enumerate() {
+        for (j, run) in axes::step_runs(edges, h, None).into_iter().enumerate() {
             let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
             if j == 0 {
                 drawn.label(name).legend(axes::swatch(c, 2));
@@ -258,9 +259,10 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
         .iter()
         .map(|(n, v)| format!("{n} ({} discoveries)", v.len()))
         .collect();
+    let log_counts = axes::counts_need_log(&hists.iter().flatten().copied().collect::<Vec<u64>>());
     let caption = format!(
         "Number of discoveries per bin of {what}, as each was first found: {}.{}{} Bins \
-         without discoveries are left empty.",
+         without discoveries are left empty.{}",
         if names.is_empty() {
             "none".into()
         } else {
@@ -288,6 +290,12 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
                     .collect::<Vec<_>>()
                     .join("; ")
             )
+        },
+        if log_counts {
+            " Counts on a logarithmic axis: they span more than a factor of 30 (an outline ends \
+             at its last bin's height: the axis has no zero)."
+        } else {
+            ""
         }
     );
     let stem = quantity.to_string();
@@ -297,19 +305,25 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
             return empty_note(&area, "no discoveries");
         };
         let (lo, hi) = (edges[0], edges[edges.len() - 1]);
-        let top = hists.iter().flatten().copied().max().unwrap_or(1).max(1) as f64 * 1.5;
+        let max = hists.iter().flatten().copied().max().unwrap_or(1).max(1) as f64;
+        // A logarithmic count axis needs more headroom for the legend, and a bottom below one.
+        let (bottom, top) = if log_counts { (0.5, max * 6.0) } else { (0.0, max * 1.5) };
         let plot = AtDiscovery {
             edges,
             hists: &hists,
             names: &names,
             marks: &shown,
             x_desc: &what,
+            bottom,
             top,
         };
-        if log {
-            plot.draw(&area, (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi)))
-        } else {
-            plot.draw(&area, lo..hi)
+        let log_x = || (lo..hi).log_scale().with_key_points(axes::log_ticks(lo, hi));
+        let log_y = || (bottom..top).log_scale().with_key_points(axes::log_ticks(1.0, top));
+        match (log, log_counts) {
+            (true, true) => plot.draw(&area, log_x(), log_y()),
+            (true, false) => plot.draw(&area, log_x(), bottom..top),
+            (false, true) => plot.draw(&area, lo..hi, log_y()),
+            (false, false) => plot.draw(&area, lo..hi, bottom..top),
         }
     })
 }
@@ -320,21 +334,27 @@ struct AtDiscovery<'a> {
     names: &'a [String],
     marks: &'a [&'a (String, f64)],
     x_desc: &'a str,
+    /// The count axis: from `bottom` (0, or below one on a logarithmic axis) to `top`.
+    bottom: f64,
     top: f64,
 }
 
 impl AtDiscovery<'_> {
-    fn draw<X>(&self, area: &Area, x: X) -> DrawResult
+    fn draw<X, Y>(&self, area: &Area, x: X, y: Y) -> DrawResult
     where
         X: AsRangedCoord<Value = f64>,
         X::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
+        Y: AsRangedCoord<Value = f64>,
+        Y::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
     {
-        let mut chart = axes::chart(area, x, 0.0..self.top)?;
+        // Outlines close to zero on a linear count axis; a logarithmic one has no zero.
+        let close = (self.bottom == 0.0).then_some(0.0);
+        let mut chart = axes::chart(area, x, y)?;
         axes::mesh(&mut chart, self.x_desc, "discoveries per bin")?;
         for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
             let counts: Vec<f64> = h.iter().map(|&c| c as f64).collect();
-            for (j, run) in axes::step_runs(self.edges, &counts, 0.0).into_iter().enumerate() {
+            for (j, run) in axes::step_runs(self.edges, &counts, close).into_iter().enumerate() {
                 let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
                 if j == 0 {
                     drawn.label(name.as_str()).legend(axes::swatch(c, 2));
@@ -345,7 +365,7 @@ impl AtDiscovery<'_> {
             let c = style::series(k + self.hists.len());
             chart
                 .draw_series(DashedLineSeries::new(
-                    vec![(v, 0.0), (v, self.top)],
+                    vec![(v, self.bottom), (v, self.top)],
                     6,
                     4,
                     c.stroke_width(2),

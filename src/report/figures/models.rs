@@ -172,10 +172,12 @@ impl Linear<'_> {
         )?;
         for (k, (h, name)) in curves.iter().zip(self.names).enumerate() {
             let c = model_colour(k);
-            chart
-                .draw_series(std::iter::once(PathElement::new(axes::steps(e, h), c.stroke_width(2))))?
-                .label(name.as_str())
-                .legend(axes::swatch(c, 2));
+            for (j, run) in axes::step_runs(e, h, Some(0.0)).into_iter().enumerate() {
+                let drawn = chart.draw_series(std::iter::once(PathElement::new(run, c.stroke_width(2))))?;
+                if j == 0 {
+                    drawn.label(name.as_str()).legend(axes::swatch(c, 2));
+                }
+            }
         }
         axes::legend(&mut chart, SeriesLabelPosition::UpperRight)
     }
@@ -247,6 +249,48 @@ fn circular(area: &Area, cat: &WeightedSample, models: &[WeightedSample], n: f64
     Ok(())
 }
 
+/// Why the null has as many catalogues as it has: the number (`seine compare-models
+/// --synthetic`) sets the smallest p the test can give, 1/(1 + N), and p's counting error,
+/// √(p(1 − p)/N); a p at the floor is an upper bound.
+pub fn catalogues_rationale(n: usize, p: f64) -> String {
+    if n == 0 {
+        return String::new();
+    }
+    let nf = n as f64;
+    let floor = 1.0 / (1.0 + nf);
+    let mut s = format!(
+        "Why {n} catalogues (seine compare-models --synthetic, 1000 by default): their number sets \
+         the smallest p the test can give, 1/(1 + {n}) = {}, and the counting part of p's error, \
+         √(p(1 − p)/{n}) (the default of 1000 gives p = 0.05 to ± 0.007 and reaches 0.001, enough \
+         to tell the usual 5% and 1% thresholds apart); the ± above adds the part from the \
+         catalogue's own ln L error.",
+        sig3(floor)
+    );
+    if p.is_finite() && p <= floor * 1.5 {
+        s += &format!(
+            " Here p is at that floor: no synthetic catalogue scores as low as the catalogue, so \
+             the chance is only bounded, below about 3/{n} = {} at 95% confidence (the rule of \
+             three: Hanley & Lippman-Hand 1983, JAMA 249, 1743); more catalogues would tell how \
+             much smaller it is.",
+            sig3(3.0 / nf)
+        );
+    } else if p.is_finite() {
+        let counting = (p * (1.0 - p) / nf).sqrt();
+        s += &format!(
+            " At this p the counting error is {} ({:.0}% of p).",
+            sig3(counting),
+            100.0 * counting / p
+        );
+    }
+    s
+}
+
+/// A small positive number to three significant digits ("0.000999", "0.0316").
+fn sig3(x: f64) -> String {
+    let decimals = (2.0 - x.abs().log10().floor()).clamp(0.0, 12.0) as usize;
+    format!("{x:.decimals$}")
+}
+
 /// Bins of the goodness-of-fit histogram.
 const NULL_BINS: usize = 40;
 
@@ -261,12 +305,13 @@ pub fn goodness_of_fit(fit: &FitNull) -> Result<Figure> {
          objects — what the model itself gives; fraction of catalogues per bin. Orange line: the \
          catalogue's ln L, {:.2} ± {:.2} (the error from the model's finite sample). Lower tail: \
          p = (1 + catalogues with ln L at or below the catalogue's) / (1 + catalogues) = \
-         {}; a small p says the catalogue lies where the model's detected objects are rare.",
+         {}; a small p says the catalogue lies where the model's detected objects are rare. {}",
         fit.samples.len(),
         fit.model,
         fit.observed,
         fit.observed_error,
-        crate::statistics::chance_with_error(fit.p, fit.p_error)
+        crate::statistics::chance_with_error(fit.p, fit.p_error),
+        catalogues_rationale(fit.samples.len(), fit.p)
     );
     let stem = format!("goodness_of_fit_{}", fit.model);
     render(&stem, &title, &caption, (style::WIDTH, style::HEIGHT), |root| {

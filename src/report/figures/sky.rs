@@ -71,11 +71,37 @@ pub fn visit_cells(surveys: &[&Survey], order: u8) -> Vec<(u64, u64)> {
     cells
 }
 
+/// The sky area covered at least once by `surveys`, deg², counted as `seine plan`'s coverage
+/// report counts it (cells of `survey::coverage::HEALPIX_ORDER` whose centres lie in a field),
+/// so that the report and the plan quote one number for one survey. The maps' coarser cells,
+/// drawn by the same rule, add up to a slightly different area at the coverage's edges.
+pub fn covered_sq_deg(surveys: &[&Survey]) -> f64 {
+    let order = crate::survey::coverage::HEALPIX_ORDER;
+    area_sq_deg(visit_cells(surveys, order).len(), order)
+}
+
+/// What a map's caption says of the area: the covered area as the coverage report measures
+/// it, and what the map's own cells add up to when that differs.
+fn area_sentence(covered_sq_deg: f64, cells: usize, order: u8) -> String {
+    let fine = crate::survey::coverage::HEALPIX_ORDER;
+    let drawn = area_sq_deg(cells, order);
+    let mut s = format!(
+        "{covered_sq_deg:.0} deg² covered at least once (counted on HEALPix order-{fine} cells of \
+         {:.3} deg² whose centres lie in a field, as seine plan's coverage report counts it)",
+        crate::sky::healpix::cell_area_sq_deg(fine)
+    );
+    if order != fine {
+        s += &format!("; the map's cells, drawn by the same rule, add up to {drawn:.0} deg²");
+    }
+    s
+}
+
 /// The maps of one coverage: the whole sky, and a zoom when the coverage is small. `label`
 /// says what is covered (a survey's name, or a run's surveys); `stem` names the files.
 pub fn maps(stem: &str, label: &str, surveys: &[&Survey], discoveries: &[(f64, f64)]) -> Result<Vec<Figure>> {
     let cells = visit_cells(surveys, MAP_ORDER);
-    let mut out = vec![coverage_map(stem, label, &cells, discoveries)?];
+    let covered = covered_sq_deg(surveys);
+    let mut out = vec![coverage_map(stem, label, &cells, covered, discoveries)?];
     if let Some(b) = ZoomBox::around(&cells, MAP_ORDER) {
         let order = b.order(surveys);
         let fine = visit_cells(surveys, order);
@@ -85,6 +111,7 @@ pub fn maps(stem: &str, label: &str, surveys: &[&Survey], discoveries: &[(f64, f
             &b,
             order,
             &fine,
+            covered,
             discoveries,
         )?);
     }
@@ -122,18 +149,25 @@ const KEY_H: f64 = 60.0;
 const TITLE_H: f64 = 40.0;
 
 /// The whole-sky coverage map of `cells` (HEALPix order `MAP_ORDER`, nested, ICRS), with
-/// discovery positions (RA, Dec in degrees) marked.
-pub fn coverage_map(stem: &str, label: &str, cells: &[(u64, u64)], discoveries: &[(f64, f64)]) -> Result<Figure> {
+/// discovery positions (RA, Dec in degrees) marked; `covered_sq_deg` is the coverage's area as
+/// `covered_sq_deg` measures it.
+pub fn coverage_map(
+    stem: &str,
+    label: &str,
+    cells: &[(u64, u64)],
+    covered_sq_deg: f64,
+    discoveries: &[(f64, f64)],
+) -> Result<Figure> {
     let title = format!("Sky coverage: {label}");
     let caption = format!(
         "Number of visits covering each point of the sky, in ecliptic coordinates (J2000), \
          Hammer–Aitoff equal-area projection centred on ecliptic longitude λ = 180°, λ increasing \
          to the left; the map's edge is λ = 0°, the darker line through the centre the ecliptic \
          (β = 0°). Meridians every 60° in λ (deg), parallels every 30° in β (deg), each labelled \
-         at its line. Cells are HEALPix order {MAP_ORDER} (0.84 deg²); {:.0} deg² covered at \
-         least once. Visit counts in classes that double (1, 2–3, 4–7, …; the key marks the \
-         classes' bounds).{}",
-        area_sq_deg(cells.len(), MAP_ORDER),
+         at its line. Cells are HEALPix order {MAP_ORDER} (0.84 deg²), each shaded when its \
+         centre lies in a field; {}. Visit counts in classes that double (1, 2–3, 4–7, …; the \
+         key marks the classes' bounds).{}",
+        area_sentence(covered_sq_deg, cells.len(), MAP_ORDER),
         discoveries_sentence(discoveries)
     );
     let mut svg = map_paper(&title);
@@ -433,6 +467,7 @@ pub fn zoomed_map(
     b: &ZoomBox,
     order: u8,
     cells: &[(u64, u64)],
+    covered_sq_deg: f64,
     discoveries: &[(f64, f64)],
 ) -> Result<Figure> {
     let title = format!("Sky coverage, zoomed: {label}");
@@ -441,11 +476,11 @@ pub fn zoomed_map(
         "The coverage of the map above, zoomed: visits covering each point, in ecliptic \
          longitude λ (deg, increasing to the left) and latitude β (deg), plate carrée with λ \
          scaled by cos β at the centre (β = {:.1}°) so that both axes have one scale there. \
-         Cells are HEALPix order {order} ({:.2}° across); {:.1} deg² covered at least once. \
-         Visit counts in classes that double (the key marks the classes' bounds).{}",
+         Cells are HEALPix order {order} ({:.2}° across); {}. Visit counts in classes that \
+         double (the key marks the classes' bounds).{}",
         0.5 * (b.lat_min_deg + b.lat_max_deg),
         cell_deg,
-        area_sq_deg(cells.len(), order),
+        area_sentence(covered_sq_deg, cells.len(), order),
         discoveries_sentence(discoveries)
     );
     let mut svg = map_paper(&title);

@@ -40,7 +40,8 @@ pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
         axes::tick(width),
         names.join("; "),
         if log {
-            " Counts on a logarithmic axis: they span more than a factor of 30."
+            " Counts on a logarithmic axis: they span more than a factor of 30 (an outline ends at \
+             its last bin's height: the axis has no zero)."
         } else {
             ""
         }
@@ -62,9 +63,9 @@ pub fn depth_distribution(surveys: &[(String, Vec<f64>)]) -> Result<Figure> {
         if log {
             let (floor, top) = (0.5, max * 4.0);
             let y = (floor..top).log_scale().with_key_points(axes::log_ticks(1.0, top));
-            plot.draw(&area, lo..hi, y, floor)
+            plot.draw(&area, lo..hi, y, None)
         } else {
-            plot.draw(&area, lo..hi, 0.0..max * 1.4, 0.0)
+            plot.draw(&area, lo..hi, 0.0..max * 1.4, Some(0.0))
         }
     })
 }
@@ -77,7 +78,9 @@ struct DepthPlot<'a> {
 }
 
 impl DepthPlot<'_> {
-    fn draw<Y>(&self, area: &Area, x: std::ops::Range<f64>, y: Y, floor: f64) -> DrawResult
+    /// `close`: where the outlines' runs are closed (zero on a linear axis; None on a
+    /// logarithmic one, which has no zero).
+    fn draw<Y>(&self, area: &Area, x: std::ops::Range<f64>, y: Y, close: Option<f64>) -> DrawResult
     where
         Y: AsRangedCoord<Value = f64>,
         Y::CoordDescType: Ranged<ValueType = f64> + ValueFormatter<f64>,
@@ -99,7 +102,7 @@ impl DepthPlot<'_> {
         for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
             let counts: Vec<f64> = h.iter().map(|&c| c as f64).collect();
-            let runs = axes::step_runs(self.edges, &counts, floor);
+            let runs = axes::step_runs(self.edges, &counts, close);
             for (j, run) in runs.into_iter().enumerate() {
                 let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
                 if j == 0 {
