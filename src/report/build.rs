@@ -355,8 +355,8 @@ fn latitude_table(c: &inputs::PlanCoverage) -> Table {
     let revisits = &c.json["revisits"];
     let kept = match (revisits["designed"].as_str(), revisits["achieved_median_days"].as_f64()) {
         (Some(d), Some(m)) => format!(
-            " Revisits designed {d}, achieved median {m} nights; {} of {} revisited fields kept \
-             the designed interval.",
+            " Revisits designed {d}, achieved median {m} nights; {} of {} revisited fields were \
+             seen on every night the plan observed between their first and last.",
             revisits["fields_as_designed"], revisits["fields_revisited"]
         ),
         _ => String::new(),
