@@ -230,25 +230,28 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
     let p = |s: &str| d.path().join(s).display().to_string();
     setup(d.path());
     let trials = 150;
-    run_ok(&[
-        "cluster-test",
-        "--survey",
-        &p("wide.toml"),
-        "--catalog",
-        &p("catalog.csv"),
-        "--grid",
-        "8,6",
-        "--per-cell",
-        "3",
-        "--trials",
-        &trials.to_string(),
-        "--rose-bins",
-        "12",
-        "--format",
-        "csv",
-        "--out",
-        &p("ct"),
-    ]);
+    let cluster_test = |catalog: &str, out: &str| {
+        run_ok(&[
+            "cluster-test",
+            "--survey",
+            &p("wide.toml"),
+            "--catalog",
+            &p(catalog),
+            "--grid",
+            "8,6",
+            "--per-cell",
+            "3",
+            "--trials",
+            &trials.to_string(),
+            "--rose-bins",
+            "12",
+            "--format",
+            "csv",
+            "--out",
+            &p(out),
+        ])
+    };
+    cluster_test("catalog.csv", "ct");
     let ct = d.path().join("ct");
     // The null table: one row per sampled statistic and trial, statistic by statistic.
     let (null_path, test_path, rose_path) = (
@@ -316,25 +319,7 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
         .map(|(i, l)| format!("{l},{}", if i == 0 { "weight" } else { "2" }))
         .collect();
     std::fs::write(d.path().join("catalog_w.csv"), weighted.join("\n") + "\n").unwrap();
-    run_ok(&[
-        "cluster-test",
-        "--survey",
-        &p("wide.toml"),
-        "--catalog",
-        &p("catalog_w.csv"),
-        "--grid",
-        "8,6",
-        "--per-cell",
-        "3",
-        "--trials",
-        &trials.to_string(),
-        "--rose-bins",
-        "12",
-        "--format",
-        "csv",
-        "--out",
-        &p("ct_w"),
-    ]);
+    cluster_test("catalog_w.csv", "ct_w");
     let rose_w_path = d.path().join("ct_w").join("rose.csv");
     let rose_w = read_table(&rose_w_path).unwrap();
     let rw = Columns::new(&rose_w, &rose_w_path);
