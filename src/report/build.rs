@@ -757,7 +757,8 @@ fn clustering_section(dir: &Path, inp: &Inputs, run: &ClusteringRun) -> Result<S
     }
     for (q, bins, source) in &run.roses {
         let note = format!(
-            "Counts of the tested catalogue and band of its synthetic catalogues, from {}.",
+            "Counts of the tested catalogue, each object counted with its weight, and band of its \
+             synthetic catalogues, in which every object keeps its weight, from {}.",
             href(dir, source)
         );
         figures.push(rose::rose(q, bins, rose::Band::BiasAware, &note)?);
