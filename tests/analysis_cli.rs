@@ -230,25 +230,28 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
     let p = |s: &str| d.path().join(s).display().to_string();
     setup(d.path());
     let trials = 150;
-    run_ok(&[
-        "cluster-test",
-        "--survey",
-        &p("wide.toml"),
-        "--catalog",
-        &p("catalog.csv"),
-        "--grid",
-        "8,6",
-        "--per-cell",
-        "3",
-        "--trials",
-        &trials.to_string(),
-        "--rose-bins",
-        "12",
-        "--format",
-        "csv",
-        "--out",
-        &p("ct"),
-    ]);
+    let cluster_test = |catalog: &str, out: &str| {
+        run_ok(&[
+            "cluster-test",
+            "--survey",
+            &p("wide.toml"),
+            "--catalog",
+            &p(catalog),
+            "--grid",
+            "8,6",
+            "--per-cell",
+            "3",
+            "--trials",
+            &trials.to_string(),
+            "--rose-bins",
+            "12",
+            "--format",
+            "csv",
+            "--out",
+            &p(out),
+        ])
+    };
+    cluster_test("catalog.csv", "ct");
     let ct = d.path().join("ct");
     // The null table: one row per sampled statistic and trial, statistic by statistic.
     let (null_path, test_path, rose_path) = (
@@ -307,6 +310,31 @@ fn cluster_test_keeps_its_null_samples_and_rose_band_and_the_report_reads_them()
         assert!(rows.iter().any(|&i| hi[i] > 0.0), "{angle}: an empty band");
     }
     assert_eq!(rc.f64("bin_hi_deg").unwrap()[11], 360.0);
+    // Weights count in the rose: the same catalogue at weight 2 each (same ids, seed and maps,
+    // so the same synthetic angles) doubles the observed counts and every bound of the band.
+    let text = std::fs::read_to_string(d.path().join("catalog.csv")).unwrap();
+    let weighted: Vec<String> = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| format!("{l},{}", if i == 0 { "weight" } else { "2" }))
+        .collect();
+    std::fs::write(d.path().join("catalog_w.csv"), weighted.join("\n") + "\n").unwrap();
+    cluster_test("catalog_w.csv", "ct_w");
+    let rose_w_path = d.path().join("ct_w").join("rose.csv");
+    let rose_w = read_table(&rose_w_path).unwrap();
+    let rw = Columns::new(&rose_w, &rose_w_path);
+    for (col, plain) in [
+        ("observed", &obs),
+        ("null_lo", &lo),
+        ("null_median", &med),
+        ("null_hi", &hi),
+    ] {
+        let w = rw.f64(col).unwrap();
+        assert!(
+            w.iter().zip(plain.iter()).all(|(w, p)| (w - 2.0 * p).abs() < 1e-9),
+            "{col}: weight 2 does not double the rose"
+        );
+    }
     // The report of the output directory shows the null distributions and the banded roses.
     run_ok(&["report", &p("ct")]);
     let html = std::fs::read_to_string(ct.join("index.html")).unwrap();

@@ -238,6 +238,33 @@ fn the_planner_warns_when_the_nights_cannot_hold_the_revisits() {
         json["revisits"]["fields_as_designed"],
         json["revisits"]["fields_revisited"]
     );
+    // The same fields under weather that loses 60% of the nights over a month: whole nights go,
+    // so the calendar intervals grow (the achieved median is above the designed one night),
+    // but every field is seen on every night the plan observed: kept, no warning.
+    let text = std::fs::read_to_string(&fits)
+        .unwrap()
+        .replacen("seed = 1\n", "seed = 1\nweather_loss = 0.6\n", 1)
+        .replacen("last_night = 61449", "last_night = 61469", 1);
+    let cloudy = common::write(d, "cloudy.toml", &text);
+    let o = run_ok(&[
+        "plan",
+        "--plan",
+        &s(&cloudy),
+        "--out",
+        &s(&d.join("cloudy.csv")),
+        "--quiet",
+    ]);
+    assert!(
+        common::stderr(&o).is_empty(),
+        "--quiet with a kept plan says nothing: {}",
+        common::stderr(&o)
+    );
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("cloudy.coverage.json")).unwrap()).unwrap();
+    let r = &json["revisits"];
+    assert!(r["achieved_median_days"].as_f64().unwrap() > 1.0, "{r}");
+    assert_eq!(r["fields_as_designed"], r["fields_revisited"], "{r}");
+    assert!(r["observing_nights"].as_u64().unwrap() < 21, "{r}");
     // 360 fields × 3 visits × 80 s = 24 h a night: the fields take turns.
     let crowded = small_plan(d, "crowded", 180.0);
     let o = run_ok(&["plan", "--plan", &s(&crowded), "--out", &s(&d.join("crowded.csv"))]);

@@ -93,11 +93,11 @@ fn null_columns(res: &ClusterTest) -> Vec<Column> {
     ]
 }
 
-/// `rose`: per angle and bin, the catalogue's count and the bias-aware null's 5th, 50th and
-/// 95th percentile counts.
+/// `rose`: per angle and bin, the catalogue's count (each object with its weight) and the
+/// bias-aware null's 5th, 50th and 95th percentile counts (weighted alike).
 fn rose_columns(res: &ClusterTest) -> Vec<Column> {
     let r = &res.rose;
-    let u = |f: fn(&RoseCount) -> u64| r.iter().map(f).collect::<Vec<u64>>();
+    let u = |f: fn(&RoseCount) -> f64| r.iter().map(f).collect::<Vec<f64>>();
     vec![
         col(
             QUANTITY,

@@ -34,7 +34,7 @@ use super::pooled_p::{fisher, min_p_statistic, upper_ranks};
 use crate::error::{Error, Result};
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, splitmix64};
-use crate::statistics::{QuantileRule, histogram_quantile};
+use crate::statistics::{QuantileRule, quantile_sorted};
 
 /// The statistics with one value per sample, in the order of `Stats::values`.
 pub const STAT_NAMES: [&str; N_MARGINAL] = [
@@ -238,10 +238,13 @@ pub struct RoseCount {
     pub quantity: &'static str,
     pub lo_deg: f64,
     pub hi_deg: f64,
-    pub observed: u64,
-    pub null_lo: u64,
-    pub null_median: u64,
-    pub null_hi: u64,
+    /// The catalogue's objects in the bin, each counted with its weight (a count when every
+    /// weight is 1), and the 5th, 50th and 95th percentiles of that weighted count over the
+    /// synthetic catalogues (every object keeping its weight).
+    pub observed: f64,
+    pub null_lo: f64,
+    pub null_median: f64,
+    pub null_hi: f64,
 }
 
 /// The whole test.
@@ -279,9 +282,11 @@ impl ClusterTest {
     }
 }
 
-/// Angles of a catalogue (radians) and the fixed elements the cuts use.
+/// Angles of a catalogue (radians), the fixed elements the cuts use, and the objects' weights
+/// (the rose counts each object with its weight).
 pub struct Angles {
     pub ids: Vec<i64>,
+    pub weight: Vec<f64>,
     pub a_au: Vec<f64>,
     pub q_au: Vec<f64>,
     pub inc: Vec<f64>,
@@ -293,6 +298,7 @@ impl Angles {
     pub fn of(t: &ObjectTable) -> Self {
         Angles {
             ids: t.ids.clone(),
+            weight: t.weight.clone(),
             a_au: t.elements.iter().map(|e| e.a_au).collect(),
             q_au: t.elements.iter().map(|e| e.q_au()).collect(),
             inc: t.elements.iter().map(|e| e.inc_rad).collect(),
@@ -306,6 +312,7 @@ impl Angles {
         let pick = |v: &[f64]| rows.iter().map(|r| v[*r]).collect::<Vec<f64>>();
         Angles {
             ids: rows.iter().map(|r| self.ids[*r]).collect(),
+            weight: pick(&self.weight),
             a_au: pick(&self.a_au),
             q_au: pick(&self.q_au),
             inc: pick(&self.inc),
@@ -408,7 +415,7 @@ fn calibrate(observed: &[f64], synthetic: &[Vec<f64>], n_samples: usize) -> Fami
 struct Draws {
     bias: Vec<Vec<f64>>,
     naive: Vec<Vec<f64>>,
-    rose: Vec<Vec<u32>>,
+    rose: Vec<Vec<f64>>,
 }
 
 struct Setup<'a> {
@@ -508,7 +515,7 @@ fn catalogue_seed(seed: u64, t: u64, r: u32) -> u64 {
 }
 
 fn draw(setup: &Setup, samplers: &[MapSampler], r: u32, with_naive: bool) -> Draws {
-    let out: Vec<(Vec<f64>, Vec<f64>, Vec<u32>)> = (0..setup.opt.trials)
+    let out: Vec<(Vec<f64>, Vec<f64>, Vec<f64>)> = (0..setup.opt.trials)
         .into_par_iter()
         .map(|t| one_catalogue(setup, samplers, catalogue_seed(setup.opt.seed, t, r), with_naive))
         .collect();
@@ -534,7 +541,7 @@ fn one_catalogue(
     samplers: &[MapSampler],
     trial_seed: u64,
     with_naive: bool,
-) -> (Vec<f64>, Vec<f64>, Vec<u32>) {
+) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
     let cat = setup.cat;
     let n = cat.ids.len();
     let (mut bn, mut bw, mut un, mut uw) = (vec![0.0; n], vec![0.0; n], vec![0.0; n], vec![0.0; n]);
@@ -553,7 +560,7 @@ fn one_catalogue(
         return (bias, Vec::new(), Vec::new());
     }
     let naive = family_values(&cat.inc, &un, &uw, &setup.samples);
-    (bias, naive, angle_counts(&bn, &bw, setup.opt.rose_bins))
+    (bias, naive, angle_counts(&bn, &bw, &cat.weight, setup.opt.rose_bins))
 }
 
 /// The rows of the results: `global`, then per sample its statistics and the combination.
@@ -641,49 +648,39 @@ fn bin_of(angle: f64, bins: usize) -> usize {
     ((angle.rem_euclid(TAU) / TAU * bins as f64) as usize).min(bins - 1)
 }
 
-/// Counts per bin of ϖ, Ω and ω (`ROSE_QUANTITIES` order, `bins` each).
-fn angle_counts(node: &[f64], argperi: &[f64], bins: usize) -> Vec<u32> {
-    let mut counts = vec![0u32; ROSE_QUANTITIES.len() * bins];
-    for (n, w) in node.iter().zip(argperi) {
-        counts[bin_of(n + w, bins)] += 1;
-        counts[bins + bin_of(*n, bins)] += 1;
-        counts[2 * bins + bin_of(*w, bins)] += 1;
+/// Weighted counts per bin of ϖ, Ω and ω (`ROSE_QUANTITIES` order, `bins` each): each object
+/// adds its weight (1 each: plain counts).
+fn angle_counts(node: &[f64], argperi: &[f64], weight: &[f64], bins: usize) -> Vec<f64> {
+    let mut counts = vec![0.0; ROSE_QUANTITIES.len() * bins];
+    for ((n, w), wt) in node.iter().zip(argperi).zip(weight) {
+        counts[bin_of(n + w, bins)] += wt;
+        counts[bins + bin_of(*n, bins)] += wt;
+        counts[2 * bins + bin_of(*w, bins)] += wt;
     }
     counts
 }
 
-/// The smallest count whose cumulative fraction of catalogues reaches q (`tally[c]`:
-/// catalogues with count c).
-fn count_quantile(tally: &[u64], q: f64) -> u64 {
-    let counts: Vec<f64> = tally.iter().map(|&t| t as f64).collect();
-    histogram_quantile(&counts, q, QuantileRule::InverseEcdf) as u64
-}
-
 /// The rose counts of the catalogue with the band of the synthetic catalogues' counts
-/// (`counts`: per catalogue, `angle_counts` of its map-drawn angles).
-fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<u32>]) -> Vec<RoseCount> {
-    let n = cat.ids.len();
-    // tally[(q·bins + k)·(n + 1) + c]: catalogues with count c in bin k of angle q.
-    let mut tally = vec![0u64; ROSE_QUANTITIES.len() * bins * (n + 1)];
-    for cc in counts {
-        for (qk, c) in cc.iter().enumerate() {
-            tally[qk * (n + 1) + *c as usize] += 1;
-        }
-    }
-    let observed = angle_counts(&cat.node, &cat.argperi, bins);
+/// (`counts`: per catalogue, `angle_counts` of its map-drawn angles, with the catalogue's
+/// weights). The band's bounds are the inverse-ECDF quantiles over the catalogues (for unit
+/// weights: the smallest count whose cumulative fraction of catalogues reaches q).
+fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<f64>]) -> Vec<RoseCount> {
+    let observed = angle_counts(&cat.node, &cat.argperi, &cat.weight, bins);
     let width = 360.0 / bins as f64;
     (0..ROSE_QUANTITIES.len() * bins)
         .map(|qk| {
-            let t = &tally[qk * (n + 1)..(qk + 1) * (n + 1)];
+            let mut t: Vec<f64> = counts.iter().map(|cc| cc[qk]).collect();
+            t.sort_by(f64::total_cmp);
             let k = qk % bins;
+            let q = |p: f64| quantile_sorted(&t, p, QuantileRule::InverseEcdf);
             RoseCount {
                 quantity: ROSE_QUANTITIES[qk / bins],
                 lo_deg: k as f64 * width,
                 hi_deg: (k + 1) as f64 * width,
-                observed: u64::from(observed[qk]),
-                null_lo: count_quantile(t, 0.05),
-                null_median: count_quantile(t, 0.5),
-                null_hi: count_quantile(t, 0.95),
+                observed: observed[qk],
+                null_lo: q(0.05),
+                null_median: q(0.5),
+                null_hi: q(0.95),
             }
         })
         .collect()

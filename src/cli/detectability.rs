@@ -18,11 +18,13 @@ pub struct Args {
     #[arg(long = "survey", required = true)]
     pub surveys: Vec<PathBuf>,
     /// Catalogue of objects (CSV or Parquet): each object's chance with its a, e, i and H kept.
+    /// One of --objects or --population is required.
     #[arg(long)]
     pub objects: Option<PathBuf>,
     #[command(flatten)]
     pub selection: CatalogueArgs,
     /// A population sample (e.g. from seine draw): the selection function P(discovered | a, q, i, H cell).
+    /// One of --objects or --population is required.
     #[arg(long)]
     pub population: Option<PathBuf>,
     /// Trials (clones) per catalogue object.

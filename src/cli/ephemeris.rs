@@ -18,7 +18,7 @@ pub struct Args {
     #[arg(long)]
     pub epochs: Option<PathBuf>,
     /// Instead of --epochs, a survey spec: one row per object and visit, from the survey's
-    /// site, in its time scale.
+    /// site, in its time scale. One of --epochs or --survey is required.
     #[arg(long)]
     pub survey: Option<PathBuf>,
     /// Output table (.csv or .parquet): id, mjd, ra_deg, dec_deg, r_au, delta_au, phase_deg, mag, ...

@@ -14,7 +14,8 @@ pub struct Args {
     #[arg(long)]
     pub plan: Option<PathBuf>,
     /// Instead of planning: the coverage report of an existing survey spec and its visits.
-    /// --out then names the report, NAME.coverage.json (tables and MOC beside it).
+    /// --out then names the report, NAME.coverage.json (tables and MOC beside it). One of
+    /// --plan or --survey is required.
     #[arg(long)]
     pub survey: Option<PathBuf>,
     /// Visits table to write (.csv or .parquet). Beside it: STEM.survey.toml (the survey spec),
@@ -24,22 +25,28 @@ pub struct Args {
     /// Seed of the weather draws (overrides plan.seed).
     #[arg(long)]
     pub seed: Option<u64>,
+    /// No progress bar and no conclusion on stderr (a plan that does not keep its revisits
+    /// still warns).
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 pub fn run(a: Args) -> Result<()> {
     let outcome = match (&a.plan, &a.survey) {
-        (Some(p), _) => plan::plan(p, &a.out, a.seed)?.outcome,
+        (Some(p), _) => plan::plan(p, &a.out, a.seed, !a.quiet)?.outcome,
         (None, Some(s)) => plan::coverage(s, &a.out)?,
         (None, None) => return Err(Error::input("seine plan: give --plan PLAN or --survey SPEC")),
     };
-    print(&outcome);
+    print(&outcome, a.quiet);
     Ok(())
 }
 
-/// The plan's warning, if any, and its one line (always: plans are built interactively).
-pub fn print(outcome: &Outcome) {
+/// The plan's warning, if any, and (unless quiet) its one line.
+pub fn print(outcome: &Outcome, quiet: bool) {
     for n in &outcome.notes {
         eprintln!("{n}");
     }
-    eprintln!("{}", outcome.conclusion);
+    if !quiet {
+        eprintln!("{}", outcome.conclusion);
+    }
 }

@@ -16,6 +16,7 @@ pub struct Args {
     #[arg(long = "survey")]
     pub surveys: Vec<PathBuf>,
     /// Cadence plan (TOML): built first into DIR/plans/<name>.csv and its survey spec; repeat.
+    /// At least one --survey or --plan.
     #[arg(long = "plan")]
     pub plans: Vec<PathBuf>,
     /// The population (objects table) to run through every survey.

@@ -259,11 +259,15 @@ fn compare_cadences(out: &Path, say: &mut dyn FnMut(Say)) -> Result<()> {
     Ok(())
 }
 
-/// The built-in plan with its revisit interval set to `every` nights (and a name saying so).
+/// The built-in plan with its revisit interval set to `every` nights (and a name and a header
+/// comment saying so).
 fn cadence_variant(every: u32) -> Result<String> {
     let (from_name, from_every) = ("name = \"Sorrel Peak synoptic sweep\"", "every_nights = 3");
-    if !(PLAN.contains(from_name) && PLAN.contains(from_every)) {
-        return Err(Error::input("built-in plan: expected its name and `every_nights = 3`"));
+    let from_header = "region every three nights";
+    if !(PLAN.contains(from_name) && PLAN.contains(from_every) && PLAN.contains(from_header)) {
+        return Err(Error::input(
+            "built-in plan: expected its name, `every_nights = 3` and its header's \"every three nights\"",
+        ));
     }
     let when = if every == 1 {
         "every night".to_string()
@@ -271,6 +275,7 @@ fn cadence_variant(every: u32) -> Result<String> {
         format!("every {every} nights")
     };
     Ok(PLAN
+        .replacen(from_header, &format!("region {when}"), 1)
         .replacen(from_name, &format!("name = \"Sorrel Peak synoptic, {when}\""), 1)
         .replacen(from_every, &format!("every_nights = {every}"), 1))
 }

@@ -23,7 +23,7 @@ pub struct Built {
 
 /// Build the plan `plan_path` into the visits table `visits` (.csv or .parquet) and the files
 /// beside it; `seed` overrides the plan's weather seed.
-pub fn plan(plan_path: &Path, visits: &Path, seed: Option<u64>) -> Result<Built> {
+pub fn plan(plan_path: &Path, visits: &Path, seed: Option<u64>, progress: bool) -> Result<Built> {
     crate::io::table::Format::of(visits)?;
     let text = crate::io::spec_text::read_spec_text(plan_path, "cadence plan")?;
     if has_table(&text, "survey") && !has_table(&text, "plan") {
@@ -41,7 +41,7 @@ pub fn plan(plan_path: &Path, visits: &Path, seed: Option<u64>) -> Result<Built>
         other => other,
     };
     check_passthrough(&file).map_err(in_plan)?;
-    let plan = make_plan_with_progress(file, true).map_err(in_plan)?;
+    let plan = make_plan_with_progress(file, progress).map_err(in_plan)?;
     let out = PlanOutputs::for_visits(visits);
     let cov = write_plan(&plan, plan_path, &out)?;
     let notes = RevisitCheck::of(&plan)

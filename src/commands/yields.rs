@@ -98,7 +98,7 @@ fn build_plans(
         prov.add_input(plan)?;
         let visits = opts.visits_of(plan);
         built.push(visits.clone());
-        let b = super::plan::plan(plan, &visits, None)?;
+        let b = super::plan::plan(plan, &visits, None, opts.run.progress)?;
         notes.extend(b.outcome.notes);
         notes.push(b.outcome.conclusion);
         specs.push(b.spec);

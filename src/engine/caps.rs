@@ -2,8 +2,10 @@
 //! index's cone query. Each node is the cap about the mean of its field centres that holds
 //! them all; a node splits its visits at the median along the axis (x, y or z) on
 //! which their centres spread most, down to leaves of a few visits. A query descends only into
-//! nodes whose cap the cone reaches, so a cone far from every field costs a few dot products
-//! and no trigonometry beyond one sine and cosine of its radius.
+//! nodes whose cap the cone can reach, tested without a cosine, so a cone far from every field
+//! costs a few dot products and no trigonometry at all. The cosine of the cone's radius, which
+//! the per-visit test needs only at its very edge, is worked out only when a visit comes that
+//! close (`Edge`).
 //!
 //! The root is the cap of the whole block; `surely_misses` is its test without a cosine, for
 //! the walk's test of a later block from an earlier node (`index::Walk`).
@@ -75,44 +77,42 @@ impl CapTree {
     }
 
     /// True only when no field centre of the block lies within `r` of the unit vector `dir`,
-    /// decided without a cosine (false may still miss): for a cap radius R ≤ π/2,
-    /// cos(R + r) ≥ cos R (1 − r²/2) − sin R · r (cos r ≥ 1 − r²/2, sin r ≤ r), so a cosine to
-    /// the cap's centre below that bound (less a rounding margin) misses it.
+    /// decided without a cosine (false may still miss; `Node::surely_missed`).
     #[inline]
     pub fn surely_misses(&self, dir: &Vector3<f64>, r: f64) -> bool {
-        let Some(root) = self.nodes.first() else {
-            return true;
-        };
-        root.radius + r < PI
-            && root.radius <= FRAC_PI_2
-            && dir.dot(&root.center) < root.cos_radius * (1.0 - 0.5 * r * r) - root.sin_radius * r - COS_MARGIN
+        self.nodes.first().is_none_or(|root| root.surely_missed(dir, r))
     }
 
     /// Append to `out` the visits inside the cone (in no particular order): those whose centre
     /// c has c · dir ≥ cos r_max and c · dir ≥ 1 − r²/2 with r = slack + ω |dt|, a lower bound
     /// of cos r (so no visit within r is lost; the few extra ones, within r⁴/24 in cosine, are
-    /// tested exactly downstream) that costs no cosine per visit.
+    /// tested exactly downstream) that costs no cosine per visit. A node is passed over when
+    /// the cone of radius r_max surely misses its cap (`Edge::misses`).
     pub fn select(&self, cone: &Cone, out: &mut Vec<usize>) {
         if self.surely_misses(cone.dir, cone.r_max) {
             return;
         }
-        let r = cone.r_max;
-        if r >= PI {
+        if cone.r_max >= PI {
             out.extend(self.entries.iter().map(|e| e.visit as usize));
             return;
         }
-        let (sin_r, cos_r) = (r.sin(), r.cos());
+        let mut edge = Edge::new(cone.r_max);
         let mut stack = [0u32; 64];
         let mut top = 1;
         while top > 0 {
             top -= 1;
             let k = stack[top] as usize;
             let node = &self.nodes[k];
-            if !reaches(node, cone.dir, r, cos_r, sin_r) {
+            if edge.misses(node, cone.dir) {
                 continue;
             }
             if node.second == 0 {
-                scan(&self.entries[node.start as usize..node.end as usize], cone, cos_r, out);
+                scan(
+                    &self.entries[node.start as usize..node.end as usize],
+                    cone,
+                    &mut edge,
+                    out,
+                );
             } else {
                 stack[top] = node.second;
                 stack[top + 1] = k as u32 + 1;
@@ -122,26 +122,83 @@ impl CapTree {
     }
 }
 
-/// Whether a point within `r` of `dir` can lie in the node's cap: the angle from `dir` to the
-/// cap's centre is at most R + r, i.e. its cosine is at least cos R cos r − sin R sin r.
-#[inline]
-fn reaches(node: &Node, dir: &Vector3<f64>, r: f64, cos_r: f64, sin_r: f64) -> bool {
-    node.radius + r >= PI || dir.dot(&node.center) >= node.cos_radius * cos_r - node.sin_radius * sin_r - COS_MARGIN
+impl Node {
+    /// True only when no point within `r` of the unit vector `dir` lies in the cap, decided
+    /// without a cosine (false may still miss): for a cap radius R ≤ π/2,
+    /// cos(R + r) ≥ cos R (1 − r²/2) − sin R · r (cos r ≥ 1 − r²/2, sin r ≤ r), so a cosine to
+    /// the cap's centre below that bound (less a rounding margin) misses it.
+    #[inline]
+    fn surely_missed(&self, dir: &Vector3<f64>, r: f64) -> bool {
+        self.radius + r < PI && self.radius <= FRAC_PI_2 && dir.dot(&self.center) < self.bound(1.0 - 0.5 * r * r, r)
+    }
+
+    /// cos R · `cos_lower` − sin R · `sin_upper`, less the rounding margin: a lower bound of
+    /// cos(R + r) given a lower bound of cos r and an upper bound of sin r (R ≤ π/2, R + r ≤ π).
+    #[inline]
+    fn bound(&self, cos_lower: f64, sin_upper: f64) -> f64 {
+        self.cos_radius * cos_lower - self.sin_radius * sin_upper - COS_MARGIN
+    }
 }
 
-/// Test entries: outside r_max is decided without the per-visit radius r; the rest are kept
-/// when cos ≥ 1 − r²/2 (see `select`). (Every entry within the slack passes that test too:
-/// r ≥ slack, and cos slack exceeds 1 − slack²/2 by about slack⁴/24, far above rounding for
-/// any footprint wider than an arcminute.)
+/// A query's cone radius r_max as the node and visit tests use it, without a cosine unless a
+/// visit comes to the very edge: 1 − r_max²/2 ≤ cos r_max ≤ 1 − r_max²/2 + r_max⁴/24 and
+/// sin r_max ≤ r_max give the caps' test (`Node::bound`) and decide every visit whose cosine
+/// lies outside that narrow band; cos r_max itself is worked out for one that lies inside.
+struct Edge {
+    r_max: f64,
+    cos_lower: f64,
+    cos_upper: f64,
+    cos_r_max: Option<f64>,
+}
+
+impl Edge {
+    fn new(r_max: f64) -> Edge {
+        let r2 = r_max * r_max;
+        Edge {
+            r_max,
+            cos_lower: 1.0 - 0.5 * r2,
+            cos_upper: 1.0 - 0.5 * r2 + r2 * r2 / 24.0 + COS_MARGIN,
+            cos_r_max: None,
+        }
+    }
+
+    /// Whether no point within r_max of `dir` surely lies in the node's cap.
+    #[inline]
+    fn misses(&self, node: &Node, dir: &Vector3<f64>) -> bool {
+        node.radius + self.r_max < PI
+            && node.radius <= FRAC_PI_2
+            && dir.dot(&node.center) < node.bound(self.cos_lower, self.r_max)
+    }
+
+    /// Whether a cosine `c` to the cone's direction is at least cos r_max.
+    #[inline]
+    fn holds(&mut self, c: f64) -> bool {
+        c >= self.cos_upper
+            || (c >= self.cos_lower && c >= *self.cos_r_max.get_or_insert_with(|| cos_at_edge(self.r_max)))
+    }
+}
+
+/// cos r (as `sin_cos` gives it), out of line: inlined, the compiler would work it out for every
+/// query ahead of the test that almost never needs it.
+#[cold]
+#[inline(never)]
+fn cos_at_edge(r: f64) -> f64 {
+    r.sin_cos().1
+}
+
+/// Test entries: kept when cos ≥ 1 − r²/2 (see `select`) and within r_max (`Edge`). (Every
+/// entry within the slack passes the first test too: r ≥ slack, and cos slack exceeds
+/// 1 − slack²/2 by about slack⁴/24, far above rounding for any footprint wider than an
+/// arcminute.)
 #[inline]
-fn scan(entries: &[Entry], cone: &Cone, cos_r_max: f64, out: &mut Vec<usize>) {
+fn scan(entries: &[Entry], cone: &Cone, edge: &mut Edge, out: &mut Vec<usize>) {
     for e in entries {
         let c = e.center.dot(cone.dir);
-        if c < cos_r_max {
-            continue;
+        if c < edge.cos_lower {
+            continue; // beyond r_max
         }
         let r = cone.slack + cone.omega * e.dt.abs();
-        if c >= 1.0 - 0.5 * r * r {
+        if c >= 1.0 - 0.5 * r * r && edge.holds(c) {
             out.push(e.visit as usize);
         }
     }
@@ -209,7 +266,7 @@ mod tests {
     use std::f64::consts::TAU;
 
     /// The tree query finds every visit within the cone and only visits that pass the scan's
-    /// cosine bound, for cones anywhere (through RA 0, over the poles) and of any size, on
+    /// cosine bound, exactly those of the scan's rule over the whole block, for cones anywhere (through RA 0, over the poles) and of any size, on
     /// visits crowded at the seam and the poles and on a handful (a lone leaf).
     #[test]
     fn query_equals_the_full_scan() {
@@ -260,6 +317,15 @@ mod tests {
                 );
                 let extra: Vec<&usize> = got.iter().filter(|&&i| !bounded(i)).collect();
                 assert!(extra.is_empty(), "n {n}, cone {k}: kept beyond the bound {extra:?}");
+                // Exactly the visits the scan's rule keeps over the whole block, so that the
+                // tree's pruning decides no candidate.
+                let rule: Vec<usize> = (0..n)
+                    .filter(|&i| {
+                        let (c, r) = (center[i].dot(&dir), radius(i));
+                        cone.r_max >= PI || (c >= cone.r_max.sin_cos().1 && c >= 1.0 - 0.5 * r * r)
+                    })
+                    .collect();
+                assert_eq!(got, rule, "n {n}, cone {k}: not the scan's rule");
                 if tree.surely_misses(&dir, cone.r_max) {
                     assert!(want.is_empty(), "n {n}, cone {k}: the root's test missed {want:?}");
                 }

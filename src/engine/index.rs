@@ -166,6 +166,14 @@ fn cone_radii(delta: f64, position_error: f64, span: f64, v_max: f64, bounding_r
 }
 
 impl Walk<'_> {
+    /// The epoch of the walk's first anchor and the object's exact position then (about the
+    /// centre of its elements, ICRS axes, AU; `Track::anchor_near` of the first block's node,
+    /// NaN without blocks): the one Kepler solve the walk and the reach test share.
+    pub fn first_anchor(&mut self) -> (f64, Vector3<f64>) {
+        let first_node = self.ps.blocks.first().map_or(f64::NAN, |b| b.node_tdb);
+        self.track.anchor_near(first_node)
+    }
+
     /// Replace `out` with the candidate visits of the next block that has any, in visit
     /// (time) order; false when the survey is done.
     pub fn next_block(&mut self, out: &mut Vec<usize>) -> bool {

@@ -1,6 +1,6 @@
 //! The bounds on motion that the visit index, the coarse track and the reach test share: the
-//! length of the index's time blocks (the track's node spacing), the largest speed of the
-//! observer, and the largest speed of an object on its orbit. They live apart from the three
+//! length of the index's time blocks (the track's node spacing), the largest distance and
+//! speed of the observer, and the largest speed of an object on its orbit. They live apart from the three
 //! so that none of those needs another's internals (the index uses the track and the reach
 //! test; neither uses the index).
 
@@ -9,6 +9,11 @@ use crate::orbit::{Center, Elements};
 /// Block length in days: short enough that a 30 AU object moves < 0.15° from its node,
 /// long enough that node positions cost little next to the in-field work.
 pub const BLOCK_DAYS: f64 = 8.0;
+
+/// Largest distance of the observer from the Sun or the barycentre, AU: the Earth's aphelion
+/// 1.0167 AU, the Sun's offset from the barycentre ≤ 0.0102 AU (both from memory), a site's
+/// 4·10⁻⁵ AU; rounded up.
+pub(crate) const OBSERVER_REACH_AU: f64 = 1.03;
 
 /// Observer speed bound, AU/day: Earth at perihelion (0.0175) + site rotation + Sun (≤ 2e-5).
 pub(crate) const OBSERVER_SPEED: f64 = 0.0175 + 2.8e-4 + 2.0e-5;

@@ -56,9 +56,11 @@ pub fn observe_object(
     for (s, ps) in surveys.iter().enumerate() {
         // Every survey takes its key, skipped or not, so that the keys stay in survey order.
         let key = rng.next_u64();
+        let mut walk = ps.walk(&orbit, mode);
+        // The bound starts from the walk's first anchor: one Kepler solve serves both.
         let p_max = match stop {
             StopRule::Everything => None,
-            _ => Some(ps.reach.p_bound(objects, i, &orbit)),
+            _ => Some(ps.reach.p_bound_at(objects, i, &orbit, walk.first_anchor())),
         };
         if p_max == Some(0.0) {
             out.surveys.push(SurveyOutcome::default());
@@ -69,7 +71,6 @@ pub fn observe_object(
         // they would take read ahead (`Lookahead`); their exact positions are worked out only
         // once a draw falls below the bound on p_detect, and never if none does.
         let mut lookahead = p_max.map(|p| Lookahead::new(&draws, p));
-        let mut walk = ps.walk(&orbit, mode);
         let first = out.events.len();
         let mut dets: Vec<Detection> = Vec::new();
         let mut discovered_mjd: Option<f64> = None;

@@ -21,15 +21,15 @@
 //! stream falls below the bound, n or fewer in-field events detect nothing
 //! (`pipeline::Lookahead`).
 
-use super::motion::{OBSERVER_SPEED, speed_bound};
+use nalgebra::Vector3;
+
+use super::motion::{OBSERVER_REACH_AU, OBSERVER_SPEED, speed_bound};
 use crate::foundation::constants::C_AU_PER_DAY;
 use crate::orbit::Orbit;
 use crate::population::objects::ObjectTable;
 use crate::sky::apparent::RAD_PER_DAY_TO_ARCSEC_PER_HR;
 use crate::sky::photometry::PhaseLaw;
 
-/// Largest distance of the observer from the Sun or the barycentre, AU (see above).
-const OBSERVER_REACH_AU: f64 = 1.03;
 /// Below this bound on Δ (AU) nothing is skipped: the bounds would be loose anyway.
 const NEAREST_BOUNDED_AU: f64 = 0.5;
 /// Margin on the rate bound for light-time terms (relative, ~v/c ≈ 10⁻⁴ is needed).
@@ -104,8 +104,25 @@ impl Reach {
         if !self.mid_tdb.is_finite() {
             return 0.0; // no visits
         }
+        self.p_bound_at(objects, i, orbit, (self.mid_tdb, orbit.position(self.mid_tdb)))
+    }
+
+    /// `p_bound`, from the object's position (about the centre of its elements) at an epoch `t`
+    /// of the caller's (the walk's first anchor): the bound on its distance then reaches from
+    /// `t` to the farther end of the span, so it is tightest at the middle (`p_bound`'s epoch).
+    pub fn p_bound_at(
+        &self,
+        objects: &ObjectTable,
+        i: usize,
+        orbit: &Orbit,
+        (t, position): (f64, Vector3<f64>),
+    ) -> f64 {
+        if !self.mid_tdb.is_finite() {
+            return 0.0; // no visits
+        }
         let v_obj = speed_bound(&orbit.elements);
-        let Some(delta_min) = self.nearest_au(orbit, v_obj) else {
+        let reach_days = self.half_span_days + (t - self.mid_tdb).abs();
+        let Some(delta_min) = self.nearest_au(orbit, v_obj, position.norm(), reach_days) else {
             return 1.0;
         };
         let max_reachable_rate = RATE_MARGIN * (v_obj + OBSERVER_SPEED) / delta_min * RAD_PER_DAY_TO_ARCSEC_PER_HR;
@@ -124,17 +141,17 @@ impl Reach {
 
     /// A lower bound on the observer–object distance over the span, AU; `None` if too close.
     /// `v_obj` bounds the object's speed (`motion::speed_bound`), so also the rate of change
-    /// of its distance from the centre.
-    fn nearest_au(&self, orbit: &Orbit, v_obj: f64) -> Option<f64> {
+    /// of its distance from the centre, which is `r` at an epoch `reach_days` or less from every
+    /// visit.
+    fn nearest_au(&self, orbit: &Orbit, v_obj: f64, r: f64, reach_days: f64) -> Option<f64> {
         let el = &orbit.elements;
         let q = el.q_au();
         if !(q.is_finite() && q > 0.0 && el.e >= 0.0) {
             return None;
         }
-        let r_mid = orbit.position(self.mid_tdb).norm();
         // Emission times reach back by the light time as well.
-        let light_time = (r_mid + v_obj * self.half_span_days + OBSERVER_REACH_AU) / C_AU_PER_DAY;
-        let r_min = q.max(r_mid - v_obj * (self.half_span_days + light_time));
+        let light_time = (r + v_obj * reach_days + OBSERVER_REACH_AU) / C_AU_PER_DAY;
+        let r_min = q.max(r - v_obj * (reach_days + light_time));
         let delta_min = r_min - OBSERVER_REACH_AU;
         (delta_min > NEAREST_BOUNDED_AU).then_some(delta_min)
     }

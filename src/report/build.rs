@@ -355,8 +355,8 @@ fn latitude_table(c: &inputs::PlanCoverage) -> Table {
     let revisits = &c.json["revisits"];
     let kept = match (revisits["designed"].as_str(), revisits["achieved_median_days"].as_f64()) {
         (Some(d), Some(m)) => format!(
-            " Revisits designed {d}, achieved median {m} nights; {} of {} revisited fields kept \
-             the designed interval.",
+            " Revisits designed {d}, achieved median {m} nights; {} of {} revisited fields were \
+             seen on every night the plan observed between their first and last.",
             revisits["fields_as_designed"], revisits["fields_revisited"]
         ),
         _ => String::new(),
@@ -757,7 +757,8 @@ fn clustering_section(dir: &Path, inp: &Inputs, run: &ClusteringRun) -> Result<S
     }
     for (q, bins, source) in &run.roses {
         let note = format!(
-            "Counts of the tested catalogue and band of its synthetic catalogues, from {}.",
+            "Counts of the tested catalogue, each object counted with its weight, and band of its \
+             synthetic catalogues, in which every object keeps its weight, from {}.",
             href(dir, source)
         );
         figures.push(rose::rose(q, bins, rose::Band::BiasAware, &note)?);
