@@ -3,7 +3,7 @@
 //!
 //! Where the time goes: one coarse position per object per time block (the node, from a
 //! track that needs a Kepler solve only every few months), a test against the cap of that
-//! block's fields, a lookup of its visits by declination stripe and right ascension, then an exact
+//! block's fields, a query of its tree of caps (`caps.rs`), then an exact
 //! light-time-corrected position only for candidate visits whose centre lies within the footprint's bounding
 //! radius plus the object's largest possible motion since the node. Everything else is
 //! bookkeeping. `Candidates::All` is the plain brute force, kept for verification.
