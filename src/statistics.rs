@@ -1,5 +1,5 @@
 //! The one statistics module of the tool (engine, analyses, hideout, survey coverage and the
-//! report): bin edges (by count, per decade) and the bin of a value, histograms (plain
+//! report): bin edges (by count, per decade, over a widened range) and the bin of a value, histograms (plain
 //! and weighted), weighted proportions with Kish's effective sample size and Wilson score
 //! intervals, and quantiles of values, of weighted values and of histograms, each rule a
 //! variant of `QuantileRule`. It uses only the crate's errors, so every layer may use it.
@@ -18,6 +18,49 @@ pub fn lin_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
 pub fn log_edges(lo: f64, hi: f64, n: usize) -> Vec<f64> {
     let (a, b) = (lo.ln(), hi.ln());
     (0..=n).map(|k| (a + (b - a) * k as f64 / n as f64).exp()).collect()
+}
+
+/// How a range of values is widened before it is cut into bins (a figure's histogram), so
+/// that the extreme values fall inside the end bins rather than on the outer edges.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Margin {
+    /// lo − m and hi + m, m = max(share · (hi − lo), at_least): linear bins (`at_least` keeps a
+    /// single value's range open).
+    Share { share: f64, at_least: f64 },
+    /// lo / factor and hi · factor: logarithmic bins (lo > 0).
+    Factor(f64),
+}
+
+impl Margin {
+    /// `Factor(factor)` on a logarithmic axis, else `Share` of `share`, at least `at_least`.
+    pub fn for_axis(log: bool, factor: f64, (share, at_least): (f64, f64)) -> Self {
+        if log {
+            Margin::Factor(factor)
+        } else {
+            Margin::Share { share, at_least }
+        }
+    }
+
+    /// The widened range of [lo, hi].
+    pub fn widen(self, lo: f64, hi: f64) -> (f64, f64) {
+        match self {
+            Margin::Share { share, at_least } => {
+                let m = ((hi - lo) * share).max(at_least);
+                (lo - m, hi + m)
+            }
+            Margin::Factor(f) => (lo / f, hi * f),
+        }
+    }
+
+    /// `n` bins over the widened range of [lo, hi]: equal on a linear axis (`Share`), equal
+    /// in the logarithm (`Factor`).
+    pub fn edges(self, lo: f64, hi: f64, n: usize) -> Vec<f64> {
+        let (a, b) = self.widen(lo, hi);
+        match self {
+            Margin::Share { .. } => lin_edges(a, b, n),
+            Margin::Factor(_) => log_edges(a, b, n),
+        }
+    }
 }
 
 /// Logarithmic edges with `per_decade` bins per factor of ten from `lo` to `hi`, each computed

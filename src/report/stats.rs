@@ -2,7 +2,7 @@
 //! weighted proportions and Wilson intervals, re-exported or used from there): the finite range
 //! of values and the axis label of a quantity named by the units-in-names convention.
 
-pub use crate::statistics::{histogram, lin_edges, log_edges};
+pub use crate::statistics::{Margin, histogram, lin_edges};
 
 /// The robust range [min, max] of finite values, or None when there are none.
 pub fn finite_range(xs: &[f64]) -> Option<(f64, f64)> {

@@ -7,7 +7,7 @@ use plotters::prelude::*;
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, histogram, lin_edges};
+use crate::report::stats::{Margin, finite_range, histogram, lin_edges};
 use crate::report::style;
 use crate::report::tables::NullTest;
 
@@ -75,10 +75,14 @@ pub fn null_distribution(test: &NullTest) -> Result<Figure> {
         };
         let (lo, hi) = finite_range(&test.naive_samples).map_or((lo, hi), |(a, b)| (lo.min(a), hi.max(b)));
         let (lo, hi) = (lo.min(test.observed), hi.max(test.observed));
-        let pad = ((hi - lo) * 0.05).max(1e-9);
+        let (start, end) = Margin::Share {
+            share: 0.05,
+            at_least: 1e-9,
+        }
+        .widen(lo, hi);
         // The statistics are lengths and distances, never negative: the axis starts at 0 then.
-        let start = if lo >= 0.0 { (lo - pad).max(0.0) } else { lo - pad };
-        let edges = lin_edges(start, hi + pad, BINS);
+        let start = if lo >= 0.0 { start.max(0.0) } else { start };
+        let edges = lin_edges(start, end, BINS);
         let fractions = |xs: &[f64]| -> Vec<f64> {
             let n = xs.len().max(1) as f64;
             histogram(xs, &edges).iter().map(|&c| c as f64 / n).collect()

@@ -12,7 +12,7 @@ use super::bias::colour_bar;
 use super::distributions::{is_log, nice_top};
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, label, symbol};
+use crate::report::stats::{Margin, finite_range, label, symbol};
 use crate::report::style;
 use crate::report::tables::{ObjectChance, SelectionCell};
 
@@ -56,12 +56,8 @@ pub fn chances(quantity: &str, rows: &[ObjectChance], trials_note: &str) -> Resu
         let Some((lo, hi)) = finite_range(&xs) else {
             return empty_note(&area, "no objects");
         };
-        let (x0, x1) = if is_log(quantity, lo, hi) {
-            (lo / 1.1, hi * 1.1)
-        } else {
-            let pad = ((hi - lo) * 0.05).max(0.2);
-            (lo - pad, hi + pad)
-        };
+        let margin = Margin::for_axis(is_log(quantity, lo, hi), 1.1, (0.05, 0.2));
+        let (x0, x1) = margin.widen(lo, hi);
         let plot = Chances { rows, quantity, axis };
         match (is_log(quantity, lo, hi), axis) {
             (true, ChanceAxis::Log { floor, top }) => plot.draw(

@@ -8,7 +8,7 @@ use plotters::prelude::*;
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol};
+use crate::report::stats::{Margin, finite_range, histogram, label, symbol};
 use crate::report::style;
 use crate::report::tables::FractionBin;
 use crate::statistics::weighted_histogram;
@@ -19,15 +19,10 @@ pub fn is_log(quantity: &str, lo: f64, hi: f64) -> bool {
     matches!(quantity, "a_au" | "q_au" | "r_au") && lo > 0.0 && hi / lo > 5.0
 }
 
-/// Edges covering every value: 40 bins, logarithmic where `is_log`.
+/// Edges covering every value: 40 bins, logarithmic where `is_log` (which needs hi > 5 lo).
 fn edges_for(quantity: &str, xs: &[f64]) -> Option<Vec<f64>> {
     let (lo, hi) = finite_range(xs)?;
-    if is_log(quantity, lo, hi) {
-        let (lo, hi) = (lo * 0.98, hi * 1.02);
-        return Some(log_edges(lo, hi.max(lo * 1.1), 40));
-    }
-    let pad = ((hi - lo) * 0.02).max(0.5);
-    Some(lin_edges(lo - pad, hi + pad, 40))
+    Some(Margin::for_axis(is_log(quantity, lo, hi), 1.02, (0.02, 0.5)).edges(lo, hi, 40))
 }
 
 /// Step histograms of the injected and the discovered values of `quantity` (counts on a
@@ -244,14 +239,7 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
     let (shown, far): (Vec<&(String, f64)>, Vec<&(String, f64)>) = marks.iter().partition(|m| near(m.1));
     let extent: Vec<f64> = all.iter().copied().chain(shown.iter().map(|m| m.1)).collect();
     let log = is_rate && finite_range(&extent).is_some_and(|(lo, hi)| lo > 0.0 && hi / lo > 5.0);
-    let edges = finite_range(&extent).map(|(lo, hi)| {
-        if log {
-            log_edges(lo / 1.15, hi * 1.15, 30)
-        } else {
-            let pad = ((hi - lo) * 0.04).max(0.1);
-            lin_edges(lo - pad, hi + pad, 30)
-        }
-    });
+    let edges = finite_range(&extent).map(|(lo, hi)| Margin::for_axis(log, 1.15, (0.04, 0.1)).edges(lo, hi, 30));
     let hists: Vec<Vec<u64>> = edges
         .as_ref()
         .map_or(Vec::new(), |e| per_survey.iter().map(|s| histogram(&s.1, e)).collect());

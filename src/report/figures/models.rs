@@ -12,7 +12,7 @@ use super::distributions::is_log;
 use super::rose::{self, Polar};
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{finite_range, histogram, label, lin_edges, log_edges, symbol};
+use crate::report::stats::{Margin, finite_range, histogram, label, lin_edges, symbol};
 use crate::report::style;
 use crate::report::tables::{FitNull, RoseBin, WeightedSample};
 use crate::statistics::weighted_histogram;
@@ -101,12 +101,7 @@ pub fn marginal(observable: &str, catalogue: &WeightedSample, models: &[Weighted
             return circular(&area, catalogue, models, n, &names);
         }
         let log = is_log(observable, lo, hi);
-        let edges = if log {
-            log_edges(lo / 1.02, hi * 1.02, BINS)
-        } else {
-            let pad = ((hi - lo) * 0.02).max(1e-6);
-            lin_edges(lo - pad, hi + pad, BINS)
-        };
+        let edges = Margin::for_axis(log, 1.02, (0.02, 1e-6)).edges(lo, hi, BINS);
         let plot = Linear {
             observable,
             edges: &edges,
@@ -328,8 +323,11 @@ pub fn goodness_of_fit(fit: &FitNull) -> Result<Figure> {
         } else {
             (lo, hi)
         };
-        let pad = (b - a) * 0.05 + 1e-9;
-        let edges = lin_edges(a - pad, b + pad, NULL_BINS);
+        let edges = Margin::Share {
+            share: 0.05,
+            at_least: 1e-9,
+        }
+        .edges(a, b, NULL_BINS);
         let total = fit.samples.len().max(1) as f64;
         let dens: Vec<f64> = histogram(&fit.samples, &edges)
             .iter()
