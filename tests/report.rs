@@ -124,10 +124,23 @@ fn distributions_and_fractions_have_units() {
     // Discovery magnitudes whose counts span decades (200 in one bin, 1 in others) get a
     // logarithmic count axis, said in the caption; a few even counts keep a linear one.
     let many: Vec<f64> = std::iter::repeat_n(22.0, 200).chain([20.0, 21.0]).collect();
-    let log = distributions::at_discovery("discovery_mag", &[("Survey A".into(), many)], &[]).unwrap();
+    let one = |values: Vec<f64>, w: f64| WeightedSample {
+        name: "Survey A".into(),
+        weights: vec![w; values.len()],
+        values,
+    };
+    let log = distributions::at_discovery("discovery_mag", &[one(many.clone(), 1.0)], &[]).unwrap();
     assert!(log.caption.contains("Counts on a logarithmic axis"), "{}", log.caption);
-    let even = distributions::at_discovery("discovery_mag", &[("Survey A".into(), ramp(40, 20.0, 23.0))], &[]).unwrap();
+    let even = distributions::at_discovery("discovery_mag", &[one(ramp(40, 20.0, 23.0), 1.0)], &[]).unwrap();
     assert!(!even.caption.contains("logarithmic"), "{}", even.caption);
+    // Weights count: at weight 3 each the curves change and the caption gives the total weight.
+    let heavy = distributions::at_discovery("discovery_mag", &[one(many, 3.0)], &[]).unwrap();
+    assert!(
+        heavy.caption.contains("weight 606.0000") && heavy.caption.contains("counts with its object's weight"),
+        "{}",
+        heavy.caption
+    );
+    assert_ne!(heavy.svg, log.svg, "weights do not change the histogram");
 }
 
 #[test]

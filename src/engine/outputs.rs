@@ -30,6 +30,7 @@ pub fn find(dir: &Path, stem: &str) -> Option<PathBuf> {
 
 /// The per-object columns a reader of `objects.*` uses (the report's figures).
 pub struct Observed {
+    pub id: Vec<i64>,
     pub a_au: Vec<f64>,
     pub q_au: Vec<f64>,
     pub inc_deg: Vec<f64>,
@@ -68,6 +69,7 @@ pub fn read_objects(path: &Path) -> Result<Observed> {
     let ra = c.f64_nullable("discovery_ra_deg")?;
     let dec = c.f64_nullable("discovery_dec_deg")?;
     Ok(Observed {
+        id: t.ids.clone(),
         a_au: el.iter().map(|e| e.a_au).collect(),
         q_au: el.iter().map(|e| e.q_au()).collect(),
         inc_deg: el.iter().map(|e| e.inc_rad.to_degrees()).collect(),

@@ -434,7 +434,8 @@ fn found_section(dir: &Path, inp: &Inputs, run: &ObserveRun) -> Result<Section> 
         figures.extend(sky::maps("sky_discoveries", &what, &surveys, &found)?);
     }
     if let Some((_, rows)) = &run.discoveries {
-        figures.extend(discovery_figures(rows, &surveys)?);
+        let weight_of: BTreeMap<i64, f64> = o.id.iter().copied().zip(o.weight.iter().copied()).collect();
+        figures.extend(discovery_figures(rows, &surveys, &weight_of)?);
     }
     figures.extend(discovery_roses(run, &name)?);
     for f in &mut figures {
@@ -481,16 +482,31 @@ fn discovery_roses(run: &ObserveRun, name: &str) -> Result<Vec<Figure>> {
 }
 
 /// The magnitude and rate of motion of the discoveries at discovery, per survey, with each
-/// survey's median depth and rate window marked.
-fn discovery_figures(rows: &[crate::engine::discoveries::Discovery], surveys: &[&Survey]) -> Result<Vec<Figure>> {
-    let mut by_survey: BTreeMap<&str, (Vec<f64>, Vec<f64>)> = BTreeMap::new();
+/// survey's median depth and rate window marked; each discovery counts with its object's weight
+/// (`weight_of`, by id; 1 for an id not there).
+fn discovery_figures(
+    rows: &[crate::engine::discoveries::Discovery],
+    surveys: &[&Survey],
+    weight_of: &BTreeMap<i64, f64>,
+) -> Result<Vec<Figure>> {
+    let mut by_survey: BTreeMap<&str, [Vec<f64>; 3]> = BTreeMap::new();
     for d in rows {
         let e = by_survey.entry(d.survey.as_str()).or_default();
-        e.0.push(d.mag);
-        e.1.push(d.rate_arcsec_per_hr);
+        e[0].push(d.mag);
+        e[1].push(d.rate_arcsec_per_hr);
+        e[2].push(weight_of.get(&d.id).copied().unwrap_or(1.0));
     }
-    let mags: Vec<(String, Vec<f64>)> = by_survey.iter().map(|(s, v)| (s.to_string(), v.0.clone())).collect();
-    let rates: Vec<(String, Vec<f64>)> = by_survey.iter().map(|(s, v)| (s.to_string(), v.1.clone())).collect();
+    let sample = |k: usize| -> Vec<WeightedSample> {
+        by_survey
+            .iter()
+            .map(|(s, v)| WeightedSample {
+                name: s.to_string(),
+                values: v[k].clone(),
+                weights: v[2].clone(),
+            })
+            .collect()
+    };
+    let (mags, rates) = (sample(0), sample(1));
     let depth_marks: Vec<(String, f64)> = surveys
         .iter()
         .filter_map(|s| Some((format!("median depth, {}", s.name), median(&s.visits.depth_mag)?)))

@@ -266,7 +266,7 @@ fn read_file(f: &Path, inputs: &mut Inputs, specs: &mut Vec<PathBuf>) -> Result<
     } else if cluster_tables::is_table(&name, cluster_tables::NULL) {
         let tests = read_null_tests(f)?;
         inputs.clustering_of(parent).null_tests.extend(tests);
-    } else if name == "yield_cadence.csv" || name == "yield_cadence.parquet" {
+    } else if cluster_tables::is_table(&name, yield_tables::CADENCE) {
         inputs.yields.push(read_yield_set(f)?);
     } else if comparison::find(parent).as_deref() == Some(f) {
         inputs

@@ -8,9 +8,9 @@ use plotters::prelude::*;
 use super::axes;
 use crate::error::Result;
 use crate::report::figure::{Area, DrawResult, Figure, empty_note, render, titled};
-use crate::report::stats::{Margin, finite_range, histogram, label, symbol};
+use crate::report::stats::{Margin, finite_range, label, symbol};
 use crate::report::style;
-use crate::report::tables::FractionBin;
+use crate::report::tables::{FractionBin, WeightedSample};
 use crate::statistics::weighted_histogram;
 
 /// Distances get a logarithmic axis when they span more than a factor of five (below that a
@@ -213,17 +213,17 @@ fn discovery_label(quantity: &str) -> String {
 }
 
 /// Histograms of a circumstance of discovery (`discovery_mag`, `discovery_rate_arcsec_per_hr`),
-/// one step curve per survey, with reference values (a survey's median depth, the rates its
+/// one step curve per survey, each discovery counted with its object's weight, with reference values (a survey's median depth, the rates its
 /// search finds) drawn as dashed vertical lines where they fall near the data. Rates get a
 /// logarithmic axis when they span more than a factor of five.
-pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[(String, f64)]) -> Result<Figure> {
+pub fn at_discovery(quantity: &str, per_survey: &[WeightedSample], marks: &[(String, f64)]) -> Result<Figure> {
     let what = discovery_label(quantity);
     let title = match quantity {
         "discovery_mag" => "Magnitude of the discoveries".to_string(),
         "discovery_rate_arcsec_per_hr" => "Rate of motion of the discoveries".to_string(),
         other => format!("Discoveries in {other}"),
     };
-    let all: Vec<f64> = per_survey.iter().flat_map(|s| s.1.iter().copied()).collect();
+    let all: Vec<f64> = per_survey.iter().flat_map(|s| s.values.iter().copied()).collect();
     let is_rate = quantity.contains("rate");
     // Reference values are drawn when they lie near the data (within a factor of four for
     // rates, 1.5 mag for magnitudes), so that a far limit does not squash the histogram.
@@ -240,17 +240,31 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
     let extent: Vec<f64> = all.iter().copied().chain(shown.iter().map(|m| m.1)).collect();
     let log = is_rate && finite_range(&extent).is_some_and(|(lo, hi)| lo > 0.0 && hi / lo > 5.0);
     let edges = finite_range(&extent).map(|(lo, hi)| Margin::for_axis(log, 1.15, (0.04, 0.1)).edges(lo, hi, 30));
-    let hists: Vec<Vec<u64>> = edges
-        .as_ref()
-        .map_or(Vec::new(), |e| per_survey.iter().map(|s| histogram(&s.1, e)).collect());
+    let hists: Vec<Vec<f64>> = edges.as_ref().map_or(Vec::new(), |e| {
+        per_survey
+            .iter()
+            .map(|s| weighted_histogram(&s.values, &s.weights, e))
+            .collect()
+    });
+    let unit = per_survey.iter().all(|s| s.weights.iter().all(|w| *w == 1.0));
     let names: Vec<String> = per_survey
         .iter()
-        .map(|(n, v)| format!("{n} ({} discoveries)", v.len()))
+        .map(|s| match unit {
+            true => format!("{} ({} discoveries)", s.name, s.values.len()),
+            false => format!(
+                "{} ({} discoveries, weight {:.4})",
+                s.name,
+                s.values.len(),
+                s.weights.iter().sum::<f64>()
+            ),
+        })
         .collect();
-    let log_counts = axes::counts_need_log(&hists.iter().flatten().copied().collect::<Vec<u64>>());
+    // Whole counts for the decades test: a bin's weight rounded up, so a light bin still counts.
+    let rounded: Vec<u64> = hists.iter().flatten().map(|c| c.ceil() as u64).collect();
+    let log_counts = axes::counts_need_log(&rounded);
     let caption = format!(
         "Number of discoveries per bin of {what}, as each was first found: {}.{}{} Bins \
-         without discoveries are left empty.{}",
+         without discoveries are left empty.{}{}",
         if names.is_empty() {
             "none".into()
         } else {
@@ -284,6 +298,11 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
              at its last bin's height: the axis has no zero)."
         } else {
             ""
+        },
+        if unit {
+            ""
+        } else {
+            " Each discovery counts with its object's weight."
         }
     );
     let stem = quantity.to_string();
@@ -293,7 +312,7 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
             return empty_note(&area, "no discoveries");
         };
         let (lo, hi) = (edges[0], edges[edges.len() - 1]);
-        let max = hists.iter().flatten().copied().max().unwrap_or(1).max(1) as f64;
+        let max = hists.iter().flatten().copied().fold(1.0, f64::max);
         // A logarithmic count axis needs more headroom for the legend, and a bottom below one.
         let (bottom, top) = if log_counts { (0.5, max * 6.0) } else { (0.0, max * 1.5) };
         let plot = AtDiscovery {
@@ -318,7 +337,7 @@ pub fn at_discovery(quantity: &str, per_survey: &[(String, Vec<f64>)], marks: &[
 
 struct AtDiscovery<'a> {
     edges: &'a [f64],
-    hists: &'a [Vec<u64>],
+    hists: &'a [Vec<f64>],
     names: &'a [String],
     marks: &'a [&'a (String, f64)],
     x_desc: &'a str,
@@ -341,8 +360,7 @@ impl AtDiscovery<'_> {
         axes::mesh(&mut chart, self.x_desc, "discoveries per bin")?;
         for (k, (h, name)) in self.hists.iter().zip(self.names).enumerate() {
             let c = style::series(k);
-            let counts: Vec<f64> = h.iter().map(|&c| c as f64).collect();
-            for (j, run) in axes::step_runs(self.edges, &counts, close).into_iter().enumerate() {
+            for (j, run) in axes::step_runs(self.edges, h, close).into_iter().enumerate() {
                 let drawn = chart.draw_series(LineSeries::new(run, c.stroke_width(2)))?;
                 if j == 0 {
                     drawn.label(name.as_str()).legend(axes::swatch(c, 2));
