@@ -176,6 +176,19 @@ impl BiasMap {
         }
     }
 
+    /// What a run reports of the map once its table is written: its totals and contrast.
+    pub fn summary(&self) -> MapSummary {
+        let mean_p = self.mean_p();
+        let max = (0..self.trials.len()).map(|c| self.p(c)).fold(0.0, f64::max);
+        MapSummary {
+            id: self.id,
+            trials: self.total_trials(),
+            discoveries: self.total_discoveries(),
+            mean_p,
+            contrast: max / mean_p.max(1e-300),
+        }
+    }
+
     /// The cell of angles (x, Ω), radians.
     pub fn cell_of(&self, x: f64, node: f64) -> usize {
         let bin = |a: f64, n: usize| ((a.rem_euclid(TAU) / TAU * n as f64) as usize).min(n - 1);
@@ -246,6 +259,18 @@ impl BiasMap {
             })
         })
     }
+}
+
+/// A map's totals, all a run keeps of it once its rows are written.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MapSummary {
+    pub id: i64,
+    pub trials: u64,
+    pub discoveries: u64,
+    /// Mean discovery probability over the map (uniform in both angles).
+    pub mean_p: f64,
+    /// How uneven the map is: its most favoured cell's probability over its mean.
+    pub contrast: f64,
 }
 
 /// Draws (x, Ω) from a bias map.

@@ -12,7 +12,8 @@ use polars::prelude::Column;
 use super::bias_map::{BiasMap, MapAxes, MapGrid};
 use super::trial_selection::{DISCOVERED_KEY, TrialSelection};
 use crate::error::{Error, Result};
-use crate::io::out_dir::{OutDir, col};
+use crate::io::out_dir::{OutDir, col, frame};
+use crate::io::sink::TableSink;
 use crate::io::table::{Columns, read_table};
 use crate::population::objects::ObjectTable;
 
@@ -61,27 +62,108 @@ pub struct MappedObject {
 }
 
 /// Write `bias_map.*`, `map_discoveries.*` and `map_objects.*` of maps made for objects of
-/// `objects`; returns the three paths.
+/// `objects`; returns the three paths. The tables are built and written a batch of maps at a
+/// time (`MapSink`), so their rows are never held whole.
 pub fn write(
     out: &OutDir,
     maps: &[BiasMap],
     objects: &ObjectTable,
     selection: &TrialSelection,
 ) -> Result<[PathBuf; 3]> {
-    let mut columns = map_columns(maps);
-    columns.extend(object_columns(maps, objects));
-    let rows: usize = maps.iter().map(|m| m.trials.len()).sum();
-    columns.push(col(SELECTION, vec![selection.key(); rows]));
-    Ok([
-        out.write(MAPS, columns)?,
-        out.write(FOUND, found_columns(maps))?,
-        out.write(OBJECTS, mapped_columns(x_name(maps), &mapped_objects(maps, objects)))?,
-    ])
+    let mut sink = MapSink::create(out, objects, selection)?;
+    for batch in maps.chunks(maps_per_batch(maps.first().map_or(1, |m| m.trials.len()))) {
+        sink.add(batch)?;
+    }
+    sink.finish()
+}
+
+/// Rows of `bias_map.*` built and written at once (one Parquet row group): about 8 MB of
+/// columns, whatever the number of objects (common practice, no source).
+const ROWS_PER_BATCH: usize = 65_536;
+
+/// How many maps of `cells` cells make one batch of rows: at least one.
+pub fn maps_per_batch(cells: usize) -> usize {
+    (ROWS_PER_BATCH / cells.max(1)).max(1)
+}
+
+/// The three map tables written as the maps are made, a batch of maps at a time: memory holds
+/// one batch's rows, not the whole table (`bias_map.*` has a row per object and cell, about
+/// 120 bytes each). Nothing appears under its final name before `finish`.
+pub struct MapSink<'a> {
+    /// The catalogue the maps were made for, and the row of each of its ids.
+    objects: &'a ObjectTable,
+    row_of: HashMap<i64, usize>,
+    selection: String,
+    /// The first axis's name of the maps added so far (`varpi` until a map says otherwise).
+    x: &'static str,
+    sinks: [TableSink; 3],
+    paths: [PathBuf; 3],
+    /// Whether a batch was added to each table: a table without one gets its columns, empty.
+    written: [bool; 3],
+}
+
+impl<'a> MapSink<'a> {
+    /// Prepare the three tables of maps made for objects of `objects`.
+    pub fn create(out: &OutDir, objects: &'a ObjectTable, selection: &TrialSelection) -> Result<Self> {
+        Ok(MapSink {
+            objects,
+            row_of: objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect(),
+            selection: selection.key(),
+            x: x_name(&[]),
+            sinks: [out.sink(MAPS)?, out.sink(FOUND)?, out.sink(OBJECTS)?],
+            paths: [out.table(MAPS), out.table(FOUND), out.table(OBJECTS)],
+            written: [false; 3],
+        })
+    }
+
+    /// Append the rows of `maps`, in the order they are to be written, to the three tables.
+    pub fn add(&mut self, maps: &[BiasMap]) -> Result<()> {
+        if !maps.is_empty() {
+            self.x = x_name(maps);
+        }
+        let tables = self.columns(maps);
+        for (k, columns) in tables.into_iter().enumerate() {
+            let df = frame(columns)?;
+            if df.height() > 0 {
+                self.sinks[k].write(&df)?;
+                self.written[k] = true;
+            }
+        }
+        Ok(())
+    }
+
+    /// The columns of the three tables for `maps`.
+    fn columns(&self, maps: &[BiasMap]) -> [Vec<Column>; 3] {
+        let mut columns = map_columns(maps);
+        columns.extend(object_columns(maps, self.objects, &self.row_of));
+        let rows: usize = maps.iter().map(|m| m.trials.len()).sum();
+        columns.push(col(SELECTION, vec![self.selection.clone(); rows]));
+        [
+            columns,
+            found_columns(self.x, maps),
+            mapped_columns(self.x, &mapped_objects(maps, self.objects, &self.row_of)),
+        ]
+    }
+
+    /// Close the three tables (a table that received no row is written with its columns and
+    /// no row, as for an empty shard) and rename them into place; returns their paths.
+    pub fn finish(mut self) -> Result<[PathBuf; 3]> {
+        let blank = self.columns(&[]);
+        for ((sink, columns), written) in self.sinks.iter_mut().zip(blank).zip(self.written) {
+            if !written {
+                sink.write(&frame(columns)?)?;
+            }
+        }
+        let [maps, found, own] = self.sinks;
+        maps.finish()?;
+        found.finish()?;
+        own.finish()?;
+        Ok(self.paths)
+    }
 }
 
 /// Each map's object: its own angles on the map's axes and its weight.
-fn mapped_objects(maps: &[BiasMap], objects: &ObjectTable) -> Vec<MappedObject> {
-    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+fn mapped_objects(maps: &[BiasMap], objects: &ObjectTable, row_of: &HashMap<i64, usize>) -> Vec<MappedObject> {
     maps.iter()
         .filter_map(|m| {
             let r = *row_of.get(&m.id)?;
@@ -103,8 +185,7 @@ fn object_key(objects: &ObjectTable, row: usize) -> [f64; 4] {
 }
 
 /// `a_au, e, inc_deg, h_mag` of each map's object, repeated on each of its cells.
-fn object_columns(maps: &[BiasMap], objects: &ObjectTable) -> Vec<Column> {
-    let row_of: HashMap<i64, usize> = objects.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+fn object_columns(maps: &[BiasMap], objects: &ObjectTable, row_of: &HashMap<i64, usize>) -> Vec<Column> {
     let keys: Vec<[f64; 4]> = maps
         .iter()
         .flat_map(|m| {
@@ -220,8 +301,7 @@ fn hi_deg(axis: &str) -> String {
 
 /// `map_discoveries`: one row per discovered trial, `id, varpi_deg` (or `argperi_deg`),
 /// `node_deg`, in trial order.
-fn found_columns(maps: &[BiasMap]) -> Vec<Column> {
-    let x = x_name(maps);
+fn found_columns(x: &str, maps: &[BiasMap]) -> Vec<Column> {
     let each =
         |f: &dyn Fn(&(f64, f64)) -> f64| -> Vec<f64> { maps.iter().flat_map(|m| m.found.iter().map(f)).collect() };
     vec![

@@ -9,7 +9,7 @@
 
 use rand_pcg::Pcg64;
 
-use crate::engine::{Candidates, ObjectOutcome, PreparedSurvey, StopRule, observe_object};
+use crate::engine::{Batch, ObjectOutcome, PreparedSurvey, StopRule};
 use crate::orbit::Elements;
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
@@ -65,7 +65,6 @@ impl TrialObject {
         scratch: &mut Vec<usize>,
     ) -> ObjectOutcome {
         self.table.elements[0] = el;
-        let rng = object_stream(seed, trial, Purpose::Observe);
-        observe_object(&self.table, 0, surveys, (Candidates::Indexed, stop), rng, scratch)
+        Batch::new(surveys, seed, stop).one(&self.table, 0, trial, scratch)
     }
 }

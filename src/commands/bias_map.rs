@@ -6,7 +6,7 @@
 use std::path::PathBuf;
 
 use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
-use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, selected_bias_maps, svg};
+use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, MapSummary, selected_bias_maps, svg};
 use crate::analysis::bias_map_tables;
 use crate::analysis::trial_selection::TrialSelection;
 use crate::engine::PreparedSurvey;
@@ -89,11 +89,30 @@ impl MapOptions {
     pub fn maps(
         &self,
         objects: &ObjectTable,
-        (rows, selection): (std::ops::Range<usize>, &TrialSelection),
+        rows: (std::ops::Range<usize>, &TrialSelection),
         surveys: &[PreparedSurvey],
         seed: u64,
         progress: bool,
     ) -> Result<Vec<BiasMap>> {
+        let mut maps = Vec::new();
+        self.each_batch(objects, rows, (surveys, seed, progress), |batch| {
+            maps.extend_from_slice(batch);
+            Ok(())
+        })?;
+        Ok(maps)
+    }
+
+    /// The maps of catalogue rows `rows` (trials under `selection`) made a batch of objects at
+    /// a time and handed to `f` in row order, so that a caller that writes them need not hold
+    /// them all; a progress bar over objects. A map depends only on its object and the seed,
+    /// so the batches change nothing in it.
+    pub fn each_batch(
+        &self,
+        objects: &ObjectTable,
+        (rows, selection): (std::ops::Range<usize>, &TrialSelection),
+        (surveys, seed, progress): (&[PreparedSurvey], u64, bool),
+        mut f: impl FnMut(&[BiasMap]) -> Result<()>,
+    ) -> Result<()> {
         let budget = self.budget()?;
         let bar = crate::progress::bar(rows.len() as u64, "bias maps", progress);
         let tick = || {
@@ -102,19 +121,24 @@ impl MapOptions {
             }
         };
         let plan = (self.grid, budget, selection);
-        let maps = selected_bias_maps(objects, rows, surveys, plan, seed, &tick);
+        let per_batch = bias_map_tables::maps_per_batch(self.grid.cells()).max(rayon::current_num_threads());
+        let mut start = rows.start;
+        while start < rows.end {
+            let end = (start + per_batch).min(rows.end);
+            f(&selected_bias_maps(objects, start..end, surveys, plan, seed, &tick))?;
+            start = end;
+        }
         if let Some(b) = bar {
             b.finish_and_clear();
         }
-        Ok(maps)
+        Ok(())
     }
 
     /// Ids of maps without any discovery, and of maps short of the asked discoveries.
-    pub fn thin_maps(&self, maps: &[BiasMap]) -> Result<(Vec<i64>, Vec<i64>)> {
+    pub fn thin_maps(&self, maps: &[MapSummary]) -> Result<(Vec<i64>, Vec<i64>)> {
         let min = self.budget()?.min_discoveries;
-        let ids = |f: &dyn Fn(u64) -> bool| -> Vec<i64> {
-            maps.iter().filter(|m| f(m.total_discoveries())).map(|m| m.id).collect()
-        };
+        let ids =
+            |f: &dyn Fn(u64) -> bool| -> Vec<i64> { maps.iter().filter(|m| f(m.discoveries)).map(|m| m.id).collect() };
         Ok((ids(&|d| d == 0), ids(&|d| d > 0 && d < min && min != u64::MAX)))
     }
 }
@@ -154,19 +178,22 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     opts.maps.check_budget(rows.len())?;
     let out = opts.run.out_dir(prov);
     let selection = opts.maps.trial_selection(&opts.selection);
-    let maps = opts.maps.maps(
-        &objects,
-        (rows.clone(), &selection),
-        &surveys,
-        opts.run.seed,
-        opts.run.progress,
-    )?;
-    let [table, found, own] = bias_map_tables::write(&out, &maps, &objects, &selection)?;
-    if opts.svg {
-        write_svgs(opts, &objects, rows, &maps)?;
-    }
+    // Each batch of maps is written as it is made; only their summaries are kept.
+    let mut sink = bias_map_tables::MapSink::create(&out, &objects, &selection)?;
+    let mut maps: Vec<MapSummary> = Vec::with_capacity(rows.len());
+    let run = (surveys.as_slice(), opts.run.seed, opts.run.progress);
+    opts.maps
+        .each_batch(&objects, (rows.clone(), &selection), run, |batch| {
+            sink.add(batch)?;
+            if opts.svg {
+                write_svgs(opts, &objects, rows.start + maps.len(), batch)?;
+            }
+            maps.extend(batch.iter().map(BiasMap::summary));
+            Ok(())
+        })?;
+    let [table, found, own] = sink.finish()?;
     let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
-    let mut conclusion = conclude(&maps, &undiscovered, &thin);
+    let mut conclusion = conclude(&maps, opts.maps.grid, &undiscovered, &thin);
     if selection != TrialSelection::Discovered {
         conclusion += &format!(
             "\n  A trial counts as discovered only when its orbit, fitted to its simulated astrometry, passes the \
@@ -188,9 +215,9 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
             "below_min_discoveries_ids": thin,
             "maps": maps.iter().map(|m| serde_json::json!({
                 "id": m.id,
-                "trials": m.total_trials(),
-                "discoveries": m.total_discoveries(),
-                "mean_p": m.mean_p(),
+                "trials": m.trials,
+                "discoveries": m.discoveries,
+                "mean_p": m.mean_p,
             })).collect::<Vec<_>>(),
         }),
         &conclusion,
@@ -202,14 +229,10 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     })
 }
 
-/// `DIR/maps/ID.svg`: each object's map with its own angles marked.
-fn write_svgs(
-    opts: &BiasMapOptions,
-    objects: &ObjectTable,
-    rows: std::ops::Range<usize>,
-    maps: &[BiasMap],
-) -> Result<()> {
-    for (m, i) in maps.iter().zip(rows) {
+/// `DIR/maps/ID.svg`: each object's map with its own angles marked; `maps` are those of
+/// catalogue rows from `first_row` on.
+fn write_svgs(opts: &BiasMapOptions, objects: &ObjectTable, first_row: usize, maps: &[BiasMap]) -> Result<()> {
+    for (m, i) in maps.iter().zip(first_row..) {
         let el = &objects.elements[i];
         let x = opts.maps.grid.axes.x_of(el);
         write_atomic(
@@ -220,30 +243,27 @@ fn write_svgs(
     Ok(())
 }
 
-fn conclude(maps: &[BiasMap], undiscovered: &[i64], thin: &[i64]) -> String {
+fn conclude(maps: &[MapSummary], grid: MapGrid, undiscovered: &[i64], thin: &[i64]) -> String {
     if maps.is_empty() {
         return "seine bias-map: no objects in this shard".into();
     }
-    let mean: Vec<f64> = maps.iter().map(BiasMap::mean_p).collect();
+    let mean: Vec<f64> = maps.iter().map(|m| m.mean_p).collect();
     // How uneven a map is: the spread of its cells' probability against its mean.
-    let contrast: Vec<f64> = maps
-        .iter()
-        .map(|m| (0..m.trials.len()).map(|c| m.p(c)).fold(0.0, f64::max) / m.mean_p().max(1e-300))
-        .collect();
-    let trials: Vec<u64> = maps.iter().map(BiasMap::total_trials).collect();
+    let contrast: Vec<f64> = maps.iter().map(|m| m.contrast).collect();
+    let trials: Vec<u64> = maps.iter().map(|m| m.trials).collect();
     let mut s = format!(
         "seine bias-map: {} objects on a {}×{} grid, {}–{} trials each. Mean chance of discovery over all angles {} (range {}–{}); \
          the most favoured cell is on average {:.1}× the mean, so the surveys see these objects unevenly in {} and node.",
         maps.len(),
-        maps[0].grid.n_x,
-        maps[0].grid.n_node,
+        grid.n_x,
+        grid.n_node,
         trials.iter().min().copied().unwrap_or(0),
         trials.iter().max().copied().unwrap_or(0),
         pct(mean.iter().sum::<f64>() / mean.len() as f64),
         pct(mean.iter().copied().fold(f64::INFINITY, f64::min)),
         pct(mean.iter().copied().fold(0.0, f64::max)),
         contrast.iter().filter(|c| c.is_finite()).sum::<f64>() / contrast.len() as f64,
-        maps[0].grid.axes.x_name(),
+        grid.axes.x_name(),
     );
     if !undiscovered.is_empty() {
         s += &format!(

@@ -79,7 +79,8 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     }
     opts.check_budget(catalog.len())?;
     let maps = catalogue_maps(opts, &catalog, &mut prov)?;
-    let (undiscovered, thin) = opts.maps.thin_maps(&maps)?;
+    let summaries: Vec<_> = maps.iter().map(BiasMap::summary).collect();
+    let (undiscovered, thin) = opts.maps.thin_maps(&summaries)?;
     if !undiscovered.is_empty() && !opts.drop_undiscovered {
         return Err(Error::input(format!(
             "cluster-test: the bias maps of ids {undiscovered:?} hold no discovery (the surveys never found \

@@ -1,7 +1,8 @@
 //! The one engine entry of the library: these objects through these surveys with this stop
-//! rule. `observe`'s chunks, the hideout's draws, yields, the selection function and the
-//! models' detected objects all call it; only tests and the engine benchmark call the
-//! per-object pipeline (`pipeline::observe_object`) directly.
+//! rule. `observe`'s chunks, the hideout's draws, yields, the selection function, the
+//! models' detected objects and the analyses' trials (`analysis/trials.rs`) all call it; only
+//! tests and the engine benchmark call the per-object pipeline (`pipeline::observe_object`)
+//! directly.
 //!
 //! Streams: object row `i` takes its detection draws from `object_stream(seed, id, Observe)`
 //! with `id` its own id (`Batch::map`), or the id a caller gives (`Batch::one`: a trial's id),

@@ -6,6 +6,7 @@ use std::path::{Path, PathBuf};
 use polars::prelude::{Column, DataFrame, NamedFrom, Series};
 
 use super::Provenance;
+use super::sink::TableSink;
 use super::table::{Format, write_atomic, write_table};
 use crate::error::{Error, Result};
 
@@ -42,11 +43,16 @@ impl OutDir {
 
     /// Write a table built from columns (all of one length).
     pub fn write(&self, stem: &str, columns: Vec<Column>) -> Result<PathBuf> {
-        let height = columns.first().map_or(0, |c| c.len());
-        let mut df = DataFrame::new(height, columns).map_err(|e| Error::io(e.to_string()))?;
+        let mut df = frame(columns)?;
         let path = self.table(stem);
         write_table(&mut df, &path, &self.provenance)?;
         Ok(path)
+    }
+
+    /// A table `DIR/<stem>.<ext>` written a batch of rows at a time (for tables too large to
+    /// hold whole); every batch is a `frame` of columns of one length.
+    pub fn sink(&self, stem: &str) -> Result<TableSink> {
+        TableSink::create(&self.table(stem), self.provenance.clone())
     }
 
     /// Write `summary.json`: the command's numbers, its conclusion and the provenance.
@@ -58,6 +64,12 @@ impl OutDir {
         write_atomic(&path, text.as_bytes())?;
         Ok(path)
     }
+}
+
+/// A table of columns (all of one length).
+pub fn frame(columns: Vec<Column>) -> Result<DataFrame> {
+    let height = columns.first().map_or(0, |c| c.len());
+    DataFrame::new(height, columns).map_err(|e| Error::io(e.to_string()))
 }
 
 /// A column of named values.
