@@ -58,8 +58,12 @@ impl ClusterTestOptions {
     fn check_budget(&self, objects: usize) -> Result<()> {
         let draws = objects as f64 * self.test.trials as f64;
         crate::budget::check(crate::budget::CLUSTER_TRIALS, draws, "--trials", self.maps.over_budget)?;
-        // The null samples held for cluster_null.*: about half a kilobyte per trial.
-        crate::budget::check_memory(512.0 * self.test.trials as f64, "--trials", self.maps.over_budget)
+        // Every synthetic catalogue's statistics, held for the pooled ranks and cluster_null.*:
+        // 8 bytes per statistic (9 per sample and the global one), bias-aware and naive, and as
+        // much again while they are ranked.
+        let statistics = 1.0 + 9.0 * (1 + self.test.cuts.len()) as f64;
+        let bytes = 2.0 * 16.0 * statistics * self.test.trials as f64;
+        crate::budget::check_memory(bytes, "--trials", self.maps.over_budget)
     }
 }
 
