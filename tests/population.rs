@@ -503,13 +503,13 @@ fn angular_forms_only_on_degree_keys() {
 /// The prepared pdf (cached normalisation) equals the direct one.
 #[test]
 fn prepared_pdf_matches_direct_pdf() {
-    use seine::population::prepared::Prepared;
+    use seine::population::prepared::PreparedDistribution;
     for c in [
         r#"{ dist = "sin-gaussian", sigma = 15.0 }"#,
         r#"{ dist = "von-mises", mean = 10.0, kappa = 3.0 }"#,
     ] {
         let d = dist(c);
-        let p = Prepared::new(d.clone());
+        let p = PreparedDistribution::new(d.clone());
         for x in [0.0, 5.0, 30.0, 90.0, 179.0, 200.0] {
             let (a, b) = (p.pdf(x).unwrap(), d.pdf(x).unwrap());
             assert!((a - b).abs() <= 1e-12 * b.abs().max(1e-300), "{c} at {x}: {a} vs {b}");

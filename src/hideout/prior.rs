@@ -14,7 +14,7 @@ use serde::Deserialize;
 use crate::error::{Error, Result};
 use crate::io::spec_text::{parse_toml, read_spec_text};
 use crate::population::objects::ObjectTable;
-use crate::population::prepared::Prepared;
+use crate::population::prepared::PreparedDistribution;
 use crate::population::{Distribution, Population, Spec};
 use crate::rng::{Purpose, object_stream};
 
@@ -49,8 +49,8 @@ struct SizeOnly {
 /// streams stay untouched, so the orbits are those `seine draw` gives for the same seed).
 #[derive(Debug, Clone)]
 pub struct SizePrior {
-    pub diameter_km: Prepared,
-    pub albedo: Prepared,
+    pub diameter_km: PreparedDistribution,
+    pub albedo: PreparedDistribution,
 }
 
 /// The prior: the population and, optionally, the size distributions that set H.
@@ -138,8 +138,8 @@ fn size_prior(path: &Path, d: Option<Distribution>, p: Option<Distribution>) -> 
             check_positive(path, "size.diameter_km", &d)?;
             check_positive(path, "size.albedo", &p)?;
             Ok(Some(SizePrior {
-                diameter_km: Prepared::new(d),
-                albedo: Prepared::new(p),
+                diameter_km: PreparedDistribution::new(d),
+                albedo: PreparedDistribution::new(p),
             }))
         }
         _ => Err(Error::input(format!(

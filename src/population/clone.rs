@@ -15,7 +15,7 @@ use polars::prelude::{Column, DataFrame, IdxCa, IdxSize};
 use rand::RngExt;
 use rayon::prelude::*;
 
-use super::prepared::Prepared;
+use super::prepared::PreparedDistribution;
 use super::resonance::{Resonance, neptune_mean_longitude};
 use super::spec::CloneSpec;
 use crate::error::{Result, io_at};
@@ -28,7 +28,7 @@ pub struct Cloner {
     pub table: ObjectTable,
     pub spec: CloneSpec,
     /// The fresh-H distribution, prepared once for many draws.
-    h: Option<Prepared>,
+    h: Option<PreparedDistribution>,
     /// Per particle: its resonant angle and Neptune's mean longitude at its epoch (rad).
     resonant: Vec<(f64, f64)>,
 }
@@ -37,7 +37,7 @@ impl Cloner {
     /// Read and validate the particles' table named by the spec.
     pub fn read(spec: CloneSpec) -> Result<Self> {
         let table = ObjectTable::read(&spec.objects)?;
-        let h = spec.h.clone().map(Prepared::new);
+        let h = spec.h.clone().map(PreparedDistribution::new);
         let resonant = match spec.resonance {
             Some(r) => resonant_angles(&table, r, &spec.objects)?,
             None => Vec::new(),

@@ -206,7 +206,7 @@ impl Distribution {
             | Exponential { .. }
             | Knee { .. }
             | Divot { .. } => {
-                unreachable!("sampled by Prepared with its precomputed constants")
+                unreachable!("sampled by PreparedDistribution with its precomputed constants")
             }
             Normal { mean, sigma } => mean + sigma * rng.sample::<f64, _>(StandardNormal),
             TruncatedNormal { mean, sigma, lo, hi } => truncated_normal(rng, *mean, *sigma, *lo, *hi),

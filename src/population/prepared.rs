@@ -9,7 +9,7 @@ use rand::{Rng, RngExt};
 use super::distribution::{Distribution, ExpPiece, sin_gaussian_density, sin_gaussian_mass};
 
 #[derive(Debug, Clone)]
-pub struct Prepared {
+pub struct PreparedDistribution {
     dist: Distribution,
     fast: Fast,
 }
@@ -54,15 +54,15 @@ enum Fast {
 }
 
 impl Distribution {
-    /// One draw from the distribution (through `Prepared`, the one sampling path; prepare
+    /// One draw from the distribution (through `PreparedDistribution`, the one sampling path; prepare
     /// once and reuse it where many draws are made). Defined here, beside the sampler, so that
     /// the distributions' file needs nothing of this one.
     pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
-        Prepared::new(self.clone()).sample(rng)
+        PreparedDistribution::new(self.clone()).sample(rng)
     }
 }
 
-impl Prepared {
+impl PreparedDistribution {
     pub fn new(dist: Distribution) -> Self {
         use Distribution::*;
         let fast = match dist {
@@ -115,7 +115,7 @@ impl Prepared {
             }
             _ => Fast::Direct,
         };
-        Prepared { dist, fast }
+        PreparedDistribution { dist, fast }
     }
 
     pub fn distribution(&self) -> &Distribution {

@@ -11,8 +11,8 @@ use rand::Rng;
 use rayon::prelude::*;
 
 use super::distribution::Distribution;
-use super::prepared::Prepared;
-use super::spec::{Angles, Anomaly, Constraint, Phase, Population, Quantity, Shape};
+use super::prepared::PreparedDistribution;
+use super::spec::{Anomaly, Constraint, OrbitOrientation, OrbitShape, Phase, Population, Quantity};
 use crate::error::{Error, Result};
 use crate::io::sink::TableSink;
 use crate::rng::{Purpose, object_stream, run_stream};
@@ -140,12 +140,12 @@ impl Drawn {
 impl Population {
     /// The distributions prepared for many draws.
     fn compiled(&self) -> Compiled<'_> {
-        let p = |d: &Distribution| Prepared::new(d.clone());
+        let p = |d: &Distribution| PreparedDistribution::new(d.clone());
         let shape = match &self.shape {
-            Shape::AE(x, y) | Shape::AQ(x, y) | Shape::QE(x, y) => [p(x), p(y)],
+            OrbitShape::AE(x, y) | OrbitShape::AQ(x, y) | OrbitShape::QE(x, y) => [p(x), p(y)],
         };
         let angles = match &self.angles {
-            Angles::NodeArgperi(x, y) | Angles::VarpiNode(x, y) => [p(x), p(y)],
+            OrbitOrientation::NodeArgperi(x, y) | OrbitOrientation::VarpiNode(x, y) => [p(x), p(y)],
         };
         let anomaly = match &self.anomaly {
             Anomaly::Mean(d) | Anomaly::PerihelionTime(d) => p(d),
@@ -173,17 +173,17 @@ impl Population {
 /// The spec's distributions prepared once, in the slots of the spec's parametrization.
 struct Compiled<'a> {
     pop: &'a Population,
-    shape: [Prepared; 2],
-    inc: Prepared,
-    angles: [Prepared; 2],
-    anomaly: Prepared,
-    proposal_m: Option<Prepared>,
-    h: Prepared,
-    proposal_h: Option<Prepared>,
-    phase: Prepared,
-    colors: Vec<Prepared>,
-    lc_amp: Prepared,
-    lc_period: Prepared,
+    shape: [PreparedDistribution; 2],
+    inc: PreparedDistribution,
+    angles: [PreparedDistribution; 2],
+    anomaly: PreparedDistribution,
+    proposal_m: Option<PreparedDistribution>,
+    h: PreparedDistribution,
+    proposal_h: Option<PreparedDistribution>,
+    phase: PreparedDistribution,
+    colors: Vec<PreparedDistribution>,
+    lc_amp: PreparedDistribution,
+    lc_period: PreparedDistribution,
 }
 
 impl Compiled<'_> {
@@ -191,9 +191,9 @@ impl Compiled<'_> {
     fn draw_orbit<R: Rng + ?Sized>(&self, rng: &mut R) -> OrbitDraw {
         let (x, y) = (self.shape[0].sample(rng), self.shape[1].sample(rng));
         let (a, e, q) = match &self.pop.shape {
-            Shape::AE(..) => (x, y, x * (1.0 - y)),
-            Shape::AQ(..) => (x, 1.0 - y / x, y),
-            Shape::QE(..) => (x / (1.0 - y), y, x),
+            OrbitShape::AE(..) => (x, y, x * (1.0 - y)),
+            OrbitShape::AQ(..) => (x, 1.0 - y / x, y),
+            OrbitShape::QE(..) => (x / (1.0 - y), y, x),
         };
         OrbitDraw {
             a,
@@ -226,9 +226,9 @@ impl Compiled<'_> {
         out.attempts += attempts;
         let (x, y) = (self.angles[0].sample(&mut rng), self.angles[1].sample(&mut rng));
         let (node, argperi) = match &self.pop.angles {
-            Angles::NodeArgperi(..) => (x, y),
+            OrbitOrientation::NodeArgperi(..) => (x, y),
             // (ϖ, Ω): ω = ϖ − Ω.
-            Angles::VarpiNode(..) => (y, x - y),
+            OrbitOrientation::VarpiNode(..) => (y, x - y),
         };
         let mut weight = 1.0;
         let m = match &self.pop.anomaly {
@@ -371,7 +371,12 @@ impl Population {
 }
 
 /// A draw from `target`, or from `proposal` with the weight multiplied by target/proposal.
-fn importance<R: Rng + ?Sized>(rng: &mut R, target: &Prepared, proposal: Option<&Prepared>, weight: &mut f64) -> f64 {
+fn importance<R: Rng + ?Sized>(
+    rng: &mut R,
+    target: &PreparedDistribution,
+    proposal: Option<&PreparedDistribution>,
+    weight: &mut f64,
+) -> f64 {
     let Some(p) = proposal else { return target.sample(rng) };
     let x = p.sample(rng);
     // Both densities exist: checked when the spec was resolved.

@@ -15,7 +15,7 @@ use crate::orbit::Center;
 /// The spec file as written.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub struct SpecFile {
+pub struct PopulationSpecFile {
     pub population: Option<PopulationSection>,
     pub orbit: Option<OrbitSection>,
     pub photometry: Option<PhotometrySection>,
@@ -101,7 +101,7 @@ pub struct ImportSection {
 
 /// How the orbit's size and shape are drawn.
 #[derive(Debug, Clone)]
-pub enum Shape {
+pub enum OrbitShape {
     AE(Distribution, Distribution),
     AQ(Distribution, Distribution),
     QE(Distribution, Distribution),
@@ -109,7 +109,7 @@ pub enum Shape {
 
 /// How the orientation angles are drawn (ω derived from ϖ − Ω in the second form).
 #[derive(Debug, Clone)]
-pub enum Angles {
+pub enum OrbitOrientation {
     NodeArgperi(Distribution, Distribution),
     VarpiNode(Distribution, Distribution),
 }
@@ -151,9 +151,9 @@ pub struct Population {
     pub name: String,
     pub epoch_mjd: f64,
     pub center: Center,
-    pub shape: Shape,
+    pub shape: OrbitShape,
     pub inc: Distribution,
-    pub angles: Angles,
+    pub angles: OrbitOrientation,
     pub anomaly: Anomaly,
     pub h: Distribution,
     pub phase: Phase,
@@ -194,7 +194,7 @@ impl Spec {
 
     /// Parse and check spec text; `path` names the file in messages and anchors `[import]`.
     pub fn parse(text: &str, path: &Path) -> Result<Spec> {
-        let file: SpecFile = crate::io::spec_text::parse_toml(text, path)?;
+        let file: PopulationSpecFile = crate::io::spec_text::parse_toml(text, path)?;
         file.resolve(path)
     }
 }
@@ -241,7 +241,7 @@ fn uniform_angle() -> Distribution {
     Distribution::Uniform { lo: 0.0, hi: 360.0 }
 }
 
-impl SpecFile {
+impl PopulationSpecFile {
     fn resolve(self, path: &Path) -> Result<Spec> {
         if let Some(import) = self.import {
             if self.orbit.is_some() || self.photometry.is_some() {
@@ -371,14 +371,14 @@ fn resolve_colors(path: &Path, color: BTreeMap<String, Distribution>) -> Result<
 }
 
 /// Exactly two of a, e, q.
-fn resolve_shape(path: &Path, o: &OrbitSection) -> Result<Shape> {
+fn resolve_shape(path: &Path, o: &OrbitSection) -> Result<OrbitShape> {
     let a = checked(path, "orbit.a_au", o.a_au.clone())?;
     let e = checked(path, "orbit.e", o.e.clone())?;
     let q = checked(path, "orbit.q_au", o.q_au.clone())?;
     match (a, e, q) {
-        (Some(a), Some(e), None) => Ok(Shape::AE(a, e)),
-        (Some(a), None, Some(q)) => Ok(Shape::AQ(a, q)),
-        (None, Some(e), Some(q)) => Ok(Shape::QE(q, e)),
+        (Some(a), Some(e), None) => Ok(OrbitShape::AE(a, e)),
+        (Some(a), None, Some(q)) => Ok(OrbitShape::AQ(a, q)),
+        (None, Some(e), Some(q)) => Ok(OrbitShape::QE(q, e)),
         (a, e, q) => {
             let given: Vec<&str> = [("a_au", a.is_some()), ("e", e.is_some()), ("q_au", q.is_some())]
                 .iter()
@@ -400,7 +400,7 @@ fn resolve_angles(
     node: Option<Distribution>,
     argperi: Option<Distribution>,
     varpi: Option<Distribution>,
-) -> Result<Angles> {
+) -> Result<OrbitOrientation> {
     let node = checked(path, "orbit.node_deg", node)?.unwrap_or_else(uniform_angle);
     match (argperi, varpi) {
         (Some(_), Some(_)) => Err(key_error(
@@ -408,8 +408,11 @@ fn resolve_angles(
             "orbit",
             "give argperi_deg or varpi_deg (ω is then ϖ − Ω), not both",
         )),
-        (None, Some(v)) => Ok(Angles::VarpiNode(required(path, "orbit.varpi_deg", Some(v))?, node)),
-        (w, None) => Ok(Angles::NodeArgperi(
+        (None, Some(v)) => Ok(OrbitOrientation::VarpiNode(
+            required(path, "orbit.varpi_deg", Some(v))?,
+            node,
+        )),
+        (w, None) => Ok(OrbitOrientation::NodeArgperi(
             node,
             checked(path, "orbit.argperi_deg", w)?.unwrap_or_else(uniform_angle),
         )),
@@ -490,9 +493,9 @@ fn covers(path: &Path, key: &str, proposal: &Distribution, target: &Distribution
 /// A constraint on a directly drawn quantity that its distribution can never meet fails at once.
 fn check_constraint_supports(path: &Path, p: &Population) -> Result<()> {
     let (a, e, q) = match &p.shape {
-        Shape::AE(a, e) => (Some(a), Some(e), None),
-        Shape::AQ(a, q) => (Some(a), None, Some(q)),
-        Shape::QE(q, e) => (None, Some(e), Some(q)),
+        OrbitShape::AE(a, e) => (Some(a), Some(e), None),
+        OrbitShape::AQ(a, q) => (Some(a), None, Some(q)),
+        OrbitShape::QE(q, e) => (None, Some(e), Some(q)),
     };
     for c in &p.constraints {
         let d = match c.quantity {

@@ -51,7 +51,7 @@ impl Trailing {
 
 /// The one enum of efficiency shapes.
 #[derive(Debug, Clone, PartialEq)]
-pub enum Shape {
+pub enum EfficiencyShape {
     Step,
     Logistic {
         width_mag: f64,
@@ -84,7 +84,7 @@ pub enum Scope {
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct Efficiency {
-    pub shape: Shape,
+    pub shape: EfficiencyShape,
     pub peak: f64,
     pub trailing: Trailing,
     /// Nothing brighter than this is detected (saturation); −∞: no limit.
@@ -92,9 +92,9 @@ pub struct Efficiency {
     pub scope: Scope,
 }
 
-impl Shape {
+impl EfficiencyShape {
     /// A tanh-product shape with its centre placed so that η(depth) = peak/2.
-    pub fn tanh_product(fall_width_mag: f64, tail_width_mag: f64) -> Shape {
+    pub fn tanh_product(fall_width_mag: f64, tail_width_mag: f64) -> EfficiencyShape {
         // g(u) = (1 − tanh(−u/w_f))(1 − tanh(−u/w_t)) with u = m_c − depth rises from 1 (u = 0)
         // toward 4; bisect g(u) = 2 on u in [0, 50 max(w)].
         let (wf, wt) = (fall_width_mag, tail_width_mag);
@@ -104,7 +104,7 @@ impl Shape {
             let m = 0.5 * (lo + hi);
             if g(m) < 2.0 { lo = m } else { hi = m }
         }
-        Shape::TanhProduct {
+        EfficiencyShape::TanhProduct {
             fall_width_mag,
             tail_width_mag,
             centre_offset_mag: 0.5 * (lo + hi),
@@ -117,15 +117,15 @@ impl Efficiency {
     pub fn eta(&self, mag: f64, depth: f64, rate: f64) -> f64 {
         let dm = mag - depth;
         match &self.shape {
-            Shape::Step => {
+            EfficiencyShape::Step => {
                 if dm < 0.0 {
                     self.peak
                 } else {
                     0.0
                 }
             }
-            Shape::Logistic { width_mag } => self.peak / (1.0 + (dm / width_mag).exp()),
-            Shape::TanhProduct {
+            EfficiencyShape::Logistic { width_mag } => self.peak / (1.0 + (dm / width_mag).exp()),
+            EfficiencyShape::TanhProduct {
                 fall_width_mag: wf,
                 tail_width_mag: wt,
                 centre_offset_mag,
@@ -133,7 +133,7 @@ impl Efficiency {
                 let u = dm - centre_offset_mag;
                 0.25 * self.peak * (1.0 - (u / wf).tanh()) * (1.0 - (u / wt).tanh())
             }
-            Shape::Table {
+            EfficiencyShape::Table {
                 mags,
                 relative_to_depth,
                 rates,
@@ -160,7 +160,7 @@ impl Efficiency {
     /// bounds it. Zero where `p` is zero (below 2⁻⁵³).
     pub fn largest_p(&self, mag: f64, depth: f64) -> f64 {
         let bound = match &self.shape {
-            Shape::Table {
+            EfficiencyShape::Table {
                 mags,
                 relative_to_depth,
                 eta,
@@ -184,7 +184,7 @@ impl Efficiency {
     /// It is 10⁻⁶ mag past the exact crossing, so that rounding in m − depth cannot undo it.
     pub fn zero_beyond_mag(&self, depth: f64) -> f64 {
         match &self.shape {
-            Shape::Table {
+            EfficiencyShape::Table {
                 relative_to_depth: false,
                 ..
             } => self.exact_zero_beyond_dm() + 1e-6,
@@ -195,14 +195,14 @@ impl Efficiency {
     fn exact_zero_beyond_dm(&self) -> f64 {
         let negligible = |dm: f64| self.eta(dm, 0.0, 0.0) < P_NEGLIGIBLE;
         match &self.shape {
-            Shape::Step => {
+            EfficiencyShape::Step => {
                 if self.peak < P_NEGLIGIBLE {
                     f64::NEG_INFINITY
                 } else {
                     0.0
                 }
             }
-            Shape::Logistic { .. } | Shape::TanhProduct { .. } => {
+            EfficiencyShape::Logistic { .. } | EfficiencyShape::TanhProduct { .. } => {
                 // Both fall monotonically with dm: bracket the crossing, then bisect.
                 if negligible(-1.0e4) {
                     return f64::NEG_INFINITY;
@@ -221,7 +221,7 @@ impl Efficiency {
                 }
                 hi
             }
-            Shape::Table { mags, eta, .. } => {
+            EfficiencyShape::Table { mags, eta, .. } => {
                 // Interpolation and clamping mix only neighbouring rows: zero from the first
                 // row after which every row is negligible (in the table's own magnitude axis).
                 let live = |row: &Vec<f64>| row.iter().any(|&e| e >= P_NEGLIGIBLE);
@@ -281,10 +281,10 @@ mod tests {
     #[test]
     fn zero_beyond_is_where_p_first_vanishes() {
         let shapes = [
-            Shape::Step,
-            Shape::Logistic { width_mag: 0.3 },
-            Shape::tanh_product(0.15, 0.45),
-            Shape::Table {
+            EfficiencyShape::Step,
+            EfficiencyShape::Logistic { width_mag: 0.3 },
+            EfficiencyShape::tanh_product(0.15, 0.45),
+            EfficiencyShape::Table {
                 mags: vec![-1.0, 0.0, 1.0, 2.0],
                 relative_to_depth: true,
                 rates: vec![0.0, 10.0],
@@ -314,7 +314,7 @@ mod tests {
         }
         // The logistic's crossing in closed form: peak / (1 + e^(dm/w)) = 2⁻⁵³.
         let lg = Efficiency {
-            shape: Shape::Logistic { width_mag: 0.2 },
+            shape: EfficiencyShape::Logistic { width_mag: 0.2 },
             ..plain(0.95)
         };
         let expected = 0.2 * (0.95 / P_NEGLIGIBLE - 1.0).ln();
@@ -324,23 +324,23 @@ mod tests {
     #[test]
     fn half_peak_at_depth() {
         let lg = Efficiency {
-            shape: Shape::Logistic { width_mag: 0.3 },
+            shape: EfficiencyShape::Logistic { width_mag: 0.3 },
             ..plain(0.9)
         };
         assert!((lg.eta(24.0, 24.0, 0.0) - 0.45).abs() < 1e-12);
         let tp = Efficiency {
-            shape: Shape::tanh_product(0.2, 0.6),
+            shape: EfficiencyShape::tanh_product(0.2, 0.6),
             ..plain(0.8)
         };
         assert!((tp.eta(24.0, 24.0, 0.0) - 0.4).abs() < 1e-9);
         // At its centre m_c = depth + Δ the published form gives a quarter of the peak.
-        let Shape::TanhProduct { centre_offset_mag, .. } = tp.shape else {
+        let EfficiencyShape::TanhProduct { centre_offset_mag, .. } = tp.shape else {
             unreachable!()
         };
         assert!(centre_offset_mag > 0.0);
         assert!((tp.eta(24.0 + centre_offset_mag, 24.0, 0.0) - 0.2).abs() < 1e-9);
         // Equal widths have the closed form m_c − depth = w·atanh(√2 − 1).
-        let Shape::TanhProduct { centre_offset_mag, .. } = Shape::tanh_product(0.3, 0.3) else {
+        let EfficiencyShape::TanhProduct { centre_offset_mag, .. } = EfficiencyShape::tanh_product(0.3, 0.3) else {
             unreachable!()
         };
         assert!((centre_offset_mag - 0.3 * (2f64.sqrt() - 1.0).atanh()).abs() < 1e-9);
@@ -349,7 +349,7 @@ mod tests {
     #[test]
     fn table_is_bilinear_and_clamped() {
         let t = Efficiency {
-            shape: Shape::Table {
+            shape: EfficiencyShape::Table {
                 mags: vec![-1.0, 0.0, 1.0],
                 relative_to_depth: true,
                 rates: vec![0.0, 10.0],
@@ -363,7 +363,7 @@ mod tests {
         // The same grid in magnitudes 22, 23, 24: the depth no longer moves it, and the
         // magnitude beyond which it is zero is the table's own 24, whatever the depth.
         let a = Efficiency {
-            shape: Shape::Table {
+            shape: EfficiencyShape::Table {
                 mags: vec![22.0, 23.0, 24.0],
                 relative_to_depth: false,
                 rates: vec![0.0, 10.0],
@@ -390,7 +390,7 @@ mod tests {
     /// A step at full peak with no trailing, no bright limit, per visit.
     fn plain(peak: f64) -> Efficiency {
         Efficiency {
-            shape: Shape::Step,
+            shape: EfficiencyShape::Step,
             peak,
             trailing: Trailing::NONE,
             bright_limit_mag: f64::NEG_INFINITY,

@@ -66,11 +66,11 @@ impl Survey {
                 p = spec_path.display()
             )));
         }
-        let spec: spec::SpecFile = spec::parse_toml(&text, spec_path)?;
+        let spec: spec::SurveySpecFile = spec::parse_toml(&text, spec_path)?;
         Self::from_spec(spec, spec_path, &text)
     }
 
-    fn from_spec(spec: spec::SpecFile, spec_path: &Path, text: &str) -> Result<Survey> {
+    fn from_spec(spec: spec::SurveySpecFile, spec_path: &Path, text: &str) -> Result<Survey> {
         let in_spec = |e: Error| match e {
             Error::Input(m) => Error::input(format!("{}: {m}", spec_path.display())),
             other => other,
@@ -122,7 +122,7 @@ impl Survey {
     /// Check every key of the spec; the errors name the key path.
     #[allow(clippy::type_complexity)]
     fn check_keys(
-        spec: &spec::SpecFile,
+        spec: &spec::SurveySpecFile,
     ) -> Result<(
         Footprint,
         LiveArea,

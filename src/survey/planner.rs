@@ -663,7 +663,7 @@ fn plan_night(s: &mut Scheduler, night: i64) -> Result<NightLog> {
 
 /// The survey spec that goes with a plan's visits (TOML text).
 pub fn spec_toml(file: &PlanFile, plan_path: &std::path::Path, visits_file_name: &str) -> Result<String> {
-    let spec = super::spec::SpecFile {
+    let spec = super::spec::SurveySpecFile {
         survey: super::spec::SurveySection {
             name: file.plan.name.clone(),
             visits: visits_file_name.to_string(),

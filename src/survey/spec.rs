@@ -6,7 +6,7 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 
 use super::crowding::{Crowding, DeadFraction};
-use super::efficiency::{Efficiency, Scope, Shape, Trailing};
+use super::efficiency::{Efficiency, EfficiencyShape, Scope, Trailing};
 use super::footprint::Footprint;
 use super::linking::LinkingRules;
 use super::live_area::{Axis, DeadRegion, LiveArea};
@@ -17,7 +17,7 @@ use crate::time::TimeScale;
 
 #[derive(Debug, Clone, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub struct SpecFile {
+pub struct SurveySpecFile {
     pub survey: SurveySection,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub site: Option<Site>,
@@ -461,11 +461,11 @@ impl EfficiencySpec {
         };
         let model = self.model.as_deref().unwrap_or("step");
         let shape = match model {
-            "step" => Shape::Step,
-            "logistic" => Shape::Logistic {
+            "step" => EfficiencyShape::Step,
+            "logistic" => EfficiencyShape::Logistic {
                 width_mag: positive(self.width_mag, "width_mag")?,
             },
-            "tanh-product" => Shape::tanh_product(
+            "tanh-product" => EfficiencyShape::tanh_product(
                 positive(self.fall_width_mag, "fall_width_mag")?,
                 positive(self.tail_width_mag, "tail_width_mag")?,
             ),
@@ -509,7 +509,7 @@ impl EfficiencySpec {
         })
     }
 
-    fn table_shape(&self, key: &str) -> Result<Shape> {
+    fn table_shape(&self, key: &str) -> Result<EfficiencyShape> {
         let (mags, relative_to_depth) = match (&self.dm, &self.magnitudes) {
             (Some(dm), None) => (dm.clone(), true),
             (None, Some(m)) => (m.clone(), false),
@@ -551,7 +551,7 @@ impl EfficiencySpec {
                 "{key}.eta: expected efficiencies in [0, 1], found {bad}"
             )));
         }
-        Ok(Shape::Table {
+        Ok(EfficiencyShape::Table {
             mags,
             relative_to_depth,
             rates,
