@@ -153,14 +153,21 @@ fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut P
 fn run_test(opts: &ClusterTestOptions, catalog: &ObjectTable, maps: &[BiasMap]) -> Result<ClusterTest> {
     let keep: Vec<usize> = (0..maps.len()).filter(|j| maps[*j].total_discoveries() > 0).collect();
     let angles = Angles::of(catalog).select(&keep);
-    let tested: Vec<BiasMap> = keep.iter().map(|j| maps[*j].clone()).collect();
+    // The maps are the run's largest state: copied only when some are left out.
+    let selected: Vec<BiasMap>;
+    let tested = if keep.len() == maps.len() {
+        maps
+    } else {
+        selected = keep.iter().map(|j| maps[*j].clone()).collect();
+        &selected
+    };
     let bar = crate::progress::bar(u64::from(opts.test.replicas) + 1, "map replicas", opts.run.progress);
     let tick = || {
         if let Some(b) = &bar {
             b.inc(1)
         }
     };
-    let res = ct::cluster_test(&angles, &tested, &opts.test, &tick)?;
+    let res = ct::cluster_test(&angles, tested, &opts.test, &tick)?;
     if let Some(b) = bar {
         b.finish_and_clear();
     }
