@@ -435,7 +435,7 @@ pub fn pct(p: f64) -> String {
 }
 
 /// A chance and its error to three decimals; a chance a run withheld (NaN: an empty cell of
-/// its table, `commands::chances_withheld`) says so instead.
+/// its table, `commands::fitted_chances_withheld`) says so instead.
 pub fn chance_with_error(p: f64, error: f64) -> String {
     if p.is_finite() {
         format!("{p:.3} ± {error:.3}")

@@ -273,3 +273,57 @@ fn the_cycle_finder_sees_a_cycle() {
         vec![vec!["a".to_string(), "b".to_string(), "c".to_string()]]
     );
 }
+
+/// The name a line of code declares as a public type (`pub struct|enum|type|trait NAME`), if
+/// any; `pub(crate)` and private types are not counted.
+fn public_type_name(line: &str) -> Option<&str> {
+    let rest = line.trim_start().strip_prefix("pub ")?;
+    let rest = ["struct ", "enum ", "type ", "trait "]
+        .iter()
+        .find_map(|kw| rest.strip_prefix(kw))?;
+    let end = rest
+        .find(|c: char| !(c.is_ascii_alphanumeric() || c == '_'))
+        .unwrap_or(rest.len());
+    (end > 0).then(|| &rest[..end])
+}
+
+/// Names that explain themselves (DEVELOPERS.md, "Architecture"): no two public types of the
+/// library share a name, so a type named in a message, a doc or a review is found in one step.
+/// (The binary's one `Args` per `src/cli/` file is the binary's convention and not counted.)
+#[test]
+fn no_two_public_types_share_a_name() {
+    let mut seen: std::collections::BTreeMap<String, Vec<String>> = Default::default();
+    for (rel, _) in library_files() {
+        let text = fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join(&rel)).unwrap();
+        for (n, line) in text.lines().enumerate() {
+            if let Some(name) = public_type_name(line) {
+                seen.entry(name.to_string())
+                    .or_default()
+                    .push(format!("{rel}:{}", n + 1));
+            }
+        }
+    }
+    let shared: Vec<String> = seen
+        .into_iter()
+        .filter(|(_, at)| at.len() > 1)
+        .map(|(name, at)| format!("{name}: {}", at.join(", ")))
+        .collect();
+    assert!(
+        shared.is_empty(),
+        "public types that share a name (rename one so each says what it is):\n{}",
+        shared.join("\n")
+    );
+}
+
+#[test]
+fn the_name_reader_sees_public_types_only() {
+    assert_eq!(public_type_name("pub struct Batch<'a> {"), Some("Batch"));
+    assert_eq!(public_type_name("    pub enum StopRule {"), Some("StopRule"));
+    assert_eq!(
+        public_type_name("pub type Result<T> = std::result::Result<T, Error>;"),
+        Some("Result")
+    );
+    assert_eq!(public_type_name("pub(crate) struct Hidden;"), None);
+    assert_eq!(public_type_name("struct Private;"), None);
+    assert_eq!(public_type_name("pub fn struct_like() {}"), None);
+}

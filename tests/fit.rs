@@ -756,3 +756,96 @@ fn the_orbit_quality_cut_selects_what_it_says() {
         histogram(&true_node, &true_argperi)
     );
 }
+
+#[test]
+fn compare_models_puts_its_model_objects_through_the_catalogues_fit_and_cut() {
+    // compare-models on a fitted catalogue with a cut, the model being the very objects the
+    // catalogue was observed from, at the same seed: each model object is observed, measured
+    // and fitted on its own streams as `observe --fit-orbits` did (methods.md, "A catalogue of
+    // fitted orbits with an orbit-quality cut"), so the model's detected objects must be
+    // exactly the catalogue's rows that pass the cut, at the same fitted elements; the
+    // goodness of fit and marginal chances are printed (calibrated: tests/fit_calibration.rs),
+    // and the summary records the selection.
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let run = observed_with_fits(tmp.path(), "run", &[]);
+    let catalogue = run.join("discoveries.parquet");
+    let s = |p: &std::path::Path| p.to_string_lossy().into_owned();
+    let out = tmp.path().join("compare");
+    let model = format!("same={}", s(&tmp.path().join("objects.parquet")));
+    let o = common::seine(&[
+        "compare-models",
+        "--survey",
+        &s(&tmp.path().join("syn.survey.toml")),
+        "--observed",
+        &s(&catalogue),
+        "--fitted-elements",
+        "--max-sigma-a-frac",
+        "0.01",
+        "--model",
+        &model,
+        "--space",
+        "a_au,e,inc_deg,varpi_deg",
+        "--synthetic",
+        "200",
+        "--bootstrap",
+        "20",
+        "--quiet",
+        "--out",
+        &s(&out),
+    ]);
+    let err = common::stderr(&o);
+    assert!(o.status.success(), "{err}");
+    assert!(!err.contains("caution"), "the selection is modelled: {err}");
+    let said: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    let key = said["selection"].as_str().unwrap_or_default();
+    assert!(
+        key.contains("fitted elements, σa/a ≤ 0.01") && key.contains("fit span all"),
+        "{said}"
+    );
+    let p = said["models"][0]["gof_p"].as_f64().unwrap_or(f64::NAN);
+    assert!(p > 0.0 && p <= 1.0, "goodness of fit not printed: {said}");
+    let marginals = read_table(&out.join("marginals.parquet")).unwrap();
+    assert!(nullable(&marginals, "p_value").iter().all(Option::is_some));
+    // The catalogue's rows that pass, computed here from its own columns.
+    let disc = read_table(&catalogue).unwrap();
+    let (ids, fit_a, sigma_a) = (
+        nullable(&disc, "id"),
+        nullable(&disc, "fit_a_au"),
+        nullable(&disc, "sigma_a_au"),
+    );
+    let class = nullable_str(&disc, "fit_quality");
+    let mut want: Vec<(i64, f64)> = (0..ids.len())
+        .filter(|&k| {
+            class[k].as_deref().is_some_and(|c| c != "failed")
+                && matches!((fit_a[k], sigma_a[k]), (Some(a), Some(sa)) if sa / a <= 0.01)
+        })
+        .map(|k| (ids[k].unwrap() as i64, fit_a[k].unwrap()))
+        .collect();
+    assert!(
+        want.len() >= 10 && want.len() + 10 <= ids.len(),
+        "the cut should keep some and leave out some: {} of {}",
+        want.len(),
+        ids.len()
+    );
+    let det = read_table(&out.join("detected.parquet")).unwrap();
+    let mut got: Vec<(i64, f64)> = nullable(&det, "id")
+        .into_iter()
+        .zip(nullable(&det, "a_au"))
+        .map(|(i, a)| (i.unwrap() as i64, a.unwrap()))
+        .collect();
+    want.sort_by_key(|x| x.0);
+    got.sort_by_key(|x| x.0);
+    assert_eq!(
+        got.iter().map(|x| x.0).collect::<Vec<_>>(),
+        want.iter().map(|x| x.0).collect::<Vec<_>>(),
+        "the model's detected objects are not the catalogue's rows that pass the cut"
+    );
+    for ((id, a), (_, fit)) in got.iter().zip(&want) {
+        assert!(
+            (a - fit).abs() <= 1e-9 * fit,
+            "object {id}: model's fitted a {a} vs catalogue's {fit}"
+        );
+    }
+}

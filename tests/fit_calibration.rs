@@ -31,7 +31,7 @@
 
 mod common;
 
-use common::{check_uniform, ecliptic_fields};
+use common::{check_uniform, draw, ecliptic_fields, ks_uniform_p};
 
 use std::f64::consts::TAU;
 use std::path::Path;
@@ -41,6 +41,8 @@ use rand_pcg::Pcg64;
 use rayon::prelude::*;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, selected_bias_maps};
 use seine::analysis::cluster_test::{Angles, TestOptions, cluster_test};
+use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, score_model, shared_estimator};
+use seine::analysis::space::Space;
 use seine::analysis::trial_selection::TrialSelection;
 use seine::analysis::trials::TrialObject;
 use seine::engine::{PreparedSurvey, StopRule};
@@ -398,4 +400,189 @@ fn fitted_elements_with_a_quality_cut_every_p_value_is_uniform() {
     let names = out[0].0.clone();
     let p: Vec<Vec<f64>> = out.iter().map(|o| o.1.clone()).collect();
     check_uniform("fitted elements, cut one_opposition, σa/a ≤ 0.25", &names, &p);
+}
+
+/// A model population for `compare-models`: moderately eccentric objects, bright enough that the
+/// season finds a few per cent of them and the cut keeps a part of those, by where they are.
+const DISK: &str = r#"
+[population]
+name = "eccentric test disk"
+epoch_mjd = 60400.0
+[orbit]
+a_au = { dist = "uniform", lo = 40.0, hi = 70.0 }
+e = { dist = "uniform", lo = 0.3, hi = 0.5 }
+inc_deg = { dist = "uniform", lo = 0.0, hi = 15.0 }
+[photometry]
+h_mag = { dist = "uniform", lo = 4.5, hi = 7.0 }
+"#;
+
+/// Null catalogues of compare-models on fitted elements with the cut, and their size.
+const NULLS_COMPARE: usize = 200;
+const CATALOGUE_SIZE: usize = 10;
+/// Model objects simulated (split into four quarter models too), and the sky population the
+/// null catalogues are taken from (other ids and seed: independent of the model).
+const MODEL_OBJECTS: i64 = 120_000;
+const SKY_OBJECTS: i64 = 240_000;
+
+#[test]
+fn compare_models_on_fitted_elements_with_a_cut_is_calibrated_and_does_not_drift() {
+    // The null through the engine and the fit, nothing tabulated: 200 catalogues of 10 objects
+    // of a sky population drawn from the model, each object discovered by the lopsided season
+    // and its fitted orbit passing the cut, at its fitted elements (as `observe --fit-orbits`
+    // and `--fitted-elements` make them). The model's objects go through the same fit and cut
+    // (`TrialSelection::entering`, the path of `compare-models`): the goodness-of-fit and
+    // marginal p-values are uniform (methods.md, "A catalogue of fitted orbits with an
+    // orbit-quality cut"), and a model of a quarter of the objects gives the same ln L within
+    // its quoted error, with no systematic shift. Beside it, the model's detected objects as
+    // before (every discovery at its true elements), which the cut catalogue is not drawn from:
+    // they must fail.
+    let dir = tempfile::tempdir().unwrap();
+    let surveys = season(dir.path());
+    let selection = TrialSelection::new(&cut(true), fit_options());
+    let space = Space::parse("a_au,q_au,inc_deg,varpi_deg").unwrap();
+    let model = |name: &str, n: i64, seed: u64, first: i64| Model {
+        name: name.into(),
+        objects: draw(DISK, seed, first, n),
+        population_size: None,
+    };
+    let full = model("full", MODEL_OBJECTS, 3, 0);
+    // The full model's objects in four disjoint quarters, each a model of its own.
+    let q = MODEL_OBJECTS / 4;
+    let quarters: Vec<Model> = (0..4).map(|k| model(&format!("quarter {k}"), q, 3, k * q)).collect();
+    let sky = model("sky", SKY_OBJECTS, 5, 10_000_000);
+    let started = std::time::Instant::now();
+    let det_full = Detected::selected(&full, &space, &surveys, 11, &selection).unwrap();
+    let det_quarters: Vec<Detected> = quarters
+        .iter()
+        .map(|m| Detected::selected(m, &space, &surveys, 11, &selection).unwrap())
+        .collect();
+    let det_plain = Detected::selected(&full, &space, &surveys, 11, &TrialSelection::Discovered).unwrap();
+    let det_sky = Detected::selected(&sky, &space, &surveys, 77, &selection).unwrap();
+    eprintln!(
+        "entering the cut catalogue: full {} of {} ({} discovered), quarters {:?}, sky {} of {}; {:.0} s wall",
+        det_full.rows.len(),
+        MODEL_OBJECTS,
+        det_plain.rows.len(),
+        det_quarters.iter().map(|d| d.rows.len()).collect::<Vec<_>>(),
+        det_sky.rows.len(),
+        SKY_OBJECTS,
+        started.elapsed().as_secs_f64()
+    );
+    // Each quarter's objects are the full model's, fitted on the same streams: together they
+    // are the full model's entering objects, at the same fitted elements.
+    let joined: Vec<Vec<f64>> = det_quarters.iter().flat_map(|d| d.points.clone()).collect();
+    assert_eq!(
+        joined, det_full.points,
+        "the quarters' fitted objects are not the full model's"
+    );
+    assert!(
+        det_sky.points.len() >= NULLS_COMPARE * CATALOGUE_SIZE,
+        "{} sky objects enter for {NULLS_COMPARE} × {CATALOGUE_SIZE}",
+        det_sky.points.len()
+    );
+    let cats: Vec<Vec<Vec<f64>>> = det_sky
+        .points
+        .chunks(CATALOGUE_SIZE)
+        .take(NULLS_COMPARE)
+        .map(|c| c.to_vec())
+        .collect();
+    let opts = CompareOptions {
+        observed: full.objects.clone(),
+        models: Vec::new(),
+        space: space.clone(),
+        density: DensityChoice::Kernel,
+        synthetic: 100,
+        bootstrap: 2,
+        seed: 11,
+        frame: None,
+        selection: selection.clone(),
+    };
+    // One bandwidth for the full model and its quarters (the rule of compare-models).
+    let mut fitted = vec![det_full];
+    fitted.extend(det_quarters);
+    let est = shared_estimator(&space, opts.density, &cats[0], CATALOGUE_SIZE as f64, &fitted).unwrap();
+    let plain_est = shared_estimator(
+        &space,
+        opts.density,
+        &cats[0],
+        CATALOGUE_SIZE as f64,
+        &[det_plain.clone()],
+    )
+    .unwrap();
+    let scored: Vec<(Vec<f64>, f64, Vec<(f64, f64)>)> = cats
+        .par_iter()
+        .enumerate()
+        .map(|(c, cat)| {
+            let mut o = opts.clone();
+            o.seed = 1000 + c as u64;
+            let drift_case = c < 30;
+            o.bootstrap = if drift_case { 100 } else { 2 };
+            let s = score_model(0, &full, &fitted[0], &est, cat, &o).unwrap();
+            let mut p = vec![s.gof_p];
+            p.extend(s.marginals.iter().map(|m| m.p_value));
+            let plain = score_model(5, &full, &det_plain, &plain_est, cat, &o).unwrap().gof_p;
+            let drift = (0..4)
+                .filter(|_| drift_case)
+                .map(|k| {
+                    let q = score_model(k + 1, &quarters[k], &fitted[k + 1], &est, cat, &o).unwrap();
+                    (q.log_likelihood - s.log_likelihood, q.log_likelihood_error)
+                })
+                .collect();
+            (p, plain, drift)
+        })
+        .collect();
+    let names: Vec<String> = std::iter::once("goodness of fit".to_string())
+        .chain(
+            [
+                "a ks",
+                "a ad",
+                "q ks",
+                "q ad",
+                "i ks",
+                "i ad",
+                "varpi kuiper",
+                "varpi watson",
+            ]
+            .iter()
+            .map(|n| format!("marginal {n}")),
+        )
+        .collect();
+    let p: Vec<Vec<f64>> = scored.iter().map(|s| s.0.clone()).collect();
+    let plain: Vec<f64> = scored.iter().map(|s| s.1).collect();
+    let plain_reject = plain.iter().filter(|p| **p <= 0.05).count() as f64 / plain.len() as f64;
+    eprintln!(
+        "models ignoring the fit and cut: goodness of fit rejects {plain_reject:.3} at 5%, KS p {:.2e}",
+        ks_uniform_p(&plain)
+    );
+    // Drift: each quarter model gives the full model's ln L within its quoted error; and
+    // averaged over the four quarters, whose objects make up the full model, the model-sample
+    // noise cancels and what is left is ln L's systematic dependence on the model's size (the
+    // mean of ln p̂ over the quarters is below ln p̂ of the whole, Jensen's inequality).
+    let (drift, sigma): (Vec<f64>, Vec<f64>) = scored.iter().flat_map(|s| s.2.clone()).unzip();
+    let z: Vec<f64> = drift.iter().zip(&sigma).map(|(d, s)| d / s).collect();
+    let mean = |v: &[f64]| v.iter().sum::<f64>() / v.len() as f64;
+    eprintln!(
+        "ln L(quarter) − ln L(full) over 4 quarters × {} catalogues: mean {:+.3} nats, mean quoted error {:.3}, \
+         mean z {:+.2}, largest |z| {:.2}",
+        z.len() / 4,
+        mean(&drift),
+        mean(&sigma),
+        mean(&z),
+        z.iter().fold(0.0f64, |m, x| m.max(x.abs()))
+    );
+    check_uniform(
+        "compare-models, fitted elements, cut one_opposition, σa/a ≤ 0.25",
+        &names,
+        &p,
+    );
+    assert!(z.iter().all(|x| x.abs() < 4.0), "{z:?}");
+    assert!(mean(&z).abs() < 0.5, "systematic drift: mean z {}", mean(&z));
+    // The case must be one where the fit and cut matter: the models' detected objects as before
+    // reject the true model beyond the binomial bound at 5%.
+    let m = NULLS_COMPARE as f64;
+    let bound = 0.05 + (3.5 * (m * 0.05 * 0.95).sqrt() + 1.0) / m;
+    assert!(
+        plain_reject > bound,
+        "ignoring the fit and cut rejects {plain_reject} at 5% (bound {bound})"
+    );
 }

@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 
 use seine::engine::PreparedSurvey;
 use seine::hideout::moc::{Moc, credible_cells};
-use seine::hideout::{self, Prior, TallyOptions, diameter_from_h, evaluate, h_from_diameter};
+use seine::hideout::{self, HideoutPrior, TallyOptions, diameter_from_h, evaluate, h_from_diameter};
 use seine::io::table::{Columns, read_table};
 use seine::sky::frames::{ecliptic_to_radec, separation, unit_vector};
 use seine::survey::Survey;
@@ -92,7 +92,7 @@ fn nearest_field_deg(ra: f64, dec: f64) -> f64 {
 fn a_bright_prior_is_excluded_inside_the_fields_and_nowhere_else() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 1.0)).unwrap())];
-    let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
+    let p = HideoutPrior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
     let objects = p.draw(7, 0..4000).unwrap();
     let epoch = hideout::epoch_observer(T).unwrap();
     let draws = evaluate(&objects, &surveys, &epoch, 7);
@@ -136,7 +136,7 @@ fn a_bright_prior_is_excluded_inside_the_fields_and_nowhere_else() {
 fn exclusion_inside_the_fields_follows_the_live_fraction() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 0.5)).unwrap())];
-    let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
+    let p = HideoutPrior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
     let objects = p.draw(11, 0..6000).unwrap();
     let draws = evaluate(&objects, &surveys, &hideout::epoch_observer(T).unwrap(), 11);
     let (mut n_in, mut found_in) = (0f64, 0f64);
@@ -189,27 +189,27 @@ fn the_size_prior_sets_h_within_its_bounds() {
     let dir = tempfile::tempdir().unwrap();
     let text = PRIOR.replace("h_mag = { dist = \"fixed\", value = -3.0 }", "")
         + "[size]\ndiameter_km = { dist = \"uniform\", lo = 5000.0, hi = 10000.0 }\nalbedo = { dist = \"uniform\", lo = 0.1, hi = 0.5 }\n";
-    let p = Prior::read(&prior(dir.path(), &text), None, None).unwrap();
+    let p = HideoutPrior::read(&prior(dir.path(), &text), None, None).unwrap();
     let h = p.draw(3, 0..500).unwrap().h_mag;
     let (lo, hi) = (h_from_diameter(10000.0, 0.5), h_from_diameter(5000.0, 0.1));
     assert!(h.iter().all(|&x| x >= lo && x <= hi), "H outside [{lo}, {hi}]");
     assert!(h.iter().any(|&x| x != h[0]));
     let both = PRIOR.to_string()
         + "[size]\ndiameter_km = { dist = \"fixed\", value = 5000.0 }\nalbedo = { dist = \"fixed\", value = 0.2 }\n";
-    let e = Prior::read(&prior(dir.path(), &both), None, None)
+    let e = HideoutPrior::read(&prior(dir.path(), &both), None, None)
         .unwrap_err()
         .to_string();
     assert!(e.contains("h_mag"), "{e}");
     // A diameter without an albedo (or the reverse) is refused, not read with a default.
     let half = PRIOR.replace("h_mag = { dist = \"fixed\", value = -3.0 }", "")
         + "[size]\ndiameter_km = { dist = \"fixed\", value = 5000.0 }\n";
-    let e = Prior::read(&prior(dir.path(), &half), None, None)
+    let e = HideoutPrior::read(&prior(dir.path(), &half), None, None)
         .unwrap_err()
         .to_string();
     assert!(e.contains("give both diameter_km and albedo"), "{e}");
     // Through the one spec parser: a misspelt key names its line and column, and the key meant.
     let typo = half.replace("diameter_km =", "diameter_kms =");
-    let e = Prior::read(&prior(dir.path(), &typo), None, None)
+    let e = HideoutPrior::read(&prior(dir.path(), &typo), None, None)
         .unwrap_err()
         .to_string();
     assert!(
@@ -441,7 +441,7 @@ fn seine_merge_sums_hideout_shards_from_a_job_array() {
 fn tallies_do_not_depend_on_threads_or_chunks() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![PreparedSurvey::new(Survey::load(&survey(dir.path(), 0.5)).unwrap())];
-    let p = Prior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
+    let p = HideoutPrior::read(&prior(dir.path(), PRIOR), None, None).unwrap();
     let run = |threads: usize, chunk: usize| {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
         let opts = TallyOptions { chunk, ..options(1500) };
@@ -461,7 +461,7 @@ fn example_priors_draw() {
     for entry in std::fs::read_dir(&root).unwrap() {
         let path = entry.unwrap().path();
         if path.extension().is_some_and(|e| e == "toml") {
-            let t = Prior::read(&path, None, None).unwrap().draw(1, 0..200).unwrap();
+            let t = HideoutPrior::read(&path, None, None).unwrap().draw(1, 0..200).unwrap();
             assert!(t.h_mag.iter().all(|h| h.is_finite()), "{}", path.display());
             n += 1;
         }
@@ -509,7 +509,7 @@ fn importance_weighted_priors_give_the_plain_excluded_fraction() {
     let weighted =
         plain.clone() + "[importance]\nh_mag = { dist = \"exponential\", alpha = -0.3, lo = -3.0, hi = 12.0 }\n";
     let tally = |text: &str| {
-        let p = Prior::read(&prior(dir.path(), text), None, None).unwrap();
+        let p = HideoutPrior::read(&prior(dir.path(), text), None, None).unwrap();
         hideout::run_tally(&p, &surveys, &options(8000)).unwrap().0.total
     };
     let (a, b) = (tally(&plain), tally(&weighted));
@@ -535,8 +535,8 @@ fn importance_weighted_priors_give_the_plain_excluded_fraction() {
 /// of the definitions (methods.md, "Weighted proportions"); no outside source.
 #[test]
 fn excluded_fraction_error_is_never_below_kish() {
-    use seine::hideout::{DrawResult, ExclusionBins, RunTally};
-    let draw = |id: i64, weight: f64, discovered: bool| DrawResult {
+    use seine::hideout::{DrawOutcome, ExclusionBins, RunTally};
+    let draw = |id: i64, weight: f64, discovered: bool| DrawOutcome {
         id,
         a_au: 300.0,
         h_mag: 5.0,
@@ -548,7 +548,7 @@ fn excluded_fraction_error_is_never_below_kish() {
         mag: 22.0,
         rate_arcsec_per_hr: 1.0,
     };
-    let draws: Vec<DrawResult> = (0..100)
+    let draws: Vec<DrawOutcome> = (0..100)
         .map(|i| draw(i, if i < 2 { 0.01 } else { 1.0 }, i < 2))
         .collect();
     let bins = |q| ExclusionBins::linear(q, 0.0, 1000.0, 1);

@@ -9,14 +9,14 @@ mod common;
 
 use std::path::Path;
 
-use common::{Fixture, ecliptic_fields, ks_uniform_p, survey};
+use common::{Fixture, draw, ecliptic_fields, ks_uniform_p, survey};
 use nalgebra::DMatrix;
 use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, score_model, shared_estimator};
 use seine::analysis::likelihood::{Bandwidth, Estimator, Kde, Kernel, ModelDensity};
 use seine::analysis::space::{Coordinate, Space};
+use seine::analysis::trial_selection::TrialSelection;
 use seine::engine::PreparedSurvey;
 use seine::orbit::{Center, Elements};
-use seine::population::Spec;
 use seine::population::objects::ObjectTable;
 use seine::population::recenter::recenter;
 use seine::population::resonance::neptune_mean_longitude;
@@ -170,15 +170,6 @@ inc_deg = { dist = "uniform", lo = 0.0, hi = 15.0 }
 h_mag = { dist = "uniform", lo = 5.0, hi = 6.5 }
 "#;
 
-/// `n` objects of a spec, ids from `first`.
-fn draw(spec: &str, seed: u64, first: i64, n: i64) -> ObjectTable {
-    let Spec::Draw(p) = Spec::parse(spec, Path::new("test.toml")).unwrap() else {
-        panic!("a draw spec")
-    };
-    let df = p.frame(p.draw_ids(seed, first..first + n).unwrap());
-    ObjectTable::from_frame(df, Path::new("drawn.parquet")).unwrap()
-}
-
 fn options(observed: &ObjectTable, synthetic: u64, bootstrap: u64) -> CompareOptions {
     CompareOptions {
         observed: observed.clone(),
@@ -189,6 +180,7 @@ fn options(observed: &ObjectTable, synthetic: u64, bootstrap: u64) -> CompareOpt
         bootstrap,
         seed: 11,
         frame: None,
+        selection: TrialSelection::Discovered,
     }
 }
 

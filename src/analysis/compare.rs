@@ -18,7 +18,8 @@ use rayon::prelude::*;
 use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
 use super::marginals::{Statistic, WeightedEcdf};
 use super::space::{Coordinate, Space};
-use crate::engine::{Batch, PreparedSurvey, StopRule};
+use super::trial_selection::TrialSelection;
+use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::orbit::Center;
 use crate::population::objects::ObjectTable;
@@ -56,6 +57,8 @@ pub struct CompareOptions {
     pub seed: u64,
     /// Convert every table to this frame; None refuses mixed frames.
     pub frame: Option<Center>,
+    /// What a model object must pass to enter the catalogue: the catalogue's own selection.
+    pub selection: TrialSelection,
 }
 
 /// Most bootstrap replicates and synthetic catalogues a run takes.
@@ -151,8 +154,8 @@ impl CompareOptions {
 
 /// Rows of a population that the surveys discover (engine, `Observe` streams, as `observe`).
 pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<usize> {
-    let found = Batch::new(surveys, seed, StopRule::UntilDiscovery).discovered(t);
-    (0..t.len()).filter(|i| found[*i]).collect()
+    let entering = TrialSelection::Discovered.entering(t, surveys, seed);
+    entering.into_iter().map(|(i, _)| i).collect()
 }
 
 /// A model's detected sample: rows, points, weights, and the weighted detected fraction.
@@ -165,12 +168,31 @@ pub struct Detected {
 }
 
 impl Detected {
+    /// The model's discovered objects at their true elements.
     pub fn of(model: &Model, space: &Space, surveys: &[PreparedSurvey], seed: u64) -> Result<Self> {
+        Self::selected(model, space, surveys, seed, &TrialSelection::Discovered)
+    }
+
+    /// The model's objects that enter a catalogue taken under `selection` (discovered, and for
+    /// a fitted or cut catalogue their orbit fitted and passing the cut), at the elements they
+    /// enter with (methods.md, "A catalogue of fitted orbits with an orbit-quality cut").
+    pub fn selected(
+        model: &Model,
+        space: &Space,
+        surveys: &[PreparedSurvey],
+        seed: u64,
+        selection: &TrialSelection,
+    ) -> Result<Self> {
         let t = &model.objects;
-        let rows = detected_rows(t, surveys, seed);
+        let entering = selection.entering(t, surveys, seed);
+        let rows: Vec<usize> = entering.iter().map(|(i, _)| *i).collect();
         if rows.len() < 2 {
+            let what = match selection {
+                TrialSelection::Discovered => "detected".to_string(),
+                TrialSelection::Fitted { .. } => format!("detected with a fit passing the cut ({})", selection.key()),
+            };
             return Err(Error::input(format!(
-                "model `{}`: only {} of {} objects detected; a detected distribution needs at least two \
+                "model `{}`: only {} of {} objects {what}; a detected distribution needs at least two \
                  (simulate more objects)",
                 model.name,
                 rows.len(),
@@ -190,8 +212,12 @@ impl Detected {
                 model.name
             )));
         }
+        let points = entering
+            .iter()
+            .map(|(i, kept)| space.point(&kept.elements(t.elements[*i]), t.h_mag[*i]))
+            .collect();
         Ok(Detected {
-            points: space.points(t, &rows),
+            points,
             rows,
             weights,
             fraction,
@@ -257,20 +283,6 @@ pub struct ModelScore {
     pub points: Vec<Vec<f64>>,
     pub ids: Vec<i64>,
     pub weights: Vec<f64>,
-}
-
-impl ModelScore {
-    /// Blank the goodness of fit and the marginal tests' chances (NaN, written as empty cells):
-    /// for a catalogue drawn under a selection the models' detected objects do not have
-    /// (`commands::chances_withheld`). ln L and the statistics stay.
-    pub fn withhold_chances(&mut self) {
-        self.gof_p = f64::NAN;
-        self.gof_p_error = f64::NAN;
-        for m in &mut self.marginals {
-            m.p_value = f64::NAN;
-            m.p_error = f64::NAN;
-        }
-    }
 }
 
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -603,6 +615,8 @@ pub struct Comparison {
     pub catalogue: Vec<Vec<f64>>,
     pub catalogue_ids: Vec<i64>,
     pub catalogue_weights: Vec<f64>,
+    /// What the models' objects went through to count as detected (`TrialSelection::key`).
+    pub selection: String,
 }
 
 /// Run a comparison: frames aligned, every model through the surveys, scored.
@@ -615,7 +629,7 @@ pub fn compare_models(surveys: &[PreparedSurvey], mut opts: CompareOptions) -> R
     let detected = opts
         .models
         .iter()
-        .map(|m| Detected::of(m, &opts.space, surveys, opts.seed))
+        .map(|m| Detected::selected(m, &opts.space, surveys, opts.seed, &opts.selection))
         .collect::<Result<Vec<_>>>()?;
     let estimator = shared_estimator(&opts.space, opts.density, &catalogue, n_catalogue, &detected)?;
     let models = opts
@@ -640,6 +654,7 @@ pub fn compare_models(surveys: &[PreparedSurvey], mut opts: CompareOptions) -> R
         catalogue_ids: opts.observed.ids.clone(),
         catalogue_weights: opts.observed.weight.clone(),
         catalogue,
+        selection: opts.selection.key(),
     })
 }
 

@@ -169,6 +169,7 @@ fn summary_json(c: &Comparison) -> serde_json::Value {
         "space": c.space,
         "density": c.density,
         "frame": c.frame.name(),
+        "selection": c.selection,
         "bandwidth": {
             "rule": "one kernel for all models: covariance of the equal-weight mixture of their detected objects × h², h = n_observed^(-1/(d+4))",
             "factor": c.bandwidth_factor,
@@ -400,7 +401,9 @@ pub fn read(dir: &Path) -> Result<Read> {
     })
 }
 
-/// A chance column whose empty cells are chances the run withheld (`commands::chances_withheld`).
+/// A chance column whose empty cells are chances a run withheld (tables written before the
+/// models' objects went through the catalogue's fit and cut, when a fitted or cut catalogue's
+/// chances were not calibrated).
 fn withheld_as_nan(c: &Columns, name: &str) -> Result<Vec<f64>> {
     Ok(c.f64_nullable(name)?
         .into_iter()

@@ -6,6 +6,7 @@
 use std::f64::consts::TAU;
 
 use crate::error::{Error, Result};
+use crate::orbit::Elements;
 use crate::population::objects::ObjectTable;
 
 /// How a density treats one coordinate.
@@ -74,7 +75,11 @@ impl Observable {
 
     /// The value for row i of a table (angles in [0°, 360°)).
     pub fn value(self, t: &ObjectTable, i: usize) -> f64 {
-        let el = &t.elements[i];
+        self.value_of(&t.elements[i], t.h_mag[i])
+    }
+
+    /// The value for an object of elements `el` and absolute magnitude `h_mag`.
+    pub fn value_of(self, el: &Elements, h_mag: f64) -> f64 {
         let deg = |x: f64| x.rem_euclid(TAU).to_degrees();
         match self {
             Observable::A => el.a_au,
@@ -85,7 +90,7 @@ impl Observable {
             Observable::Node => deg(el.node_rad),
             Observable::Argperi => deg(el.argperi_rad),
             Observable::Varpi => deg(el.node_rad + el.argperi_rad),
-            Observable::H => t.h_mag[i],
+            Observable::H => h_mag,
         }
     }
 }
@@ -139,8 +144,11 @@ impl Space {
 
     /// The points of rows `rows` of a table, in the observables' own units.
     pub fn points(&self, t: &ObjectTable, rows: &[usize]) -> Vec<Vec<f64>> {
-        rows.iter()
-            .map(|&i| self.observables.iter().map(|o| o.value(t, i)).collect())
-            .collect()
+        rows.iter().map(|&i| self.point(&t.elements[i], t.h_mag[i])).collect()
+    }
+
+    /// The point of an object of elements `el` and absolute magnitude `h_mag`.
+    pub fn point(&self, el: &Elements, h_mag: f64) -> Vec<f64> {
+        self.observables.iter().map(|o| o.value_of(el, h_mag)).collect()
     }
 }

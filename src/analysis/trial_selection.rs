@@ -1,15 +1,19 @@
-//! What a bias-map trial must pass to count as discovered, and which of its angles the map
-//! keeps: discovered by any survey in its true angles (a catalogue of true elements), or, for a
+//! What a bias-map trial (or a model object of `compare-models`) must pass to count as
+//! discovered, and which of its elements are kept: discovered by any survey in its true angles (a catalogue of true elements), or, for a
 //! catalogue taken on fitted elements or cut on its fits, discovered *and* its orbit fitted to
 //! its simulated astrometry passing the same cut, in its fitted angles. Why this makes the map
 //! the selection function of the fitted, cut catalogue: methods.md, "Bias maps of a catalogue
 //! of fitted orbits".
 
+use rayon::prelude::*;
+
 use super::trials::TrialObject;
-use crate::engine::{PreparedSurvey, StopRule};
+use crate::engine::outcome::ObjectOutcome;
+use crate::engine::{Batch, PreparedSurvey, StopRule};
 use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
-use crate::orbit::Elements;
+use crate::orbit::{Center, Elements};
+use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream};
 
 /// The selection a map's trials go through.
@@ -74,25 +78,74 @@ impl TrialSelection {
             return None;
         }
         let outcome = obj.observe(el, surveys, (seed, trial), StopRule::Everything, scratch);
-        let rng = object_stream(seed, trial, Purpose::Astrometry);
-        let orbit = fit.fit(&outcome, surveys, el.center, rng);
-        if !(outcome.discovered() && selection.passes(&orbit)) {
-            return None;
-        }
-        if !selection.fitted {
-            return Some(Kept::True);
-        }
-        orbit.elements.map(Kept::Fitted)
+        judge_fit(fit, selection, &outcome, surveys, el.center, (seed, trial))
+    }
+
+    /// The rows of a population (a model of `compare-models`) that enter the catalogue, each
+    /// with the elements it enters with, in row order: each row on its own id's streams, as
+    /// `observe --fit-orbits` measures and fits it (methods.md, "A catalogue of fitted orbits
+    /// with an orbit-quality cut"). A row is first run to its discovery; only a discovered one
+    /// is run again with every event worked out (the same verdict) and fitted.
+    pub fn entering(&self, t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<(usize, Kept)> {
+        let found = Batch::new(surveys, seed, StopRule::UntilDiscovery).discovered(t);
+        let discovered = (0..t.len()).filter(|i| found[*i]);
+        let TrialSelection::Fitted { fit, selection } = self else {
+            return discovered.map(|i| (i, Kept::True)).collect();
+        };
+        let rows: Vec<usize> = discovered.collect();
+        let everything = Batch::new(surveys, seed, StopRule::Everything);
+        rows.par_iter()
+            .map_init(Vec::new, |scratch, &i| {
+                let outcome = everything.one(t, i, t.ids[i], scratch);
+                let center = t.elements[i].center;
+                judge_fit(fit, selection, &outcome, surveys, center, (seed, t.ids[i])).map(|k| (i, k))
+            })
+            .collect::<Vec<_>>()
+            .into_iter()
+            .flatten()
+            .collect()
     }
 }
 
-/// Which angles a map keeps for a trial that counts as discovered.
+/// Whether a discovered outcome (worked out with every event) passes the cut once its
+/// detections are measured and fitted with the `Astrometry` stream of `stream_id` (an object's
+/// id or a trial's), and with which elements it is kept.
+fn judge_fit(
+    fit: &FitOptions,
+    selection: &Selection,
+    outcome: &ObjectOutcome,
+    surveys: &[PreparedSurvey],
+    center: Center,
+    (seed, stream_id): (u64, i64),
+) -> Option<Kept> {
+    let rng = object_stream(seed, stream_id, Purpose::Astrometry);
+    let orbit = fit.fit(outcome, surveys, center, rng);
+    if !(outcome.discovered() && selection.passes(&orbit)) {
+        return None;
+    }
+    if !selection.fitted {
+        return Some(Kept::True);
+    }
+    orbit.elements.map(Kept::Fitted)
+}
+
+/// Which elements are kept for a trial (or model object) that counts as discovered.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Kept {
-    /// The trial's own (true) angles.
+    /// The trial's own (true) elements.
     True,
-    /// The angles of its fitted orbit.
+    /// Those of its fitted orbit.
     Fitted(Elements),
+}
+
+impl Kept {
+    /// The elements kept, given the true ones.
+    pub fn elements(self, true_elements: Elements) -> Elements {
+        match self {
+            Kept::True => true_elements,
+            Kept::Fitted(el) => el,
+        }
+    }
 }
 
 /// The key of maps whose trials count every discovery in its true angles (and of map tables

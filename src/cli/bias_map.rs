@@ -4,10 +4,9 @@ use std::path::PathBuf;
 
 use seine::analysis::bias_map::{DEFAULT_MAX_TRIALS_PER_OBJECT, DEFAULT_MIN_DISCOVERIES, MapAxes, MapGrid};
 use seine::commands::bias_map::{BiasMapOptions, MapOptions, bias_map};
-use seine::fit::{AstrometricErrors, FitOptions, FitSpan};
 use seine::{Error, Result};
 
-use super::common::{CatalogueArgs, RunArgs, ShardArgs};
+use super::common::{CatalogueArgs, RunArgs, ShardArgs, TrialFitArgs};
 
 /// Grid and trial options shared with `cluster-test`.
 #[derive(clap::Args, Debug, Clone)]
@@ -32,19 +31,8 @@ pub struct GridArgs {
     /// Run past the budget of trials and memory (configuration.md, "Budgets"): it is meant.
     #[arg(long)]
     pub over_budget: bool,
-    /// With --fitted-elements or a cut on the fits: which detections a trial's orbit is fitted
-    /// to, as the catalogue's `observe --fit-orbits --fit-span` (all, discovery,
-    /// discovery-night, recovery).
-    #[arg(long, default_value = "all")]
-    pub fit_span: String,
-    /// With --fitted-elements or a cut: astrometric 1σ per coordinate, arcsec, of a trial's
-    /// detection whose detection model gives none, as the catalogue's `observe --fit-orbits`.
-    #[arg(long, default_value_t = seine::fit::span::DEFAULT_SIGMA_ARCSEC)]
-    pub astrometric_sigma_arcsec: f64,
-    /// With --fitted-elements or a cut: systematic astrometric floor, arcsec, as the
-    /// catalogue's `observe --fit-orbits`.
-    #[arg(long, default_value_t = 0.0)]
-    pub astrometric_floor_arcsec: f64,
+    #[command(flatten)]
+    pub fit: TrialFitArgs,
 }
 
 impl GridArgs {
@@ -71,10 +59,7 @@ impl GridArgs {
             max_trials_per_object: self.max_trials_per_object,
             per_cell: self.per_cell,
             over_budget: self.over_budget,
-            fit: FitOptions {
-                span: FitSpan::parse(&self.fit_span)?,
-                errors: AstrometricErrors::new(self.astrometric_sigma_arcsec, self.astrometric_floor_arcsec)?,
-            },
+            fit: self.fit.options()?,
         })
     }
 }

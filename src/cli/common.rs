@@ -132,3 +132,33 @@ impl CatalogueArgs {
         )
     }
 }
+
+/// How the catalogue's orbits were fitted, for a command whose simulated objects (bias-map
+/// trials, compare-models' model objects) go through the catalogue's fit and cut.
+#[derive(clap::Args, Debug, Clone)]
+pub struct TrialFitArgs {
+    /// With --fitted-elements or a cut on the fits: which detections a simulated object's orbit
+    /// is fitted to, as the catalogue's `observe --fit-orbits --fit-span` (all, discovery,
+    /// discovery-night, recovery).
+    #[arg(long, default_value = "all")]
+    pub fit_span: String,
+    /// With --fitted-elements or a cut: astrometric 1σ per coordinate, arcsec, of a simulated
+    /// detection whose detection model gives none, as the catalogue's `observe --fit-orbits`.
+    #[arg(long, default_value_t = seine::fit::span::DEFAULT_SIGMA_ARCSEC)]
+    pub astrometric_sigma_arcsec: f64,
+    /// With --fitted-elements or a cut: systematic astrometric floor, arcsec, as the
+    /// catalogue's `observe --fit-orbits`.
+    #[arg(long, default_value_t = 0.0)]
+    pub astrometric_floor_arcsec: f64,
+}
+
+impl TrialFitArgs {
+    /// The fit options, checked.
+    pub fn options(&self) -> Result<seine::fit::FitOptions> {
+        use seine::fit::{AstrometricErrors, FitOptions, FitSpan};
+        Ok(FitOptions {
+            span: FitSpan::parse(&self.fit_span)?,
+            errors: AstrometricErrors::new(self.astrometric_sigma_arcsec, self.astrometric_floor_arcsec)?,
+        })
+    }
+}

@@ -8,7 +8,7 @@ use seine::commands::compare_models::{CompareModelsOptions, ModelInput, compare}
 use seine::orbit::Center;
 use seine::{Error, Result};
 
-use super::common::{CatalogueArgs, RunArgs};
+use super::common::{CatalogueArgs, RunArgs, TrialFitArgs};
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -20,6 +20,8 @@ pub struct Args {
     pub observed: PathBuf,
     #[command(flatten)]
     pub selection: CatalogueArgs,
+    #[command(flatten)]
+    pub fit: TrialFitArgs,
     /// A model population NAME=OBJECTS (e.g. cloned simulation particles); repeat.
     #[arg(long = "model", required = true)]
     pub models: Vec<String>,
@@ -83,6 +85,7 @@ pub fn run(a: Args) -> Result<()> {
         surveys: a.surveys,
         observed: a.observed,
         selection: a.selection.selection()?,
+        fit: a.fit.options()?,
         synthetic: a.synthetic,
         bootstrap: a.bootstrap,
         run: a.run.options()?,

@@ -4,11 +4,13 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::compare::{CompareOptions, DensityChoice, Model, ModelScore, compare_models};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
+use crate::analysis::compare::{CompareOptions, DensityChoice, Model, compare_models};
 use crate::analysis::comparison;
 use crate::analysis::space::Space;
+use crate::analysis::trial_selection::TrialSelection;
 use crate::error::Result;
+use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
 use crate::orbit::Center;
 use crate::population::objects::ObjectTable;
@@ -29,6 +31,9 @@ pub struct CompareModelsOptions {
     /// The observed catalogue, and which of its elements and rows are taken.
     pub observed: PathBuf,
     pub selection: Selection,
+    /// How the catalogue's orbits were fitted (its `observe --fit-orbits` options): the models'
+    /// objects are fitted the same way when the catalogue is fitted or cut.
+    pub fit: FitOptions,
     pub models: Vec<ModelInput>,
     pub space: Space,
     pub density: DensityChoice,
@@ -44,7 +49,7 @@ pub struct CompareModelsOptions {
 pub fn compare(opts: &CompareModelsOptions) -> Result<Outcome> {
     let mut prov = opts.run.provenance();
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
-    let (observed, note) = read_catalogue(&opts.selection, &opts.observed)?;
+    let (observed, note) = read_catalogue_modelled(&opts.selection, &opts.observed)?;
     prov.add_input(&opts.observed)?;
     let mut models = Vec::new();
     for m in &opts.models {
@@ -64,18 +69,14 @@ pub fn compare(opts: &CompareModelsOptions) -> Result<Outcome> {
         bootstrap: opts.bootstrap,
         seed: opts.run.seed,
         frame: opts.frame,
+        // The models' objects go through the catalogue's own selection (methods.md, "A
+        // catalogue of fitted orbits with an orbit-quality cut").
+        selection: TrialSelection::new(&opts.selection, opts.fit),
     };
     options.validate()?;
-    let mut result = compare_models(&surveys, options)?;
-    let withheld = super::chances_withheld(&opts.selection);
-    if withheld.is_some() {
-        result.models.iter_mut().for_each(ModelScore::withhold_chances);
-    }
+    let result = compare_models(&surveys, options)?;
     let out = opts.run.out_dir(prov);
-    let mut conclusion = comparison::conclusion(&result);
-    if let Some(why) = withheld {
-        conclusion += &format!("\n  Goodness of fit and marginal {why}.");
-    }
+    let conclusion = comparison::conclusion(&result);
     Ok(Outcome {
         written: comparison::write(&out, &result)?,
         conclusion,

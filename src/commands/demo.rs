@@ -221,6 +221,7 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable, say
         surveys,
         observed: catalog,
         selection: Selection::default(),
+        fit: Default::default(),
         models: vec![model("isotropic", &population), model("clustered", &clustered)],
         space: Space::parse("a_au,q_au,inc_deg,varpi_deg")?,
         density: DensityChoice::Kernel,

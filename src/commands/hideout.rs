@@ -10,7 +10,7 @@ use std::path::PathBuf;
 use super::{Outcome, RunOptions, load_surveys};
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
-use crate::hideout::{self, HideoutSummary, Prior, RunInfo, TallyOptions};
+use crate::hideout::{self, HideoutPrior, HideoutSummary, RunInfo, TallyOptions};
 use crate::population::Distribution;
 
 /// The options of `seine hideout`.
@@ -89,7 +89,7 @@ impl HideoutOptions {
 pub fn hideout(opts: &HideoutOptions) -> Result<HideoutOutcome> {
     opts.validate()?;
     let mut prov = opts.run.provenance();
-    let prior = Prior::read(&opts.prior, opts.diameter_km.clone(), opts.albedo.clone())?;
+    let prior = HideoutPrior::read(&opts.prior, opts.diameter_km.clone(), opts.albedo.clone())?;
     prov.add_input(&opts.prior)?;
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
     let epoch = match opts.epoch_mjd {
@@ -132,7 +132,7 @@ pub fn merge_shards(dirs: &[PathBuf], run: &RunOptions) -> Result<HideoutOutcome
     Ok(outcome(hideout::merge_dirs(dirs, &run.out, run.format, &prov)?))
 }
 
-fn outcome(w: hideout::Written) -> HideoutOutcome {
+fn outcome(w: hideout::HideoutWritten) -> HideoutOutcome {
     HideoutOutcome {
         outcome: Outcome {
             written: w.files,

@@ -93,23 +93,6 @@ pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<Prep
     Ok(surveys)
 }
 
-/// Why `compare-models`' chances are withheld for a catalogue taken under `selection`, when
-/// they are. The models' detected objects count an object found whatever its orbit fit would
-/// be, and in its true elements; a catalogue on fitted elements or cut on its fits is drawn
-/// under another selection, so the null distribution is not the catalogue's and its p-values
-/// are not uniform (the bias maps' version of this, measured before `cluster-test`'s maps
-/// applied the fit and the cut: validation.md). A chance that is not calibrated is not printed
-/// as one. (`cluster-test`'s maps apply the selection to their trials: `TrialSelection`.)
-pub fn chances_withheld(selection: &crate::fit::catalogue::Selection) -> Option<String> {
-    (!selection.is_plain()).then(|| {
-        format!(
-            "chances withheld: the catalogue is taken with {}, a selection the models' detected objects \
-             here do not go through, so its p-values would not be calibrated (validation.md)",
-            selection.describe()
-        )
-    })
-}
-
 /// Why `cluster-test`'s bias-aware chances are withheld on fitted elements. Its maps put their
 /// trials through the catalogue's fit and cut, which is calibrated on true elements with a cut
 /// (`tests/fit_calibration.rs`), but on fitted elements they are made at the catalogue's fitted

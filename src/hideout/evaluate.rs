@@ -12,7 +12,7 @@ pub const MAX_SURVEYS: usize = 64;
 
 /// What happened to one draw, and where it is at the map epoch.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct DrawResult {
+pub struct DrawOutcome {
     pub id: i64,
     pub a_au: f64,
     pub h_mag: f64,
@@ -35,7 +35,7 @@ pub fn evaluate(
     surveys: &[PreparedSurvey],
     epoch: &ObserverState,
     seed: u64,
-) -> Vec<DrawResult> {
+) -> Vec<DrawOutcome> {
     // The same streams `seine observe` uses, so a draw's fate matches observe on the same table.
     // Only who discovered the draw matters here: each survey stops at its discovery.
     let batch = Batch::new(surveys, seed, StopRule::UntilDiscovery);
@@ -43,7 +43,7 @@ pub fn evaluate(
 }
 
 /// Who discovered row `i` (`out`), and where it is at `epoch`.
-fn place(objects: &ObjectTable, i: usize, out: &ObjectOutcome, epoch: &ObserverState) -> DrawResult {
+fn place(objects: &ObjectTable, i: usize, out: &ObjectOutcome, epoch: &ObserverState) -> DrawOutcome {
     let discovered_by = out
         .surveys
         .iter()
@@ -51,7 +51,7 @@ fn place(objects: &ObjectTable, i: usize, out: &ObjectOutcome, epoch: &ObserverS
         .fold(0u64, |m, (s, o)| m | ((o.discovered as u64) << s));
     let el = objects.elements[i];
     let a = observe(&Orbit::new(el), epoch);
-    DrawResult {
+    DrawOutcome {
         id: objects.ids[i],
         a_au: el.a_au,
         h_mag: objects.h_mag[i],

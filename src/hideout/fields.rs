@@ -9,7 +9,7 @@ use crate::statistics::{QuantileRule, histogram_quantile};
 
 /// One field of the ranked list.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Field {
+pub struct RankedField {
     pub rank: usize,
     /// Centre (a cell centre), ICRS radians.
     pub ra_rad: f64,
@@ -34,7 +34,7 @@ pub fn cells_within(order: u8, ra: f64, dec: f64, radius: f64) -> Vec<usize> {
 }
 
 /// The `n_fields` best fields of radius `radius` (radians), best first.
-pub fn rank_fields(sky: &SkyTally, radius: f64, n_fields: usize) -> Vec<Field> {
+pub fn rank_fields(sky: &SkyTally, radius: f64, n_fields: usize) -> Vec<RankedField> {
     let order = sky.order;
     let mut taken = vec![false; sky.w_surviving.len()];
     let candidates: Vec<usize> = (0..sky.w_surviving.len())
@@ -76,14 +76,14 @@ pub fn rank_fields(sky: &SkyTally, radius: f64, n_fields: usize) -> Vec<Field> {
     out
 }
 
-fn describe(sky: &SkyTally, rank: usize, ra: f64, dec: f64, cells: &[usize]) -> Field {
+fn describe(sky: &SkyTally, rank: usize, ra: f64, dec: f64, cells: &[usize]) -> RankedField {
     let sum = |v: &[f64]| cells.iter().map(|&h| v[h]).sum::<f64>();
     let w = sum(&sky.w_surviving);
     let mut hist = vec![0.0; MAG_BINS];
     for &h in cells {
         hist.iter_mut().zip(sky.histogram(h)).for_each(|(a, b)| *a += b);
     }
-    Field {
+    RankedField {
         rank,
         ra_rad: ra,
         dec_rad: dec,

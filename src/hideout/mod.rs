@@ -23,8 +23,8 @@ pub mod tally;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
-pub use evaluate::{DrawResult, evaluate};
-pub use prior::{Prior, diameter_from_h, h_from_diameter};
+pub use evaluate::{DrawOutcome, evaluate};
+pub use prior::{HideoutPrior, diameter_from_h, h_from_diameter};
 pub use summary::{HideoutSummary, RunInfo};
 pub use tally::{ExclusionBins, RunTally};
 
@@ -67,7 +67,7 @@ pub struct TallyOptions {
 
 /// What `finish` wrote: the summary, in the output directory, and every file.
 #[derive(Debug, Clone)]
-pub struct Written {
+pub struct HideoutWritten {
     pub summary: HideoutSummary,
     pub dir: PathBuf,
     /// The tables, the credible regions and `summary.json` (then the surveys' coverage).
@@ -80,7 +80,7 @@ pub fn epoch_observer(epoch_mjd_utc: f64) -> Result<ObserverState> {
 }
 
 /// Default bins: 10 equal bins over the pilot draws' range of a and of H (end bins open).
-pub fn default_bins(prior: &Prior, opts: &TallyOptions) -> Result<(ExclusionBins, ExclusionBins)> {
+pub fn default_bins(prior: &HideoutPrior, opts: &TallyOptions) -> Result<(ExclusionBins, ExclusionBins)> {
     let pilot = if opts.a_bins.is_none() || opts.h_bins.is_none() {
         Some(prior.draw(opts.seed, 0..PILOT.min(opts.count).max(1) as i64)?)
     } else {
@@ -110,7 +110,7 @@ pub fn default_bins(prior: &Prior, opts: &TallyOptions) -> Result<(ExclusionBins
 
 /// Draw the prior (this shard's ids) chunk by chunk through the surveys; returns the tally
 /// and the seconds taken.
-pub fn run_tally(prior: &Prior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(RunTally, f64)> {
+pub fn run_tally(prior: &HideoutPrior, surveys: &[PreparedSurvey], opts: &TallyOptions) -> Result<(RunTally, f64)> {
     if surveys.len() > evaluate::MAX_SURVEYS {
         return Err(Error::input(format!(
             "at most {} surveys per hideout run",
@@ -147,7 +147,7 @@ pub fn finish(
     dir: &Path,
     format: Format,
     prov: &Provenance,
-) -> Result<Written> {
+) -> Result<HideoutWritten> {
     std::fs::create_dir_all(dir)
         .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", dir.display())))?;
     let ext = format.extension();
@@ -206,7 +206,7 @@ pub fn finish(
     let json = serde_json::to_string_pretty(&summary).map_err(|e| Error::io(e.to_string()))?;
     files.push(dir.join("summary.json"));
     write_atomic(files.last().expect("just pushed"), format!("{json}\n").as_bytes())?;
-    Ok(Written {
+    Ok(HideoutWritten {
         summary,
         dir: dir.to_path_buf(),
         files,
@@ -217,7 +217,7 @@ fn make_summary(
     t: &RunTally,
     run: RunInfo,
     seconds: f64,
-    ranked: &[fields::Field],
+    ranked: &[fields::RankedField],
     r68: (&moc::Moc, &[u64]),
     r95: (&moc::Moc, &[u64]),
     w_surv: f64,
@@ -321,7 +321,7 @@ fn shard_format(dir: &Path) -> Option<Format> {
 /// `seine merge` (and `seine hideout --merge`) of hideout shard directories into `out`:
 /// every shard exactly once, all present, `out` none of them; on refusal nothing is written.
 /// Each shard is read in the format it was written in; the outputs are written in `format`.
-pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenance) -> Result<Written> {
+pub fn merge_dirs(dirs: &[PathBuf], out: &Path, format: Format, prov: &Provenance) -> Result<HideoutWritten> {
     crate::engine::merge::refuse_output_among_inputs(dirs, out)?;
     let (tally, run, seconds) = merge(dirs)?;
     let mut written = finish(&tally, run, seconds, out, format, prov)?;

@@ -55,7 +55,7 @@ pub struct SizePrior {
 
 /// The prior: the population and, optionally, the size distributions that set H.
 #[derive(Debug, Clone)]
-pub struct Prior {
+pub struct HideoutPrior {
     pub population: Box<Population>,
     pub size: Option<SizePrior>,
     pub path: PathBuf,
@@ -75,9 +75,9 @@ pub fn parse_distribution(text: &str, what: &str) -> Result<Distribution> {
     Ok(one.d)
 }
 
-impl Prior {
+impl HideoutPrior {
     /// Read a prior spec; `diameter` and `albedo` (command-line distributions) override `[size]`.
-    pub fn read(path: &Path, diameter: Option<Distribution>, albedo: Option<Distribution>) -> Result<Prior> {
+    pub fn read(path: &Path, diameter: Option<Distribution>, albedo: Option<Distribution>) -> Result<HideoutPrior> {
         let text = read_spec_text(path, "prior spec")?;
         Self::parse(&text, path, diameter, albedo)
     }
@@ -87,7 +87,7 @@ impl Prior {
         path: &Path,
         diameter: Option<Distribution>,
         albedo: Option<Distribution>,
-    ) -> Result<Prior> {
+    ) -> Result<HideoutPrior> {
         // Through the one spec parser: errors name the line, column and key, with a hint.
         let mut table: toml::Table = parse_toml(text, path)?;
         let size: SizeOnly = parse_toml(text, path)?;
@@ -100,7 +100,7 @@ impl Prior {
             None => spec_population(Spec::parse(text, path)?, path)?,
             Some(_) => spec_population(Spec::parse(&with_placeholder_h(path, table)?, path)?, path)?,
         };
-        Ok(Prior {
+        Ok(HideoutPrior {
             population,
             size,
             path: path.to_path_buf(),

@@ -2,7 +2,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::fields::Field;
+use super::fields::RankedField;
 use super::moc::Moc;
 use super::tally::RunTally;
 use crate::sky::frames::radec_to_ecliptic;
@@ -31,7 +31,7 @@ pub struct SurveyShare {
 }
 
 #[derive(Debug, Clone, Serialize, Deserialize)]
-pub struct Region {
+pub struct CredibleRegion {
     pub level: f64,
     pub n_cells: usize,
     pub area_sq_deg: f64,
@@ -68,8 +68,8 @@ pub struct HideoutSummary {
     pub excluded_fraction_err: f64,
     pub surviving_fraction: f64,
     pub per_survey: Vec<SurveyShare>,
-    pub region_68: Region,
-    pub region_95: Region,
+    pub region_68: CredibleRegion,
+    pub region_95: CredibleRegion,
     pub best_field: Option<BestField>,
     pub seconds: f64,
     pub draws_per_second: f64,
@@ -77,10 +77,10 @@ pub struct HideoutSummary {
 }
 
 /// A credible region's summary.
-pub fn region(level: f64, moc: &Moc, cells: &[u64], tally: &RunTally) -> Region {
+pub fn region(level: f64, moc: &Moc, cells: &[u64], tally: &RunTally) -> CredibleRegion {
     let w: f64 = cells.iter().map(|&c| tally.sky.w_surviving[c as usize]).sum();
     let total: f64 = tally.sky.w_surviving.iter().sum();
-    Region {
+    CredibleRegion {
         level,
         n_cells: cells.len(),
         area_sq_deg: moc.area_sq_deg(),
@@ -89,7 +89,7 @@ pub fn region(level: f64, moc: &Moc, cells: &[u64], tally: &RunTally) -> Region 
     }
 }
 
-pub fn best_field(f: &Field, radius_deg: f64, w_surviving_total: f64) -> BestField {
+pub fn best_field(f: &RankedField, radius_deg: f64, w_surviving_total: f64) -> BestField {
     let (lon, lat) = radec_to_ecliptic(f.ra_rad, f.dec_rad);
     BestField {
         ra_deg: f.ra_rad.to_degrees(),

@@ -5,7 +5,7 @@ use std::path::Path;
 
 use polars::prelude::*;
 
-use super::fields::Field;
+use super::fields::RankedField;
 use super::tally::{ExclusionBins, MAG_BINS, MAG_LO, MAG_STEP, RunTally, SkyTally};
 use crate::error::{Error, Result};
 use crate::foundation::units::DEG;
@@ -129,9 +129,9 @@ pub fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
 }
 
 /// `fields`: the ranked fields for the next search.
-pub fn fields_frame(fields: &[Field], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
+pub fn fields_frame(fields: &[RankedField], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
     let cell_area = super::SKY_SQ_DEG / cdshealpix::nested::n_hash(order) as f64;
-    let per = |g: &dyn Fn(&Field) -> f64| fields.iter().map(g).collect::<Vec<f64>>();
+    let per = |g: &dyn Fn(&RankedField) -> f64| fields.iter().map(g).collect::<Vec<f64>>();
     let ecl: Vec<(f64, f64)> = fields.iter().map(|x| radec_to_ecliptic(x.ra_rad, x.dec_rad)).collect();
     let mut cum = 0.0;
     let cumulative: Vec<f64> = fields

@@ -6,7 +6,7 @@
 
 use std::collections::HashMap;
 
-use super::evaluate::DrawResult;
+use super::evaluate::DrawOutcome;
 use crate::statistics::Tally;
 
 /// Magnitude histogram of the survivors per cell: bins of `MAG_STEP` from `MAG_LO` to `MAG_HI`;
@@ -85,7 +85,7 @@ impl SkyTally {
         cdshealpix::nested::hash(self.order, ra_rad, dec_rad) as usize
     }
 
-    fn add_draw(&mut self, d: &DrawResult) {
+    fn add_draw(&mut self, d: &DrawOutcome) {
         let c = self.cell_of(d.ra_rad, d.dec_rad);
         self.n_prior[c] += 1;
         self.w_prior[c] += d.weight;
@@ -155,7 +155,7 @@ impl RunTally {
     }
 
     /// Add draws in the order given (id order keeps the sums thread-count invariant).
-    pub fn add_draws(&mut self, draws: &[DrawResult]) {
+    pub fn add_draws(&mut self, draws: &[DrawOutcome]) {
         for d in draws {
             self.n_draws += 1;
             self.total.add(d.weight, d.discovered);

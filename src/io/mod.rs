@@ -2,6 +2,7 @@
 //! table of the DESIGN contract, a population type, is `crate::population::objects`.
 
 pub mod out_dir;
+pub mod parquet_pages;
 pub mod provenance;
 pub mod sink;
 pub mod spec_text;

@@ -75,6 +75,7 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
             .and_then(|r| r.finish()),
         Format::Parquet => {
             let f = File::open(path).map_err(|e| io_at(path, e))?;
+            guard_parquet(path, || super::parquet_pages::check_page_headers(path))??;
             guard_parquet(path, || ParquetReader::new(f).finish())?
         }
     };
@@ -181,6 +182,7 @@ pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -
         )));
     }
     let f = File::open(path).map_err(|e| Error::input(format!("{}: cannot open the table: {e}", path.display())))?;
+    guard_parquet(path, || super::parquet_pages::check_page_headers(path))??;
     let (df, lo, total) = guard_parquet(path, move || {
         let mut reader = ParquetReader::new(f);
         let total = reader.num_rows()?;
@@ -194,14 +196,46 @@ pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -
 
 /// Run a Parquet read, turning a panic of the reader into the usual refusal. The Parquet
 /// library can panic on a damaged file (a corrupted page or footer) instead of returning an
-/// error; a damaged input must end in one sentence and exit status 2, never in a panic.
+/// error; a damaged input must end in one sentence and exit status 2, never in a panic, and
+/// the panic's own message and backtrace are not printed above that sentence.
 fn guard_parquet<T>(path: &Path, read: impl FnOnce() -> T) -> Result<T> {
+    let _quiet = QuietParquetPanics::begin();
     std::panic::catch_unwind(std::panic::AssertUnwindSafe(read)).map_err(|_| {
         Error::input(format!(
             "{}: not a readable parquet table: the file is damaged (its pages or footer cannot be decoded)",
             path.display()
         ))
     })
+}
+
+/// While at least one guarded read runs, panics raised inside the Parquet library are not
+/// reported by the panic hook (they become a refusal); every other panic still is. The hook is
+/// process-wide and the library panics on its own worker threads, hence a count, not a flag.
+struct QuietParquetPanics;
+
+static GUARDED_READS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+impl QuietParquetPanics {
+    fn begin() -> Self {
+        static HOOK: std::sync::Once = std::sync::Once::new();
+        HOOK.call_once(|| {
+            let report = std::panic::take_hook();
+            std::panic::set_hook(Box::new(move |info| {
+                let in_parquet = info.location().is_some_and(|l| l.file().contains("polars"));
+                if !(in_parquet && GUARDED_READS.load(std::sync::atomic::Ordering::SeqCst) > 0) {
+                    report(info)
+                }
+            }));
+        });
+        GUARDED_READS.fetch_add(1, std::sync::atomic::Ordering::SeqCst);
+        QuietParquetPanics
+    }
+}
+
+impl Drop for QuietParquetPanics {
+    fn drop(&mut self) {
+        GUARDED_READS.fetch_sub(1, std::sync::atomic::Ordering::SeqCst);
+    }
 }
 
 /// Parquet key-value metadata of a file (the provenance lives there).

@@ -238,3 +238,13 @@ pub fn check_uniform(case: &str, names: &[String], p: &[Vec<f64>]) {
     }
     assert!(failures.is_empty(), "{case}: {failures:?}");
 }
+
+/// `n` objects of a population spec (TOML text), ids from `first`.
+pub fn draw(spec: &str, seed: u64, first: i64, n: i64) -> seine::population::objects::ObjectTable {
+    use seine::population::Spec;
+    let Spec::Draw(p) = Spec::parse(spec, Path::new("test.toml")).unwrap() else {
+        panic!("a draw spec")
+    };
+    let df = p.frame(p.draw_ids(seed, first..first + n).unwrap());
+    seine::population::objects::ObjectTable::from_frame(df, Path::new("drawn.parquet")).unwrap()
+}
