@@ -105,9 +105,15 @@ pub fn check_disk(path: &Path, bytes: f64) -> Result<()> {
 
 /// A bias-map run (`bias-map`, or `cluster-test` computing its maps): with a fixed number of
 /// trials per object, those within `MAP_TRIALS` (adaptive maps stop at their discoveries, and
-/// their cap per object bounds them); and the maps (two 8-byte counts per cell and object)
+/// their cap per object bounds them); and the maps held at once (two 8-byte counts per cell and
+/// object: all of them for a caller that keeps them, a batch for one that writes them as made)
 /// within memory.
-pub fn check_bias_maps(objects: usize, cells: f64, fixed_trials: Option<u64>, over_budget: bool) -> Result<()> {
+pub fn check_bias_maps(
+    (objects, held): (usize, usize),
+    cells: f64,
+    fixed_trials: Option<u64>,
+    over_budget: bool,
+) -> Result<()> {
     let option = format!("--grid ({cells} cells) for {objects} objects");
     if let Some(t) = fixed_trials {
         check(
@@ -117,7 +123,7 @@ pub fn check_bias_maps(objects: usize, cells: f64, fixed_trials: Option<u64>, ov
             over_budget,
         )?;
     }
-    check_memory(16.0 * objects as f64 * cells, &option, over_budget)
+    check_memory(16.0 * held.min(objects) as f64 * cells, &option, over_budget)
 }
 
 fn available_memory_bytes() -> Option<f64> {

@@ -72,11 +72,17 @@ impl MapOptions {
     }
 
     /// Refuse maps of `objects` objects past the budget (unless `over_budget`): the trials of
-    /// fixed per-cell maps, and the memory the maps hold.
-    pub fn check_budget(&self, objects: usize) -> Result<()> {
+    /// fixed per-cell maps, and the memory of the `held` maps kept at once (all of them, or a
+    /// batch: `objects_per_batch`).
+    pub fn check_budget(&self, objects: usize, held: usize) -> Result<()> {
         let budget = self.budget()?;
         let fixed = (budget.min_discoveries == u64::MAX).then_some(budget.max_trials);
-        crate::budget::check_bias_maps(objects, self.grid.cells() as f64, fixed, self.over_budget)
+        crate::budget::check_bias_maps((objects, held), self.grid.cells() as f64, fixed, self.over_budget)
+    }
+
+    /// How many maps `each_batch` makes (and holds) at once.
+    pub fn objects_per_batch(&self) -> usize {
+        bias_map_tables::maps_per_batch(self.grid.cells()).max(rayon::current_num_threads())
     }
 
     /// The selection the maps' trials go through for a catalogue read under `selection`.
@@ -121,7 +127,7 @@ impl MapOptions {
             }
         };
         let plan = (self.grid, budget, selection);
-        let per_batch = bias_map_tables::maps_per_batch(self.grid.cells()).max(rayon::current_num_threads());
+        let per_batch = self.objects_per_batch();
         let mut start = rows.start;
         while start < rows.end {
             let end = (start + per_batch).min(rows.end);
@@ -175,7 +181,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let (objects, note) = read_catalogue_modelled(&opts.selection, &opts.objects)?;
     prov.add_input(&opts.objects)?;
     let rows = shard_rows(objects.len(), opts.shard);
-    opts.maps.check_budget(rows.len())?;
+    opts.maps.check_budget(rows.len(), opts.maps.objects_per_batch())?;
     let out = opts.run.out_dir(prov);
     let selection = opts.maps.trial_selection(&opts.selection);
     // Each batch of maps is written as it is made; only their summaries are kept.

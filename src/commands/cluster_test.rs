@@ -134,7 +134,7 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
 fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut Provenance) -> Result<Vec<BiasMap>> {
     let selection = opts.maps.trial_selection(&opts.selection);
     let Some(first) = opts.bias_maps.first() else {
-        opts.maps.check_budget(catalog.len())?;
+        opts.maps.check_budget(catalog.len(), catalog.len())?;
         let surveys = load_surveys(&opts.surveys, prov)?;
         let rows = (0..catalog.len(), &selection);
         return opts
