@@ -9,7 +9,7 @@ use seine::commands::detectability::{DetectabilityOptions, Subject, detectabilit
 
 use seine::statistics::parse_edges;
 
-use super::common::{CatalogueArgs, RunArgs, ShardArgs};
+use super::common::{CatalogueArgs, RunArgs, ShardArgs, TrialFitArgs};
 
 #[derive(clap::Args, Debug)]
 #[command(group(clap::ArgGroup::new("input").required(true).args(["objects", "population"])))]
@@ -23,6 +23,8 @@ pub struct Args {
     pub objects: Option<PathBuf>,
     #[command(flatten)]
     pub selection: CatalogueArgs,
+    #[command(flatten)]
+    pub fit: TrialFitArgs,
     /// A population sample (e.g. from seine draw): the selection function P(discovered | a, q, i, H cell).
     /// One of --objects or --population is required.
     #[arg(long)]
@@ -69,6 +71,7 @@ pub fn run(a: Args) -> Result<()> {
         (None, objects) => Subject::Catalogue {
             objects: objects.expect("clap requires --objects or --population"),
             selection: a.selection.selection()?,
+            fit: a.fit.options()?,
             clones: a.clones,
             redraw,
             shard: a.shard.resolve()?,
