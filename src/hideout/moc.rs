@@ -1,5 +1,24 @@
 //! Credible regions of the posterior map, as IVOA MOCs (`crate::sky::healpix::Moc`: the
-//! canonical form and the ASCII and JSON serializations of MOC 2.0).
+//! canonical form and the ASCII and JSON serializations of MOC 2.0), and their files.
+
+use std::path::{Path, PathBuf};
+
+use crate::error::Result;
+use crate::io::table::write_atomic;
+
+/// The credible regions' file stems: `DIR/<stem>.moc.txt` (MOC 2.0 ASCII) and `.moc.json`.
+pub const REGION_68: &str = "region_68";
+pub const REGION_95: &str = "region_95";
+
+/// Write the region `m` under `dir` as `<stem>.moc.txt` and `<stem>.moc.json`; returns the files.
+pub fn write_region(dir: &Path, stem: &str, m: &Moc) -> Result<Vec<PathBuf>> {
+    let mut files = Vec::new();
+    for (kind, text) in [("txt", m.to_ascii()), ("json", m.to_json())] {
+        files.push(dir.join(format!("{stem}.moc.{kind}")));
+        write_atomic(files.last().expect("just pushed"), format!("{text}\n").as_bytes())?;
+    }
+    Ok(files)
+}
 
 /// The smallest set of cells holding at least `level` of the total weight: cells taken by
 /// decreasing weight (ties by cell index, so the set is reproducible). Empty when no weight.

@@ -9,8 +9,9 @@
 //!
 //! Files: `prior.rs` (the prior and H from diameter and albedo), `evaluate.rs` (one draw
 //! through the engine and onto the sky at the map epoch), `tally.rs` (accumulators),
-//! `moc.rs` (credible regions as IVOA MOCs), `fields.rs` (the ranked fields), `tables.rs`
-//! (the tidy tables), `summary.rs` (summary.json and the conclusion).
+//! `moc.rs` (credible regions as IVOA MOCs and their files), `fields.rs` (the ranked fields),
+//! `tables.rs` (the tidy tables: file names, write, read back), `summary.rs` (summary.json:
+//! write, read, the conclusion). Each file's name is a constant of the module that writes it.
 
 pub mod evaluate;
 pub mod fields;
@@ -25,13 +26,13 @@ use std::time::Instant;
 
 pub use evaluate::{DrawOutcome, evaluate};
 pub use prior::{HideoutPrior, diameter_from_h, h_from_diameter};
-pub use summary::{HideoutSummary, RunInfo};
+pub use summary::{HideoutSummary, RunInfo, read_summary};
 pub use tally::{ExclusionBins, RunTally};
 
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
-use crate::io::table::{Format, write_atomic, write_table};
+use crate::io::table::{Format, write_atomic};
 use crate::shard::shard_ids;
 use crate::sky::observer::ObserverState;
 use crate::sky::observer::observer_states;
@@ -150,7 +151,6 @@ pub fn finish(
 ) -> Result<HideoutWritten> {
     std::fs::create_dir_all(dir)
         .map_err(|e| Error::input(format!("{}: cannot create the output directory: {e}", dir.display())))?;
-    let ext = format.extension();
     let sky = &tally.sky;
     let w_surv: f64 = sky.w_surviving.iter().sum();
     let cells68 = moc::credible_cells(&sky.w_surviving, 0.68);
@@ -174,26 +174,9 @@ pub fn finish(
         in_68: &in68,
         in_95: &in95,
     };
-    let mut frames = vec![
-        ("excluded", tables::excluded_frame(tally)?),
-        ("sky_map", tables::sky_map_frame(&view)?),
-        ("sky_mag_hist", tables::mag_hist_frame(sky)?),
-        (
-            "fields",
-            tables::fields_frame(&ranked, run.field_radius_deg, sky.order, w_surv)?,
-        ),
-    ];
-    let mut files = Vec::new();
-    for (name, df) in frames.iter_mut() {
-        files.push(dir.join(format!("{name}.{ext}")));
-        write_table(df, files.last().expect("just pushed"), prov)?;
-    }
-    for (name, m) in [("region_68", &moc68), ("region_95", &moc95)] {
-        for (kind, text) in [("txt", m.to_ascii()), ("json", m.to_json())] {
-            files.push(dir.join(format!("{name}.moc.{kind}")));
-            write_atomic(files.last().expect("just pushed"), format!("{text}\n").as_bytes())?;
-        }
-    }
+    let mut files = tables::write(dir, (format, prov), tally, &view, (&ranked, run.field_radius_deg))?;
+    files.extend(moc::write_region(dir, moc::REGION_68, &moc68)?);
+    files.extend(moc::write_region(dir, moc::REGION_95, &moc95)?);
     let summary = make_summary(
         tally,
         run,
@@ -203,9 +186,7 @@ pub fn finish(
         (&moc95, &cells95),
         w_surv,
     );
-    let json = serde_json::to_string_pretty(&summary).map_err(|e| Error::io(e.to_string()))?;
-    files.push(dir.join("summary.json"));
-    write_atomic(files.last().expect("just pushed"), format!("{json}\n").as_bytes())?;
+    files.push(summary::write(dir, &summary)?);
     Ok(HideoutWritten {
         summary,
         dir: dir.to_path_buf(),
@@ -247,13 +228,9 @@ fn make_summary(
     s
 }
 
-/// Read a finished run's (or shard's) summary.
-pub fn read_summary(dir: &Path) -> Result<HideoutSummary> {
-    let path = dir.join("summary.json");
-    let text = std::fs::read_to_string(&path)
-        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
-    serde_json::from_str(&text).map_err(|e| Error::input(format!("{}: not a hideout summary: {e}", path.display())))
-}
+/// A survey's coverage file: `<prefix><survey key><suffix>`.
+const COVERAGE_PREFIX: &str = "coverage_";
+const COVERAGE_SUFFIX: &str = ".moc.json";
 
 /// Each survey's covered sky (MOC 2.0 JSON, normalized, cells up to order 9, as `seine plan`
 /// writes it) as
@@ -263,7 +240,10 @@ pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<Vec<Path
     let mut files = Vec::new();
     for s in surveys {
         let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey)?;
-        let name = format!("coverage_{}.moc.json", crate::engine::run::survey_key(&s.survey.name));
+        let name = format!(
+            "{COVERAGE_PREFIX}{}{COVERAGE_SUFFIX}",
+            crate::engine::run::survey_key(&s.survey.name)
+        );
         files.push(dir.join(name));
         write_atomic(
             files.last().expect("just pushed"),
@@ -279,7 +259,7 @@ pub fn copy_coverage(from: &Path, dir: &Path) -> Result<Vec<PathBuf>> {
     let mut files = Vec::new();
     for e in entries.flatten() {
         let name = e.file_name().to_string_lossy().to_string();
-        if name.starts_with("coverage_") && name.ends_with(".moc.json") {
+        if name.starts_with(COVERAGE_PREFIX) && name.ends_with(COVERAGE_SUFFIX) {
             let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
             files.push(dir.join(&name));
             write_atomic(files.last().expect("just pushed"), &bytes)?;
@@ -288,34 +268,9 @@ pub fn copy_coverage(from: &Path, dir: &Path) -> Result<Vec<PathBuf>> {
     Ok(files)
 }
 
-/// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
-/// Read field by field, so a shard with no draws (NaN fractions, written as null) still merges.
-fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
-    let path = dir.join("summary.json");
-    let bad = |what: &str| Error::input(format!("{}: not a hideout summary: {what}", path.display()));
-    let text = std::fs::read_to_string(&path)
-        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
-    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| bad(&e.to_string()))?;
-    let run: RunInfo = serde_json::from_value(v.clone()).map_err(|e| bad(&e.to_string()))?;
-    let n_draws = v["n_draws"].as_u64().ok_or_else(|| bad("no n_draws"))?;
-    let w: Option<Vec<f64>> = v["per_survey"]
-        .as_array()
-        .map(|a| a.iter().map(|p| p["w_discovered"].as_f64()).collect())
-        .unwrap_or(None);
-    let w = w.ok_or_else(|| bad("no per_survey.w_discovered"))?;
-    Ok((run, n_draws, w, v["seconds"].as_f64().unwrap_or(0.0)))
-}
-
-/// Whether `dir` holds a hideout run's (or shard's) outputs: its summary and its excluded table.
+/// Whether `dir` holds a hideout run's (or shard's) outputs: its summary and its tables.
 pub fn is_output_dir(dir: &Path) -> bool {
-    shard_format(dir).is_some() && dir.join("summary.json").is_file()
-}
-
-/// The table format a hideout run wrote in `dir` (by its excluded table), if any.
-fn shard_format(dir: &Path) -> Option<Format> {
-    [Format::Parquet, Format::Csv]
-        .into_iter()
-        .find(|f| dir.join(format!("excluded.{}", f.extension())).is_file())
+    tables::format_in(dir).is_some() && summary::is_in(dir)
 }
 
 /// `seine merge` (and `seine hideout --merge`) of hideout shard directories into `out`:
@@ -335,7 +290,7 @@ pub fn merge(dirs: &[PathBuf]) -> Result<(RunTally, RunInfo, f64)> {
     let mut acc: Option<(RunTally, RunInfo, f64)> = None;
     let mut seen: Vec<(Option<(u64, u64)>, &PathBuf)> = Vec::new();
     for dir in dirs {
-        let (mut run, n_draws, w_discovered_by, seconds) = read_shard(dir)?;
+        let (mut run, n_draws, w_discovered_by, seconds) = summary::read_shard(dir)?;
         let shard = run.shard.as_deref().and_then(|s| {
             let (k, n) = s.split_once('/')?;
             Some((k.trim().parse().ok()?, n.trim().parse().ok()?))
@@ -357,13 +312,7 @@ pub fn merge(dirs: &[PathBuf]) -> Result<(RunTally, RunInfo, f64)> {
             )));
         }
         seen.push((shard, dir));
-        let format = shard_format(dir).ok_or_else(|| {
-            Error::input(format!(
-                "{}: not a hideout output directory (no excluded.parquet or excluded.csv)",
-                dir.display()
-            ))
-        })?;
-        let mut t = tables::read_tally(dir, format.extension(), run.healpix_order, run.surveys.len())?;
+        let mut t = tables::read_tally(dir, run.healpix_order, run.surveys.len())?;
         t.n_draws = n_draws;
         t.w_discovered_by = w_discovered_by;
         run.shard = None;

@@ -1,10 +1,16 @@
 //! The run's summary (summary.json) and its plain-language conclusion.
 
+use std::path::{Path, PathBuf};
+
 use serde::{Deserialize, Serialize};
 
 use super::fields::RankedField;
 use super::moc::Moc;
 use super::tally::RunTally;
+use crate::error::{Error, Result};
+/// The summary's file name in the output directory (every command's `summary.json`).
+pub use crate::io::out_dir::SUMMARY;
+use crate::io::table::write_atomic;
 use crate::sky::frames::radec_to_ecliptic;
 
 /// What a run was asked for; shards of one run share all of it but `shard`.
@@ -74,6 +80,52 @@ pub struct HideoutSummary {
     pub seconds: f64,
     pub draws_per_second: f64,
     pub conclusion: String,
+}
+
+/// Write `DIR/summary.json`; returns its path.
+pub fn write(dir: &Path, s: &HideoutSummary) -> Result<PathBuf> {
+    let json = serde_json::to_string_pretty(s).map_err(|e| Error::io(e.to_string()))?;
+    let path = dir.join(SUMMARY);
+    write_atomic(&path, format!("{json}\n").as_bytes())?;
+    Ok(path)
+}
+
+/// Whether `dir` holds a summary file.
+pub fn is_in(dir: &Path) -> bool {
+    dir.join(SUMMARY).is_file()
+}
+
+/// Read a finished run's (or shard's) summary.
+pub fn read_summary(dir: &Path) -> Result<HideoutSummary> {
+    let (path, text) = read_text(dir)?;
+    serde_json::from_str(&text).map_err(|e| not_a_summary(&path, &e.to_string()))
+}
+
+/// What a merge needs from a shard's summary: its run, draws, per-survey sums and seconds.
+/// Read field by field, so a shard with no draws (NaN fractions, written as null) still merges.
+pub fn read_shard(dir: &Path) -> Result<(RunInfo, u64, Vec<f64>, f64)> {
+    let (path, text) = read_text(dir)?;
+    let bad = |what: &str| not_a_summary(&path, what);
+    let v: serde_json::Value = serde_json::from_str(&text).map_err(|e| bad(&e.to_string()))?;
+    let run: RunInfo = serde_json::from_value(v.clone()).map_err(|e| bad(&e.to_string()))?;
+    let n_draws = v["n_draws"].as_u64().ok_or_else(|| bad("no n_draws"))?;
+    let w: Option<Vec<f64>> = v["per_survey"]
+        .as_array()
+        .map(|a| a.iter().map(|p| p["w_discovered"].as_f64()).collect())
+        .unwrap_or(None);
+    let w = w.ok_or_else(|| bad("no per_survey.w_discovered"))?;
+    Ok((run, n_draws, w, v["seconds"].as_f64().unwrap_or(0.0)))
+}
+
+fn read_text(dir: &Path) -> Result<(PathBuf, String)> {
+    let path = dir.join(SUMMARY);
+    let text = std::fs::read_to_string(&path)
+        .map_err(|e| Error::input(format!("{}: cannot read a hideout summary: {e}", path.display())))?;
+    Ok((path, text))
+}
+
+fn not_a_summary(path: &Path, what: &str) -> Error {
+    Error::input(format!("{}: not a hideout summary: {what}", path.display()))
 }
 
 /// A credible region's summary.

@@ -1,7 +1,8 @@
-//! The tidy tables of a hideout run, and reading their additive columns back (to merge shards).
+//! The tidy tables of a hideout run: their file names, writing them, and reading their
+//! additive columns back (to merge shards).
 //! Column meanings: notebooks-free-docs/configuration.md ("seine hideout").
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use polars::prelude::*;
 
@@ -9,9 +10,51 @@ use super::fields::RankedField;
 use super::tally::{ExclusionBins, MAG_BINS, MAG_LO, MAG_STEP, RunTally, SkyTally};
 use crate::error::{Error, Result};
 use crate::foundation::units::DEG;
-use crate::io::table::{Columns, read_table};
+use crate::io::out_dir::find_table;
+use crate::io::provenance::Provenance;
+use crate::io::table::{Columns, Format, read_table, write_table};
 use crate::sky::frames::radec_to_ecliptic;
 use crate::statistics::Tally;
+
+/// The tables' file stems, `DIR/<stem>.parquet` (or `.csv`): `write` writes all four,
+/// `read_tally` reads the additive three back.
+pub const EXCLUDED: &str = "excluded";
+pub const SKY_MAP: &str = "sky_map";
+pub const SKY_MAG_HIST: &str = "sky_mag_hist";
+pub const FIELDS: &str = "fields";
+
+/// Write the four tables under `dir` in `format`: the exclusion by a and H, the posterior
+/// map and its magnitude histogram, and the ranked `fields` (of radius `radius_deg`).
+/// Returns the files written.
+pub fn write(
+    dir: &Path,
+    (format, prov): (Format, &Provenance),
+    tally: &RunTally,
+    view: &CellView,
+    (fields, radius_deg): (&[RankedField], f64),
+) -> Result<Vec<PathBuf>> {
+    let mut frames = vec![
+        (EXCLUDED, excluded_frame(tally)?),
+        (SKY_MAP, sky_map_frame(view)?),
+        (SKY_MAG_HIST, mag_hist_frame(view.sky)?),
+        (
+            FIELDS,
+            fields_frame(fields, radius_deg, view.sky.order, view.w_surviving_total)?,
+        ),
+    ];
+    let mut files = Vec::new();
+    for (stem, df) in frames.iter_mut() {
+        files.push(dir.join(format!("{stem}.{}", format.extension())));
+        write_table(df, files.last().expect("just pushed"), prov)?;
+    }
+    Ok(files)
+}
+
+/// The format a hideout run's tables under `dir` were written in (by its `excluded` table),
+/// if it wrote them.
+pub fn format_in(dir: &Path) -> Option<Format> {
+    find_table(dir, EXCLUDED).and_then(|p| Format::of(&p).ok())
+}
 
 fn frame(cols: Vec<Column>) -> Result<DataFrame> {
     let h = cols.first().map_or(0, |c| c.len());
@@ -27,7 +70,7 @@ fn i(name: &str, v: Vec<i64>) -> Column {
 }
 
 /// `excluded`: one row per bin of a, of H, and one row `all`; lo/hi empty for `all`.
-pub fn excluded_frame(t: &RunTally) -> Result<DataFrame> {
+fn excluded_frame(t: &RunTally) -> Result<DataFrame> {
     let mut rows: Vec<(String, i64, Option<f64>, Option<f64>, Tally)> = vec![("all".into(), 0, None, None, t.total)];
     for b in [&t.a, &t.h] {
         for (k, s) in b.bins.iter().enumerate() {
@@ -66,7 +109,7 @@ pub struct CellView<'a> {
 }
 
 /// `sky_map`: one row per cell holding any prior draw at the map epoch.
-pub fn sky_map_frame(v: &CellView) -> Result<DataFrame> {
+fn sky_map_frame(v: &CellView) -> Result<DataFrame> {
     let s = v.sky;
     let cells: Vec<usize> = (0..s.n_prior.len()).filter(|&c| s.n_prior[c] > 0).collect();
     let area = super::SKY_SQ_DEG / s.n_prior.len() as f64;
@@ -112,7 +155,7 @@ pub fn sky_map_frame(v: &CellView) -> Result<DataFrame> {
 }
 
 /// `sky_mag_hist`: the survivors' weight per cell and magnitude bin (non-empty bins only).
-pub fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
+fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
     let mut keys: Vec<(u64, f64)> = s.mag_hist.iter().map(|(k, w)| (*k, *w)).collect();
     keys.sort_by_key(|k| k.0);
     let bin = |k: u64| (k % MAG_BINS as u64) as f64;
@@ -129,7 +172,7 @@ pub fn mag_hist_frame(s: &SkyTally) -> Result<DataFrame> {
 }
 
 /// `fields`: the ranked fields for the next search.
-pub fn fields_frame(fields: &[RankedField], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
+fn fields_frame(fields: &[RankedField], radius_deg: f64, order: u8, w_surviving_total: f64) -> Result<DataFrame> {
     let cell_area = super::SKY_SQ_DEG / cdshealpix::nested::n_hash(order) as f64;
     let per = |g: &dyn Fn(&RankedField) -> f64| fields.iter().map(g).collect::<Vec<f64>>();
     let ecl: Vec<(f64, f64)> = fields.iter().map(|x| radec_to_ecliptic(x.ra_rad, x.dec_rad)).collect();
@@ -181,13 +224,21 @@ fn opt_f64(df: &DataFrame, path: &Path, name: &str) -> Result<Vec<Option<f64>>> 
     Ok(s.f64().map_err(|e| Error::io(e.to_string()))?.iter().collect())
 }
 
-/// Read the additive columns of `excluded`, `sky_map` and `sky_mag_hist` under `dir`.
-pub fn read_tally(dir: &Path, ext: &str, order: u8, n_surveys: usize) -> Result<RunTally> {
-    let (a, h, total) = read_excluded(&dir.join(format!("excluded.{ext}")))?;
+/// Read the additive columns of `excluded`, `sky_map` and `sky_mag_hist` under `dir`, in the
+/// format they were written in.
+pub fn read_tally(dir: &Path, order: u8, n_surveys: usize) -> Result<RunTally> {
+    let format = format_in(dir).ok_or_else(|| {
+        Error::input(format!(
+            "{}: not a hideout output directory (no {EXCLUDED}.parquet or {EXCLUDED}.csv)",
+            dir.display()
+        ))
+    })?;
+    let path = |stem: &str| dir.join(format!("{stem}.{}", format.extension()));
+    let (a, h, total) = read_excluded(&path(EXCLUDED))?;
     let mut t = RunTally::new(a, h, order, n_surveys);
     t.total = total;
-    read_sky(&dir.join(format!("sky_map.{ext}")), &mut t.sky)?;
-    read_hist(&dir.join(format!("sky_mag_hist.{ext}")), &mut t.sky)?;
+    read_sky(&path(SKY_MAP), &mut t.sky)?;
+    read_hist(&path(SKY_MAG_HIST), &mut t.sky)?;
     Ok(t)
 }
 
