@@ -336,6 +336,76 @@ pub fn histogram_quantile(counts: &[f64], q: f64, rule: QuantileRule) -> f64 {
     }
 }
 
+/// A sample kept for its type-1 quantiles (`QuantileRule::InverseEcdf`) in memory that grows
+/// with its distinct values while they are few (counts of objects, say), and with its size
+/// only beyond `DISTINCT_LIMIT` distinct values: the quantiles are exactly those of
+/// `quantile_sorted` over the whole sample sorted by `f64::total_cmp`.
+#[derive(Debug, Clone)]
+pub enum QuantileSample {
+    /// Each distinct value (by its bits) with how often it came.
+    Counted(std::collections::HashMap<u64, u64>),
+    /// Every value.
+    Listed(Vec<f64>),
+}
+
+impl Default for QuantileSample {
+    fn default() -> Self {
+        QuantileSample::Counted(Default::default())
+    }
+}
+
+impl QuantileSample {
+    /// Distinct values counted before the sample is kept whole instead (a count costs about
+    /// four times a listed value; common practice, no source).
+    pub const DISTINCT_LIMIT: usize = 4096;
+
+    pub fn push(&mut self, x: f64) {
+        self.push_n(x, 1);
+    }
+
+    fn push_n(&mut self, x: f64, n: u64) {
+        match self {
+            QuantileSample::Counted(c) => {
+                *c.entry(x.to_bits()).or_insert(0) += n;
+                if c.len() > Self::DISTINCT_LIMIT {
+                    let listed = c
+                        .iter()
+                        .flat_map(|(bits, n)| std::iter::repeat_n(f64::from_bits(*bits), *n as usize))
+                        .collect();
+                    *self = QuantileSample::Listed(listed);
+                }
+            }
+            QuantileSample::Listed(v) => v.extend(std::iter::repeat_n(x, n as usize)),
+        }
+    }
+
+    /// Add another sample's values to this one.
+    pub fn absorb(&mut self, other: QuantileSample) {
+        match other {
+            QuantileSample::Counted(c) => c.into_iter().for_each(|(bits, n)| self.push_n(f64::from_bits(bits), n)),
+            QuantileSample::Listed(v) => v.into_iter().for_each(|x| self.push(x)),
+        }
+    }
+
+    /// The type-1 q-quantile: the smallest value whose empirical CDF reaches q; NaN for none.
+    pub fn inverse_ecdf(&self, q: f64) -> f64 {
+        match self {
+            QuantileSample::Listed(v) => {
+                let mut sorted = v.clone();
+                sorted.sort_by(f64::total_cmp);
+                quantile_sorted(&sorted, q, QuantileRule::InverseEcdf)
+            }
+            QuantileSample::Counted(c) => {
+                let mut values: Vec<(f64, u64)> = c.iter().map(|(b, n)| (f64::from_bits(*b), *n)).collect();
+                values.sort_by(|a, b| a.0.total_cmp(&b.0));
+                let counts: Vec<f64> = values.iter().map(|v| v.1 as f64).collect();
+                let b = histogram_quantile(&counts, q, QuantileRule::InverseEcdf);
+                if b.is_nan() { f64::NAN } else { values[b as usize].0 }
+            }
+        }
+    }
+}
+
 /// The weighted q-quantile: the smallest value whose cumulative share of the weight reaches q.
 pub fn weighted_quantile(values: &[f64], weights: &[f64], q: f64) -> f64 {
     let mut order: Vec<usize> = (0..values.len()).filter(|i| values[*i].is_finite()).collect();
@@ -420,6 +490,33 @@ mod tests {
         assert_eq!(quantile_sorted(&v, 0.51, ecdf), 3.0);
         assert_eq!(quantile_sorted(&v, 0.0, ecdf), 1.0);
         assert_eq!(weighted_quantile(&[3.0, 1.0, 2.0], &[1.0, 1.0, 2.0], 0.5), 2.0);
+    }
+
+    /// The counted sample gives `quantile_sorted`'s type-1 quantiles of the whole sample, with
+    /// few distinct values (counts) and past the limit (kept whole), and when two samples
+    /// are added (the definition of type 1 is the reference: Hyndman & Fan 1996).
+    #[test]
+    fn a_counted_sample_has_the_quantiles_of_the_whole_sample() {
+        let few: Vec<f64> = (0..5000).map(|i| ((i * 7919) % 13) as f64).collect();
+        let many: Vec<f64> = (0..9000).map(|i| ((i * 7919) % 8191) as f64 * 0.37).collect();
+        for values in [few, many] {
+            let (mut a, mut b) = (QuantileSample::default(), QuantileSample::default());
+            let half = values.len() / 2;
+            values[..half].iter().for_each(|x| a.push(*x));
+            values[half..].iter().for_each(|x| b.push(*x));
+            a.absorb(b);
+            let mut sorted = values.clone();
+            sorted.sort_by(f64::total_cmp);
+            for q in [0.0, 0.05, 0.5, 0.95, 1.0, 0.3333] {
+                assert_eq!(
+                    a.inverse_ecdf(q),
+                    quantile_sorted(&sorted, q, QuantileRule::InverseEcdf),
+                    "q = {q}"
+                );
+            }
+        }
+        assert!(matches!(QuantileSample::default(), QuantileSample::Counted(_)));
+        assert!(QuantileSample::default().inverse_ecdf(0.5).is_nan());
     }
 
     /// Type 7 of Hyndman & Fan (1996): numpy.quantile's default (from memory: the median of

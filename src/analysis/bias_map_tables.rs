@@ -14,7 +14,7 @@ use super::trial_selection::{DISCOVERED_KEY, TrialSelection};
 use crate::error::{Error, Result};
 use crate::io::out_dir::{OutDir, col, frame};
 use crate::io::sink::TableSink;
-use crate::io::table::{Columns, read_table};
+use crate::io::table::{Columns, read_table, read_table_parts};
 use crate::population::objects::ObjectTable;
 
 /// File stem of the map table: `DIR/bias_map.parquet` (or `.csv`).
@@ -322,10 +322,30 @@ fn found_columns(x: &str, maps: &[BiasMap]) -> Vec<Column> {
 /// `selection` (a table without a `selection` column was made before maps could apply a fit:
 /// every discovery, true angles); under a fit's selection the discovered angles must be there.
 pub fn read(path: &Path, catalog: &ObjectTable, selection: &TrialSelection) -> Result<Vec<BiasMap>> {
-    let df = read_table(path)?;
-    let c = Columns::new(&df, path);
-    check_same_objects(path, &c, catalog)?;
-    check_selection(path, &c, selection)?;
+    let row_of: HashMap<i64, usize> = catalog.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
+    let mut maps: Vec<BiasMap> = Vec::new();
+    // A part (a row group) at a time: only the maps are kept, not the table's rows.
+    read_table_parts(path, |df, offset| {
+        let c = Columns::at_offset(df, path, offset);
+        check_same_objects(path, &c, (catalog, &row_of))?;
+        check_selection(path, &c, selection)?;
+        add_rows(&c, &mut maps)
+    })?;
+    read_found(path, &mut maps)?;
+    if *selection != TrialSelection::Discovered
+        && let Some(m) = maps.iter().find(|m| m.found.is_empty() && m.total_discoveries() > 0)
+    {
+        return Err(Error::input(format!(
+            "{}: id {}: no discovered angles ({FOUND} beside it); maps of fitted orbits are drawn from              their discovered trials' fitted angles, so keep that file with the map table",
+            path.display(),
+            m.id
+        )));
+    }
+    Ok(maps)
+}
+
+/// Add the rows of one part of a map table to `maps` (a map may go on from the last part).
+fn add_rows(c: &Columns, maps: &mut Vec<BiasMap>) -> Result<()> {
     let axes = if c.has(&lo_deg(MapAxes::VarpiNode.x_name())) {
         MapAxes::VarpiNode
     } else {
@@ -333,7 +353,6 @@ pub fn read(path: &Path, catalog: &ObjectTable, selection: &TrialSelection) -> R
     };
     let (ids, cells, nx, nn) = (c.i64(ID)?, c.i64(CELL)?, c.i64(GRID_N_X)?, c.i64(GRID_N_NODE)?);
     let (trials, found) = (c.i64(TRIALS)?, c.i64(DISCOVERED)?);
-    let mut maps: Vec<BiasMap> = Vec::new();
     for r in 0..c.len() {
         if maps.last().is_none_or(|m| m.id != ids[r]) {
             let grid = MapGrid {
@@ -352,17 +371,7 @@ pub fn read(path: &Path, catalog: &ObjectTable, selection: &TrialSelection) -> R
         m.trials[cell] = trials[r] as u64;
         m.discoveries[cell] = found[r] as u64;
     }
-    read_found(path, &mut maps)?;
-    if *selection != TrialSelection::Discovered
-        && let Some(m) = maps.iter().find(|m| m.found.is_empty() && m.total_discoveries() > 0)
-    {
-        return Err(Error::input(format!(
-            "{}: id {}: no discovered angles ({FOUND} beside it); maps of fitted orbits are drawn from              their discovered trials' fitted angles, so keep that file with the map table",
-            path.display(),
-            m.id
-        )));
-    }
-    Ok(maps)
+    Ok(())
 }
 
 /// Refuse maps made under another selection than `want`.
@@ -383,7 +392,7 @@ fn check_selection(path: &Path, c: &Columns, want: &TrialSelection) -> Result<()
 }
 
 /// Refuse a map table whose rows describe another object than the catalogue's of the same id.
-fn check_same_objects(path: &Path, c: &Columns, catalog: &ObjectTable) -> Result<()> {
+fn check_same_objects(path: &Path, c: &Columns, (catalog, row_of): (&ObjectTable, &HashMap<i64, usize>)) -> Result<()> {
     let ids = c.i64(ID)?;
     let values = OBJECT_COLUMNS
         .iter()
@@ -399,7 +408,6 @@ fn check_same_objects(path: &Path, c: &Columns, catalog: &ObjectTable) -> Result
             }
         })
         .collect::<Result<Vec<_>>>()?;
-    let row_of: HashMap<i64, usize> = catalog.ids.iter().enumerate().map(|(r, id)| (*id, r)).collect();
     for (r, id) in ids.iter().enumerate() {
         let Some(row) = row_of.get(id) else { continue };
         let want = object_key(catalog, *row);

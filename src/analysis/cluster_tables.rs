@@ -8,9 +8,9 @@ use std::path::{Path, PathBuf};
 
 use polars::prelude::Column;
 
-use super::cluster_test::{ClusterTest, NullSample, RoseCount};
+use super::cluster_test::{ClusterTest, RoseCount};
 use crate::error::{Error, Result};
-use crate::io::out_dir::{OutDir, col, finite_or_empty};
+use crate::io::out_dir::{OutDir, col, finite_or_empty, frame};
 use crate::io::table::{Columns, Format, read_table};
 
 /// File stems: `DIR/cluster_test.*`, `DIR/cluster_null.*`, `DIR/rose.*`.
@@ -42,7 +42,7 @@ pub fn is_table(name: &str, stem: &str) -> bool {
 pub fn write(out: &OutDir, res: &ClusterTest) -> Result<[PathBuf; 3]> {
     Ok([
         out.write(TEST, test_columns(res))?,
-        out.write(NULL, null_columns(res))?,
+        write_null(out, res)?,
         out.write(ROSE, rose_columns(res))?,
     ])
 }
@@ -68,29 +68,30 @@ fn test_columns(res: &ClusterTest) -> Vec<Column> {
     ]
 }
 
+/// Rows of `cluster_null.*` built and written at once (common practice, no source).
+const NULL_ROWS_PER_BATCH: usize = 65_536;
+
 /// `cluster_null`: one row per reported statistic and synthetic catalogue, statistic by
-/// statistic: `statistic, trial, value` (bias-aware null), `value_naive` (uniform angles).
-fn null_columns(res: &ClusterTest) -> Vec<Column> {
-    let s = &res.null_samples;
-    let k_all = res.results.len();
-    let each = |f: &dyn Fn(usize, &NullSample) -> f64| -> Vec<f64> {
-        (0..k_all).flat_map(|k| s.iter().map(move |x| f(k, x))).collect()
-    };
-    vec![
-        col(
-            STATISTIC,
-            res.results
-                .iter()
-                .flat_map(|r| std::iter::repeat_n(r.statistic.clone(), s.len()))
-                .collect::<Vec<String>>(),
-        ),
-        col(
-            "trial",
-            (0..k_all).flat_map(|_| s.iter().map(|x| x.trial)).collect::<Vec<u64>>(),
-        ),
-        col(VALUE, each(&|k, x| x.bias_aware[k])),
-        col(VALUE_NAIVE, each(&|k, x| x.naive[k])),
-    ]
+/// statistic: `statistic, trial, value` (bias-aware null), `value_naive` (uniform angles);
+/// written a batch of rows at a time, so that the table is never held whole.
+fn write_null(out: &OutDir, res: &ClusterTest) -> Result<PathBuf> {
+    let (bias, naive) = (&res.null_values.bias_aware, &res.null_values.naive);
+    let mut sink = out.sink(NULL)?;
+    for (k, r) in res.results.iter().enumerate() {
+        // Index 0 of each row is the observed catalogue; trial t is at t + 1.
+        let trials = bias[k].len() - 1;
+        for lo in (0..trials).step_by(NULL_ROWS_PER_BATCH) {
+            let hi = (lo + NULL_ROWS_PER_BATCH).min(trials);
+            sink.write(&frame(vec![
+                col(STATISTIC, vec![r.statistic.clone(); hi - lo]),
+                col("trial", (lo as u64..hi as u64).collect::<Vec<u64>>()),
+                col(VALUE, bias[k][lo + 1..hi + 1].to_vec()),
+                col(VALUE_NAIVE, naive[k][lo + 1..hi + 1].to_vec()),
+            ])?)?;
+        }
+    }
+    sink.finish()?;
+    Ok(out.table(NULL))
 }
 
 /// `rose`: per angle and bin, the catalogue's count (each object with its weight) and the

@@ -34,7 +34,7 @@ use super::pooled_p::{fisher, min_p_statistic, upper_ranks};
 use crate::error::{Error, Result};
 use crate::population::objects::ObjectTable;
 use crate::rng::{Purpose, object_stream, splitmix64};
-use crate::statistics::{QuantileRule, quantile_sorted};
+use crate::statistics::QuantileSample;
 
 /// The statistics with one value per sample, in the order of `Stats::values`.
 pub const STAT_NAMES: [&str; N_MARGINAL] = [
@@ -219,14 +219,16 @@ pub struct StatResult {
     pub p_naive_monte_carlo: f64,
 }
 
-/// The statistics of one synthetic catalogue, in the order of `ClusterTest::results`.
-#[derive(Debug, Clone, PartialEq)]
-pub struct NullSample {
-    pub trial: u64,
+/// Every synthetic catalogue's statistics, statistic by statistic in the order of
+/// `ClusterTest::results`, each row the observed catalogue's value then the N synthetic ones
+/// in trial order: what the pooled ranks are computed from, kept for `cluster_null.*`
+/// (8 bytes per statistic and catalogue, bias-aware and naive).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct NullValues {
     /// Angles drawn from the objects' bias maps.
-    pub bias_aware: Vec<f64>,
+    pub bias_aware: Vec<Vec<f64>>,
     /// Uniform angles (no survey bias).
-    pub naive: Vec<f64>,
+    pub naive: Vec<Vec<f64>>,
 }
 
 /// One angular bin of a rose: the catalogue's count and the percentiles of the counts of the
@@ -255,9 +257,9 @@ pub struct ClusterTest {
     pub replicas: u32,
     /// `global` first, then per sample its eight statistics and `pole_and_perihelion`.
     pub results: Vec<StatResult>,
-    /// Every synthetic catalogue's statistics, in trial order (tables, not the summary).
+    /// Every synthetic catalogue's statistics (tables, not the summary).
     #[serde(skip)]
-    pub null_samples: Vec<NullSample>,
+    pub null_values: NullValues,
     /// Rose counts of ϖ, Ω and ω with the bias-aware band (tables, not the summary).
     #[serde(skip)]
     pub rose: Vec<RoseCount>,
@@ -370,51 +372,65 @@ fn family_values(inc: &[f64], node: &[f64], argperi: &[f64], samples: &[Sample])
     out
 }
 
-/// Every reported statistic's value and pooled p-value for every catalogue (index 0 the
-/// observed one), rows in the order of `ClusterTest::results`.
+/// Every reported statistic's value for every catalogue (index 0 the observed one), and the
+/// observed catalogue's pooled p-value, rows in the order of `ClusterTest::results`.
 struct Family {
     values: Vec<Vec<f64>>,
-    p: Vec<Vec<f64>>,
+    p: Vec<f64>,
 }
 
-/// Rank the catalogues' statistics against each other, combine, and rank again.
-fn calibrate(observed: &[f64], synthetic: &[Vec<f64>], n_samples: usize) -> Family {
+/// Rank the catalogues' statistics against each other, combine, and rank again. `synthetic`
+/// holds the catalogues' marginal statistics one catalogue after another (`observed.len()`
+/// each). The ranks of a statistic are folded into the combinations as soon as they are
+/// made, so only the values are kept.
+fn calibrate(observed: &[f64], synthetic: &[f64], n_samples: usize) -> Family {
+    let k_all = observed.len();
     let column = |k: usize| -> Vec<f64> {
         std::iter::once(observed[k])
-            .chain(synthetic.iter().map(|v| v[k]))
+            .chain(synthetic.chunks_exact(k_all).map(|v| v[k]))
             .collect()
     };
-    let marginal: Vec<Vec<f64>> = (0..observed.len()).map(column).collect();
-    let marginal_p: Vec<Vec<f64>> = marginal.iter().map(|v| upper_ranks(v)).collect();
-    let n_cat = synthetic.len() + 1;
-    let (mut values, mut p) = (vec![Vec::new()], vec![Vec::new()]);
+    let n_cat = synthetic.len() / k_all + 1;
+    let (mut values, mut p) = (vec![Vec::new()], vec![f64::NAN]);
+    // The smallest p-value of every catalogue over the family so far (for `global`).
+    let mut min_p = vec![1.0_f64; n_cat];
+    let mut rank = |v: Vec<f64>, values: &mut Vec<Vec<f64>>, p: &mut Vec<f64>| -> Vec<f64> {
+        let ranks = upper_ranks(&v);
+        min_p.iter_mut().zip(&ranks).for_each(|(m, r)| *m = m.min(*r));
+        p.push(ranks[0]);
+        values.push(v);
+        ranks
+    };
     for s in 0..n_samples {
         let k0 = s * N_MARGINAL;
-        let combined: Vec<f64> = (0..n_cat)
-            .map(|c| fisher(&[marginal_p[k0 + POLE][c], marginal_p[k0 + PERIHELION][c]]))
-            .collect();
-        let combined_p = upper_ranks(&combined);
+        let mut pole_and_perihelion = (Vec::new(), Vec::new());
         for k in k0..k0 + N_MARGINAL {
-            values.push(marginal[k].clone());
-            p.push(marginal_p[k].clone());
+            let ranks = rank(column(k), &mut values, &mut p);
+            match k - k0 {
+                POLE => pole_and_perihelion.0 = ranks,
+                PERIHELION => pole_and_perihelion.1 = ranks,
+                _ => {}
+            }
         }
-        values.push(combined);
-        p.push(combined_p);
+        let (pole, perihelion) = pole_and_perihelion;
+        let combined: Vec<f64> = (0..n_cat).map(|c| fisher(&[pole[c], perihelion[c]])).collect();
+        rank(combined, &mut values, &mut p);
     }
-    let global: Vec<f64> = (0..n_cat)
-        .map(|c| min_p_statistic(&p[1..].iter().map(|row| row[c]).collect::<Vec<f64>>()))
-        .collect();
-    p[0] = upper_ranks(&global);
+    // min_p_statistic of each catalogue's p-values, from their running minimum (the minimum
+    // does not depend on the order it is taken in).
+    let global: Vec<f64> = min_p.iter().map(|m| min_p_statistic(&[*m])).collect();
+    p[0] = upper_ranks(&global)[0];
     values[0] = global;
     Family { values, p }
 }
 
-/// The synthetic catalogues of one replica: each catalogue's eight statistics per sample, and
-/// for the built maps (replica 0) the naive ones and the rose counts too.
+/// The synthetic catalogues of one replica: each catalogue's eight statistics per sample, one
+/// catalogue after another, and for the built maps (replica 0) the naive ones and the rose
+/// counts' samples too.
 struct Draws {
-    bias: Vec<Vec<f64>>,
-    naive: Vec<Vec<f64>>,
-    rose: Vec<Vec<f64>>,
+    bias: Vec<f64>,
+    naive: Vec<f64>,
+    rose: Vec<QuantileSample>,
 }
 
 struct Setup<'a> {
@@ -465,6 +481,8 @@ pub fn cluster_test(
     let main = draw(&setup, &samplers, 0, true);
     let bias = calibrate(&observed, &main.bias, setup.samples.len());
     let naive = calibrate(&observed, &main.naive, setup.samples.len());
+    let rose = rose_counts(cat, opt.rose_bins, &main.rose);
+    drop(main);
     tick();
     let replica_p: Vec<Vec<f64>> = (1..=opt.replicas)
         .map(|r| {
@@ -481,24 +499,19 @@ pub fn cluster_test(
             let d = draw(&setup, &resampled, r, false);
             let f = calibrate(&observed, &d.bias, setup.samples.len());
             tick();
-            f.p.iter().map(|row| row[0]).collect()
+            f.p
         })
         .collect();
     let results = summarize(&setup, &observed, &bias, &naive, &replica_p);
-    let null_samples = (0..opt.trials as usize)
-        .map(|t| NullSample {
-            trial: t as u64,
-            bias_aware: bias.values.iter().map(|row| row[t + 1]).collect(),
-            naive: naive.values.iter().map(|row| row[t + 1]).collect(),
-        })
-        .collect();
-    let rose = rose_counts(cat, opt.rose_bins, &main.rose);
     Ok(ClusterTest {
         n_objects: n,
         trials: opt.trials,
         replicas: opt.replicas,
         results,
-        null_samples,
+        null_values: NullValues {
+            bias_aware: bias.values,
+            naive: naive.values,
+        },
         rose,
     })
 }
@@ -513,24 +526,46 @@ fn catalogue_seed(seed: u64, t: u64, r: u32) -> u64 {
     seed ^ splitmix64(t) ^ key
 }
 
+/// Synthetic catalogues drawn and reduced a block at a time (common practice, no source).
+const CATALOGUES_PER_BLOCK: usize = 1024;
+
+/// The synthetic catalogues of replica r, in parallel: each block of catalogues writes its
+/// statistics into its place and counts its rose bins; nothing is held per catalogue beyond
+/// its statistics.
 fn draw(setup: &Setup, samplers: &[MapSampler], r: u32, with_naive: bool) -> Draws {
-    let out: Vec<(Vec<f64>, Vec<f64>, Vec<f64>)> = (0..setup.opt.trials)
-        .into_par_iter()
-        .map(|t| one_catalogue(setup, samplers, catalogue_seed(setup.opt.seed, t, r), with_naive))
-        .collect();
-    let mut d = Draws {
-        bias: Vec::with_capacity(out.len()),
-        naive: Vec::new(),
-        rose: Vec::new(),
-    };
-    for (b, n, c) in out {
-        d.bias.push(b);
-        if with_naive {
-            d.naive.push(n);
-            d.rose.push(c);
-        }
-    }
-    d
+    let k_all = setup.samples.len() * N_MARGINAL;
+    let trials = setup.opt.trials as usize;
+    let mut bias = vec![0.0; trials * k_all];
+    let mut naive = vec![0.0; if with_naive { trials * k_all } else { 0 }];
+    let block = CATALOGUES_PER_BLOCK * k_all;
+    let mut naive_blocks: Vec<&mut [f64]> = naive.chunks_mut(block).collect();
+    naive_blocks.resize_with(bias.len().div_ceil(block), Default::default);
+    let bins = ROSE_QUANTITIES.len() * setup.opt.rose_bins;
+    let rose = bias
+        .par_chunks_mut(block)
+        .zip(naive_blocks.into_par_iter())
+        .enumerate()
+        .map(|(b, (bias, naive))| {
+            let mut rose = vec![QuantileSample::default(); if with_naive { bins } else { 0 }];
+            for (i, values) in bias.chunks_exact_mut(k_all).enumerate() {
+                let t = (b * CATALOGUES_PER_BLOCK + i) as u64;
+                let (bv, nv, counts) = one_catalogue(setup, samplers, catalogue_seed(setup.opt.seed, t, r), with_naive);
+                values.copy_from_slice(&bv);
+                if with_naive {
+                    naive[i * k_all..(i + 1) * k_all].copy_from_slice(&nv);
+                    rose.iter_mut().zip(counts).for_each(|(s, c)| s.push(c));
+                }
+            }
+            rose
+        })
+        .reduce(Vec::new, |mut a, b| {
+            if a.is_empty() {
+                return b;
+            }
+            a.iter_mut().zip(b).for_each(|(s, o)| s.absorb(o));
+            a
+        });
+    Draws { bias, naive, rose }
 }
 
 /// One synthetic catalogue: its statistics from the maps and, if asked, from uniform angles,
@@ -582,7 +617,7 @@ fn summarize(
         sd.max((p * (1.0 - p) / trials as f64).sqrt())
     };
     let row = |k: usize, statistic: String, sample: &Sample, dir: (f64, f64), naive_p: (f64, &str)| {
-        let p = bias.p[k][0];
+        let p = bias.p[k];
         StatResult {
             statistic,
             sample: sample.label.clone(),
@@ -594,12 +629,12 @@ fn summarize(
             p_bias_aware_error: error(k, p),
             p_naive: naive_p.0,
             p_naive_method: naive_p.1.into(),
-            p_naive_monte_carlo: naive.p[k][0],
+            p_naive_monte_carlo: naive.p[k],
         }
     };
     let none = (f64::NAN, f64::NAN);
     let mc = "monte carlo, uniform angles";
-    let mut out = vec![row(0, GLOBAL.into(), &setup.samples[0], none, (naive.p[0][0], mc))];
+    let mut out = vec![row(0, GLOBAL.into(), &setup.samples[0], none, (naive.p[0], mc))];
     for (s, sample) in setup.samples.iter().enumerate() {
         let sub = cat.select(&sample.rows);
         let st = Stats::of(&sub.inc, &sub.node, &sub.argperi);
@@ -620,7 +655,7 @@ fn summarize(
             let naive_p = match k {
                 0..=2 => (circular::rayleigh_p(n, value * n as f64), "rayleigh (Zar)"),
                 3..=5 => (circular::kuiper_p(value, n), "kuiper"),
-                _ => (naive.p[base + k][0], mc),
+                _ => (naive.p[base + k], mc),
             };
             out.push(row(
                 base + k,
@@ -636,7 +671,7 @@ fn summarize(
             format!("{COMBINED}{}", sample.suffix),
             sample,
             none,
-            (naive.p[k][0], mc),
+            (naive.p[k], mc),
         ));
     }
     out
@@ -660,18 +695,17 @@ fn angle_counts(node: &[f64], argperi: &[f64], weight: &[f64], bins: usize) -> V
 }
 
 /// The rose counts of the catalogue with the band of the synthetic catalogues' counts
-/// (`counts`: per catalogue, `angle_counts` of its map-drawn angles, with the catalogue's
-/// weights). The band's bounds are the inverse-ECDF quantiles over the catalogues (for unit
-/// weights: the smallest count whose cumulative fraction of catalogues reaches q).
-fn rose_counts(cat: &Angles, bins: usize, counts: &[Vec<f64>]) -> Vec<RoseCount> {
+/// (`counts`: per bin of `angle_counts`, the synthetic catalogues' counts of their map-drawn
+/// angles, with the catalogue's weights). The band's bounds are the inverse-ECDF quantiles
+/// over the catalogues (for unit weights: the smallest count whose cumulative fraction of
+/// catalogues reaches q).
+fn rose_counts(cat: &Angles, bins: usize, counts: &[QuantileSample]) -> Vec<RoseCount> {
     let observed = angle_counts(&cat.node, &cat.argperi, &cat.weight, bins);
     let width = 360.0 / bins as f64;
     (0..ROSE_QUANTITIES.len() * bins)
         .map(|qk| {
-            let mut t: Vec<f64> = counts.iter().map(|cc| cc[qk]).collect();
-            t.sort_by(f64::total_cmp);
             let k = qk % bins;
-            let q = |p: f64| quantile_sorted(&t, p, QuantileRule::InverseEcdf);
+            let q = |p: f64| counts[qk].inverse_ecdf(p);
             RoseCount {
                 quantity: ROSE_QUANTITIES[qk / bins],
                 lo_deg: k as f64 * width,

@@ -6,7 +6,8 @@ use seine::analysis::bias_map::{DEFAULT_MAX_TRIALS_PER_OBJECT, DEFAULT_MIN_DISCO
 use seine::commands::bias_map::{BiasMapOptions, MapOptions, bias_map};
 use seine::{Error, Result};
 
-use super::common::{CatalogueArgs, RunArgs, ShardArgs, TrialFitArgs};
+use super::catalogue::{CatalogueArgs, TrialFitArgs};
+use super::common::{RunArgs, ShardArgs};
 
 /// Grid and trial options shared with `cluster-test`.
 #[derive(clap::Args, Debug, Clone)]

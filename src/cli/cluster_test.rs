@@ -7,7 +7,8 @@ use seine::analysis::cluster_test::{self as ct, Cut, TestOptions};
 use seine::commands::cluster_test::{ClusterTestOptions, cluster_test};
 
 use super::bias_map::GridArgs;
-use super::common::{CatalogueArgs, RunArgs};
+use super::catalogue::CatalogueArgs;
+use super::common::RunArgs;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {

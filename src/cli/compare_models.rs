@@ -2,13 +2,12 @@
 
 use std::path::PathBuf;
 
-use seine::analysis::compare::DensityChoice;
+use seine::Result;
 use seine::analysis::space::Space;
-use seine::commands::compare_models::{CompareModelsOptions, ModelInput, compare};
-use seine::orbit::Center;
-use seine::{Error, Result};
+use seine::commands::compare_models::{CompareModelsOptions, ModelInput, compare, parse_density, parse_frame};
 
-use super::common::{CatalogueArgs, RunArgs, TrialFitArgs};
+use super::catalogue::{CatalogueArgs, TrialFitArgs};
+use super::common::RunArgs;
 
 #[derive(clap::Args, Debug)]
 pub struct Args {
@@ -53,35 +52,12 @@ pub struct Args {
     pub run: RunArgs,
 }
 
-/// `NAME=VALUE`.
-fn pair<'a>(option: &str, s: &'a str, value: &str) -> Result<(&'a str, &'a str)> {
-    s.split_once('=')
-        .ok_or_else(|| Error::input(format!("{option} `{s}`: expected NAME={value}")))
-}
-
 pub fn run(a: Args) -> Result<()> {
-    let density = match a.density.as_str() {
-        "kde" => DensityChoice::Kernel,
-        "binned" => DensityChoice::Binned {
-            bins: a.bins,
-            prior_objects: a.prior_objects,
-        },
-        other => return Err(Error::input(format!("--density `{other}`: expected kde or binned"))),
-    };
-    let frame = a
-        .frame
-        .as_deref()
-        .map(|f| {
-            Center::parse(f)
-                .filter(|_| !f.trim().is_empty())
-                .ok_or_else(|| Error::input(format!("--frame `{f}`: expected heliocentric or barycentric")))
-        })
-        .transpose()?;
     let opts = CompareModelsOptions {
         space: Space::parse(&a.space)?,
-        models: models(&a.models, &a.population_sizes)?,
-        density,
-        frame,
+        models: ModelInput::parse_all(&a.models, &a.population_sizes)?,
+        density: parse_density(&a.density, a.bins, a.prior_objects)?,
+        frame: parse_frame(a.frame.as_deref())?,
         surveys: a.surveys,
         observed: a.observed,
         selection: a.selection.selection()?,
@@ -92,30 +68,4 @@ pub fn run(a: Args) -> Result<()> {
     };
     a.run.print(&compare(&opts)?);
     Ok(())
-}
-
-/// `--model NAME=OBJECTS` with their `--population-size NAME=N`.
-fn models(models: &[String], sizes: &[String]) -> Result<Vec<ModelInput>> {
-    let mut by_name = std::collections::HashMap::new();
-    for s in sizes {
-        let (name, n) = pair("--population-size", s, "N")?;
-        let n: f64 = n
-            .trim()
-            .parse()
-            .map_err(|_| Error::input(format!("--population-size `{s}`: expected NAME=N with a number N")))?;
-        by_name.insert(name.to_string(), n);
-    }
-    let mut out = Vec::new();
-    for m in models {
-        let (name, path) = pair("--model", m, "OBJECTS")?;
-        out.push(ModelInput {
-            name: name.to_string(),
-            objects: PathBuf::from(path),
-            population_size: by_name.remove(name),
-        });
-    }
-    if let Some(name) = by_name.keys().next() {
-        return Err(Error::input(format!("--population-size: no --model is named `{name}`")));
-    }
-    Ok(out)
 }

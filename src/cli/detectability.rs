@@ -9,7 +9,8 @@ use seine::commands::detectability::{DetectabilityOptions, Subject, detectabilit
 
 use seine::statistics::parse_edges;
 
-use super::common::{CatalogueArgs, RunArgs, ShardArgs, TrialFitArgs};
+use super::catalogue::{CatalogueArgs, TrialFitArgs};
+use super::common::{RunArgs, ShardArgs};
 
 #[derive(clap::Args, Debug)]
 #[command(group(clap::ArgGroup::new("input").required(true).args(["objects", "population"])))]

@@ -28,6 +28,7 @@ pub fn write_stdout(text: std::fmt::Arguments) {
 
 pub mod arguments;
 mod bias_map;
+mod catalogue;
 mod cluster_test;
 mod common;
 mod compare_models;

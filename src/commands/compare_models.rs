@@ -9,7 +9,7 @@ use crate::analysis::compare::{CompareOptions, DensityChoice, Model, compare_mod
 use crate::analysis::comparison;
 use crate::analysis::space::Space;
 use crate::analysis::trial_selection::TrialSelection;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
 use crate::orbit::Center;
@@ -22,6 +22,62 @@ pub struct ModelInput {
     pub name: String,
     pub objects: PathBuf,
     pub population_size: Option<f64>,
+}
+
+impl ModelInput {
+    /// The models of `--model NAME=OBJECTS` (repeated), each with the population size a
+    /// `--population-size NAME=N` gives it; a size must name a model.
+    pub fn parse_all(models: &[String], sizes: &[String]) -> Result<Vec<ModelInput>> {
+        let mut by_name = std::collections::HashMap::new();
+        for s in sizes {
+            let (name, n) = pair("--population-size", s, "N")?;
+            let n: f64 = n
+                .trim()
+                .parse()
+                .map_err(|_| Error::input(format!("--population-size `{s}`: expected NAME=N with a number N")))?;
+            by_name.insert(name.to_string(), n);
+        }
+        let mut out = Vec::new();
+        for m in models {
+            let (name, path) = pair("--model", m, "OBJECTS")?;
+            out.push(ModelInput {
+                name: name.to_string(),
+                objects: PathBuf::from(path),
+                population_size: by_name.remove(name),
+            });
+        }
+        if let Some(name) = by_name.keys().next() {
+            return Err(Error::input(format!("--population-size: no --model is named `{name}`")));
+        }
+        Ok(out)
+    }
+}
+
+/// `NAME=VALUE` of `option`.
+fn pair<'a>(option: &str, s: &'a str, value: &str) -> Result<(&'a str, &'a str)> {
+    s.split_once('=')
+        .ok_or_else(|| Error::input(format!("{option} `{s}`: expected NAME={value}")))
+}
+
+/// `--density kde|binned`; the binned density takes `bins` per dimension and a prior worth
+/// `prior_objects` objects.
+pub fn parse_density(name: &str, bins: usize, prior_objects: f64) -> Result<DensityChoice> {
+    match name {
+        "kde" => Ok(DensityChoice::Kernel),
+        "binned" => Ok(DensityChoice::Binned { bins, prior_objects }),
+        other => Err(Error::input(format!("--density `{other}`: expected kde or binned"))),
+    }
+}
+
+/// `--frame heliocentric|barycentric`, when given.
+pub fn parse_frame(frame: Option<&str>) -> Result<Option<Center>> {
+    frame
+        .map(|f| {
+            Center::parse(f)
+                .filter(|_| !f.trim().is_empty())
+                .ok_or_else(|| Error::input(format!("--frame `{f}`: expected heliocentric or barycentric")))
+        })
+        .transpose()
 }
 
 /// The options of `seine compare-models`.

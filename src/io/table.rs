@@ -143,6 +143,34 @@ fn check_csv_header(path: &Path) -> Result<()> {
     Ok(())
 }
 
+/// Read a table a part at a time: a Parquet table one row group after another (so that a
+/// table written in row groups, as `TableSink` writes, is never held whole), a CSV table at
+/// once. `f` gets each part and the row of the file where it starts; a table without rows
+/// gives one empty part (its columns).
+pub fn read_table_parts(path: &Path, mut f: impl FnMut(&DataFrame, usize) -> Result<()>) -> Result<()> {
+    if Format::of(path)? == Format::Csv || path.is_dir() || !path.exists() {
+        return f(&read_table(path)?, 0);
+    }
+    let file = File::open(path).map_err(|e| io_at(path, e))?;
+    let groups = guard_parquet(path, move || {
+        ParquetReader::new(file)
+            .get_metadata()
+            .map(|md| md.row_groups.iter().map(|g| g.num_rows()).collect::<Vec<usize>>())
+    })?
+    .map_err(|e| unreadable(path, Format::Parquet, &e))?;
+    let mut lo = 0;
+    for n in groups.into_iter().filter(|n| *n > 0) {
+        let (df, _, _) = read_parquet_rows(path, |_| (lo, lo + n))?;
+        f(&df, lo)?;
+        lo += n;
+    }
+    if lo == 0 {
+        let (df, _, _) = read_parquet_rows(path, |_| (0, 0))?;
+        f(&df, 0)?;
+    }
+    Ok(())
+}
+
 /// Rows `[lo, hi)` of a Parquet table (only those are read), and the table's total row count.
 /// `range` maps the total to the wanted rows (e.g. a shard's slice).
 pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -> Result<(DataFrame, usize, usize)> {
