@@ -44,6 +44,8 @@ const POPULATION: &str = include_str!("../../survey-configs/populations/demo-sca
 /// A second model for the comparison: the same disk with its perihelia clustered.
 const CLUSTERED: &str = include_str!("../../survey-configs/populations/demo-clustered-disk.toml");
 /// Size of the demo's catalogue (the first discoveries), kept small so the demo stays quick.
+/// The demo's drawn population, in its output directory (the input of observe and yield).
+const DRAWN_OBJECTS: &str = "objects.parquet";
 const CATALOG_MAX: usize = 15;
 const N_OBJECTS: i64 = 20_000;
 const SEED: u64 = 2027;
@@ -143,7 +145,7 @@ fn run_in(out: &Path, dir: &str) -> RunOptions {
 fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable, say: &mut dyn FnMut(Say)) -> Result<()> {
     let catalog = write_catalog(out, observed, objects)?;
     let clustered = draw_to(out, CLUSTERED, "clustered.parquet", N_OBJECTS)?;
-    let population = out.join("objects.parquet");
+    let population = out.join(DRAWN_OBJECTS);
     let surveys = vec![spec.to_path_buf()];
     say(Say::Line(format!(
         "\n4. analyses of the {CATALOG_MAX}-object catalogue of discoveries ({})",
@@ -252,7 +254,7 @@ fn compare_cadences(out: &Path, say: &mut dyn FnMut(Say)) -> Result<()> {
     let outcome = yield_comparison(&YieldOptions {
         surveys: Vec::new(),
         plans,
-        objects: out.join("objects.parquet"),
+        objects: out.join(DRAWN_OBJECTS),
         r_edges: parse_edges("--r-edges", DEFAULT_R_EDGES)?,
         h_edges: parse_edges("--h-edges", DEFAULT_H_EDGES)?,
         a_edges: parse_edges("--a-edges", DEFAULT_A_EDGES)?,
@@ -318,9 +320,9 @@ fn plan_survey(out: &Path) -> Result<PathBuf> {
     Ok(outputs.spec)
 }
 
-/// Draw the embedded population and write it as `objects.parquet`.
+/// Draw the embedded population and write it as `DRAWN_OBJECTS`.
 fn draw_population(out: &Path) -> Result<ObjectTable> {
-    let path = draw_to(out, POPULATION, "objects.parquet", N_OBJECTS)?;
+    let path = draw_to(out, POPULATION, DRAWN_OBJECTS, N_OBJECTS)?;
     ObjectTable::read(&path)
 }
 
