@@ -849,3 +849,58 @@ fn compare_models_puts_its_model_objects_through_the_catalogues_fit_and_cut() {
         );
     }
 }
+
+#[test]
+fn detectability_gives_the_chance_of_entering_the_cut_catalogue() {
+    // detectability on a fitted catalogue with a cut: each discovered trial is measured,
+    // fitted and cut as the catalogue's objects were, so beside the chance of discovery it
+    // gives the chance of entering the cut catalogue, never above it, and below it where the
+    // cut bites; a plain run has no such columns.
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let run = observed_with_fits(tmp.path(), "run", &[]);
+    let s = |p: &std::path::Path| p.to_string_lossy().into_owned();
+    let (survey, catalogue) = (
+        s(&tmp.path().join("syn.survey.toml")),
+        s(&run.join("discoveries.parquet")),
+    );
+    let out = tmp.path().join("chances");
+    let head = ["detectability", "--survey", &survey, "--objects", &catalogue];
+    let cut = ["--fitted-elements", "--max-sigma-a-frac", "0.01"];
+    let tail = ["--clones", "10", "--quiet", "--out", &s(&out)];
+    let o = common::seine(&[&head[..], &cut[..], &tail[..]].concat());
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let said: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    assert!(
+        said["selection"]
+            .as_str()
+            .is_some_and(|k| k.contains("σa/a ≤ 0.01") && k.contains("fit span all")),
+        "{said}"
+    );
+    let t = read_table(&out.join("detectability.parquet")).unwrap();
+    let (found, entered) = (nullable(&t, "discovered"), nullable(&t, "entered"));
+    let (p, p_enter) = (nullable(&t, "p_discover"), nullable(&t, "p_enter"));
+    assert!(found.len() >= 10, "{} objects", found.len());
+    for k in 0..found.len() {
+        assert!(
+            entered[k].unwrap() <= found[k].unwrap(),
+            "row {k}: entered more often than discovered"
+        );
+        assert!((p_enter[k].unwrap() - entered[k].unwrap() / 10.0).abs() < 1e-12);
+        assert!(p_enter[k].unwrap() <= p[k].unwrap());
+    }
+    let (sum_found, sum_entered): (f64, f64) = (found.iter().flatten().sum(), entered.iter().flatten().sum());
+    assert!(
+        sum_entered > 0.0 && sum_entered < sum_found,
+        "the cut should keep some discovered trials and lose some: {sum_entered} of {sum_found}"
+    );
+    eprintln!("{sum_entered} of {sum_found} discovered trials pass the cut");
+    // Without a selection: the table as before, no entering columns.
+    let plain = tmp.path().join("plain");
+    let tail = ["--clones", "5", "--quiet", "--out", &s(&plain)];
+    let o = common::seine(&[&head[..], &tail[..]].concat());
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let t = read_table(&plain.join("detectability.parquet")).unwrap();
+    assert!(t.column("p_enter").is_err());
+}

@@ -10,6 +10,7 @@ use std::f64::consts::TAU;
 use rand::RngExt;
 use rayon::prelude::*;
 
+use super::trial_selection::TrialSelection;
 use super::trials::{TrialObject, angle_stream, trial_id};
 use crate::engine::{PreparedSurvey, StopRule};
 use crate::error::{Error, Result};
@@ -77,6 +78,9 @@ pub struct ObjectDetectability {
     pub secured: u64,
     /// Discoveries by each survey on its own.
     pub by_survey: Vec<u64>,
+    /// Under a catalogue's fit selection: the trials discovered *and* whose orbit, measured and
+    /// fitted as the catalogue's were, passes its cut (`TrialSelection::judge`); None otherwise.
+    pub entered: Option<Proportion>,
 }
 
 /// Detectability of catalogue rows `rows` with `trials` trials each.
@@ -85,12 +89,12 @@ pub fn detectability(
     rows: std::ops::Range<usize>,
     surveys: &[PreparedSurvey],
     trials: u64,
-    redraw: Redraw,
+    (redraw, selection): (Redraw, &TrialSelection),
     seed: u64,
 ) -> Vec<ObjectDetectability> {
     rows.into_par_iter()
         .map_init(Vec::new, |scratch, i| {
-            one_object(objects, i, surveys, trials, redraw, seed, scratch)
+            one_object(objects, i, surveys, (trials, redraw, selection), seed, scratch)
         })
         .collect()
 }
@@ -99,14 +103,15 @@ fn one_object(
     objects: &ObjectTable,
     i: usize,
     surveys: &[PreparedSurvey],
-    trials: u64,
-    redraw: Redraw,
+    (trials, redraw, selection): (u64, Redraw, &TrialSelection),
     seed: u64,
     scratch: &mut Vec<usize>,
 ) -> ObjectDetectability {
     let mut obj = TrialObject::new(objects, i);
     let base = obj.elements();
     let (mut found, mut secured, mut by_survey) = (0u64, 0u64, vec![0u64; surveys.len()]);
+    let fitting = matches!(selection, TrialSelection::Fitted { .. });
+    let mut entered = 0u64;
     for k in 0..trials {
         let tid = trial_id(objects.ids[i], k, trials);
         let el = redraw.apply(&base, &mut angle_stream(seed, tid));
@@ -116,12 +121,17 @@ fn one_object(
         for (n, s) in by_survey.iter_mut().zip(&out.surveys) {
             *n += s.discovered as u64;
         }
+        // Only a discovered trial can enter; the same streams give it the same verdict again.
+        if fitting && out.discovered() {
+            entered += selection.judge(&mut obj, el, surveys, (seed, tid), scratch).is_some() as u64;
+        }
     }
     ObjectDetectability {
         row: i,
         discovered: Proportion::new(found, trials),
         secured,
         by_survey,
+        entered: fitting.then(|| Proportion::new(entered, trials)),
     }
 }
 
@@ -169,6 +179,22 @@ pub fn write(
         let name = format!("discovered_{key}");
         cols.push(col(&name, res.iter().map(|d| d.by_survey[s]).collect::<Vec<u64>>()));
     }
+    // Under a fit selection: the chance of entering the cut catalogue, with its interval.
+    if res.first().is_some_and(|d| d.entered.is_some()) {
+        let q = |f: fn(&Proportion) -> f64| {
+            res.iter()
+                .map(|d| d.entered.as_ref().map_or(f64::NAN, f))
+                .collect::<Vec<f64>>()
+        };
+        cols.push(col(
+            "entered",
+            res.iter().map(|d| d.entered.map_or(0, |p| p.k)).collect::<Vec<u64>>(),
+        ));
+        cols.push(col("p_enter", q(|x| x.fraction)));
+        cols.push(col("p_enter_std_error", q(|x| x.std_error)));
+        cols.push(col("p_enter_wilson_lo", q(|x| x.lower)));
+        cols.push(col("p_enter_wilson_hi", q(|x| x.upper)));
+    }
     out.write(TABLE, cols)
 }
 
@@ -183,6 +209,16 @@ pub fn conclusion(res: &[ObjectDetectability], objects: &ObjectTable, k: u64) ->
     let mut p: Vec<f64> = res.iter().map(|d| d.discovered.fraction).collect();
     p.sort_by(f64::total_cmp);
     let low = p.iter().filter(|x| **x < 0.01).count();
+    let mut entered: Vec<f64> = res.iter().filter_map(|d| d.entered.map(|e| e.fraction)).collect();
+    entered.sort_by(f64::total_cmp);
+    let cut = if entered.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " Median chance of discovery with a fit that passes the cut {:.2}%.",
+            100.0 * crate::statistics::quantile_sorted(&entered, 0.5, crate::statistics::QuantileRule::InverseEcdf)
+        )
+    };
     format!(
         "seine detectability: {} objects × {k} trials. Median chance of discovery {:.2}%; {low} objects below 1%; \
          highest: id {} at {:.2}% (95% Wilson {:.2}%–{:.2}%).",
@@ -192,7 +228,7 @@ pub fn conclusion(res: &[ObjectDetectability], objects: &ObjectTable, k: u64) ->
         100.0 * best.discovered.fraction,
         100.0 * best.discovered.lower,
         100.0 * best.discovered.upper
-    )
+    ) + &cut
 }
 
 /// A row of `detectability.*` as written above: an object's elements and its chance of

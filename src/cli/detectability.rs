@@ -9,7 +9,7 @@ use seine::commands::detectability::{DetectabilityOptions, Subject, detectabilit
 
 use seine::statistics::parse_edges;
 
-use super::catalogue::CatalogueArgs;
+use super::catalogue::{CatalogueArgs, TrialFitArgs};
 use super::common::{RunArgs, ShardArgs};
 
 #[derive(clap::Args, Debug)]
@@ -24,6 +24,8 @@ pub struct Args {
     pub objects: Option<PathBuf>,
     #[command(flatten)]
     pub selection: CatalogueArgs,
+    #[command(flatten)]
+    pub fit: TrialFitArgs,
     /// A population sample (e.g. from seine draw): the selection function P(discovered | a, q, i, H cell).
     /// One of --objects or --population is required.
     #[arg(long)]
@@ -70,6 +72,7 @@ pub fn run(a: Args) -> Result<()> {
         (None, objects) => Subject::Catalogue {
             objects: objects.expect("clap requires --objects or --population"),
             selection: a.selection.selection()?,
+            fit: a.fit.options()?,
             clones: a.clones,
             redraw,
             shard: a.shard.resolve()?,

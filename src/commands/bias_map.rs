@@ -5,7 +5,7 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, MapSummary, selected_bias_maps, svg};
 use crate::analysis::bias_map_tables;
 use crate::analysis::trial_selection::TrialSelection;
@@ -178,7 +178,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     let budget = opts.maps.budget()?;
     let mut prov = opts.run.provenance();
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
-    let (objects, note) = read_catalogue_modelled(&opts.selection, &opts.objects)?;
+    let (objects, note) = read_catalogue(&opts.selection, &opts.objects)?;
     prov.add_input(&opts.objects)?;
     let rows = shard_rows(objects.len(), opts.shard);
     opts.maps.check_budget(rows.len(), opts.maps.objects_per_batch())?;

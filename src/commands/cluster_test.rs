@@ -6,7 +6,7 @@
 use std::path::{Path, PathBuf};
 
 use super::bias_map::MapOptions;
-use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::bias_map::BiasMap;
 use crate::analysis::cluster_test::{self as ct, Angles, ClusterTest, TestOptions};
 use crate::analysis::trial_selection::TrialSelection;
@@ -71,7 +71,7 @@ impl ClusterTestOptions {
 pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     opts.validate()?;
     let mut prov = opts.run.provenance();
-    let (catalog, note) = read_catalogue_modelled(&opts.selection, &opts.catalog)?;
+    let (catalog, note) = read_catalogue(&opts.selection, &opts.catalog)?;
     prov.add_input(&opts.catalog)?;
     if catalog.len() < 2 {
         // Refused before the maps are made: they would cost minutes and test nothing.

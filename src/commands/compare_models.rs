@@ -4,7 +4,7 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue_modelled};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::compare::{CompareOptions, DensityChoice, Model, compare_models};
 use crate::analysis::comparison;
 use crate::analysis::space::Space;
@@ -105,7 +105,7 @@ pub struct CompareModelsOptions {
 pub fn compare(opts: &CompareModelsOptions) -> Result<Outcome> {
     let mut prov = opts.run.provenance();
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
-    let (observed, note) = read_catalogue_modelled(&opts.selection, &opts.observed)?;
+    let (observed, note) = read_catalogue(&opts.selection, &opts.observed)?;
     prov.add_input(&opts.observed)?;
     let mut models = Vec::new();
     for m in &opts.models {

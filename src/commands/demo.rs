@@ -156,6 +156,7 @@ fn analyses(out: &Path, spec: &Path, observed: &Path, objects: &ObjectTable, say
         subject: Subject::Catalogue {
             objects: catalog.clone(),
             selection: Selection::default(),
+            fit: Default::default(),
             clones: 200,
             redraw: Redraw::All,
             shard: None,

@@ -8,9 +8,11 @@ use std::path::PathBuf;
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
 use crate::analysis::detectability::{self, Redraw, check_budget};
 use crate::analysis::selection::{self, GridEdges, selection_function};
+use crate::analysis::trial_selection::TrialSelection;
 use crate::engine::PreparedSurvey;
 use crate::engine::run::survey_key;
 use crate::error::{Error, Result};
+use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
 use crate::io::Provenance;
 use crate::population::objects::ObjectTable;
@@ -25,6 +27,9 @@ pub enum Subject {
     Catalogue {
         objects: PathBuf,
         selection: Selection,
+        /// How the catalogue's orbits were fitted: under a fit selection each discovered trial
+        /// is fitted the same way and its chance of passing the cut counted too.
+        fit: FitOptions,
         clones: u64,
         redraw: Redraw,
         shard: Option<(usize, usize)>,
@@ -99,6 +104,7 @@ fn catalogue(opts: &DetectabilityOptions, surveys: &[PreparedSurvey], mut prov: 
     let Subject::Catalogue {
         objects: path,
         selection,
+        fit,
         clones,
         redraw,
         shard,
@@ -107,12 +113,14 @@ fn catalogue(opts: &DetectabilityOptions, surveys: &[PreparedSurvey], mut prov: 
     else {
         unreachable!("called for a catalogue");
     };
+    // The trials go through the selection (the chance of entering the cut catalogue).
     let (objects, note) = read_catalogue(selection, path)?;
+    let trials = TrialSelection::new(selection, *fit);
     prov.add_input(path)?;
     let rows = shard_rows(objects.len(), *shard);
     check_budget(rows.len(), *clones, *over_budget)?;
     let out = opts.run.out_dir(prov);
-    let res = detectability::detectability(&objects, rows, surveys, *clones, *redraw, opts.run.seed);
+    let res = detectability::detectability(&objects, rows, surveys, *clones, (*redraw, &trials), opts.run.seed);
     let keys: Vec<String> = surveys.iter().map(|s| survey_key(&s.survey.name)).collect();
     let table = detectability::write(&out, &objects, &res, &keys)?;
     let conclusion = detectability::conclusion(&res, &objects, *clones);
@@ -123,6 +131,7 @@ fn catalogue(opts: &DetectabilityOptions, surveys: &[PreparedSurvey], mut prov: 
             "objects": res.len(),
             "trials_per_object": clones,
             "redraw": redraw.name(),
+            "selection": trials.key(),
             "mean_p_discover": res.iter().map(|d| d.discovered.fraction).sum::<f64>() / res.len().max(1) as f64,
         }),
         &conclusion,

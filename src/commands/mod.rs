@@ -142,48 +142,21 @@ pub fn catalogue_selection(
 }
 
 /// Read a catalogue under a selection (fitted elements, orbit-quality cut); the note says what
-/// the cut left out, when there is a cut, with a caution that the command's own model of the
-/// surveys does not apply it.
+/// the cut left out, when there is a cut. Every command that reads one puts its simulated
+/// objects (map trials, detectability trials, model objects) through the same selection
+/// (`analysis::trial_selection`).
 pub fn read_catalogue(
     selection: &crate::fit::catalogue::Selection,
     path: &Path,
 ) -> Result<(crate::population::objects::ObjectTable, Option<String>)> {
-    read_selected(selection, path, false)
-}
-
-/// As `read_catalogue`, for a command whose bias maps put their trials through the same
-/// selection (`analysis::trial_selection`): no caution.
-pub fn read_catalogue_modelled(
-    selection: &crate::fit::catalogue::Selection,
-    path: &Path,
-) -> Result<(crate::population::objects::ObjectTable, Option<String>)> {
-    read_selected(selection, path, true)
-}
-
-fn read_selected(
-    selection: &crate::fit::catalogue::Selection,
-    path: &Path,
-    modelled: bool,
-) -> Result<(crate::population::objects::ObjectTable, Option<String>)> {
     let (table, left_out) = selection.read(path)?;
     let note = (!selection.is_plain()).then(|| {
-        let mut note = format!(
+        format!(
             "{}: {} objects ({}), {left_out} left out by the cut",
             path.display(),
             table.len(),
             selection.describe()
-        );
-        if left_out > 0 && !modelled {
-            // The cut selects on where and when the surveys saw each object, which the
-            // detection probabilities and the models' detected objects do not model
-            // (tutorial-bias-check.md §5).
-            note.push_str(
-                "; caution: the surveys' selection computed here counts an object found whatever its fit \
-                 would be, so a cut on the fits (arc, σa/a, class) is a selection it does not model and \
-                 can fake a clustering (tutorial-bias-check.md, step 5)",
-            );
-        }
-        note
+        )
     });
     Ok((table, note))
 }
