@@ -416,9 +416,6 @@ fn every_single_byte_change_of_a_parquet_table_is_read_or_refused() {
     let path = dir.path().join("objects.parquet");
     let mut refused = 0;
     for at in 0..valid.len() {
-        if std::env::var("FUZZ_TRACE").is_ok() {
-            eprintln!("byte {at} of {}", valid.len());
-        }
         for pattern in [0x01u8, 0x80, 0xff] {
             let mut bytes = valid.clone();
             bytes[at] ^= pattern;

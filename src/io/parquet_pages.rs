@@ -20,12 +20,15 @@ use crate::error::{Error, Result};
 /// of at most a few MB; polars' own reader uses the same order of limit).
 const MAX_PAGE_BYTES: usize = 1 << 30;
 
-/// `Ok` when no column chunk and no data page claims a negative count of values; otherwise the
+/// `Ok` when no column chunk and no data page of the row groups holding rows `range(total rows)`
+/// (the rows about to be read, which are the groups polars decodes; a part of a table read in
+/// chunks checks only its own groups, so reading a table part by part checks each group once)
+/// claims a negative count of values; otherwise the
 /// refusal of a damaged file. (A count too large for its page is left to the reader: it
 /// reserves at most 2^31 bits for it, then finds the page too short and returns an error.) A file whose footer or headers
 /// cannot be read at all is left to the reader, which reports it as an error. The header reader
 /// can panic on some damage: call this inside `guard_parquet`, like the reader.
-pub fn check_page_headers(path: &Path) -> Result<()> {
+pub fn check_page_headers(path: &Path, range: impl Fn(usize) -> (usize, usize)) -> Result<()> {
     let damaged = |what: String| {
         Error::input(format!(
             "{}: not a readable parquet table: the file is damaged ({what})",
@@ -42,7 +45,14 @@ pub fn check_page_headers(path: &Path) -> Result<()> {
     let Ok(meta) = read_metadata(&mut Cursor::new(bytes.clone())) else {
         return Ok(());
     };
+    let (lo, hi) = range(meta.num_rows);
+    let mut first_row = 0usize;
     for (g, group) in meta.row_groups.iter().enumerate() {
+        let rows = first_row..first_row.saturating_add(group.num_rows());
+        first_row = rows.end;
+        if rows.start >= hi || rows.end <= lo {
+            continue;
+        }
         for column in group.parquet_columns() {
             let name = column.descriptor().path_in_schema.join(".");
             if column.num_values() < 0 {

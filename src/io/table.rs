@@ -75,7 +75,7 @@ pub fn read_table(path: &Path) -> Result<DataFrame> {
             .and_then(|r| r.finish()),
         Format::Parquet => {
             let f = File::open(path).map_err(|e| io_at(path, e))?;
-            guard_parquet(path, || super::parquet_pages::check_page_headers(path))??;
+            guard_parquet(path, || super::parquet_pages::check_page_headers(path, |n| (0, n)))??;
             guard_parquet(path, || ParquetReader::new(f).finish())?
         }
     };
@@ -182,7 +182,7 @@ pub fn read_parquet_rows(path: &Path, range: impl Fn(usize) -> (usize, usize)) -
         )));
     }
     let f = File::open(path).map_err(|e| Error::input(format!("{}: cannot open the table: {e}", path.display())))?;
-    guard_parquet(path, || super::parquet_pages::check_page_headers(path))??;
+    guard_parquet(path, || super::parquet_pages::check_page_headers(path, &range))??;
     let (df, lo, total) = guard_parquet(path, move || {
         let mut reader = ParquetReader::new(f);
         let total = reader.num_rows()?;
