@@ -18,6 +18,8 @@ pub enum Purpose {
     Analysis = 4,
     /// Measured positions of detections (`observe --fit-orbits`).
     Astrometry = 5,
+    /// A bias-map or detectability trial's a, e, i drawn from the catalogue's fit errors.
+    FitErrors = 6,
 }
 
 /// SplitMix64 finaliser (Steele, Lea & Flood 2014): a bijective mixer of 64-bit words.

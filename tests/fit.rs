@@ -621,9 +621,10 @@ fn the_orbit_quality_cut_selects_what_it_says() {
     let left = format!("{} left out by the cut", ids.len() - expected.len());
     assert!(err.contains(&said) && err.contains(&left), "{err}");
     // The bias maps put their trials through the same fit and cut (methods.md, "Bias maps of
-    // a catalogue of fitted orbits"): the summary and every map row say so. On fitted elements
-    // the maps are made at the fitted a, e, i, not shown calibrated (validation.md): the
-    // bias-aware chances are withheld, and the summary says why; the naive ones stay.
+    // a catalogue of fitted orbits"), each trial at a, e, i drawn from the row's fit errors:
+    // the summary and every map row say so. On fitted elements these maps are not yet shown
+    // calibrated (validation.md): the bias-aware chances are withheld, and the summary says
+    // why; the naive ones stay.
     let said: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
     let key = said["selection"].as_str().unwrap_or_default().to_string();
@@ -631,8 +632,9 @@ fn the_orbit_quality_cut_selects_what_it_says() {
         key.contains("fitted elements") && key.contains("arc ≥ 100 days") && key.contains("fit span all"),
         "{said}"
     );
+    assert!(key.ends_with("a, e, i drawn from the fit's errors"), "{said}");
     let why = said["chances_withheld"].as_str().unwrap_or_default();
-    assert!(why.contains("fitted a, e and i"), "{said}");
+    assert!(why.contains("fit's errors"), "{said}");
     let test = read_table(&out.join("cluster_test.parquet")).unwrap();
     assert!(
         nullable(&test, "p_bias_aware").iter().all(Option::is_none),
@@ -903,4 +905,79 @@ fn detectability_gives_the_chance_of_entering_the_cut_catalogue() {
     assert!(o.status.success(), "{}", common::stderr(&o));
     let t = read_table(&plain.join("detectability.parquet")).unwrap();
     assert!(t.column("p_enter").is_err());
+}
+
+#[test]
+fn maps_on_fitted_elements_draw_a_e_i_from_each_rows_fit_errors() {
+    // On fitted elements each map trial takes its a, e, i from the row's fit error law, read
+    // from the row's fitted values, sigma and correlation columns (methods.md, "What the maps'
+    // xⱼ are"). The law read back is the table's (means, σ, correlations, row by row); the maps
+    // are the same from the same seed on one thread or several, and differ from the plug-in's
+    // (maps at the fitted a, e, i), whose trials see other orbits.
+    use seine::analysis::bias_map::{MapAxes, MapBudget, MapGrid, selected_bias_maps};
+    use seine::analysis::trial_elements::TrialElements;
+    use seine::analysis::trial_selection::TrialSelection;
+    use seine::fit::FitOptions;
+    use seine::fit::catalogue::Selection;
+    use seine::io::table::read_table;
+    let tmp = tempfile::tempdir().unwrap();
+    let run = observed_with_fits(tmp.path(), "run", &[]);
+    let catalogue = run.join("discoveries.parquet");
+    let selection = Selection {
+        fitted: true,
+        max_sigma_a_frac: Some(0.01),
+        ..Selection::default()
+    };
+    let (table, _) = selection.read(&catalogue).unwrap();
+    let laws = selection.error_laws(&catalogue).unwrap();
+    assert_eq!(laws.len(), table.len());
+    let disc = read_table(&catalogue).unwrap();
+    let ids = nullable(&disc, "id");
+    let column = |name: &str| nullable(&disc, name);
+    let (sa, se, si) = (column("sigma_a_au"), column("sigma_e"), column("sigma_inc_deg"));
+    let (r_ae, r_ai, r_ei) = (
+        column("fit_corr_a_e"),
+        column("fit_corr_a_inc"),
+        column("fit_corr_e_inc"),
+    );
+    let close = |x: f64, y: f64| (x - y).abs() <= 1e-9 * y.abs().max(1e-300);
+    for (r, law) in laws.iter().enumerate() {
+        let law = law.as_ref().expect("a passing fit has a covariance");
+        let k = ids.iter().position(|v| *v == Some(table.ids[r] as f64)).unwrap();
+        let el = table.elements[r];
+        assert_eq!(law.mean(), [el.a_au, el.e, el.inc_rad], "row {r}");
+        let c = law.covariance();
+        let sigma = [sa[k].unwrap(), se[k].unwrap(), si[k].unwrap().to_radians()];
+        for (i, s) in sigma.iter().enumerate() {
+            assert!(close(c[(i, i)].sqrt(), *s), "row {r}: σ{i} {} vs {s}", c[(i, i)].sqrt());
+        }
+        for ((i, j), rho) in [((0, 1), &r_ae), ((0, 2), &r_ai), ((1, 2), &r_ei)] {
+            let got = c[(i, j)] / (sigma[i] * sigma[j]);
+            assert!((got - rho[k].unwrap_or(0.0)).abs() < 1e-9, "row {r}: ρ{i}{j} {got}");
+        }
+    }
+    let surveys = vec![seine::engine::PreparedSurvey::new(
+        seine::survey::Survey::load(&tmp.path().join("syn.survey.toml")).unwrap(),
+    )];
+    let grid = MapGrid {
+        axes: MapAxes::VarpiNode,
+        n_x: 4,
+        n_node: 4,
+    };
+    let plug_in = TrialSelection::new(&selection, FitOptions::default());
+    let drawn = plug_in.clone().with_elements(TrialElements::FitErrorLaw(laws));
+    let rows = 0..table.len().min(4);
+    let maps = |s: &TrialSelection| {
+        let plan = (grid, MapBudget::fixed(3, grid), s);
+        selected_bias_maps(&table, rows.clone(), &surveys, plan, 21, &|| {})
+    };
+    let several = maps(&drawn);
+    let one_thread = rayon::ThreadPoolBuilder::new().num_threads(1).build().unwrap();
+    assert_eq!(
+        several,
+        one_thread.install(|| maps(&drawn)),
+        "the thread count changed a map"
+    );
+    assert!(several.iter().any(|m| m.total_discoveries() > 0), "no trial entered");
+    assert_ne!(several, maps(&plug_in), "the drawn a, e, i changed nothing");
 }

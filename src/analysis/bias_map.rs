@@ -367,7 +367,8 @@ fn one_map(
                 || (template.clone(), Vec::new()),
                 |(obj, scratch), c| {
                     let tid = trial_id(id, pass * cells as u64 + c as u64, span);
-                    let (el, x) = cell_trial(base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
+                    let trial_base = selection.trial_elements(i, base, (seed, tid));
+                    let (el, x) = cell_trial(trial_base, bounds[c], grid.axes, &mut angle_stream(seed, tid));
                     match selection.judge(obj, el, surveys, (seed, tid), scratch)? {
                         Kept::True => Some((x, el.node_rad)),
                         Kept::Fitted(f) => Some((grid.axes.x_of(&f), f.node_rad.rem_euclid(TAU))),

@@ -114,7 +114,8 @@ fn one_object(
     let mut entered = 0u64;
     for k in 0..trials {
         let tid = trial_id(objects.ids[i], k, trials);
-        let el = redraw.apply(&base, &mut angle_stream(seed, tid));
+        let trial_base = selection.trial_elements(i, base, (seed, tid));
+        let el = redraw.apply(&trial_base, &mut angle_stream(seed, tid));
         let out = obj.observe(el, surveys, (seed, tid), StopRule::UntilSecured, scratch);
         found += out.discovered() as u64;
         secured += out.surveys.iter().any(|s| s.secured) as u64;

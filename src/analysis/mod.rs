@@ -15,6 +15,7 @@ pub mod marginals;
 pub mod pooled_p;
 pub mod selection;
 pub mod space;
+pub mod trial_elements;
 pub mod trial_selection;
 pub mod trials;
 pub mod two_sample;

@@ -7,6 +7,7 @@
 
 use rayon::prelude::*;
 
+use super::trial_elements::TrialElements;
 use super::trials::TrialObject;
 use crate::engine::outcome::ObjectOutcome;
 use crate::engine::{Batch, PreparedSurvey, StopRule};
@@ -23,8 +24,13 @@ pub enum TrialSelection {
     #[default]
     Discovered,
     /// Discovered, and its orbit (measured and fitted as `fit` says) passes `selection`'s cut;
-    /// its fitted angles when `selection` takes fitted elements, its true ones otherwise.
-    Fitted { fit: FitOptions, selection: Selection },
+    /// its fitted angles when `selection` takes fitted elements, its true ones otherwise. A
+    /// map's or detectability trial's a, e, i are chosen as `elements` says.
+    Fitted {
+        fit: FitOptions,
+        selection: Selection,
+        elements: TrialElements,
+    },
 }
 
 impl TrialSelection {
@@ -37,7 +43,29 @@ impl TrialSelection {
             TrialSelection::Fitted {
                 fit,
                 selection: selection.clone(),
+                elements: TrialElements::Catalogued,
             }
+        }
+    }
+
+    /// The same selection with the trials' a, e, i chosen as `elements` says (a plain
+    /// catalogue's trials keep theirs: it has no fit to draw from).
+    pub fn with_elements(self, elements: TrialElements) -> Self {
+        match self {
+            TrialSelection::Fitted { fit, selection, .. } => TrialSelection::Fitted {
+                fit,
+                selection,
+                elements,
+            },
+            plain => plain,
+        }
+    }
+
+    /// The elements of trial `trial` of catalogue row `row` at `base` (`TrialElements::of_trial`).
+    pub fn trial_elements(&self, row: usize, base: Elements, stream: (u64, i64)) -> Elements {
+        match self {
+            TrialSelection::Fitted { elements, .. } => elements.of_trial(row, base, stream),
+            TrialSelection::Discovered => base,
         }
     }
 
@@ -46,12 +74,17 @@ impl TrialSelection {
     pub fn key(&self) -> String {
         match self {
             TrialSelection::Discovered => DISCOVERED_KEY.to_string(),
-            TrialSelection::Fitted { fit, selection } => format!(
-                "{}; fit span {}, astrometric σ {}″, floor {}″",
+            TrialSelection::Fitted {
+                fit,
+                selection,
+                elements,
+            } => format!(
+                "{}; fit span {}, astrometric σ {}″, floor {}″{}",
                 selection.describe(),
                 fit.span.name(),
                 fit.errors.sigma_arcsec,
-                fit.errors.floor_arcsec
+                fit.errors.floor_arcsec,
+                elements.key_suffix()
             ),
         }
     }
@@ -71,7 +104,7 @@ impl TrialSelection {
         let discovered = obj
             .observe(el, surveys, (seed, trial), StopRule::UntilDiscovery, scratch)
             .discovered();
-        let TrialSelection::Fitted { fit, selection } = self else {
+        let TrialSelection::Fitted { fit, selection, .. } = self else {
             return discovered.then_some(Kept::True);
         };
         if !discovered {
@@ -89,7 +122,7 @@ impl TrialSelection {
     pub fn entering(&self, t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<(usize, Kept)> {
         let found = Batch::new(surveys, seed, StopRule::UntilDiscovery).discovered(t);
         let discovered = (0..t.len()).filter(|i| found[*i]);
-        let TrialSelection::Fitted { fit, selection } = self else {
+        let TrialSelection::Fitted { fit, selection, .. } = self else {
             return discovered.map(|i| (i, Kept::True)).collect();
         };
         let rows: Vec<usize> = discovered.collect();
@@ -183,5 +216,13 @@ mod tests {
         };
         assert_ne!(TrialSelection::new(&cut(), other).key(), key);
         assert_ne!(key, DISCOVERED_KEY);
+        // Maps whose trials draw a, e, i from the fit's errors are another kind of map.
+        let law = TrialElements::FitErrorLaw(vec![None]);
+        let drawn = TrialSelection::new(&cut(), FitOptions::default()).with_elements(law.clone());
+        assert_eq!(drawn.key(), format!("{key}; a, e, i drawn from the fit's errors"));
+        assert_eq!(
+            TrialSelection::Discovered.with_elements(law),
+            TrialSelection::Discovered
+        );
     }
 }

@@ -5,9 +5,10 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue, trial_elements};
 use crate::analysis::bias_map::{BiasMap, MapBudget, MapGrid, MapSummary, selected_bias_maps, svg};
 use crate::analysis::bias_map_tables;
+use crate::analysis::trial_elements::TrialElements;
 use crate::analysis::trial_selection::TrialSelection;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
@@ -85,9 +86,10 @@ impl MapOptions {
         bias_map_tables::maps_per_batch(self.grid.cells()).max(rayon::current_num_threads())
     }
 
-    /// The selection the maps' trials go through for a catalogue read under `selection`.
-    pub fn trial_selection(&self, selection: &Selection) -> TrialSelection {
-        TrialSelection::new(selection, self.fit)
+    /// The selection the maps' trials go through for a catalogue read under `selection`, their
+    /// a, e, i chosen as `elements` says (`commands::trial_elements`).
+    pub fn trial_selection(&self, selection: &Selection, elements: TrialElements) -> TrialSelection {
+        TrialSelection::new(selection, self.fit).with_elements(elements)
     }
 
     /// The maps of catalogue rows `rows`, their trials under `selection`, with a progress bar
@@ -182,8 +184,9 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     prov.add_input(&opts.objects)?;
     let rows = shard_rows(objects.len(), opts.shard);
     opts.maps.check_budget(rows.len(), opts.maps.objects_per_batch())?;
+    let (elements, law_note) = trial_elements(&opts.selection, &opts.objects, &objects.ids)?;
     let out = opts.run.out_dir(prov);
-    let selection = opts.maps.trial_selection(&opts.selection);
+    let selection = opts.maps.trial_selection(&opts.selection, elements);
     // Each batch of maps is written as it is made; only their summaries are kept.
     let mut sink = bias_map_tables::MapSink::create(&out, &objects, &selection)?;
     let mut maps: Vec<MapSummary> = Vec::with_capacity(rows.len());
@@ -231,7 +234,7 @@ pub fn bias_map(opts: &BiasMapOptions) -> Result<Outcome> {
     Ok(Outcome {
         written: vec![table, found, own, summary],
         conclusion,
-        notes: note.into_iter().collect(),
+        notes: note.into_iter().chain(law_note).collect(),
     })
 }
 

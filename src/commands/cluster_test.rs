@@ -6,7 +6,7 @@
 use std::path::{Path, PathBuf};
 
 use super::bias_map::MapOptions;
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue, trial_elements};
 use crate::analysis::bias_map::BiasMap;
 use crate::analysis::cluster_test::{self as ct, Angles, ClusterTest, TestOptions};
 use crate::analysis::trial_selection::TrialSelection;
@@ -82,7 +82,9 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
         )));
     }
     opts.check_budget(catalog.len())?;
-    let maps = catalogue_maps(opts, &catalog, &mut prov)?;
+    let (elements, law_note) = trial_elements(&opts.selection, &opts.catalog, &catalog.ids)?;
+    let selection = opts.maps.trial_selection(&opts.selection, elements);
+    let maps = catalogue_maps(opts, (&catalog, &selection), &mut prov)?;
     let summaries: Vec<_> = maps.iter().map(BiasMap::summary).collect();
     let (undiscovered, thin) = opts.maps.thin_maps(&summaries)?;
     if !undiscovered.is_empty() && !opts.drop_undiscovered {
@@ -98,7 +100,6 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     if withheld.is_some() {
         res.withhold_bias_aware_chances();
     }
-    let selection = opts.maps.trial_selection(&opts.selection);
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
         bias_map_tables::write(&out, &maps, &catalog, &selection)?;
@@ -126,17 +127,21 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
     Ok(Outcome {
         written: vec![table, null, rose, summary],
         conclusion,
-        notes: note.into_iter().collect(),
+        notes: note.into_iter().chain(law_note).collect(),
     })
 }
 
-/// The catalogue's maps, in catalogue order: read from the given tables, or computed.
-fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut Provenance) -> Result<Vec<BiasMap>> {
-    let selection = opts.maps.trial_selection(&opts.selection);
+/// The catalogue's maps, in catalogue order, their trials under `selection`: read from the
+/// given tables (made under the same selection), or computed.
+fn catalogue_maps(
+    opts: &ClusterTestOptions,
+    (catalog, selection): (&ObjectTable, &TrialSelection),
+    prov: &mut Provenance,
+) -> Result<Vec<BiasMap>> {
     let Some(first) = opts.bias_maps.first() else {
         opts.maps.check_budget(catalog.len(), catalog.len())?;
         let surveys = load_surveys(&opts.surveys, prov)?;
-        let rows = (0..catalog.len(), &selection);
+        let rows = (0..catalog.len(), selection);
         return opts
             .maps
             .maps(catalog, rows, &surveys, opts.run.seed, opts.run.progress);
@@ -144,7 +149,7 @@ fn catalogue_maps(opts: &ClusterTestOptions, catalog: &ObjectTable, prov: &mut P
     let mut maps = Vec::new();
     for p in &opts.bias_maps {
         prov.add_input(p)?;
-        maps.extend(bias_map_tables::read(p, catalog, &selection)?);
+        maps.extend(bias_map_tables::read(p, catalog, selection)?);
     }
     order_maps(maps, catalog, first)
 }

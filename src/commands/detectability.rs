@@ -5,7 +5,7 @@
 
 use std::path::PathBuf;
 
-use super::{Outcome, RunOptions, load_surveys, read_catalogue};
+use super::{Outcome, RunOptions, load_surveys, read_catalogue, trial_elements};
 use crate::analysis::detectability::{self, Redraw, check_budget};
 use crate::analysis::selection::{self, GridEdges, selection_function};
 use crate::analysis::trial_selection::TrialSelection;
@@ -115,7 +115,8 @@ fn catalogue(opts: &DetectabilityOptions, surveys: &[PreparedSurvey], mut prov: 
     };
     // The trials go through the selection (the chance of entering the cut catalogue).
     let (objects, note) = read_catalogue(selection, path)?;
-    let trials = TrialSelection::new(selection, *fit);
+    let (elements, law_note) = trial_elements(selection, path, &objects.ids)?;
+    let trials = TrialSelection::new(selection, *fit).with_elements(elements);
     prov.add_input(path)?;
     let rows = shard_rows(objects.len(), *shard);
     check_budget(rows.len(), *clones, *over_budget)?;
@@ -139,6 +140,6 @@ fn catalogue(opts: &DetectabilityOptions, surveys: &[PreparedSurvey], mut prov: 
     Ok(Outcome {
         written: vec![table, summary],
         conclusion,
-        notes: note.into_iter().collect(),
+        notes: note.into_iter().chain(law_note).collect(),
     })
 }

@@ -95,14 +95,14 @@ pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<Prep
 
 /// Why `cluster-test`'s bias-aware chances are withheld on fitted elements. Its maps put their
 /// trials through the catalogue's fit and cut, which is calibrated on true elements with a cut
-/// (`tests/fit_calibration.rs`), but on fitted elements they are made at the catalogue's fitted
-/// a, e, i (a plug-in for the unknown true ones, methods.md), and on the lopsided case its
-/// small-p tail runs high (at 1 %, every row 1.0–3.3 % over 300 null catalogues; validation.md);
-/// a chance not shown calibrated is not printed as one.
+/// (`tests/fit_calibration.rs`); on fitted elements each trial draws its a, e, i from the fit's
+/// error law (methods.md, "What the maps' xⱼ are"), whose calibration on the lopsided case is
+/// pending (the plug-in it replaces ran high in the small-p tail; validation.md): a chance not
+/// shown calibrated is not printed as one.
 pub fn fitted_chances_withheld(selection: &crate::fit::catalogue::Selection) -> Option<String> {
     selection.fitted.then(|| {
-        "chances withheld: on fitted elements the bias maps are made at the fitted a, e and i, and \
-         their chances are not shown calibrated (validation.md); the same cut on true elements is"
+        "chances withheld: on fitted elements the bias maps draw a, e and i from the fit's errors, and \
+         their chances are not yet shown calibrated (validation.md); the same cut on true elements is"
             .to_string()
     })
 }
@@ -139,6 +139,31 @@ pub fn catalogue_selection(
         max_sigma_a_frac: plausible("--max-sigma-a-frac", max_sigma_a_frac)?,
         qualities,
     })
+}
+
+/// How the simulated trials of a catalogue read from `path` under `selection` take its a, e,
+/// i (`ids`: the rows read): on fitted elements drawn from each row's fit error law
+/// (methods.md, "What the maps' xⱼ are"), otherwise the catalogue's own. The note names the
+/// rows whose fit has no covariance, whose trials keep the fitted values.
+pub fn trial_elements(
+    selection: &crate::fit::catalogue::Selection,
+    path: &Path,
+    ids: &[i64],
+) -> Result<(crate::analysis::trial_elements::TrialElements, Option<String>)> {
+    use crate::analysis::trial_elements::TrialElements;
+    if !selection.fitted {
+        return Ok((TrialElements::Catalogued, None));
+    }
+    let elements = TrialElements::FitErrorLaw(selection.error_laws(path)?);
+    let without: Vec<i64> = elements.rows_without_law().iter().map(|r| ids[*r]).collect();
+    let note = (!without.is_empty()).then(|| {
+        format!(
+            "{}: ids {without:?} have no fit covariance (empty sigma_a_au, sigma_e or sigma_inc_deg): their \
+             trials keep the fitted a, e and i",
+            path.display()
+        )
+    });
+    Ok((elements, note))
 }
 
 /// Read a catalogue under a selection (fitted elements, orbit-quality cut); the note says what

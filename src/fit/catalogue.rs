@@ -12,6 +12,7 @@ use std::path::Path;
 use polars::prelude::*;
 
 use super::columns::element_column;
+use super::error_law::ElementErrorLaw;
 use super::orbit_fit::OrbitFit;
 use super::quality::Quality;
 use crate::error::{Error, Result, io_at};
@@ -70,6 +71,26 @@ impl Selection {
             use_fitted_elements(&mut df, path)?;
         }
         Ok((ObjectTable::from_frame(df, path)?, left_out))
+    }
+
+    /// The fit's error law of each selected row's a, e, i (rows in `read`'s order), from its
+    /// fitted values, `sigma_a_au, sigma_e, sigma_inc_deg` and the correlations among them
+    /// (`fit_corr_a_e, fit_corr_a_inc, fit_corr_e_inc`; an empty one, written when a σ is 0,
+    /// counts as 0). None for a row whose fit has no covariance (an empty σ).
+    pub fn error_laws(&self, path: &Path) -> Result<Vec<Option<ElementErrorLaw>>> {
+        let df = read_table(path)?;
+        let keep = self.mask(&df, path)?;
+        let get = |name: &str| nullable_f64(&df, name, path);
+        let mean = [get("fit_a_au")?, get("fit_e")?, get("fit_inc_deg")?];
+        let sigma = [get("sigma_a_au")?, get("sigma_e")?, get("sigma_inc_deg")?];
+        let corr = [get("fit_corr_a_e")?, get("fit_corr_a_inc")?, get("fit_corr_e_inc")?];
+        let law = |i: usize| {
+            let m = [mean[0][i]?, mean[1][i]?, mean[2][i]?.to_radians()];
+            let s = [sigma[0][i]?, sigma[1][i]?, sigma[2][i]?.to_radians()];
+            let r = |k: usize| corr[k][i].unwrap_or(0.0);
+            ElementErrorLaw::from_sigmas(m, s, (r(0), r(1), r(2)))
+        };
+        Ok((0..df.height()).filter(|i| keep[*i]).map(law).collect())
     }
 
     /// The cut in words, for messages.

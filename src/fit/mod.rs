@@ -11,6 +11,7 @@ pub mod astrometry;
 pub mod catalogue;
 pub mod chart;
 pub mod columns;
+pub mod error_law;
 pub mod least_squares;
 pub mod orbit_fit;
 pub mod prior;
