@@ -28,7 +28,8 @@
 //! run on demand (`cargo test --release --test fit_calibration fitted_elements_with_a_quality_cut
 //! -- --ignored --nocapture`), beside two companions on the same null catalogues (maps at the
 //! fitted a, e, i, the plug-in; and maps of the same size on true elements); validation.md
-//! gives their results. Statistical criteria:
+//! gives their results. Each runs 600 null catalogues; `SEINE_CALIBRATION_NULLS=301-600` runs a
+//! part of them (the same p-values as in the whole run). Statistical criteria:
 //! `common::check_uniform` (rejections at 5% and 1% within 3.5 binomial standard deviations,
 //! KS p above 10⁻³).
 
@@ -59,10 +60,9 @@ use seine::rng::{Purpose, object_stream};
 
 /// Null catalogues on true elements (maps made once).
 const NULLS_TRUE: usize = 1000;
-/// Null catalogues with maps of their own (run on demand): the plug-in and true-elements runs,
-/// and the error-law run, which takes twice as many to tell its small-p tail from theirs.
-const NULLS_FITTED: usize = 300;
-const NULLS_ERROR_LAW: usize = 600;
+/// Null catalogues with maps of their own (run on demand), for each of the three runs: enough
+/// to tell a small-p tail of 2% from 1% (at 1%, 6 expected, 3.5 σ is 8.5).
+const NULLS_OWN_MAPS: usize = 600;
 /// Synthetic catalogues per test.
 const TRIALS: u64 = 1000;
 /// Discoveries (passing the cut) of the maps made once, and of the maps made per catalogue
@@ -417,7 +417,7 @@ impl OwnMaps {
 #[ignore = "minutes: maps of their own for every null catalogue (run on demand, validation.md)"]
 fn fitted_elements_with_a_quality_cut_every_p_value_is_uniform() {
     own_maps_every_p_value_is_uniform(
-        (OwnMaps::FitErrorLaw, 1..=NULLS_ERROR_LAW),
+        (OwnMaps::FitErrorLaw, own_maps_nulls()),
         "fitted elements, maps drawing a, e, i from the fit's errors, cut one_opposition, σa/a ≤ 0.25",
     );
 }
@@ -428,7 +428,7 @@ fn fitted_elements_with_a_quality_cut_every_p_value_is_uniform() {
 #[ignore = "minutes: maps of their own for every null catalogue (run on demand, validation.md)"]
 fn plug_in_maps_on_fitted_elements_every_p_value_is_uniform() {
     own_maps_every_p_value_is_uniform(
-        (OwnMaps::FittedPlugIn, 1..=NULLS_FITTED),
+        (OwnMaps::FittedPlugIn, own_maps_nulls()),
         "fitted elements, plug-in maps, cut one_opposition, σa/a ≤ 0.25",
     );
 }
@@ -440,19 +440,31 @@ fn plug_in_maps_on_fitted_elements_every_p_value_is_uniform() {
 #[ignore = "minutes: maps of their own for every null catalogue (run on demand, validation.md)"]
 fn true_elements_with_maps_of_the_commands_size_every_p_value_is_uniform() {
     own_maps_every_p_value_is_uniform(
-        (OwnMaps::True, 1..=NULLS_FITTED),
+        (OwnMaps::True, own_maps_nulls()),
         "true elements, own 300-discovery maps, cut one_opposition, σa/a ≤ 0.25",
     );
 }
 
+/// The null catalogues of the runs with maps of their own: 1..=`NULLS_OWN_MAPS`, or the
+/// `FIRST-LAST` of `SEINE_CALIBRATION_NULLS` (to run them in parts: null k depends on k alone).
+fn own_maps_nulls() -> std::ops::RangeInclusive<usize> {
+    let Ok(text) = std::env::var("SEINE_CALIBRATION_NULLS") else {
+        return 1..=NULLS_OWN_MAPS;
+    };
+    let parse = |s: &str| s.trim().parse::<usize>().expect("SEINE_CALIBRATION_NULLS: FIRST-LAST");
+    let (first, last) = text.split_once('-').expect("SEINE_CALIBRATION_NULLS: FIRST-LAST");
+    parse(first)..=parse(last)
+}
+
 /// Null catalogues `nulls`, each with maps of its own of `COMMAND_MAP` discoveries, their trials'
 /// a, e, i as `how` says, as the command makes them. Null catalogue k and its maps depend on k
-/// alone (their seeds), so a run of 1..=600 is the runs of 1..=300 and 301..=600 put together.
+/// alone (its seeds), so a run of 1..=600 is the runs of 1..=300 and 301..=600 put together.
 fn own_maps_every_p_value_is_uniform((how, nulls): (OwnMaps, std::ops::RangeInclusive<usize>), case_name: &str) {
     let case = Case::new();
     let cut = cut(how != OwnMaps::True);
     let selection = TrialSelection::new(&cut, fit_options());
     let started = std::time::Instant::now();
+    let (first, last) = (*nulls.start(), *nulls.end());
     let out: Vec<(Vec<String>, Vec<f64>)> = nulls
         .into_par_iter()
         .map(|k| {
@@ -472,7 +484,8 @@ fn own_maps_every_p_value_is_uniform((how, nulls): (OwnMaps, std::ops::RangeIncl
     );
     let names = out[0].0.clone();
     let p: Vec<Vec<f64>> = out.iter().map(|o| o.1.clone()).collect();
-    save_p_values(&format!("own_maps_{}.csv", how.file_label()), &names, &p);
+    let file = format!("own_maps_{}_{}_{}.csv", how.file_label(), first, last);
+    save_p_values(&file, &names, &p);
     check_uniform(case_name, &names, &p);
 }
 
