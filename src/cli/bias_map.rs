@@ -29,7 +29,7 @@ pub struct GridArgs {
     /// Map axes: varpi-node (ϖ, Ω) or argperi-node (ω, Ω).
     #[arg(long, default_value = "varpi-node")]
     pub axes: String,
-    /// Run past the budget of trials and memory (configuration.md, "Budgets"): it is meant.
+    /// Run past the budget of trials and memory (configuration.md, "Budgets"); give it only for a run meant to be this large
     #[arg(long)]
     pub over_budget: bool,
     #[command(flatten)]

@@ -29,7 +29,7 @@ pub struct Args {
     /// No summary on stderr.
     #[arg(long)]
     pub quiet: bool,
-    /// Draw more objects than one run's budget (configuration.md, "Budgets"): it is meant.
+    /// Draw more objects than one run's budget (configuration.md, "Budgets"); give it only for a run meant to be this large
     #[arg(long)]
     pub over_budget: bool,
 }

@@ -56,7 +56,7 @@ pub struct Args {
     pub merge: Vec<PathBuf>,
     #[command(flatten)]
     pub run: RunArgs,
-    /// Draw more planets than one run's budget (configuration.md, "Budgets"): it is meant.
+    /// Draw more planets than one run's budget (configuration.md, "Budgets"); give it only for a run meant to be this large
     #[arg(long)]
     pub over_budget: bool,
 }
