@@ -1133,7 +1133,7 @@ fn a_hideout_run_gets_its_section_figures_and_fields() {
     );
     // The run's own conclusion, from its summary.json.
     let summary = seine::hideout::read_summary(&d.join("hide")).unwrap();
-    assert!(html.contains(&html_escape(&summary.conclusion)), "conclusion missing");
+    assert!(html.contains(&xml_escape(&summary.conclusion)), "conclusion missing");
     for stem in [
         "sky_map",
         "excluded_h_mag",
@@ -1166,13 +1166,6 @@ fn a_hideout_run_gets_its_section_figures_and_fields() {
         from += at;
     }
     assert!(html.contains("href=\"hide/fields.parquet\""), "fields table not linked");
-}
-
-fn html_escape(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
 }
 
 #[test]
