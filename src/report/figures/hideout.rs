@@ -42,8 +42,8 @@ fn coverage_colour(k: usize) -> RGBColor {
     style::series([3, 4, 0, 2][k % 4])
 }
 
-/// A logarithmic colour scale of posterior density: from `DECADES` below the top decade (or
-/// the smallest density, if higher) to the top decade.
+/// A logarithmic colour scale of posterior density: from the largest density down to the
+/// decade of the smallest, at most `DECADES` below the largest, and at least one decade.
 struct DensityScale {
     lo_log: f64,
     hi_log: f64,
@@ -57,7 +57,7 @@ impl DensityScale {
             .filter(|p| *p > 0.0)
             .collect();
         let (lo, hi) = finite_range(&p)?;
-        let hi_log = hi.log10().ceil();
+        let hi_log = hi.log10();
         let lo_log = lo.log10().floor().max(hi_log - DECADES).min(hi_log - 1.0);
         Some(DensityScale { lo_log, hi_log })
     }
@@ -187,7 +187,10 @@ pub fn posterior_map(
         ),
     }
     let names: Vec<&str> = coverage.iter().map(|(n, _)| n.as_str()).collect();
-    legend_rows(&mut svg, &names, top + 66.0);
+    let emptied = cells
+        .iter()
+        .any(|c| c.w_prior > 0.0 && !(c.p_posterior_per_sq_deg > 0.0));
+    legend_rows(&mut svg, (emptied, &names), top + 66.0);
     Ok(Figure::from_svg(stem, &title, &caption, svg.finish()))
 }
 
@@ -301,13 +304,13 @@ fn colour_bar(svg: &mut Svg, s: &DensityScale, top: f64) {
             None,
         );
     }
-    let decades = (s.hi_log - s.lo_log).round() as i32;
-    for k in 0..=decades {
-        let x = x0 + w * k as f64 / decades as f64;
+    // A tick at each whole decade inside the scale (one at least: it spans a decade or more).
+    for k in (s.lo_log.ceil() as i32)..=(s.hi_log.floor() as i32) {
+        let x = x0 + w * (k as f64 - s.lo_log) / (s.hi_log - s.lo_log);
         svg.line(&[(x, y + 14.0), (x, y + 19.0)], &rgb(style::MUTED), 1.0, None);
         svg.text(
             (x, y + 28.0),
-            &power_of_ten(s.lo_log as i32 + k),
+            &power_of_ten(k),
             style::LABEL_PX - 3.0,
             Anchor::Middle,
             style::INK,
@@ -316,22 +319,22 @@ fn colour_bar(svg: &mut Svg, s: &DensityScale, top: f64) {
     }
 }
 
-/// The map's legend: the excluded cells, the two regions, each survey's coverage; items
-/// placed left to right, wrapped to a new row when the paper's width is reached.
-fn legend_rows(svg: &mut Svg, surveys: &[&str], top: f64) {
+/// The map's legend: the cells where no draw survives (when there are any), the two regions,
+/// each survey's coverage; items placed left to right, wrapped to a new row when the paper's
+/// width is reached.
+fn legend_rows(svg: &mut Svg, (emptied, surveys): (bool, &[&str]), top: f64) {
     enum Swatch {
         Fill(String),
         Line(String, Option<&'static str>),
     }
     let orange = rgb(style::series(REGION_COLOUR));
-    let mut items = vec![
-        (
-            Swatch::Fill(rgb(EXCLUDED_GREY)),
-            "draws fell here, none survives".to_string(),
-        ),
-        (Swatch::Line(orange.clone(), None), "68 % region".to_string()),
-        (Swatch::Line(orange, Some("4 3")), "95 % region".to_string()),
-    ];
+    let mut items = Vec::new();
+    if emptied {
+        let text = "draws fell here, none survives".to_string();
+        items.push((Swatch::Fill(rgb(EXCLUDED_GREY)), text));
+    }
+    items.push((Swatch::Line(orange.clone(), None), "68 % region".to_string()));
+    items.push((Swatch::Line(orange, Some("4 3")), "95 % region".to_string()));
     for (k, s) in surveys.iter().enumerate() {
         items.push((Swatch::Line(rgb(coverage_colour(k)), None), format!("covered by {s}")));
     }
