@@ -220,4 +220,18 @@ fn demo_runs_the_whole_job_and_its_report_shows_the_cluster_test() {
         found[0] > found[1] && found[1] > found[2],
         "discoveries by cadence {found:?}"
     );
+    // The hideout step: where the invented planet could still be, with its own section and
+    // map, and the conclusion of its summary on the page.
+    assert!(
+        html.contains("<h2>Where a planet could still hide: hideout</h2>")
+            && html.contains("src=\"figures/hideout_hideout_sky_map.svg\""),
+        "the demo's hideout section"
+    );
+    let summary = seine::hideout::read_summary(&dir.path().join("hideout")).unwrap();
+    assert!(
+        summary.n_draws == 20_000 && summary.n_excluded > 0,
+        "{}",
+        summary.conclusion
+    );
+    assert!(text.contains("6. hideout"), "{text}");
 }

@@ -1089,3 +1089,224 @@ fn two_cluster_test_runs_side_by_side_never_share_a_figure() {
     // Two trials' worth of values per map: the discrete key.
     assert!(fig("first_bias_map_varpi_deg_node_deg_1.svg").contains("1/4 = 0.250"));
 }
+
+/// An invented planet prior near the ecliptic, bright enough that the deep example survey
+/// (committed visits) finds a few draws.
+const HIDEOUT_PRIOR: &str = "[population]\nname = \"test planet\"\nepoch_mjd = 60676.0\n[orbit]\n\
+    a_au = { dist = \"uniform\", lo = 150.0, hi = 400.0 }\ne = { dist = \"uniform\", lo = 0.0, hi = 0.3 }\n\
+    inc_deg = { dist = \"uniform\", lo = 0.0, hi = 20.0 }\n[photometry]\nh_mag = { dist = \"uniform\", lo = 0.0, hi = 4.0 }\n";
+
+/// `seine hideout` of the prior through the deep example survey into `out`, small and fast.
+fn small_hideout(dir: &Path, out: &Path, extra: &[&str]) {
+    let prior = common::write(dir, "prior.toml", HIDEOUT_PRIOR);
+    let deep = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep.survey.toml");
+    let mut args = vec![
+        "hideout",
+        "--survey",
+        deep.to_str().unwrap(),
+        "--prior",
+        prior.to_str().unwrap(),
+        "--count",
+        "3000",
+        "--order",
+        "4",
+        "--n-fields",
+        "8",
+        "--quiet",
+        "--out",
+        out.to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    run_ok(&args);
+}
+
+#[test]
+fn a_hideout_run_gets_its_section_figures_and_fields() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path().join("report");
+    small_hideout(tmp.path(), &d.join("hide"), &[]);
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    assert!(
+        html.contains("<h2>Where a planet could still hide: hide</h2>"),
+        "no section"
+    );
+    // The run's own conclusion, from its summary.json.
+    let summary = seine::hideout::read_summary(&d.join("hide")).unwrap();
+    assert!(html.contains(&xml_escape(&summary.conclusion)), "conclusion missing");
+    for stem in [
+        "sky_map",
+        "excluded_h_mag",
+        "excluded_a_au",
+        "survivors_mag",
+        "survivors_rate",
+    ] {
+        let name = format!("hide_hideout_{stem}.svg");
+        assert!(html.contains(&format!("src=\"figures/{name}\"")), "{name} not shown");
+        assert_well_formed(&std::fs::read_to_string(d.join("figures").join(&name)).unwrap());
+    }
+    // The survey's coverage is outlined on the map and named in its caption.
+    let map = std::fs::read_to_string(d.join("figures/hide_hideout_sky_map.svg")).unwrap();
+    assert!(
+        map.contains("covered by Sorrel Peak deep stare"),
+        "coverage not in the key"
+    );
+    // Every ranked field of fields.* is a row of the page's table, in rank order.
+    let fields = seine::hideout::tables::read_fields(&d.join("hide/fields.parquet")).unwrap();
+    assert_eq!(fields.len(), 8);
+    let mut from = 0;
+    for f in &fields {
+        let row = format!(
+            "<tr><td class=\"num\">{}</td><td class=\"num\">{:.2}</td><td class=\"num\">{:.2}</td>",
+            f.rank, f.ra_deg, f.dec_deg
+        );
+        let at = html[from..]
+            .find(&row)
+            .unwrap_or_else(|| panic!("field {} not listed: {row}", f.rank));
+        from += at;
+    }
+    assert!(html.contains("href=\"hide/fields.parquet\""), "fields table not linked");
+}
+
+#[test]
+fn hideout_shards_and_their_merge_each_get_a_section_and_a_damaged_table_is_left_out() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path().join("report");
+    for k in 0..2 {
+        small_hideout(tmp.path(), &d.join(format!("s{k}")), &["--shard", &format!("{k}/2")]);
+    }
+    let (s0, s1, all) = (d.join("s0"), d.join("s1"), d.join("all"));
+    run_ok(&[
+        "merge",
+        s0.to_str().unwrap(),
+        s1.to_str().unwrap(),
+        "--out",
+        all.to_str().unwrap(),
+    ]);
+    run_ok(&["report", d.to_str().unwrap()]);
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    for run in ["s0", "s1", "all"] {
+        assert!(
+            html.contains(&format!("<h2>Where a planet could still hide: {run}</h2>")),
+            "no section of {run}"
+        );
+        assert!(
+            html.contains(&format!("figures/{run}_hideout_sky_map.svg")),
+            "{run}'s map"
+        );
+    }
+    assert!(html.contains("Shard 1/2 of a run"), "a shard is not called one");
+    // The merge holds the whole run's draws.
+    assert!(html.contains("From all: 3000 draws"), "merge not summed");
+    // A damaged table of one shard: its section is left out with a note; the rest is built.
+    std::fs::write(s1.join("sky_map.parquet"), b"PAR1 not a table").unwrap();
+    let o = common::seine(&["report", d.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let err = common::stderr(&o);
+    assert!(err.contains("left out") && err.contains("sky_map.parquet"), "{err}");
+    let html = std::fs::read_to_string(d.join("index.html")).unwrap();
+    assert!(
+        html.contains("class=\"note\"") && html.contains("s1/sky_map.parquet"),
+        "no note"
+    );
+    assert!(
+        !html.contains("Where a planet could still hide: s1<"),
+        "damaged run shown"
+    );
+    for run in ["s0", "all"] {
+        assert!(
+            html.contains(&format!("Where a planet could still hide: {run}<")),
+            "{run} lost"
+        );
+    }
+}
+
+fn sky_cell(cell: u64, p: f64, n: u64, w: f64, rate: f64, regions: (bool, bool)) -> SkyCell {
+    SkyCell {
+        order: 3,
+        cell,
+        w_prior: w.max(1.0),
+        n_surviving: n,
+        w_surviving: w,
+        p_posterior_per_sq_deg: p,
+        mean_rate_arcsec_per_hr: rate,
+        in_region_68: regions.0,
+        in_region_95: regions.1,
+    }
+}
+
+fn excluded_row(quantity: &str, bin: i64, lo: f64, n: u64, f: f64) -> ExcludedRow {
+    ExcludedRow {
+        quantity: quantity.into(),
+        bin,
+        lo: Some(lo),
+        hi: Some(lo + 1.0),
+        n_prior: n,
+        w_prior: n as f64,
+        excluded_fraction: f,
+        excluded_fraction_err: 0.02,
+    }
+}
+
+#[test]
+fn hideout_figures_from_synthetic_tables_weigh_their_survivors() {
+    use seine::report::figures::hideout as fig;
+    use seine::sky::healpix::Moc;
+    let cells = vec![
+        sky_cell(10, 1e-3, 30, 3.0, 0.5, (true, true)),
+        sky_cell(11, 1e-4, 20, 1.0, 2.0, (false, true)),
+        sky_cell(12, 0.0, 0, 0.0, f64::NAN, (false, false)),
+    ];
+    let coverage = vec![(
+        "Invented Survey".to_string(),
+        Moc::from_cells(6, &(640..700).collect::<Vec<u64>>()),
+    )];
+    let map = fig::posterior_map("map", "run", &cells, &coverage, "").unwrap();
+    check(
+        &map,
+        &[
+            "probability per deg²:",
+            "68 % region",
+            "95 % region",
+            "covered by Invented Survey",
+        ],
+    );
+    assert!(map.caption.contains("Invented Survey (purple)"), "{}", map.caption);
+    // Bins: one without draws (a gap, named in the caption), open ends at bins 0 and 2.
+    let rows = vec![
+        ExcludedRow {
+            quantity: "all".into(),
+            bin: 0,
+            lo: None,
+            hi: None,
+            n_prior: 20,
+            w_prior: 20.0,
+            excluded_fraction: 0.25,
+            excluded_fraction_err: 0.1,
+        },
+        excluded_row("h_mag", 0, 0.0, 10, 0.3),
+        excluded_row("h_mag", 1, 1.0, 0, f64::NAN),
+        excluded_row("h_mag", 2, 2.0, 10, 0.2),
+    ];
+    let f = fig::excluded_fraction("h_mag", &rows, "").unwrap();
+    check(
+        &f,
+        &[
+            "absolute magnitude H (mag)",
+            "excluded fraction (dimensionless)",
+            "whole prior",
+        ],
+    );
+    assert!(f.caption.contains("1 of 3 bins hold no draw") && f.caption.contains("25.00% ± 10.00%"));
+    // Survivors' magnitudes: weight 1 at 20.0–20.1 and 3 at 22.0–22.1. The weighted median
+    // lies a third into the second bin, 22.03 (unweighted it would be 20.1); the 90 % point
+    // 2.6/3 into it, 22.09 (worked by hand from the definition of a histogram quantile).
+    let mags = fig::survivors_magnitude(&[(20.0, 20.1, 1.0), (22.0, 22.1, 3.0)], "").unwrap();
+    check(&mags, &["apparent magnitude (mag)", "share of the survivors per bin"]);
+    assert!(mags.caption.contains("(22.03 and 22.09 mag)"), "{}", mags.caption);
+    let rates = fig::survivors_rate(&cells, "").unwrap();
+    check(&rates, &["rate of motion (arcsec/h)"]);
+    // No survivor anywhere: still a figure, saying so.
+    let none = fig::survivors_rate(&cells[2..], "").unwrap();
+    check(&none, &["no survivors"]);
+}

@@ -3,9 +3,11 @@
 //! runs it through the survey; the discoveries become a catalogue whose detectability, the
 //! population's selection function, bias maps, bias-aware clustering test and comparison with
 //! two model populations are run through the commands' own library calls; three revisit
-//! cadences of the same survey are compared on the population (`seine yield`); the report
-//! (`DIR/index.html`) is written last. The plan and the population specs are the files of
-//! `survey-configs/`, built into the binary so that the demo runs from anywhere.
+//! cadences of the same survey are compared on the population (`seine yield`); where an
+//! invented distant planet that the survey did not find could still be is mapped (`seine
+//! hideout`); the report (`DIR/index.html`) is written last. The plan, the population specs
+//! and the planet's prior are the files of `survey-configs/`, built into the binary so that
+//! the demo runs from anywhere.
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -14,6 +16,7 @@ use super::bias_map::{BiasMapOptions, MapOptions, bias_map};
 use super::cluster_test::{ClusterTestOptions, cluster_test};
 use super::compare_models::{CompareModelsOptions, ModelInput, compare};
 use super::detectability::{DetectabilityOptions, Subject, detectability};
+use super::hideout::{HideoutOptions, hideout};
 use super::yields::{YieldOptions, yield_comparison};
 use super::{Outcome, RunOptions};
 use crate::analysis::bias_map::{DEFAULT_MAX_TRIALS_PER_OBJECT, DEFAULT_MIN_DISCOVERIES, MapAxes, MapGrid};
@@ -51,6 +54,11 @@ const N_OBJECTS: i64 = 20_000;
 const SEED: u64 = 2027;
 /// Revisit intervals of the cadence comparison, nights (the demo's own plan revisits every 3).
 const CADENCES: [u32; 3] = [1, 3, 7];
+/// The prior of the hideout step: an invented distant planet, sized by diameter and albedo.
+const PLANET_PRIOR: &str = include_str!("../../survey-configs/priors/demo-planet.toml");
+/// Draws of the planet prior: about 15 surviving draws per order-4 cell of the map, in well
+/// under a second.
+const N_PLANETS: u64 = 20_000;
 
 /// What the demo says as it goes: a line of its narrative (standard output), or the outcome
 /// of one of the commands it runs (printed as that command prints it).
@@ -88,17 +96,18 @@ pub fn demo(out: &Path, say: &mut dyn FnMut(Say)) -> Result<Demo> {
     let observed = observe_population(out, &spec_path, survey, &objects, &mut line)?;
     analyses(out, &spec_path, &observed, &objects, say)?;
     compare_cadences(out, say)?;
+    hideout_step(out, &spec_path, say)?;
     let written = crate::report::report(out)?;
     let mut line = |s: String| say(Say::Line(s));
     line(format!(
-        "\n6. report   {} figures; open {}",
+        "\n7. report   {} figures; open {}",
         written.figures.len(),
         written.index.display()
     ));
     line(format!(
         "\nOutputs in {}: visits and spec, objects.parquet, observe/ (objects, detections, discoveries, summary.json), catalog.parquet, \
          detectability/ (each object's chance), selection/ (the population's selection function), bias-map/, cluster-test/ (statistics, null samples, rose band), compare-models/, yield/ (cadences), \
-         index.html, figures/.",
+         hideout/ (where an invented planet could still be), index.html, figures/.",
         out.display()
     ));
     line(format!("done in {:.1} s", t0.elapsed().as_secs_f64()));
@@ -261,6 +270,36 @@ fn compare_cadences(out: &Path, say: &mut dyn FnMut(Say)) -> Result<()> {
         run: run_in(out, "yield"),
     })?;
     say(Say::Stage(&outcome));
+    Ok(())
+}
+
+/// Where an invented distant planet that the survey did not find could still be, and where to
+/// look next (`seine hideout` of the built-in prior through the demo's survey).
+fn hideout_step(out: &Path, spec: &Path, say: &mut dyn FnMut(Say)) -> Result<()> {
+    say(Say::Line(
+        "\n6. hideout  where an invented distant planet the survey did not find could still be (seine hideout)".into(),
+    ));
+    let prior = out.join("planet-prior.toml");
+    write_atomic(&prior, PLANET_PRIOR.as_bytes())?;
+    let outcome = hideout(&HideoutOptions {
+        surveys: vec![spec.to_path_buf()],
+        prior,
+        diameter_km: None,
+        albedo: None,
+        count: N_PLANETS,
+        shard: None,
+        epoch_mjd: None,
+        // Cells of 13.4 deg² and fields of 5° radius (about six cells): a map of 20 000 draws
+        // smooth enough to read.
+        order: 4,
+        field_radius_deg: 5.0,
+        n_fields: 10,
+        a_bins: None,
+        h_bins: None,
+        over_budget: false,
+        run: run_in(out, "hideout"),
+    })?;
+    say(Say::Stage(&outcome.outcome));
     Ok(())
 }
 

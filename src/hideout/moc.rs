@@ -10,6 +10,24 @@ use crate::io::table::write_atomic;
 pub const REGION_68: &str = "region_68";
 pub const REGION_95: &str = "region_95";
 
+/// A survey's covered sky (MOC JSON, as `seine plan` writes it): `DIR/<prefix><survey key><suffix>`.
+pub const COVERAGE_PREFIX: &str = "coverage_";
+pub const COVERAGE_SUFFIX: &str = ".moc.json";
+
+/// The file name of survey `name`'s coverage.
+pub fn coverage_name(name: &str) -> String {
+    format!(
+        "{COVERAGE_PREFIX}{}{COVERAGE_SUFFIX}",
+        crate::engine::run::survey_key(name)
+    )
+}
+
+/// Read a MOC JSON file (a region's or a survey's coverage).
+pub fn read_json(path: &Path) -> Result<Moc> {
+    let text = std::fs::read_to_string(path).map_err(|e| crate::error::io_at(path, e))?;
+    Moc::from_json(&text).map_err(|e| crate::error::Error::input(format!("{}: {e}", path.display())))
+}
+
 /// Write the region `m` under `dir` as `<stem>.moc.txt` and `<stem>.moc.json`; returns the files.
 pub fn write_region(dir: &Path, stem: &str, m: &Moc) -> Result<Vec<PathBuf>> {
     let mut files = Vec::new();

@@ -228,10 +228,6 @@ fn make_summary(
     s
 }
 
-/// A survey's coverage file: `<prefix><survey key><suffix>`.
-const COVERAGE_PREFIX: &str = "coverage_";
-const COVERAGE_SUFFIX: &str = ".moc.json";
-
 /// Each survey's covered sky (MOC 2.0 JSON, normalized, cells up to order 9, as `seine plan`
 /// writes it) as
 /// `coverage_<survey>.moc.json`, for the sky-map figure to draw over the posterior; returns
@@ -240,11 +236,7 @@ pub fn write_coverage(surveys: &[PreparedSurvey], dir: &Path) -> Result<Vec<Path
     let mut files = Vec::new();
     for s in surveys {
         let (cov, _) = crate::survey::plan_io::survey_coverage(&s.survey)?;
-        let name = format!(
-            "{COVERAGE_PREFIX}{}{COVERAGE_SUFFIX}",
-            crate::engine::run::survey_key(&s.survey.name)
-        );
-        files.push(dir.join(name));
+        files.push(dir.join(moc::coverage_name(&s.survey.name)));
         write_atomic(
             files.last().expect("just pushed"),
             format!("{}\n", cov.moc_json()).as_bytes(),
@@ -259,7 +251,7 @@ pub fn copy_coverage(from: &Path, dir: &Path) -> Result<Vec<PathBuf>> {
     let mut files = Vec::new();
     for e in entries.flatten() {
         let name = e.file_name().to_string_lossy().to_string();
-        if name.starts_with(COVERAGE_PREFIX) && name.ends_with(COVERAGE_SUFFIX) {
+        if name.starts_with(moc::COVERAGE_PREFIX) && name.ends_with(moc::COVERAGE_SUFFIX) {
             let bytes = std::fs::read(e.path()).map_err(|e| Error::io(e.to_string()))?;
             files.push(dir.join(&name));
             write_atomic(files.last().expect("just pushed"), &bytes)?;

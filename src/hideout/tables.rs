@@ -1,5 +1,5 @@
-//! The tidy tables of a hideout run: their file names, writing them, and reading their
-//! additive columns back (to merge shards).
+//! The tidy tables of a hideout run: their file names, writing them, reading their additive
+//! columns back (to merge shards), and reading the columns the report draws.
 //! Column meanings: notebooks-free-docs/configuration.md ("seine hideout").
 
 use std::path::{Path, PathBuf};
@@ -313,4 +313,177 @@ fn read_hist(path: &Path, sky: &mut SkyTally) -> Result<()> {
         *sky.mag_hist.entry(key).or_insert(0.0) += w[k];
     }
     Ok(())
+}
+
+/// One row of `excluded` as written: the bin `bin` of `quantity` (`a_au`, `h_mag`; `all` for
+/// the whole prior, without `lo`, `hi`), its prior draws and their weight, and the weighted
+/// excluded fraction with its standard error (NaN for a bin without draws). The end bins of
+/// a quantity are open: they also hold the draws beyond `lo` (first) and `hi` (last).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExcludedRow {
+    pub quantity: String,
+    pub bin: i64,
+    pub lo: Option<f64>,
+    pub hi: Option<f64>,
+    pub n_prior: u64,
+    pub w_prior: f64,
+    pub excluded_fraction: f64,
+    pub excluded_fraction_err: f64,
+}
+
+/// Read `excluded.*` as written (the derived fractions too; `read_tally` reads the sums).
+pub fn read_excluded_rows(path: &Path) -> Result<Vec<ExcludedRow>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (q, bin, n) = (c.str("quantity")?, c.i64("bin")?, c.i64("n_prior")?);
+    let (lo, hi) = (opt_f64(&df, path, "lo")?, opt_f64(&df, path, "hi")?);
+    let w = c.f64("w_prior")?;
+    let (f, e) = (
+        nan_if_empty(&c, "excluded_fraction")?,
+        nan_if_empty(&c, "excluded_fraction_err")?,
+    );
+    Ok((0..q.len())
+        .map(|k| ExcludedRow {
+            quantity: q[k].clone(),
+            bin: bin[k],
+            lo: lo[k],
+            hi: hi[k],
+            n_prior: n[k].max(0) as u64,
+            w_prior: w[k],
+            excluded_fraction: f[k],
+            excluded_fraction_err: e[k],
+        })
+        .collect())
+}
+
+/// One cell of `sky_map` as a figure draws it: where (nested cell of `order`), the prior's
+/// weight, the surviving draws and their weight, the posterior density, the survivors' mean rate (NaN without
+/// survivors) and whether it lies in the 68 % and 95 % credible regions.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SkyCell {
+    pub order: u8,
+    pub cell: u64,
+    pub w_prior: f64,
+    pub n_surviving: u64,
+    pub w_surviving: f64,
+    pub p_posterior_per_sq_deg: f64,
+    pub mean_rate_arcsec_per_hr: f64,
+    pub in_region_68: bool,
+    pub in_region_95: bool,
+}
+
+/// Read `sky_map.*` (each row checked: a cell of its order, one order for the whole map).
+pub fn read_sky_map(path: &Path) -> Result<Vec<SkyCell>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (order, cell) = (c.i64("healpix_order")?, c.i64("cell")?);
+    let (wp, ns, ws) = (c.f64("w_prior")?, c.i64("n_surviving")?, c.f64("w_surviving")?);
+    let p = nan_if_empty(&c, "p_posterior_per_sq_deg")?;
+    let rate = nan_if_empty(&c, "mean_rate_arcsec_per_hr")?;
+    let flag = |n: &str| -> Result<Vec<bool>> { Ok(c.f64(n)?.into_iter().map(|x| x != 0.0).collect()) };
+    let (r68, r95) = (flag("in_region_68")?, flag("in_region_95")?);
+    (0..cell.len())
+        .map(|k| {
+            let o = u8::try_from(order[k])
+                .ok()
+                .filter(|&o| o <= 29 && order[k] == order[0])
+                .ok_or_else(|| c.bad_value(k, "healpix_order", &format!("the map's one order, {}", order[0])))?;
+            let h = u64::try_from(cell[k])
+                .ok()
+                .filter(|&h| h < cdshealpix::nested::n_hash(o))
+                .ok_or_else(|| c.bad_value(k, "cell", &format!("a cell of order {o}")))?;
+            Ok(SkyCell {
+                order: o,
+                cell: h,
+                w_prior: wp[k],
+                n_surviving: ns[k].max(0) as u64,
+                w_surviving: ws[k],
+                p_posterior_per_sq_deg: p[k],
+                mean_rate_arcsec_per_hr: rate[k],
+                in_region_68: r68[k],
+                in_region_95: r95[k],
+            })
+        })
+        .collect()
+}
+
+/// The survivors' weight in each magnitude bin [mag_lo, mag_hi), summed over the cells of
+/// `sky_mag_hist.*`, in order of magnitude (bins without survivors left out).
+pub fn read_mag_hist_summed(path: &Path) -> Result<Vec<(f64, f64, f64)>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let (bins, lo, hi, w) = (
+        c.i64("mag_bin")?,
+        c.f64("mag_lo")?,
+        c.f64("mag_hi")?,
+        c.f64("w_surviving")?,
+    );
+    let mut summed: std::collections::BTreeMap<i64, (f64, f64, f64)> = Default::default();
+    for k in 0..bins.len() {
+        summed.entry(bins[k]).or_insert((lo[k], hi[k], 0.0)).2 += w[k];
+    }
+    Ok(summed.into_values().collect())
+}
+
+/// One row of `fields.*`: a field of the next search, best first.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldRow {
+    pub rank: i64,
+    pub ra_deg: f64,
+    pub dec_deg: f64,
+    pub ecl_lon_deg: f64,
+    pub ecl_lat_deg: f64,
+    pub radius_deg: f64,
+    pub area_sq_deg: f64,
+    pub p_field: f64,
+    pub p_cumulative: f64,
+    pub mean_mag: f64,
+    pub depth_90_mag: f64,
+    pub mean_rate_arcsec_per_hr: f64,
+}
+
+/// Read `fields.*` (magnitudes and rates NaN where a field keeps no survivor).
+pub fn read_fields(path: &Path) -> Result<Vec<FieldRow>> {
+    let df = read_table(path)?;
+    let c = Columns::new(&df, path);
+    let nan = |n: &str| nan_if_empty(&c, n);
+    let rank = c.i64("rank")?;
+    let [ra, dec, lon, lat, radius, area, p, cum] = [
+        "ra_deg",
+        "dec_deg",
+        "ecl_lon_deg",
+        "ecl_lat_deg",
+        "radius_deg",
+        "area_sq_deg",
+        "p_field",
+        "p_cumulative",
+    ]
+    .map(|n| c.f64(n));
+    let (ra, dec, lon, lat, radius, area, p, cum) = (ra?, dec?, lon?, lat?, radius?, area?, p?, cum?);
+    let (mag, depth, rate) = (nan("mean_mag")?, nan("depth_90_mag")?, nan("mean_rate_arcsec_per_hr")?);
+    Ok((0..rank.len())
+        .map(|k| FieldRow {
+            rank: rank[k],
+            ra_deg: ra[k],
+            dec_deg: dec[k],
+            ecl_lon_deg: lon[k],
+            ecl_lat_deg: lat[k],
+            radius_deg: radius[k],
+            area_sq_deg: area[k],
+            p_field: p[k],
+            p_cumulative: cum[k],
+            mean_mag: mag[k],
+            depth_90_mag: depth[k],
+            mean_rate_arcsec_per_hr: rate[k],
+        })
+        .collect())
+}
+
+/// A derived column that is NaN where its ratio has no denominator (written as NaN, or as an
+/// empty cell by a CSV writer).
+fn nan_if_empty(c: &Columns, name: &str) -> Result<Vec<f64>> {
+    Ok(c.f64_nullable(name)?
+        .into_iter()
+        .map(|x| x.unwrap_or(f64::NAN))
+        .collect())
 }

@@ -10,6 +10,8 @@ use super::figure::Figure;
 use super::figures::catalogue_map::{self, Summed};
 use super::figures::{bias, cadence, cluster, detectability, distributions, models, rose, sky, survey as survey_fig};
 use super::inputs::{self, ClusteringRun, Inputs, MapSet, ObserveRun, Skipped, effort_of, fraction_bins};
+use super::section::{Section, Table, label};
+use super::section::{header, href, run_prefix, slug};
 use super::tables::{
     CadenceRow, EfficiencyCurve, FitNull, FractionBin, HeatMap, ObjectChance, PlanYield, SelectionCell, WeightedSample,
 };
@@ -19,26 +21,6 @@ use crate::analysis::yield_tables::{median_revisit_days, population_name};
 use crate::error::Result;
 use crate::statistics::{Proportion, Tally};
 use crate::survey::Survey;
-
-/// A small table for the page, with an optional link to the full table it is taken from
-/// (label, path relative to the page).
-#[derive(Debug, Clone, Default)]
-pub struct Table {
-    pub caption: String,
-    pub header: Vec<String>,
-    pub rows: Vec<Vec<String>>,
-    pub link: Option<(String, String)>,
-}
-
-#[derive(Debug, Clone, Default)]
-pub struct Section {
-    pub title: String,
-    pub intro: String,
-    /// Notices for the reader (an input left out, and why).
-    pub notes: Vec<String>,
-    pub tables: Vec<Table>,
-    pub figures: Vec<Figure>,
-}
 
 /// Every section of the report of `dir`, and the notes of what was left out (also shown in
 /// the first section). The comparison of plans comes first, when there is one, since it is
@@ -92,40 +74,15 @@ pub fn sections(dir: &Path, inp: &Inputs) -> Result<(Vec<Section>, Vec<Skipped>)
     for (run, read) in &inp.comparisons {
         add(comparison_section(dir, run, read), run, &mut skipped);
     }
+    for run in &inp.hideouts {
+        add(super::hideout::section(dir, run), &run.dir, &mut skipped);
+    }
     out.insert(0, overview(dir, inp, &skipped));
     let out = out
         .into_iter()
         .filter(|s| !s.figures.is_empty() || !s.tables.is_empty() || !s.notes.is_empty())
         .collect();
     Ok((out, skipped))
-}
-
-/// The name a run or input goes by: its path under the report's directory, or the
-/// directory's own name when it is the report's directory (never ".").
-pub fn label(dir: &Path, p: &Path) -> String {
-    let r = p.strip_prefix(dir).unwrap_or(p);
-    if !r.as_os_str().is_empty() {
-        return r.display().to_string();
-    }
-    let own = |d: &Path| d.file_name().map(|n| n.to_string_lossy().into_owned());
-    own(dir)
-        .or_else(|| dir.canonicalize().ok().as_deref().and_then(own))
-        .unwrap_or_else(|| "report directory".into())
-}
-
-/// A label as a file-name-safe stem prefix.
-fn slug(s: &str) -> String {
-    let t: String = s
-        .chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() {
-                c.to_ascii_lowercase()
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    t.trim_matches('_').to_string()
 }
 
 /// A weighted fraction as a percentage.
@@ -140,10 +97,6 @@ fn run_fraction(r: &ObserveRun) -> Proportion {
         t.add(*w, *d);
     }
     t.proportion()
-}
-
-fn header(cols: &[&str]) -> Vec<String> {
-    cols.iter().map(|c| c.to_string()).collect()
 }
 
 fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
@@ -898,17 +851,6 @@ fn figure_prefix(dir: &Path, run_dir: &Path, runs: usize) -> String {
     } else {
         String::new()
     }
-}
-
-/// The stem prefix of a run's figures: its label as a file-name-safe word.
-fn run_prefix(dir: &Path, run: &Path) -> String {
-    format!("{}_", slug(&label(dir, run)))
-}
-
-/// A path as the page links it: relative to the report's directory.
-fn href(dir: &Path, path: &Path) -> String {
-    path.strip_prefix(dir)
-        .map_or(path.display().to_string(), |p| p.display().to_string())
 }
 
 /// How many objects of a detectability run the page lists (those with the lowest chances).

@@ -2,8 +2,8 @@
 //! its own style sheet inline, no scripts, no external resources, so it works offline and
 //! from a copied directory.
 
-use super::build::{Section, Table};
 use super::figure::xml_escape as esc;
+use super::section::{Section, Table};
 
 const STYLE: &str = r#"
 :root { --ink: #222; --muted: #6b6b6b; --rule: #e3e3e3; --accent: #2b6c9e; --paper: #fff; --tint: #f6f7f8; }

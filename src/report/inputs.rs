@@ -12,6 +12,7 @@ use crate::analysis::{bias_map_tables, cluster_tables, detectability, selection,
 use crate::engine::discoveries::{self, Discovery};
 use crate::engine::outputs;
 use crate::error::{Error, Result, io_at};
+use crate::hideout::{self, HideoutSummary, moc, tables as hideout_tables};
 use crate::io::provenance::Provenance;
 use crate::io::table::read_provenance;
 use crate::survey::Survey;
@@ -115,6 +116,56 @@ fn maps_read(dir: &Path) -> Vec<String> {
         .collect()
 }
 
+/// One `seine hideout` output directory (a run, a shard or a merge), each file read through
+/// the `hideout` module that writes it.
+pub struct HideoutRun {
+    pub dir: PathBuf,
+    pub summary: HideoutSummary,
+    pub excluded: Vec<hideout_tables::ExcludedRow>,
+    pub sky: Vec<hideout_tables::SkyCell>,
+    /// The survivors' weight per magnitude bin, summed over the sky: (mag_lo, mag_hi, Σ w).
+    pub magnitudes: Vec<(f64, f64, f64)>,
+    /// The ranked fields and the file they came from.
+    pub fields: (PathBuf, Vec<hideout_tables::FieldRow>),
+    /// Each survey's covered sky (its name, its MOC), for the surveys whose file is there.
+    pub coverage: Vec<(String, moc::Moc)>,
+}
+
+/// A hideout run in `d` (its `excluded.*` and `summary.json`), or None when `d` holds none.
+/// Any of its tables that cannot be read is the error (the section is then left out).
+fn read_hideout(d: &Path) -> Result<Option<HideoutRun>> {
+    if !hideout::is_output_dir(d) {
+        return Ok(None);
+    }
+    let table = |stem: &str| {
+        crate::io::out_dir::find_table(d, stem).ok_or_else(|| {
+            Error::input(format!(
+                "{}: a hideout run without {stem}.parquet or {stem}.csv",
+                d.display()
+            ))
+        })
+    };
+    let summary = hideout::read_summary(d)?;
+    let coverage = summary
+        .run
+        .surveys
+        .iter()
+        .map(|name| (name, d.join(moc::coverage_name(name))))
+        .filter(|(_, p)| p.is_file())
+        .map(|(name, p)| Ok((name.clone(), moc::read_json(&p)?)))
+        .collect::<Result<Vec<_>>>()?;
+    let fields = table(hideout_tables::FIELDS)?;
+    Ok(Some(HideoutRun {
+        dir: d.to_path_buf(),
+        excluded: hideout_tables::read_excluded_rows(&table(hideout_tables::EXCLUDED)?)?,
+        sky: hideout_tables::read_sky_map(&table(hideout_tables::SKY_MAP)?)?,
+        magnitudes: hideout_tables::read_mag_hist_summed(&table(hideout_tables::SKY_MAG_HIST)?)?,
+        fields: (fields.clone(), hideout_tables::read_fields(&fields)?),
+        coverage,
+        summary,
+    }))
+}
+
 /// Everything found.
 #[derive(Default)]
 pub struct Inputs {
@@ -133,6 +184,8 @@ pub struct Inputs {
     /// Selection functions (`selection_function.*` of `seine detectability --population`):
     /// the file, its cells, and the population it was measured on (from its provenance).
     pub selections: Vec<(PathBuf, Vec<selection::Cell>, String)>,
+    /// Hideout runs (`seine hideout`, its shards and merges), one per directory.
+    pub hideouts: Vec<HideoutRun>,
     /// Inputs that could not be read, each with the reason.
     pub skipped: Vec<Skipped>,
 }
@@ -146,6 +199,7 @@ impl Inputs {
             && self.comparisons.is_empty()
             && self.chances.is_empty()
             && self.selections.is_empty()
+            && self.hideouts.is_empty()
     }
 
     /// The clustering run of directory `dir`, made when first needed.
@@ -224,6 +278,10 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
             specs.extend(run.survey_specs.iter().cloned());
             inputs.runs.push(run);
         }
+        let read = read_hideout(&d);
+        if let Some(run) = inputs.keep(&d, read).flatten() {
+            inputs.hideouts.push(run);
+        }
     }
     load_surveys(&mut inputs, specs);
     if inputs.is_empty() && !inputs.skipped.is_empty() {
@@ -239,7 +297,8 @@ pub fn scan(dir: &Path) -> Result<Inputs> {
             "{}: nothing to report: expected an observe output (summary.json with objects.parquet \
              or objects.csv), a survey spec (*.survey.toml), or analysis tables (bias_map*, \
              rose.*, cluster_null.* with cluster_test.*, yield_cadence.*, models.*, detectability.*, \
-             selection_function.*), here or one directory down",
+             selection_function.*), or a hideout run (excluded.* with summary.json), here or one \
+             directory down",
             dir.display()
         )));
     }

@@ -16,14 +16,17 @@
 //! | `selection_function.*` (`seine detectability --population`, via `analysis::selection`) | a population's selection function | heat maps over a–q, a–i, a–H |
 //! | `models.*`, `marginals.*`, `detected.*`, `catalogue.*`, `goodness_of_fit.*` (`seine compare-models`, via `analysis::comparison`) | a model comparison | ln L and marginal-test tables; the catalogue over each model's detected distribution per observable (angles on a circle); each model's goodness-of-fit null |
 //! | `yield_cadence.parquet` (or `.csv`, as `seine yield` writes it): `plan, cadence_days, n_objects, n_discovered`, optional `population`; the specs in `summary.json`'s provenance | yields of several plans with their effort | yield against cadence and per 100 hours (also built from observe runs of one objects table through one survey each) |
+//! | `excluded.*` with `summary.json`, `sky_map.*`, `sky_mag_hist.*`, `fields.*`, `coverage_<survey>.moc.json` (through `hideout::{tables, summary, moc}`) | a hideout run, shard or merge; one section per directory | the conclusion; the posterior sky map with the surveys' coverage and the 68 %/95 % regions; the excluded fraction against H and a; the survivors' magnitude and rate; the ranked fields; each survey's share |
 //!
 //! The figures are written to `DIR/figures/STEM.svg` and the page to `DIR/index.html`.
 
 pub mod build;
 pub mod figure;
 pub mod figures;
+pub mod hideout;
 pub mod html;
 pub mod inputs;
+pub mod section;
 pub mod stats;
 pub mod style;
 pub mod tables;
@@ -72,7 +75,7 @@ pub fn report(dir: &Path) -> Result<Written> {
     let footer = format!(
         "Written by seine {} (seine report of {}).",
         crate::version(),
-        build::label(dir, dir)
+        section::label(dir, dir)
     );
     let index = dir.join("index.html");
     write_atomic(&index, html::page("seine report", lede, &sections, &footer).as_bytes())?;
@@ -85,7 +88,7 @@ pub fn report(dir: &Path) -> Result<Written> {
 
 /// Two figures never share a file: a stem seen before gets `_2`, `_3`, … (each section
 /// already names its figures by run; this is the guarantee).
-fn distinct_stems(sections: &mut [build::Section]) {
+fn distinct_stems(sections: &mut [section::Section]) {
     let mut seen = std::collections::HashSet::new();
     for f in sections.iter_mut().flat_map(|s| s.figures.iter_mut()) {
         let base = f.stem.clone();

@@ -179,6 +179,10 @@ pub use crate::analysis::detectability::Row as ObjectChance;
 /// One cell of a population's selection function, with its tally (`selection_function.*`).
 pub use crate::analysis::selection::Cell as SelectionCell;
 
+/// A hideout run's rows as the report reads them (`hideout::tables`): the excluded fraction
+/// per bin, the posterior map's cells, the ranked fields.
+pub use crate::hideout::tables::{ExcludedRow, FieldRow, SkyCell};
+
 /// Values of one quantity with their weights: the catalogue, or a model's detected objects.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WeightedSample {

@@ -12,7 +12,7 @@
 //!   is kept in canonical form: sorted, no redundant cells, four complete siblings always
 //!   written as their parent.
 
-use std::collections::BTreeSet;
+use std::collections::{BTreeMap, BTreeSet};
 use std::f64::consts::{FRAC_PI_2, PI, TAU};
 
 use nalgebra::Vector3;
@@ -145,6 +145,55 @@ impl Moc {
         }
         serde_json::Value::Object(map).to_string()
     }
+
+    /// Parse the JSON encoding (`{"order":[idx,...], ...}`); the MOC order is the deepest key.
+    /// The error says what is wrong, for the caller to name the file.
+    pub fn from_json(text: &str) -> std::result::Result<Moc, String> {
+        let v: serde_json::Value = serde_json::from_str(text).map_err(|e| format!("not valid JSON: {e}"))?;
+        let map = v.as_object().ok_or("expected a MOC JSON object {\"order\": [cells]}")?;
+        let mut levels: Vec<Vec<u64>> = Vec::new();
+        for (key, cells) in map {
+            let o: u8 = key
+                .parse()
+                .ok()
+                .filter(|&o| o <= 29)
+                .ok_or_else(|| format!("key `{key}`: expected a HEALPix order 0 to 29"))?;
+            let cells: Vec<u64> = cells
+                .as_array()
+                .and_then(|a| a.iter().map(|c| c.as_u64().filter(|&c| c < n_cells(o))).collect())
+                .ok_or_else(|| format!("order {o}: expected a list of cells of that order"))?;
+            if levels.len() <= o as usize {
+                levels.resize(o as usize + 1, Vec::new());
+            }
+            levels[o as usize].extend(cells);
+        }
+        levels.iter_mut().for_each(|l| l.sort_unstable());
+        Ok(Moc {
+            max_order: levels.len().saturating_sub(1) as u8,
+            cells: levels,
+        })
+    }
+
+    /// The covered fraction of each cell of `order` that the MOC touches (1 for a cell inside
+    /// a shallower cell, the share of its deeper cells otherwise), by cell.
+    pub fn fraction_at(&self, order: u8) -> BTreeMap<u64, f64> {
+        let mut out: BTreeMap<u64, f64> = BTreeMap::new();
+        for (o, cells) in self.cells.iter().enumerate() {
+            let o = o as u8;
+            for &c in cells {
+                if o <= order {
+                    let shift = 2 * (order - o) as u32;
+                    for child in (c << shift)..((c + 1) << shift) {
+                        *out.entry(child).or_default() += 1.0;
+                    }
+                } else {
+                    let shift = 2 * (o - order) as u32;
+                    *out.entry(c >> shift).or_default() += 1.0 / (1u64 << shift) as f64;
+                }
+            }
+        }
+        out
+    }
 }
 
 /// Sorted indices as runs: `5 6`, `7-9`.
@@ -180,6 +229,22 @@ mod tests {
         assert_eq!(m.to_json(), r#"{"0":[1],"1":[9,12,13,14]}"#);
         // The MOC order is named when no cell is that deep.
         assert_eq!(Moc::from_cells(1, &[4, 5, 6, 7]).to_json(), r#"{"0":[1],"1":[]}"#);
+    }
+
+    #[test]
+    fn json_reads_back_and_fractions_count_deeper_cells() {
+        let m = Moc::from_cells(1, &[4, 5, 6, 7, 9, 12, 13, 14]);
+        assert_eq!(Moc::from_json(&m.to_json()).unwrap(), m);
+        // Worked by hand (nested scheme: a cell's parent is its index >> 2): at order 0, cell 1
+        // is whole, cell 2 holds 9 (a quarter), cell 3 holds 12–14 (three quarters).
+        let f = m.fraction_at(0);
+        assert_eq!(f.get(&1), Some(&1.0));
+        assert_eq!(f.get(&2), Some(&0.25));
+        assert_eq!(f.get(&3), Some(&0.75));
+        // At order 1, a cell of order 0 is its four children.
+        assert_eq!(m.fraction_at(1).len(), 8);
+        assert!(Moc::from_json("{\"1\":[48]}").is_err(), "cell 48 is not of order 1");
+        assert!(Moc::from_json("[1]").is_err());
     }
 
     #[test]

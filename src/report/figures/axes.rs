@@ -125,9 +125,15 @@ pub fn step_runs(edges: &[f64], counts: &[f64], close: Option<f64>) -> Vec<Vec<(
 /// Whether counts span enough decades to need a logarithmic axis: the largest over the
 /// smallest non-zero count above 30.
 pub fn counts_need_log(counts: &[u64]) -> bool {
-    let nonzero = counts.iter().copied().filter(|&c| c > 0);
-    let (lo, hi) = nonzero.fold((u64::MAX, 0), |(a, b), c| (a.min(c), b.max(c)));
-    hi > 0 && hi as f64 / lo as f64 > 30.0
+    values_need_log(&counts.iter().map(|&c| c as f64).collect::<Vec<f64>>())
+}
+
+/// The same test for weighted counts or probabilities: the largest over the smallest positive
+/// value above 30.
+pub fn values_need_log(values: &[f64]) -> bool {
+    let positive = values.iter().copied().filter(|&v| v > 0.0 && v.is_finite());
+    let (lo, hi) = positive.fold((f64::INFINITY, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
+    hi > 0.0 && hi / lo > 30.0
 }
 
 #[cfg(test)]

@@ -8,6 +8,7 @@ pub mod catalogue_map;
 pub mod cluster;
 pub mod detectability;
 pub mod distributions;
+pub mod hideout;
 pub mod models;
 pub mod rose;
 pub mod sky;

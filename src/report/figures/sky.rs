@@ -42,7 +42,7 @@ fn hammer_rel(l: f64, lat: f64) -> (f64, f64) {
 }
 
 /// Longitude relative to the map centre, in (−π, π].
-fn rel_lon(lon: f64) -> f64 {
+pub(crate) fn rel_lon(lon: f64) -> f64 {
     (lon - CENTRE_LON + PI).rem_euclid(2.0 * PI) - PI
 }
 
@@ -143,7 +143,7 @@ fn discoveries_sentence(discoveries: &[(f64, f64)]) -> String {
     }
 }
 
-const MAP_W: u32 = style::WIDTH;
+pub(crate) const MAP_W: u32 = style::WIDTH;
 const MAP_H: u32 = 430;
 const KEY_H: f64 = 60.0;
 const TITLE_H: f64 = 40.0;
@@ -170,7 +170,7 @@ pub fn coverage_map(
         area_sentence(covered_sq_deg, cells.len(), MAP_ORDER),
         discoveries_sentence(discoveries)
     );
-    let mut svg = map_paper(&title);
+    let mut svg = map_paper(&title, MAP_H);
     let edges = classes(cells.iter().map(|c| c.1).max().unwrap_or(1));
     let frame = HammerFrame::fitting(MAP_W as f64, MAP_H as f64 - KEY_H - TITLE_H, TITLE_H);
     frame.draw_cells(&mut svg, cells, &edges);
@@ -183,9 +183,9 @@ pub fn coverage_map(
     Ok(Figure::from_svg(stem, &title, &caption, svg.finish()))
 }
 
-/// A map's paper with its title.
-fn map_paper(title: &str) -> Svg {
-    let mut svg = Svg::new(MAP_W, MAP_H);
+/// A map's paper, `height` pixels high, with its title.
+pub(crate) fn map_paper(title: &str, height: u32) -> Svg {
+    let mut svg = Svg::new(MAP_W, height);
     svg.text(
         (MAP_W as f64 / 2.0, 20.0),
         title,
@@ -198,7 +198,7 @@ fn map_paper(title: &str) -> Svg {
 }
 
 /// Pixel placement of the Hammer–Aitoff ellipse: centre and scale (pixels per unit of x, y).
-struct HammerFrame {
+pub(crate) struct HammerFrame {
     cx: f64,
     cy: f64,
     scale: f64,
@@ -206,7 +206,7 @@ struct HammerFrame {
 
 impl HammerFrame {
     /// The largest ellipse that fits `width` × `height` below `top`, with room for labels.
-    fn fitting(width: f64, height: f64, top: f64) -> HammerFrame {
+    pub(crate) fn fitting(width: f64, height: f64, top: f64) -> HammerFrame {
         let scale = ((width - 76.0) / (4.0 * SQRT_2)).min((height - 16.0) / (2.0 * SQRT_2));
         HammerFrame {
             cx: width / 2.0 + 22.0,
@@ -215,7 +215,8 @@ impl HammerFrame {
         }
     }
 
-    fn px(&self, rel: f64, lat: f64) -> (f64, f64) {
+    /// Pixel position of a longitude relative to the centre (`rel_lon`) and a latitude, radians.
+    pub(crate) fn px(&self, rel: f64, lat: f64) -> (f64, f64) {
         let (x, y) = hammer_rel(rel, lat);
         (self.cx + self.scale * x, self.cy - self.scale * y)
     }
@@ -223,7 +224,7 @@ impl HammerFrame {
     fn draw_cells(&self, svg: &mut Svg, cells: &[(u64, u64)], edges: &[u64]) {
         for &(h, n) in cells {
             let colour = class_colour(edges, n);
-            for pts in cell_pieces(h) {
+            for pts in cell_pieces(MAP_ORDER, h) {
                 let px: Vec<(f64, f64)> = pts.iter().map(|&(l, b)| self.px(l, b)).collect();
                 svg.polygon(&px, &colour, true);
             }
@@ -231,7 +232,7 @@ impl HammerFrame {
     }
 
     /// Parallels (each once, edge to edge), meridians, the outline and their labels.
-    fn draw_graticule(&self, svg: &mut Svg) {
+    pub(crate) fn draw_graticule(&self, svg: &mut Svg) {
         let grid = rgb(style::MUTED);
         let edge = PI - 1e-9;
         let parallel = |lat: f64| -> Vec<(f64, f64)> {
@@ -290,10 +291,17 @@ impl HammerFrame {
 }
 
 /// A cell's corners as (longitude relative to the centre, latitude), with points along its
-/// edges so that large cells bend with the projection. A cell cut by the map's edge (λ = 0°)
-/// is drawn as two pieces, one hugging each side of the edge.
-fn cell_pieces(h: u64) -> Vec<Vec<(f64, f64)>> {
-    let corners = cdshealpix::nested::vertices(MAP_ORDER, h);
+/// edges when it is larger than the coverage maps' cells, so that large cells bend with the
+/// projection. A cell cut by the map's edge (λ = 0°) is drawn as two pieces, one hugging each
+/// side of the edge.
+pub(crate) fn cell_pieces(order: u8, h: u64) -> Vec<Vec<(f64, f64)>> {
+    let corners: Vec<(f64, f64)> = if order >= MAP_ORDER {
+        cdshealpix::nested::vertices(order, h).to_vec()
+    } else {
+        let per_side = 1u32 << (MAP_ORDER - order).min(4);
+        cdshealpix::nested::path_along_cell_edge(order, h, &cdshealpix::compass_point::Cardinal::S, false, per_side)
+            .to_vec()
+    };
     let ecl: Vec<(f64, f64)> = corners
         .iter()
         .map(|&(ra, dec)| radec_to_ecliptic(ra, dec))
@@ -483,7 +491,7 @@ pub fn zoomed_map(
         area_sentence(covered_sq_deg, cells.len(), order),
         discoveries_sentence(discoveries)
     );
-    let mut svg = map_paper(&title);
+    let mut svg = map_paper(&title, MAP_H);
     let frame = PlateFrame::fitting(b, MAP_W as f64, MAP_H as f64 - KEY_H - TITLE_H, TITLE_H);
     let edges = classes(cells.iter().map(|c| c.1).max().unwrap_or(1));
     svg.raw(&format!(
@@ -668,7 +676,7 @@ mod tests {
                 l.min(2.0 * PI - l) < 0.2 * DEG && b.abs() < 0.5
             })
             .expect("a cell on λ = 0 near the ecliptic");
-        let pieces = cell_pieces(cut);
+        let pieces = cell_pieces(MAP_ORDER, cut);
         assert_eq!(pieces.len(), 2);
         assert!(pieces[0].iter().all(|p| p.0 >= 0.0) && pieces[1].iter().all(|p| p.0 <= 0.0));
     }
