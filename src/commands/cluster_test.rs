@@ -95,11 +95,7 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
              first to keep the maps)"
         )));
     }
-    let mut res = run_test(opts, &catalog, &maps)?;
-    let withheld = super::fitted_chances_withheld(&opts.selection);
-    if withheld.is_some() {
-        res.withhold_bias_aware_chances();
-    }
+    let res = run_test(opts, &catalog, &maps)?;
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
         bias_map_tables::write(&out, &maps, &catalog, &selection)?;
@@ -114,15 +110,11 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
             selection.key()
         );
     }
-    if let Some(why) = &withheld {
-        conclusion += &format!("\n  Bias-aware {why}.");
-    }
     let mut value = serde_json::to_value(&res).map_err(|e| Error::io(e.to_string()))?;
     value["command"] = "cluster-test".into();
     value["dropped_undiscovered_ids"] = serde_json::json!(undiscovered);
     value["below_min_discoveries_ids"] = serde_json::json!(thin);
     value["selection"] = serde_json::json!(selection.key());
-    value["chances_withheld"] = serde_json::json!(withheld);
     let summary = out.summary(value, &conclusion)?;
     Ok(Outcome {
         written: vec![table, null, rose, summary],
@@ -197,16 +189,12 @@ fn conclude(t: &ClusterTest, dropped: &[i64], thin: &[i64]) -> String {
     let r = |name: &str| t.result(name).expect("every statistic is reported");
     let line = |label: &str, name: &str| {
         let x = r(name);
-        let bias_aware = if x.p_bias_aware.is_finite() {
-            format!(
-                "bias-aware chance {} ± {}",
-                pct(x.p_bias_aware),
-                pct(x.p_bias_aware_error)
-            )
-        } else {
-            "bias-aware chance withheld".to_string()
-        };
-        format!("{label}: {bias_aware}, without bias correction {}", pct(x.p_naive))
+        format!(
+            "{label}: bias-aware chance {} ± {}, without bias correction {}",
+            pct(x.p_bias_aware),
+            pct(x.p_bias_aware_error),
+            pct(x.p_naive)
+        )
     };
     let family = t.results.len() - 1;
     let mut s = format!(

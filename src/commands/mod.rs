@@ -93,20 +93,6 @@ pub fn load_surveys(paths: &[PathBuf], prov: &mut Provenance) -> Result<Vec<Prep
     Ok(surveys)
 }
 
-/// Why `cluster-test`'s bias-aware chances are withheld on fitted elements. Its maps put their
-/// trials through the catalogue's fit and cut, which is calibrated on true elements with a cut
-/// (`tests/fit_calibration.rs`); on fitted elements each trial draws its a, e, i from the fit's
-/// error law (methods.md, "What the maps' xⱼ are"), whose calibration on the lopsided case is
-/// pending (the plug-in it replaces ran high in the small-p tail; validation.md): a chance not
-/// shown calibrated is not printed as one.
-pub fn fitted_chances_withheld(selection: &crate::fit::catalogue::Selection) -> Option<String> {
-    selection.fitted.then(|| {
-        "chances withheld: on fitted elements the bias maps draw a, e and i from the fit's errors, and \
-         their chances are not yet shown calibrated (validation.md); the same cut on true elements is"
-            .to_string()
-    })
-}
-
 /// The catalogue selection the options ask for (`--fitted-elements`, `--min-arc-days`,
 /// `--max-sigma-a-frac`, `--fit-quality`), each checked: the cut values against their plausible
 /// ranges, the classes by name (a failed fit is never a class to keep).
