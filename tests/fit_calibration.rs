@@ -41,7 +41,8 @@ use rand_pcg::Pcg64;
 use rayon::prelude::*;
 use seine::analysis::bias_map::{BiasMap, MapAxes, MapBudget, MapGrid, selected_bias_maps};
 use seine::analysis::cluster_test::{Angles, TestOptions, cluster_test};
-use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, score_model, shared_estimator};
+use seine::analysis::compare::{CompareOptions, DensityChoice, score_model, shared_estimator};
+use seine::analysis::model_sample::{Detected, Model};
 use seine::analysis::space::Space;
 use seine::analysis::trial_selection::TrialSelection;
 use seine::analysis::trials::TrialObject;
@@ -459,7 +460,7 @@ fn compare_models_on_fitted_elements_with_a_cut_is_calibrated_and_does_not_drift
     let space = Space::parse("a_au,q_au,inc_deg,varpi_deg").unwrap();
     let model = |name: &str, n: i64, seed: u64, first: i64| Model {
         name: name.into(),
-        objects: draw(DISK, seed, first, n),
+        objects: draw(DISK, seed, first, n).into(),
         population_size: None,
     };
     let full = model("full", MODEL_OBJECTS, 3, 0);
@@ -504,7 +505,8 @@ fn compare_models_on_fitted_elements_with_a_cut_is_calibrated_and_does_not_drift
         .map(|c| c.to_vec())
         .collect();
     let opts = CompareOptions {
-        observed: full.objects.clone(),
+        // Not read by `score_model`, which scores each catalogue's points.
+        observed: draw(DISK, 3, 0, 10),
         models: Vec::new(),
         space: space.clone(),
         density: DensityChoice::Kernel,

@@ -11,13 +11,14 @@ use std::path::Path;
 
 use common::{Fixture, draw, ecliptic_fields, ks_uniform_p, survey};
 use nalgebra::DMatrix;
-use seine::analysis::compare::{CompareOptions, DensityChoice, Detected, Model, score_model, shared_estimator};
+use seine::analysis::compare::{CompareOptions, DensityChoice, score_model, shared_estimator};
 use seine::analysis::likelihood::{Bandwidth, Estimator, Kde, Kernel, ModelDensity};
+use seine::analysis::model_sample::{Detected, MODEL_CHUNK_ROWS, Model};
 use seine::analysis::space::{Coordinate, Space};
 use seine::analysis::trial_selection::TrialSelection;
 use seine::engine::PreparedSurvey;
 use seine::orbit::{Center, Elements};
-use seine::population::objects::ObjectTable;
+use seine::population::objects::{ObjectSource, ObjectTable};
 use seine::population::recenter::recenter;
 use seine::population::resonance::neptune_mean_longitude;
 use seine::statistics::{Tally, kish_n_of};
@@ -207,24 +208,25 @@ fn goodness_of_fit_is_calibrated_and_ln_l_does_not_drift() {
     let dir = tempfile::tempdir().unwrap();
     let surveys = vec![lopsided(dir.path())];
     let (count, n) = (200, 10);
+    let true_objects = draw(ECCENTRIC, 3, 0, 120_000);
+    let opts = options(&true_objects, 100, 10);
     let model = Model {
         name: "true".into(),
-        objects: draw(ECCENTRIC, 3, 0, 120_000),
+        objects: true_objects.into(),
         population_size: None,
     };
     let quarter = Model {
         name: "quarter".into(),
-        objects: draw(ECCENTRIC, 3, 0, 30_000),
+        objects: draw(ECCENTRIC, 3, 0, 30_000).into(),
         population_size: None,
     };
     // A wrong model: semi-major axes half as large again.
     let wrong_spec = ECCENTRIC.replace("lo = 40.0, hi = 80.0", "lo = 60.0, hi = 120.0");
     let wrong = Model {
         name: "wrong".into(),
-        objects: draw(&wrong_spec, 3, 0, 120_000),
+        objects: draw(&wrong_spec, 3, 0, 120_000).into(),
         population_size: None,
     };
-    let opts = options(&model.objects, 100, 10);
     let det: Vec<Detected> = [&model, &quarter, &wrong]
         .iter()
         .map(|m| Detected::of(m, &opts.space, &surveys, opts.seed).unwrap())
@@ -294,6 +296,40 @@ fn goodness_of_fit_is_calibrated_and_ln_l_does_not_drift() {
 }
 
 #[test]
+fn a_model_read_a_chunk_at_a_time_keeps_the_sample_of_the_whole_table() {
+    // compare-models reads a Parquet model MODEL_CHUNK_ROWS rows at a time and keeps only its
+    // sample (model_sample.rs). Every row is judged on its own id's streams, so the sample must
+    // be the one of the same table held whole, with a frame conversion too: the same rows, ids,
+    // points, weights, detected fraction and, for ν's bootstrap, every object's id and weight.
+    let dir = tempfile::tempdir().unwrap();
+    let surveys = vec![lopsided(dir.path())];
+    let table = draw(ECCENTRIC, 3, 0, MODEL_CHUNK_ROWS as i64 + 20_000);
+    let path = dir.path().join("model.parquet");
+    seine::io::write_table(&mut table.frame.clone(), &path, &seine::io::Provenance::current()).unwrap();
+    let whole = Model {
+        name: "m".into(),
+        objects: table.into(),
+        population_size: Some(1e6),
+    };
+    let chunked = Model {
+        objects: ObjectSource::parquet(&path, None).unwrap(),
+        ..whole.clone()
+    };
+    let space = Space::parse("a_au,q_au,inc_deg,varpi_deg").unwrap();
+    for to in [None, Some(Center::Barycentric)] {
+        let sample =
+            |m: &Model| Detected::selected_in(m, &space, &surveys, 11, &TrialSelection::Discovered, to).unwrap();
+        let (a, b) = (sample(&whole), sample(&chunked));
+        assert!(
+            b.rows.iter().any(|r| *r >= MODEL_CHUNK_ROWS),
+            "no detection in the second chunk: the test shows nothing"
+        );
+        assert_eq!(b.population.as_ref().map(Vec::len), Some(whole.objects.len()));
+        assert_eq!(a, b, "frame {to:?}");
+    }
+}
+
+#[test]
 fn ln_l_does_not_depend_on_where_the_angles_zero_is() {
     // Rotating every angle of catalogue and model by 180° is a symmetry of the density (von
     // Mises kernels; the bandwidth from the mean resultant length): ln L is unchanged.
@@ -301,7 +337,7 @@ fn ln_l_does_not_depend_on_where_the_angles_zero_is() {
     let surveys = vec![lopsided(dir.path())];
     let model = Model {
         name: "m".into(),
-        objects: draw(ECCENTRIC, 3, 0, 100_000),
+        objects: draw(ECCENTRIC, 3, 0, 100_000).into(),
         population_size: None,
     };
     let space = Space::parse("a_au,e,inc_deg,node_deg,varpi_deg").unwrap();

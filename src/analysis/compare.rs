@@ -17,15 +17,16 @@ use rayon::prelude::*;
 
 use super::likelihood::{At, Bandwidth, Estimator, Grid, Kernel, ModelDensity, Sums};
 use super::marginals::{Statistic, WeightedEcdf};
+use super::model_sample::{Detected, Model};
 use super::space::{Coordinate, Space};
 use super::trial_selection::TrialSelection;
 use crate::engine::PreparedSurvey;
 use crate::error::{Error, Result};
 use crate::orbit::Center;
 use crate::population::objects::ObjectTable;
-use crate::population::recenter::{recenter_table, table_frame};
+use crate::population::recenter::recenter_table;
 use crate::rng::{Purpose, object_stream, run_stream, splitmix64};
-use crate::statistics::{Tally, kish_n_of};
+use crate::statistics::kish_n_of;
 
 /// The density choice of a comparison.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -34,15 +35,6 @@ pub enum DensityChoice {
     Kernel,
     /// Equal-width bins per working coordinate with a prior worth `prior_objects` objects.
     Binned { bins: usize, prior_objects: f64 },
-}
-
-/// One model population: its name, objects and, for the extended likelihood, the number of real
-/// objects it stands for.
-#[derive(Debug, Clone)]
-pub struct Model {
-    pub name: String,
-    pub objects: ObjectTable,
-    pub population_size: Option<f64>,
 }
 
 /// Everything a comparison needs besides the surveys.
@@ -124,19 +116,20 @@ impl CompareOptions {
     }
 
     /// Bring the catalogue and the models to one frame: refuse mixed frames unless `frame`
-    /// says which to convert to.
+    /// says which to convert to. The catalogue is converted here; a model's objects are
+    /// converted a chunk at a time as they are read (`Detected::selected_in`), since a model
+    /// is never held whole.
     pub fn align_frames(&mut self) -> Result<Center> {
-        let mut tables: Vec<(String, &mut ObjectTable)> = vec![("--observed".to_string(), &mut self.observed)];
-        for m in &mut self.models {
-            tables.push((format!("model `{}`", m.name), &mut m.objects));
-        }
         if let Some(to) = self.frame {
-            for (what, t) in tables {
-                recenter_table(t, to, &what)?;
-            }
+            recenter_table(&mut self.observed, to, "--observed")?;
             return Ok(to);
         }
-        let frames: Vec<(String, Option<Center>)> = tables.iter().map(|(w, t)| (w.clone(), table_frame(t))).collect();
+        let mut frames = vec![("--observed".to_string(), self.observed.center())];
+        frames.extend(
+            self.models
+                .iter()
+                .map(|m| (format!("model `{}`", m.name), m.objects.center())),
+        );
         let first = frames[0].1;
         if let Some((what, f)) = frames.iter().find(|(_, f)| f.is_none() || *f != first) {
             let say = |f: &Option<Center>| f.map_or("mixed heliocentric and barycentric", |c| c.name());
@@ -156,73 +149,6 @@ impl CompareOptions {
 pub fn detected_rows(t: &ObjectTable, surveys: &[PreparedSurvey], seed: u64) -> Vec<usize> {
     let entering = TrialSelection::Discovered.entering(t, surveys, seed);
     entering.into_iter().map(|(i, _)| i).collect()
-}
-
-/// A model's detected sample: rows, points, weights, and the weighted detected fraction.
-#[derive(Debug, Clone)]
-pub struct Detected {
-    pub rows: Vec<usize>,
-    pub points: Vec<Vec<f64>>,
-    pub weights: Vec<f64>,
-    pub fraction: Tally,
-}
-
-impl Detected {
-    /// The model's discovered objects at their true elements.
-    pub fn of(model: &Model, space: &Space, surveys: &[PreparedSurvey], seed: u64) -> Result<Self> {
-        Self::selected(model, space, surveys, seed, &TrialSelection::Discovered)
-    }
-
-    /// The model's objects that enter a catalogue taken under `selection` (discovered, and for
-    /// a fitted or cut catalogue their orbit fitted and passing the cut), at the elements they
-    /// enter with (methods.md, "A catalogue of fitted orbits with an orbit-quality cut").
-    pub fn selected(
-        model: &Model,
-        space: &Space,
-        surveys: &[PreparedSurvey],
-        seed: u64,
-        selection: &TrialSelection,
-    ) -> Result<Self> {
-        let t = &model.objects;
-        let entering = selection.entering(t, surveys, seed);
-        let rows: Vec<usize> = entering.iter().map(|(i, _)| *i).collect();
-        if rows.len() < 2 {
-            let what = match selection {
-                TrialSelection::Discovered => "detected".to_string(),
-                TrialSelection::Fitted { .. } => format!("detected with a fit passing the cut ({})", selection.key()),
-            };
-            return Err(Error::input(format!(
-                "model `{}`: only {} of {} objects {what}; a detected distribution needs at least two \
-                 (simulate more objects)",
-                model.name,
-                rows.len(),
-                t.len()
-            )));
-        }
-        let mut fraction = Tally::default();
-        let mut is_det = vec![false; t.len()];
-        rows.iter().for_each(|r| is_det[*r] = true);
-        for i in 0..t.len() {
-            fraction.add(t.weight[i], is_det[i]);
-        }
-        let weights: Vec<f64> = rows.iter().map(|&i| t.weight[i]).collect();
-        if !(weights.iter().sum::<f64>() > 0.0) {
-            return Err(Error::input(format!(
-                "model `{}`: its detected objects all have weight 0",
-                model.name
-            )));
-        }
-        let points = entering
-            .iter()
-            .map(|(i, kept)| space.point(&kept.elements(t.elements[*i]), t.h_mag[*i]))
-            .collect();
-        Ok(Detected {
-            points,
-            rows,
-            weights,
-            fraction,
-        })
-    }
 }
 
 /// The estimator shared by every model: the kernel with one bandwidth, or one grid.
@@ -307,7 +233,7 @@ pub fn score_model(
         .map_err(|e| Error::input(format!("model `{}`: {e}", model.name)))?;
     let at: Vec<At> = catalogue.iter().map(|x| density.at(x)).collect();
     let ll: f64 = at.iter().map(|a| density.pdf_from_sums(a, density.sums(a)).ln()).sum();
-    let boot = bootstrap(m, model, det, &density, &at, opts);
+    let boot = bootstrap(m, det, &density, &at, opts);
     let nu = |f: f64| model.population_size.map(|n| n * f);
     let extended = nu(det.fraction.w_hit / det.fraction.w).map(|expected| {
         let n = catalogue.len() as f64;
@@ -333,7 +259,7 @@ pub fn score_model(
     let marginals = marginal_tests(&opts.space, det, catalogue, &syn);
     Ok(ModelScore {
         name: model.name.clone(),
-        n_objects: model.objects.len(),
+        n_objects: det.n_objects,
         n_detected: det.rows.len(),
         detected: det.fraction.proportion(),
         log_likelihood: ll,
@@ -344,7 +270,7 @@ pub fn score_model(
         null_log_likelihood: syn.log_likelihood.clone(),
         marginals,
         points: det.points.clone(),
-        ids: det.rows.iter().map(|&i| model.objects.ids[i]).collect(),
+        ids: det.ids.clone(),
         weights: det.weights.clone(),
     })
 }
@@ -373,40 +299,20 @@ fn poisson1(rng: &mut Pcg64) -> u8 {
 
 /// Per bootstrap replicate: (ln L, weighted detected fraction) with Poisson(1) multiplicities of
 /// every model object.
-fn bootstrap(
-    m: usize,
-    model: &Model,
-    det: &Detected,
-    density: &ModelDensity,
-    at: &[At],
-    opts: &CompareOptions,
-) -> Vec<(f64, f64)> {
+fn bootstrap(m: usize, det: &Detected, density: &ModelDensity, at: &[At], opts: &CompareOptions) -> Vec<(f64, f64)> {
     let b = opts.bootstrap as usize;
-    let t = &model.objects;
     let seed = opts.seed ^ splitmix64(2 * m as u64 + 2);
-    let mult = |i: usize| -> Vec<u8> {
-        let mut rng = object_stream(seed, t.ids[i], Purpose::Analysis);
+    let mult = |id: i64| -> Vec<u8> {
+        let mut rng = object_stream(seed, id, Purpose::Analysis);
         (0..b).map(|_| poisson1(&mut rng)).collect()
     };
     // The detected objects' multiplicities, row-major (object, replicate).
-    let det_mult: Vec<u8> = det.rows.par_iter().flat_map_iter(|&i| mult(i)).collect();
+    let det_mult: Vec<u8> = det.ids.par_iter().flat_map_iter(|&id| mult(id)).collect();
     let (mut w_det, mut w2_det) = (vec![0.0; b], vec![0.0; b]);
-    // Σ m w over all objects, for ν; only the extended likelihood needs it.
-    let w_all: Vec<f64> = if model.population_size.is_some() {
-        (0..t.len())
-            .into_par_iter()
-            .fold(
-                || vec![0.0; b],
-                |mut acc, i| {
-                    for (r, k) in mult(i).into_iter().enumerate() {
-                        acc[r] += k as f64 * t.weight[i];
-                    }
-                    acc
-                },
-            )
-            .reduce(|| vec![0.0; b], |a, c| a.iter().zip(&c).map(|(x, y)| x + y).collect())
-    } else {
-        vec![f64::NAN; b]
+    // Σ m w over all objects, for ν; only the extended likelihood needs it (and keeps them).
+    let w_all = match &det.population {
+        Some(everyone) => population_sums(everyone, b, mult),
+        None => vec![f64::NAN; b],
     };
     for (j, w) in det.weights.iter().enumerate() {
         for r in 0..b {
@@ -444,6 +350,27 @@ fn bootstrap(
     (0..b)
         .map(|r| (per_point.iter().map(|p| p[r]).sum(), w_det[r] / w_all[r]))
         .collect()
+}
+
+/// Σᵢ mᵢ⁽ʳ⁾ wᵢ over every object of a model, per replicate r: summed in blocks of a fixed size,
+/// and the blocks in order, so that the sums do not depend on how the threads share the work.
+fn population_sums(everyone: &[(i64, f64)], b: usize, mult: impl Fn(i64) -> Vec<u8> + Sync) -> Vec<f64> {
+    let blocks: Vec<Vec<f64>> = everyone
+        .par_chunks(4096)
+        .map(|block| {
+            let mut acc = vec![0.0; b];
+            for (id, w) in block {
+                for (r, k) in mult(*id).into_iter().enumerate() {
+                    acc[r] += k as f64 * w;
+                }
+            }
+            acc
+        })
+        .collect();
+    blocks.iter().fold(vec![0.0; b], |mut sum, block| {
+        sum.iter_mut().zip(block).for_each(|(s, x)| *s += x);
+        sum
+    })
 }
 
 /// The synthetic catalogues of a model: their ln L and marginal statistics.
@@ -629,7 +556,7 @@ pub fn compare_models(surveys: &[PreparedSurvey], mut opts: CompareOptions) -> R
     let detected = opts
         .models
         .iter()
-        .map(|m| Detected::selected(m, &opts.space, surveys, opts.seed, &opts.selection))
+        .map(|m| Detected::selected_in(m, &opts.space, surveys, opts.seed, &opts.selection, opts.frame))
         .collect::<Result<Vec<_>>>()?;
     let estimator = shared_estimator(&opts.space, opts.density, &catalogue, n_catalogue, &detected)?;
     let models = opts

@@ -12,6 +12,7 @@ pub mod comparison;
 pub mod detectability;
 pub mod likelihood;
 pub mod marginals;
+pub mod model_sample;
 pub mod pooled_p;
 pub mod selection;
 pub mod space;

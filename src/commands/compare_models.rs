@@ -5,15 +5,16 @@
 use std::path::PathBuf;
 
 use super::{Outcome, RunOptions, load_surveys, read_catalogue};
-use crate::analysis::compare::{CompareOptions, DensityChoice, Model, compare_models};
+use crate::analysis::compare::{CompareOptions, DensityChoice, compare_models};
 use crate::analysis::comparison;
+use crate::analysis::model_sample::Model;
 use crate::analysis::space::Space;
 use crate::analysis::trial_selection::TrialSelection;
 use crate::error::{Error, Result};
 use crate::fit::FitOptions;
 use crate::fit::catalogue::Selection;
 use crate::orbit::Center;
-use crate::population::objects::ObjectTable;
+use crate::population::objects::ObjectSource;
 
 /// One model population: its name, objects table, and the number of real objects it stands for
 /// (for the extended likelihood).
@@ -109,9 +110,11 @@ pub fn compare(opts: &CompareModelsOptions) -> Result<Outcome> {
     prov.add_input(&opts.observed)?;
     let mut models = Vec::new();
     for m in &opts.models {
+        // Checked whole now (values, unique ids, frames), then read a chunk at a time as the
+        // model is run: a model is never held whole (a CSV table is).
         models.push(Model {
             name: m.name.clone(),
-            objects: ObjectTable::read(&m.objects)?,
+            objects: ObjectSource::open(&m.objects, None)?,
             population_size: m.population_size,
         });
         prov.add_input(&m.objects)?;

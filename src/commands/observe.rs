@@ -14,7 +14,7 @@ use crate::error::Result;
 use crate::fit::FitOptions;
 use crate::io::Provenance;
 use crate::io::table::Format;
-use crate::population::objects::{ObjectSource, ObjectTable};
+use crate::population::objects::ObjectSource;
 
 /// The options of `seine observe`.
 #[derive(Debug, Clone)]
@@ -42,14 +42,7 @@ pub fn observe(opts: &ObserveCommand) -> Result<Outcome> {
     let mut prov = Provenance::current().with_seed(opts.seed);
     let surveys = load_surveys(&opts.surveys, &mut prov)?;
     // A Parquet table is read chunk by chunk (bounded memory); a CSV table whole.
-    let table;
-    let objects = match Format::of(&opts.objects)? {
-        Format::Parquet => ObjectSource::parquet(&opts.objects, opts.shard)?,
-        Format::Csv => {
-            table = ObjectTable::read(&opts.objects)?;
-            ObjectSource::Table(&table)
-        }
-    };
+    let objects = ObjectSource::open(&opts.objects, opts.shard)?;
     prov.add_input(&opts.objects)?;
     let engine = ObserveOptions {
         seed: opts.seed,

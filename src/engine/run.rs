@@ -1,6 +1,7 @@
 //! `observe` as a library call: load, prepare, run objects in parallel chunk by chunk,
 //! stream the tables out, and summarise.
 
+use std::borrow::Cow;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -101,7 +102,13 @@ pub fn observe(
     opts: &ObserveOptions,
     provenance: &Provenance,
 ) -> Result<ObserveReport> {
-    observe_source(surveys, &ObjectSource::Table(objects), out_dir, opts, provenance)
+    observe_source(
+        surveys,
+        &ObjectSource::Table(Cow::Borrowed(objects)),
+        out_dir,
+        opts,
+        provenance,
+    )
 }
 
 /// `observe` with the objects from a source that may read them chunk by chunk (a Parquet

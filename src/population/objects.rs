@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use polars::prelude::DataFrame;
 
 use crate::error::{Error, Result};
-use crate::io::table::{Columns, read_parquet_rows, read_table};
+use crate::io::table::{Columns, Format, read_parquet_rows, read_table};
 use crate::orbit::{Center, Elements};
 use crate::ranges::check_column;
 use crate::sky::photometry::{DEFAULT_BETA_MAG_PER_DEG, PhaseLaw};
@@ -68,6 +68,12 @@ impl ObjectTable {
         self.lc_amp_mag.clear();
         self.lc_period_days.clear();
         self
+    }
+
+    /// The one frame of every row's elements, or None when the rows mix frames (or there are none).
+    pub fn center(&self) -> Option<Center> {
+        let first = self.elements.first()?.center;
+        self.elements.iter().all(|e| e.center == first).then_some(first)
     }
 
     /// True when this is a slice of a larger input table (a shard read alone).
@@ -244,24 +250,44 @@ fn check_consistent_q(c: &Columns, a: &[f64], e: &[f64]) -> Result<()> {
     Ok(())
 }
 
-/// Rows per read when a Parquet objects table is checked before a run.
-const CHECK_ROWS: usize = 1 << 18;
+/// Rows per read when a Parquet objects table is checked before a run: the block is what the
+/// check holds beside the ids (about 0.3 kB a row as read, so 2^16 rows ≈ 20 MB), and a block
+/// read costs little (LZ4 pages of doubles hardly compress: reading is copying).
+const CHECK_ROWS: usize = 1 << 16;
 
-/// Where `observe` takes its objects from, chunk by chunk.
+/// Where `observe` (and `compare-models`, for its models) takes its objects from, chunk by chunk.
+#[derive(Debug, Clone)]
 pub enum ObjectSource<'a> {
     /// A table in memory (a CSV file, or built by the caller).
-    Table(&'a ObjectTable),
+    Table(Cow<'a, ObjectTable>),
     /// A Parquet file read one chunk at a time, so that memory follows the chunk and not the
     /// table: `rows` (of the file) are this run's share, `head` its first row (or an empty
-    /// table with the columns), for the schema and bands.
+    /// table with the columns), for the schema and bands; `center` the one frame of the
+    /// share's rows (None when they mix frames), found by the checking pass.
     Parquet {
         path: PathBuf,
         head: ObjectTable,
         rows: (usize, usize),
+        center: Option<Center>,
     },
 }
 
+impl From<ObjectTable> for ObjectSource<'static> {
+    fn from(t: ObjectTable) -> Self {
+        ObjectSource::Table(Cow::Owned(t))
+    }
+}
+
 impl<'a> ObjectSource<'a> {
+    /// Shard k of n of the objects table at `path`: a Parquet table checked and then read a
+    /// chunk at a time (`parquet`), a CSV table read whole.
+    pub fn open(path: &Path, shard: Option<(usize, usize)>) -> Result<ObjectSource<'static>> {
+        match Format::of(path)? {
+            Format::Parquet => ObjectSource::parquet(path, shard),
+            Format::Csv => Ok(ObjectTable::read(path)?.into()),
+        }
+    }
+
     /// Open shard k of n of a Parquet objects table and check every row of it first (values,
     /// unique ids), so that a bad row fails the run before anything is written.
     pub fn parquet(path: &Path, shard: Option<(usize, usize)>) -> Result<ObjectSource<'static>> {
@@ -270,7 +296,7 @@ impl<'a> ObjectSource<'a> {
             (rows.start, rows.end.min(rows.start + 1))
         })?;
         let hi = shard_rows(total, shard).end;
-        check_rows(path, lo, hi)?;
+        let center = check_rows(path, lo, hi)?;
         let mut head = if first.height() > 0 {
             Self::table_at(first, path, lo, total)?
         } else {
@@ -283,6 +309,7 @@ impl<'a> ObjectSource<'a> {
             path: path.to_path_buf(),
             head,
             rows: (lo, hi),
+            center,
         })
     }
 
@@ -315,7 +342,7 @@ impl<'a> ObjectSource<'a> {
     /// A table holding at least the input rows [lo, hi) (its `first_row` says where it starts).
     pub fn chunk(&self, lo: usize, hi: usize) -> Result<Cow<'_, ObjectTable>> {
         match self {
-            ObjectSource::Table(t) => Ok(Cow::Borrowed(*t)),
+            ObjectSource::Table(t) => Ok(Cow::Borrowed(t)),
             ObjectSource::Parquet { head, .. } if hi == lo => Ok(Cow::Borrowed(head)),
             ObjectSource::Parquet { path, head, .. } => {
                 let (df, _, total) = read_parquet_rows(path, |_| (lo, hi))?;
@@ -324,18 +351,57 @@ impl<'a> ObjectSource<'a> {
             }
         }
     }
+
+    /// How many rows this source gives (a Parquet share, or every row of a table).
+    pub fn len(&self) -> usize {
+        match self {
+            ObjectSource::Table(t) => t.len(),
+            ObjectSource::Parquet { rows, .. } => rows.1 - rows.0,
+        }
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// The one frame of every row's elements, or None when the rows mix frames.
+    pub fn center(&self) -> Option<Center> {
+        match self {
+            ObjectSource::Table(t) => t.center(),
+            ObjectSource::Parquet { center, .. } => *center,
+        }
+    }
+
+    /// Every row once, in order, as consecutive tables: a table in memory whole, a Parquet
+    /// share `rows` rows at a time (each read only when its turn comes, so that a caller
+    /// that keeps only a summary of each holds one chunk at a time).
+    pub fn for_each_chunk(&self, rows: usize, mut f: impl FnMut(Cow<'_, ObjectTable>) -> Result<()>) -> Result<()> {
+        let ObjectSource::Parquet { rows: (lo, hi), .. } = self else {
+            return f(self.chunk(0, 0)?);
+        };
+        let mut start = *lo;
+        while start < *hi {
+            let end = (start + rows.max(1)).min(*hi);
+            f(self.chunk(start, end)?)?;
+            start = end;
+        }
+        Ok(())
+    }
 }
 
 /// Check rows [lo, hi) of a Parquet objects table block by block (every value, and ids
-/// unique across the whole range), holding only a block and the ids.
-fn check_rows(path: &Path, lo: usize, hi: usize) -> Result<()> {
+/// unique across the whole range), holding only a block and the ids; the one frame of the
+/// rows' elements (None when they mix frames or there are none).
+fn check_rows(path: &Path, lo: usize, hi: usize) -> Result<Option<Center>> {
     let mut ids: Vec<(i64, usize)> = Vec::with_capacity(hi - lo);
+    let mut centers: Vec<Option<Center>> = Vec::new();
     let mut start = lo;
     while start < hi {
         let end = (start + CHECK_ROWS).min(hi);
         let (df, _, _) = read_parquet_rows(path, |_| (start, end))?;
         let t = ObjectTable::from_frame_at(df, path, start)?;
         ids.extend(t.ids.iter().enumerate().map(|(k, id)| (*id, start + k)));
+        centers.push(t.center());
         start = end;
     }
     ids.sort_unstable();
@@ -348,5 +414,6 @@ fn check_rows(path: &Path, lo: usize, hi: usize) -> Result<()> {
             w[0].1.min(w[1].1) + 1
         )));
     }
-    Ok(())
+    let first = centers.first().copied().flatten();
+    Ok(centers.iter().all(|c| *c == first).then_some(first).flatten())
 }

@@ -62,9 +62,3 @@ pub fn recenter_table(t: &mut ObjectTable, to: Center, what: &str) -> Result<()>
     }
     Ok(())
 }
-
-/// The one frame of a table's rows, or None when the rows mix frames.
-pub fn table_frame(t: &ObjectTable) -> Option<Center> {
-    let first = t.elements.first()?.center;
-    t.elements.iter().all(|e| e.center == first).then_some(first)
-}
