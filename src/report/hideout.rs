@@ -55,7 +55,11 @@ pub fn section(dir: &Path, run: &HideoutRun) -> Result<Section> {
             s.run.surveys.join(", "),
             s.conclusion
         ),
-        tables: vec![fields_table(dir, run), surveys_table(run)],
+        // No fields when no draw survives (the conclusion says so).
+        tables: [fields_table(dir, run), surveys_table(run)]
+            .into_iter()
+            .filter(|t| !t.rows.is_empty())
+            .collect(),
         figures,
         ..Default::default()
     })
