@@ -1131,6 +1131,11 @@ fn a_hideout_run_gets_its_section_figures_and_fields() {
         html.contains("<h2>Where a planet could still hide: hide</h2>"),
         "no section"
     );
+    // The page's opening names the run and its answer.
+    assert!(
+        html.contains("Hideout run hide: the surveys would have found a planet of its prior with probability"),
+        "not in the overview"
+    );
     // The run's own conclusion, from its summary.json.
     let summary = seine::hideout::read_summary(&d.join("hide")).unwrap();
     assert!(html.contains(&xml_escape(&summary.conclusion)), "conclusion missing");

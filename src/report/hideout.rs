@@ -46,9 +46,11 @@ pub fn section(dir: &Path, run: &HideoutRun) -> Result<Section> {
     Ok(Section {
         title: format!("Where a planet could still hide: {name}"),
         intro: format!(
-            "{shard}From {}: {draws} of {} through {}, judged by what the surveys would have \
-             found. {}",
+            "{shard}From {}: {} draws ({:.0} effective at their weights) of the prior {} through \
+             {}, judged by what the surveys would have found. {}",
             href(dir, &run.dir),
+            s.n_draws,
+            s.n_effective,
             s.run.prior,
             s.run.surveys.join(", "),
             s.conclusion
