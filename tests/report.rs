@@ -1224,6 +1224,28 @@ fn hideout_shards_and_their_merge_each_get_a_section_and_a_damaged_table_is_left
             "{run} lost"
         );
     }
+    // A shard without draws (one draw, two shards: shard 0 takes none) is noted as such.
+    let empty = d.join("empty");
+    let prior = tmp.path().join("prior.toml");
+    let deep = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep.survey.toml");
+    run_ok(&[
+        "hideout",
+        "--survey",
+        deep.to_str().unwrap(),
+        "--prior",
+        prior.to_str().unwrap(),
+        "--count",
+        "1",
+        "--shard",
+        "0/2",
+        "--quiet",
+        "--out",
+        empty.to_str().unwrap(),
+    ]);
+    let o = common::seine(&["report", d.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let err = common::stderr(&o);
+    assert!(err.contains("a hideout shard (0/2) without draws"), "{err}");
 }
 
 fn sky_cell(cell: u64, p: f64, n: u64, w: f64, rate: f64, regions: (bool, bool)) -> SkyCell {
