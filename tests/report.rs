@@ -1096,8 +1096,9 @@ const HIDEOUT_PRIOR: &str = "[population]\nname = \"test planet\"\nepoch_mjd = 6
     a_au = { dist = \"uniform\", lo = 150.0, hi = 400.0 }\ne = { dist = \"uniform\", lo = 0.0, hi = 0.3 }\n\
     inc_deg = { dist = \"uniform\", lo = 0.0, hi = 20.0 }\n[photometry]\nh_mag = { dist = \"uniform\", lo = 0.0, hi = 4.0 }\n";
 
-/// `seine hideout` of the prior through the deep example survey into `out`, small and fast.
-fn small_hideout(dir: &Path, out: &Path, extra: &[&str]) {
+/// `seine hideout` of `count` draws of the prior through the deep example survey into `out`,
+/// small and fast.
+fn small_hideout(dir: &Path, out: &Path, count: &str, extra: &[&str]) {
     let prior = common::write(dir, "prior.toml", HIDEOUT_PRIOR);
     let deep = Path::new(env!("CARGO_MANIFEST_DIR")).join("survey-configs/deep.survey.toml");
     let mut args = vec![
@@ -1107,7 +1108,7 @@ fn small_hideout(dir: &Path, out: &Path, extra: &[&str]) {
         "--prior",
         prior.to_str().unwrap(),
         "--count",
-        "3000",
+        count,
         "--order",
         "4",
         "--n-fields",
@@ -1124,12 +1125,17 @@ fn small_hideout(dir: &Path, out: &Path, extra: &[&str]) {
 fn a_hideout_run_gets_its_section_figures_and_fields() {
     let tmp = tempfile::tempdir().unwrap();
     let d = tmp.path().join("report");
-    small_hideout(tmp.path(), &d.join("hide"), &[]);
+    small_hideout(tmp.path(), &d.join("hide"), "3000", &[]);
     run_ok(&["report", d.to_str().unwrap()]);
     let html = std::fs::read_to_string(d.join("index.html")).unwrap();
     assert!(
         html.contains("<h2>Where a planet could still hide: hide</h2>"),
         "no section"
+    );
+    // The page's opening names the run and its answer.
+    assert!(
+        html.contains("Hideout run hide: the surveys would have found a planet of its prior with probability"),
+        "not in the overview"
     );
     // The run's own conclusion, from its summary.json.
     let summary = seine::hideout::read_summary(&d.join("hide")).unwrap();
@@ -1173,7 +1179,8 @@ fn hideout_shards_and_their_merge_each_get_a_section_and_a_damaged_table_is_left
     let tmp = tempfile::tempdir().unwrap();
     let d = tmp.path().join("report");
     for k in 0..2 {
-        small_hideout(tmp.path(), &d.join(format!("s{k}")), &["--shard", &format!("{k}/2")]);
+        let shard = format!("{k}/2");
+        small_hideout(tmp.path(), &d.join(format!("s{k}")), "3000", &["--shard", &shard]);
     }
     let (s0, s1, all) = (d.join("s0"), d.join("s1"), d.join("all"));
     run_ok(&[
@@ -1219,6 +1226,12 @@ fn hideout_shards_and_their_merge_each_get_a_section_and_a_damaged_table_is_left
             "{run} lost"
         );
     }
+    // A shard without draws (one draw, two shards: shard 0 takes none) is noted as such.
+    small_hideout(tmp.path(), &d.join("empty"), "1", &["--shard", "0/2"]);
+    let o = common::seine(&["report", d.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", common::stderr(&o));
+    let err = common::stderr(&o);
+    assert!(err.contains("a hideout shard (0/2) without draws"), "{err}");
 }
 
 fn sky_cell(cell: u64, p: f64, n: u64, w: f64, rate: f64, regions: (bool, bool)) -> SkyCell {

@@ -204,8 +204,9 @@ pub fn conclusion(s: &HideoutSummary) -> String {
 }
 
 /// The excluded fraction with its error; with no draw found, the 95% upper limit 3/n_eff
-/// ("rule of three": Hanley & Lippman-Hand 1983, JAMA 249, 1743; from memory).
-fn probability(s: &HideoutSummary) -> String {
+/// ("rule of three": Hanley & Lippman-Hand 1983, JAMA 249, 1743; from memory). The report
+/// quotes it as the conclusion does.
+pub fn probability(s: &HideoutSummary) -> String {
     if s.n_excluded == 0 && s.n_draws > 0 {
         let n = s.n_draws;
         return format!(

@@ -163,8 +163,40 @@ fn overview(dir: &Path, inp: &Inputs, skipped: &[Skipped]) -> Section {
         title: "What was run".into(),
         intro: headline(dir, inp),
         notes: skipped.iter().map(|s| format!("Left out: {}", s.describe())).collect(),
-        tables: [runs, surveys].into_iter().filter(|t| !t.rows.is_empty()).collect(),
+        tables: [runs, hideout_runs(dir, inp), surveys]
+            .into_iter()
+            .filter(|t| !t.rows.is_empty())
+            .collect(),
         figures: Vec::new(),
+    }
+}
+
+/// The hideout runs: draws, surveys, and the share of the prior they would have found.
+fn hideout_runs(dir: &Path, inp: &Inputs) -> Table {
+    Table {
+        caption: "Hideout runs: draws of a planet prior through surveys that found nothing, and \
+                  the share of the prior's weight the surveys would have found (± its standard \
+                  error; a 95% upper limit when no draw was found)."
+            .into(),
+        header: header(&["run", "prior", "draws", "surveys", "would have found"]),
+        rows: inp
+            .hideouts
+            .iter()
+            .map(|h| {
+                let s = &h.summary;
+                vec![
+                    label(dir, &h.dir),
+                    // The prior's file name (its path as given is in the run's section).
+                    Path::new(&s.run.prior)
+                        .file_name()
+                        .map_or(s.run.prior.clone(), |n| n.to_string_lossy().into_owned()),
+                    s.n_draws.to_string(),
+                    s.run.surveys.join(", "),
+                    crate::hideout::summary::probability(s),
+                ]
+            })
+            .collect(),
+        link: None,
     }
 }
 
@@ -186,7 +218,15 @@ fn headline(dir: &Path, inp: &Inputs) -> String {
             )
         })
         .collect();
-    format!("Report of {}. {}", label(dir, dir), runs.join(" "))
+    let hideouts = inp.hideouts.iter().map(|h| {
+        format!(
+            "Hideout run {}: the surveys would have found a planet of its prior with probability {}.",
+            label(dir, &h.dir),
+            crate::hideout::summary::probability(&h.summary)
+        )
+    });
+    let all: Vec<String> = runs.into_iter().chain(hideouts).collect();
+    format!("Report of {}. {}", label(dir, dir), all.join(" "))
 }
 
 /// Sky maps (the whole sky, and a zoom of a small coverage) per survey, the depths of all,

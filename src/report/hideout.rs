@@ -46,14 +46,20 @@ pub fn section(dir: &Path, run: &HideoutRun) -> Result<Section> {
     Ok(Section {
         title: format!("Where a planet could still hide: {name}"),
         intro: format!(
-            "{shard}From {}: {draws} of {} through {}, judged by what the surveys would have \
-             found. {}",
+            "{shard}From {}: {} draws ({:.0} effective at their weights) of the prior {} through \
+             {}, judged by what the surveys would have found. {}",
             href(dir, &run.dir),
+            s.n_draws,
+            s.n_effective,
             s.run.prior,
             s.run.surveys.join(", "),
             s.conclusion
         ),
-        tables: vec![fields_table(dir, run), surveys_table(run)],
+        // No fields when no draw survives (the conclusion says so).
+        tables: [fields_table(dir, run), surveys_table(run)]
+            .into_iter()
+            .filter(|t| !t.rows.is_empty())
+            .collect(),
         figures,
         ..Default::default()
     })

@@ -145,6 +145,16 @@ fn read_hideout(d: &Path) -> Result<Option<HideoutRun>> {
             ))
         })
     };
+    // A shard can hold no draws (more shards than draws): its fractions are undefined, and
+    // there is nothing to draw; say so rather than fail on its summary's empty numbers.
+    let (run, n_draws, _, _) = hideout::summary::read_shard(d)?;
+    if n_draws == 0 {
+        return Err(Error::input(format!(
+            "{}: a hideout shard ({}) without draws: nothing to show (seine merge adds it to the others)",
+            d.display(),
+            run.shard.as_deref().unwrap_or("whole run")
+        )));
+    }
     let summary = hideout::read_summary(d)?;
     let coverage = summary
         .run
