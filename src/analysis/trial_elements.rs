@@ -14,8 +14,9 @@ use crate::rng::{Purpose, object_stream};
 #[derive(Debug, Clone, Default, PartialEq)]
 pub enum TrialElements {
     /// The catalogue's a, e, i as they stand: the true ones of a catalogue on true elements;
-    /// on fitted elements the fitted ones taken as if true (the plug-in, measured to run high
-    /// in the small-p tail; kept to reproduce that measurement).
+    /// on fitted elements the fitted ones taken as if true (the plug-in the command no longer
+    /// uses: its map can sit where the object never enters; kept for its calibration run,
+    /// validation.md).
     #[default]
     Catalogued,
     /// Drawn for every trial from the fit's error law about the fitted values, one law per
