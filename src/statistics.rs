@@ -435,8 +435,8 @@ pub fn pct(p: f64) -> String {
 }
 
 /// A chance and its error to three decimals; a chance a run withheld (NaN: an empty cell of
-/// its table, as `cluster-test` on fitted elements wrote before its maps drew a, e, i from the
-/// fit's errors) says so instead.
+/// its table: `cluster-test` on fitted elements outside its calibrated selection,
+/// `commands::cluster_test::uncalibrated_selection`) says so instead.
 pub fn chance_with_error(p: f64, error: f64) -> String {
     if p.is_finite() {
         format!("{p:.3} ± {error:.3}")

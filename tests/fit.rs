@@ -623,7 +623,9 @@ fn the_orbit_quality_cut_selects_what_it_says() {
     // The bias maps put their trials through the same fit and cut (methods.md, "Bias maps of
     // a catalogue of fitted orbits"), each trial at a, e, i drawn from the row's fit errors:
     // the summary and every map row say so. So made, the bias-aware chances on fitted elements
-    // are calibrated (validation.md) and printed, beside the naive ones.
+    // are shown calibrated for a one-opposition sample with σa/a ≤ 0.25 (validation.md); this
+    // cut also keeps multi-opposition fits, outside that case, so they are withheld and the
+    // summary says why; the naive ones stay.
     let said: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
     let key = said["selection"].as_str().unwrap_or_default().to_string();
@@ -632,11 +634,12 @@ fn the_orbit_quality_cut_selects_what_it_says() {
         "{said}"
     );
     assert!(key.ends_with("a, e, i drawn from the fit's errors"), "{said}");
-    assert!(said.get("chances_withheld").is_none(), "{said}");
+    let why = said["chances_withheld"].as_str().unwrap_or_default();
+    assert!(why.contains("one_opposition") && why.contains("0.25"), "{said}");
     let test = read_table(&out.join("cluster_test.parquet")).unwrap();
     assert!(
-        nullable(&test, "p_bias_aware").iter().all(Option::is_some),
-        "a bias-aware chance missing on fitted elements"
+        nullable(&test, "p_bias_aware").iter().all(Option::is_none),
+        "a bias-aware chance printed outside the calibrated selection"
     );
     assert!(nullable(&test, "p_naive").iter().any(Option::is_some));
     let recorded = nullable_str(&read_table(&out.join("bias_map.parquet")).unwrap(), "selection");
@@ -976,4 +979,33 @@ fn maps_on_fitted_elements_draw_a_e_i_from_each_rows_fit_errors() {
     );
     assert!(several.iter().any(|m| m.total_discoveries() > 0), "no trial entered");
     assert_ne!(several, maps(&plug_in), "the drawn a, e, i changed nothing");
+}
+
+/// Which selections get bias-aware chances on fitted elements: exactly the calibrated case of
+/// validation.md (one-opposition fits, σa/a ≤ 0.25, or tighter) and every selection on true
+/// elements; a cut that lets in prior-made or multi-opposition fits, or no σa/a cut, is withheld.
+#[test]
+fn bias_aware_chances_on_fitted_elements_only_where_calibrated() {
+    use seine::commands::cluster_test::uncalibrated_selection;
+    use seine::fit::catalogue::Selection;
+    use seine::fit::quality::Quality::{MultiOpposition, OneOpposition, ShortArc};
+    let sel = |fitted, sigma: Option<f64>, qualities: Vec<_>| Selection {
+        fitted,
+        min_arc_days: Some(30.0),
+        max_sigma_a_frac: sigma,
+        qualities,
+    };
+    assert!(uncalibrated_selection(&sel(true, Some(0.25), vec![OneOpposition])).is_none());
+    assert!(uncalibrated_selection(&sel(true, Some(0.01), vec![OneOpposition])).is_none());
+    assert!(uncalibrated_selection(&sel(false, None, vec![])).is_none());
+    assert!(uncalibrated_selection(&sel(false, Some(0.5), vec![ShortArc])).is_none());
+    for withheld in [
+        sel(true, Some(0.26), vec![OneOpposition]),
+        sel(true, None, vec![OneOpposition]),
+        sel(true, Some(0.1), vec![]),
+        sel(true, Some(0.1), vec![OneOpposition, ShortArc]),
+        sel(true, Some(0.1), vec![OneOpposition, MultiOpposition]),
+    ] {
+        assert!(uncalibrated_selection(&withheld).is_some(), "{withheld:?}");
+    }
 }

@@ -266,6 +266,16 @@ pub struct ClusterTest {
 }
 
 impl ClusterTest {
+    /// Blank the bias-aware chances (NaN, written as empty cells): for a selection outside the
+    /// one whose calibration is shown (`commands::cluster_test::uncalibrated_selection`). The
+    /// statistics, the null samples and the chances without bias correction stay.
+    pub fn withhold_bias_aware_chances(&mut self) {
+        for r in &mut self.results {
+            r.p_bias_aware = f64::NAN;
+            r.p_bias_aware_error = f64::NAN;
+        }
+    }
+
     /// The result of a statistic by name.
     pub fn result(&self, statistic: &str) -> Option<&StatResult> {
         self.results.iter().find(|r| r.statistic == statistic)

@@ -13,6 +13,7 @@ use crate::analysis::trial_selection::TrialSelection;
 use crate::analysis::{bias_map_tables, cluster_tables};
 use crate::error::{Error, Result};
 use crate::fit::catalogue::Selection;
+use crate::fit::quality::Quality;
 use crate::io::Provenance;
 use crate::population::objects::ObjectTable;
 use crate::statistics::pct;
@@ -95,7 +96,11 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
              first to keep the maps)"
         )));
     }
-    let res = run_test(opts, &catalog, &maps)?;
+    let mut res = run_test(opts, &catalog, &maps)?;
+    let withheld = uncalibrated_selection(&opts.selection);
+    if withheld.is_some() {
+        res.withhold_bias_aware_chances();
+    }
     let out = opts.run.out_dir(prov);
     if opts.bias_maps.is_empty() {
         bias_map_tables::write(&out, &maps, &catalog, &selection)?;
@@ -110,8 +115,12 @@ pub fn cluster_test(opts: &ClusterTestOptions) -> Result<Outcome> {
             selection.key()
         );
     }
+    if let Some(why) = &withheld {
+        conclusion += &format!("\n  Bias-aware chances withheld: {why}.");
+    }
     let mut value = serde_json::to_value(&res).map_err(|e| Error::io(e.to_string()))?;
     value["command"] = "cluster-test".into();
+    value["chances_withheld"] = serde_json::json!(withheld);
     value["dropped_undiscovered_ids"] = serde_json::json!(undiscovered);
     value["below_min_discoveries_ids"] = serde_json::json!(thin);
     value["selection"] = serde_json::json!(selection.key());
@@ -185,16 +194,48 @@ fn order_maps(maps: Vec<BiasMap>, catalog: &ObjectTable, path: &Path) -> Result<
         .collect()
 }
 
+/// The fit classes and the largest σa/a of the sample whose bias-aware chances on fitted
+/// elements were shown calibrated (validation.md, "On fitted elements": 600 null catalogues cut to
+/// one-opposition fits with σa/a ≤ 0.25).
+const CALIBRATED_CLASSES: [Quality; 1] = [Quality::OneOpposition];
+const CALIBRATED_MAX_SIGMA_A_FRAC: f64 = 0.25;
+
+/// Why the bias-aware chances are withheld for this selection, if they are. On true elements
+/// (with or without a cut) the construction is exact and calibrated. On fitted elements the maps
+/// draw a, e, i from a Gaussian error law (methods.md, "What the maps' xⱼ are"), shown calibrated
+/// only for a sample cut to the classes and σa/a above: orbits made with the fit's prior
+/// (`short_arc`, `single_night`) have errors far from that law, and multi-opposition fits were
+/// not in the measured case. A chance not shown calibrated is not printed as one.
+pub fn uncalibrated_selection(selection: &Selection) -> Option<String> {
+    let classes = !selection.qualities.is_empty() && selection.qualities.iter().all(|q| CALIBRATED_CLASSES.contains(q));
+    let sigma = selection
+        .max_sigma_a_frac
+        .is_some_and(|s| s <= CALIBRATED_MAX_SIGMA_A_FRAC);
+    (selection.fitted && !(classes && sigma)).then(|| {
+        format!(
+            "on fitted elements they are shown calibrated only for a sample cut to {} fits with σa/a ≤ \
+             {CALIBRATED_MAX_SIGMA_A_FRAC} (validation.md); cut the catalogue so (`--fit-quality {} \
+             --max-sigma-a-frac {CALIBRATED_MAX_SIGMA_A_FRAC}` or tighter) to have them",
+            CALIBRATED_CLASSES.map(Quality::name).join(" or "),
+            CALIBRATED_CLASSES.map(Quality::name).join(","),
+        )
+    })
+}
+
 fn conclude(t: &ClusterTest, dropped: &[i64], thin: &[i64]) -> String {
     let r = |name: &str| t.result(name).expect("every statistic is reported");
     let line = |label: &str, name: &str| {
         let x = r(name);
-        format!(
-            "{label}: bias-aware chance {} ± {}, without bias correction {}",
-            pct(x.p_bias_aware),
-            pct(x.p_bias_aware_error),
-            pct(x.p_naive)
-        )
+        let bias_aware = if x.p_bias_aware.is_finite() {
+            format!(
+                "bias-aware chance {} ± {}",
+                pct(x.p_bias_aware),
+                pct(x.p_bias_aware_error)
+            )
+        } else {
+            "bias-aware chance withheld".to_string()
+        };
+        format!("{label}: {bias_aware}, without bias correction {}", pct(x.p_naive))
     };
     let family = t.results.len() - 1;
     let mut s = format!(
